@@ -1,0 +1,164 @@
+package main
+
+import (
+	"fmt"
+	"strconv"
+	"strings"
+	"text/tabwriter"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"hulltally/ledger"
+)
+
+func (a *app) diveCmd() *cobra.Command {
+	dive := &cobra.Command{Use: "dive", Short: "Dives: log a data-logger file, list, show"}
+	var req ledger.LogRequest
+	var lat, start string
+	var progress bool
+	logc := &cobra.Command{
+		Use:   "log --hull SERIAL SAMPLES.csv",
+		Short: "Record a dive from its data-logger file (and acoustic-emission hits)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			req.Samples = args[0]
+			if req.Hull == "" {
+				return usageError{fmt.Errorf("--hull SERIAL is required")}
+			}
+			if lat != "" {
+				v, err := strconv.ParseFloat(lat, 64)
+				if err != nil {
+					return usageError{fmt.Errorf("--lat %q: not a number of degrees", lat)}
+				}
+				req.Latitude = &v
+			}
+			if start != "" {
+				t, err := time.Parse(time.RFC3339Nano, start)
+				if err != nil {
+					return usageError{fmt.Errorf("--start %q: not an RFC 3339 time (e.g. 2026-05-01T08:30:00Z)", start)}
+				}
+				req.Start = &t
+			}
+			if progress {
+				req.Progress = func(n int64) { fmt.Fprintf(a.errOut, "progress: %d samples stored\n", n) }
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			d, err := l.LogDive(cmd.Context(), req)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(d)
+			}
+			if d.Duplicate {
+				a.printf("already recorded: dive %s of hull %s (recorded %s); nothing added\n", d.ID, d.Hull, d.RecordedAt.Format(time.RFC3339))
+				return nil
+			}
+			a.printDive(d)
+			return nil
+		},
+	}
+	f := logc.Flags()
+	f.StringVar(&req.Hull, "hull", "", "hull serial (required)")
+	f.StringVar(&req.AE, "ae", "", "acoustic-emission hits file (CSV)")
+	f.StringVar(&lat, "lat", "", "latitude of the dive site, degrees (default: conservative, see README)")
+	f.StringVar(&req.Site, "site", "", "dive site")
+	f.StringVar(&req.Operator, "operator", "", "operator's name")
+	f.StringVar(&start, "start", "", "start time for files with t_s columns (RFC 3339)")
+	f.BoolVar(&progress, "progress", false, "report stored samples on stderr as it goes")
+
+	var hull string
+	list := &cobra.Command{
+		Use:   "list --hull SERIAL",
+		Short: "List a hull's dives",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			if hull == "" {
+				return usageError{fmt.Errorf("--hull SERIAL is required")}
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			ds, err := l.Dives(cmd.Context(), hull)
+			if err != nil {
+				return &ledger.InputError{Err: err}
+			}
+			if a.asJSON {
+				if ds == nil {
+					ds = []ledger.Dive{}
+				}
+				return a.printJSON(map[string]any{"hull": hull, "dives": ds})
+			}
+			w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+			fmt.Fprintln(w, "DIVE\tSTART (UTC)\tHOURS\tDEEPEST m\tMAX MPa\tSAMPLES\tAE HITS\tNOTE")
+			for _, d := range ds {
+				note := ""
+				if d.BeyondRated {
+					note = "BEYOND RATED DEPTH"
+				}
+				fmt.Fprintf(w, "%s\t%s\t%.2f\t%.1f\t%.3f\t%d\t%d\t%s\n", d.ID.String()[:8], d.Start.UTC().Format("2006-01-02 15:04"), d.DurationS/3600, d.MaxDepthM, d.MaxPressureMPa, d.Samples, d.AEHits, note)
+			}
+			w.Flush()
+			return nil
+		},
+	}
+	list.Flags().StringVar(&hull, "hull", "", "hull serial (required)")
+
+	show := &cobra.Command{
+		Use:   "show ID",
+		Short: "Show one dive (the id or its first 8 characters)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			d, err := l.Dive(cmd.Context(), args[0])
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(d)
+			}
+			a.printDive(d)
+			return nil
+		},
+	}
+	dive.AddCommand(logc, list, show)
+	return dive
+}
+
+func (a *app) printDive(d *ledger.Dive) {
+	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+	fmt.Fprintf(w, "dive\t%s\n", d.ID)
+	fmt.Fprintf(w, "hull\t%s (spec revision %d)\n", d.Hull, d.HullRevision)
+	fmt.Fprintf(w, "time\t%s to %s UTC (%.2f h)\n", d.Start.UTC().Format("2006-01-02 15:04:05"), d.End.UTC().Format("2006-01-02 15:04:05"), d.DurationS/3600)
+	fmt.Fprintf(w, "deepest\t%.1f m, %.3f MPa gauge (rated depth %.0f m)\n", d.MaxDepthM, d.MaxPressureMPa, d.RatedDepthM)
+	if d.BeyondRated {
+		fmt.Fprintf(w, "WARNING\tthis dive went beyond the hull's rated depth: it is recorded and flagged\n")
+	}
+	latNote := ""
+	if d.LatitudeAssumed {
+		latNote = " (assumed: no --lat given; conservative for the logged column)"
+	}
+	fmt.Fprintf(w, "latitude\t%.4g°%s\n", d.Latitude, latNote)
+	fmt.Fprintf(w, "samples\t%d from %s (%s), %d blocks\n", d.Samples, d.Source, d.LoadColumn, d.Blocks)
+	gauges := "none"
+	if len(d.Gauges) > 0 {
+		gauges = strings.Join(d.Gauges, ", ")
+	}
+	fmt.Fprintf(w, "strain gauges\t%s\n", gauges)
+	fmt.Fprintf(w, "AE hits\t%d\n", d.AEHits)
+	if d.Site != "" || d.Operator != "" {
+		fmt.Fprintf(w, "site / operator\t%s / %s\n", d.Site, d.Operator)
+	}
+	w.Flush()
+}

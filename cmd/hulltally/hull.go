@@ -1,0 +1,197 @@
+package main
+
+import (
+	"fmt"
+	"os"
+	"os/user"
+	"text/tabwriter"
+
+	"github.com/spf13/cobra"
+
+	"hulltally/ledger"
+	"hulltally/ledger/spec"
+)
+
+func currentActor() string {
+	if u, err := user.Current(); err == nil {
+		return u.Username
+	}
+	return "unknown"
+}
+
+func (a *app) hullCmd() *cobra.Command {
+	hull := &cobra.Command{Use: "hull", Short: "Hulls: add from a spec, list, show"}
+	var file, actor, reason string
+	var revise bool
+	var h spec.Hull
+	add := &cobra.Command{
+		Use:   "add [-f hull.yaml | flags]",
+		Short: "Record a hull from a YAML spec (or flags); --revise records a new spec revision",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			sp := &h
+			if file != "" {
+				data, err := os.ReadFile(file)
+				if err != nil {
+					return usageError{err}
+				}
+				if sp, err = spec.Parse(data); err != nil {
+					return &ledger.InputError{Err: fmt.Errorf("%s: %w", file, err)}
+				}
+			} else {
+				if h.Shape == "" {
+					h.Shape = "cylinder"
+				}
+				if len(h.Components) == 0 && h.Serial != "" {
+					return usageError{fmt.Errorf("a hull added by flags needs --component-curve (the S-N curve of its laminate) or use -f hull.yaml")}
+				}
+			}
+			if err := sp.Validate(); err != nil {
+				return &ledger.InputError{Err: err}
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			if actor == "" {
+				actor = currentActor()
+			}
+			rec, err := l.AddHull(cmd.Context(), sp, ledger.AddHullOptions{Actor: actor, Reason: reason, Revise: revise})
+			if err != nil {
+				if !revise {
+					return &ledger.InputError{Err: err}
+				}
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(rec)
+			}
+			a.printf("recorded hull %s (%s), spec revision %d\n", rec.Serial, rec.Spec.Name, rec.Revision)
+			return nil
+		},
+	}
+	f := add.Flags()
+	f.StringVarP(&file, "file", "f", "", "hull spec YAML (see testdata/hulls/example-cylinder.yaml)")
+	f.StringVar(&actor, "actor", "", "who records it (default: the login name)")
+	f.StringVar(&reason, "reason", "", "why (required with --revise)")
+	f.BoolVar(&revise, "revise", false, "record a new revision of an existing hull's spec")
+	f.StringVar(&h.Serial, "serial", "", "hull serial")
+	f.StringVar(&h.Name, "name", "", "hull name")
+	f.StringVar(&h.MaterialSystem, "material", "", "material system")
+	f.StringVar(&h.Shape, "shape", "", "cylinder or sphere")
+	f.Float64Var(&h.InnerRadiusM, "inner-radius", 0, "inner radius, m")
+	f.Float64Var(&h.WallThicknessM, "wall", 0, "wall thickness, m")
+	f.Float64Var(&h.LengthM, "length", 0, "length, m (cylinders)")
+	f.Float64Var(&h.RatedDepthM, "rated-depth", 0, "rated depth, m")
+	f.Float64Var(&h.DesignPressureMPa, "design-pressure", 0, "design pressure, MPa")
+	f.Float64Var(&h.ProofPressureMPa, "proof-pressure", 0, "proof pressure, MPa")
+	f.Float64Var(&h.CollapsePressureMPa, "collapse-pressure", 0, "collapse pressure, MPa")
+	var curve string
+	f.StringVar(&curve, "component-curve", "", "S-N curve of the single laminate component (Lamé load transfer)")
+	add.PreRunE = func(cmd *cobra.Command, _ []string) error {
+		if curve != "" {
+			kind := "laminate_cylinder"
+			if h.Shape == "sphere" {
+				kind = "laminate_sphere"
+			}
+			h.Components = []spec.Component{{Name: "laminate", Kind: kind, Transfer: spec.Transfer{Basis: "lame"}, Curve: curve}}
+		}
+		return nil
+	}
+
+	list := &cobra.Command{
+		Use:   "list",
+		Short: "List the hulls with their dive totals",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			hs, err := l.Hulls(cmd.Context())
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				if hs == nil {
+					hs = []ledger.HullSummary{}
+				}
+				return a.printJSON(map[string]any{"hulls": hs, "caution": cautionText()})
+			}
+			a.printHulls(hs)
+			return nil
+		},
+	}
+
+	show := &cobra.Command{
+		Use:   "show SERIAL",
+		Short: "Show a hull's spec and record",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			rec, err := l.Hull(cmd.Context(), args[0])
+			if err != nil {
+				return &ledger.InputError{Err: err}
+			}
+			sum, err := l.HullSummary(cmd.Context(), rec.ID)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(map[string]any{
+					"serial": rec.Serial, "id": rec.ID, "revision": rec.Revision, "name": rec.Spec.Name,
+					"rated_depth_m": rec.Spec.RatedDepthM, "spec": rec.Spec, "dive_count": sum.DiveCount,
+					"max_pressure_mpa": sum.MaxPressureMPa, "max_depth_m": sum.MaxDepthM,
+					"dives_beyond_rated": sum.BeyondRated, "last_dive": sum.LastDive, "caution": cautionText(),
+				})
+			}
+			s := rec.Spec
+			w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+			fmt.Fprintf(w, "hull\t%s  %s  (spec revision %d, %s by %s)\n", rec.Serial, s.Name, rec.Revision, rec.RevisedAt.Format("2006-01-02"), rec.Actor)
+			fmt.Fprintf(w, "material\t%s, %s\n", s.MaterialSystem, s.Shape)
+			geom := fmt.Sprintf("inner radius %.3f m, wall %.3f m", s.InnerRadiusM, s.WallThicknessM)
+			if s.Shape == "cylinder" {
+				geom += fmt.Sprintf(", length %.3f m", s.LengthM)
+			}
+			fmt.Fprintf(w, "geometry\t%s\n", geom)
+			fmt.Fprintf(w, "rated depth\t%.0f m\n", s.RatedDepthM)
+			fmt.Fprintf(w, "pressures\tdesign %.2f MPa, proof %.2f MPa, collapse %.2f MPa\n", s.DesignPressureMPa, s.ProofPressureMPa, s.CollapsePressureMPa)
+			fmt.Fprintf(w, "dives\t%d (deepest %.1f m, highest %.3f MPa, %d beyond rated depth)\n", sum.DiveCount, sum.MaxDepthM, sum.MaxPressureMPa, sum.BeyondRated)
+			for _, c := range s.Components {
+				fmt.Fprintf(w, "component\t%s (%s): curve %s, load transfer %s\n", c.Name, c.Kind, c.Curve, c.Transfer.Basis)
+			}
+			for _, g := range s.Gauges {
+				if g.Kind == "ae" {
+					fmt.Fprintf(w, "AE channel\t%s: channel %d\n", g.Name, *g.Channel)
+				} else {
+					fmt.Fprintf(w, "strain gauge\t%s: %s %s on %s\n", g.Name, g.Direction, g.Position, g.Component)
+				}
+			}
+			w.Flush()
+			a.printf("\n%s\n", cautionText())
+			return nil
+		},
+	}
+	hull.AddCommand(add, list, show)
+	return hull
+}
+
+func (a *app) printHulls(hs []ledger.HullSummary) {
+	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+	fmt.Fprintln(w, "SERIAL\tNAME\tMATERIAL\tRATED m\tDIVES\tDEEPEST m\tMAX MPa\tBEYOND RATED\tLAST DIVE")
+	for _, h := range hs {
+		last := "-"
+		if h.LastDive != nil {
+			last = h.LastDive.UTC().Format("2006-01-02 15:04")
+		}
+		fmt.Fprintf(w, "%s\t%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\n", h.Serial, h.Name, h.MaterialSystem, h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, last)
+	}
+	w.Flush()
+	a.printf("\n%s\n", cautionText())
+}

@@ -1,0 +1,3 @@
+// Package rainflow counts the load cycles of a hull component's stress (or
+// pressure, or strain) history.
+package rainflow

@@ -1,0 +1,702 @@
+package ledger
+
+import (
+	"context"
+	"crypto/sha256"
+	"errors"
+	"fmt"
+	"hash"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+
+	"hulltally/fatigue/seawater"
+	"hulltally/ledger/blocks"
+	"hulltally/ledger/logfile"
+)
+
+// LogRequest is one dive to record.
+type LogRequest struct {
+	Hull    string // serial
+	Samples string // path of the samples file
+	AE      string // path of the acoustic-emission hits file, optional
+	// Latitude in degrees; nil means the configured default, else the
+	// conservative latitude for the logged column.
+	Latitude *float64
+	Site     string
+	Operator string
+	// Start is the time of t_s = 0 for files with relative times.
+	Start *time.Time
+	// Progress, if set, is called after each stored block with the samples
+	// stored so far.
+	Progress func(samples int64)
+}
+
+// Dive is a recorded dive's summary.
+type Dive struct {
+	ID              uuid.UUID `json:"dive_id"`
+	Hull            string    `json:"hull"`
+	HullRevision    int32     `json:"hull_revision"`
+	Duplicate       bool      `json:"duplicate"`
+	Source          string    `json:"source"`
+	SourceSHA256    string    `json:"source_sha256"`
+	AESource        string    `json:"ae_source,omitempty"`
+	Start           time.Time `json:"start_time"`
+	End             time.Time `json:"end_time"`
+	DurationS       float64   `json:"duration_s"`
+	Samples         int64     `json:"samples"`
+	Blocks          int32     `json:"blocks"`
+	MaxDepthM       float64   `json:"max_depth_m"`
+	MaxPressureMPa  float64   `json:"max_pressure_mpa"`
+	RatedDepthM     float64   `json:"rated_depth_m"`
+	BeyondRated     bool      `json:"beyond_rated"`
+	LoadColumn      string    `json:"load_column"`
+	Columns         []string  `json:"columns"`
+	Gauges          []string  `json:"gauges"`
+	AEHits          int32     `json:"ae_hits"`
+	Latitude        float64   `json:"latitude"`
+	LatitudeAssumed bool      `json:"latitude_assumed"`
+	Site            string    `json:"site"`
+	Operator        string    `json:"operator"`
+	RecordedAt      time.Time `json:"recorded_at"`
+}
+
+// diveRow is the stored dive row, for canonical bytes.
+type diveRow struct {
+	ID, HullID                  uuid.UUID
+	HullRevision                int32
+	SourceName                  string
+	SHA                         []byte
+	SourceBytes                 int64
+	AEName                      string
+	AESHA                       []byte
+	Start, End                  time.Time
+	Lat                         float64
+	LatAssumed                  bool
+	Site, Operator, LoadColumn  string
+	Columns, Gauges             []string
+	Samples                     int64
+	Blocks                      int32
+	Duration, MaxDepth, MaxPres float64
+	Beyond                      bool
+	AEHits                      int32
+	RecordedAt                  time.Time
+}
+
+func (d *diveRow) canon() []byte {
+	c := newCanon("dive")
+	c.uuid(d.ID)
+	c.uuid(d.HullID)
+	c.i64(int64(d.HullRevision))
+	c.str(d.SourceName)
+	c.bytes(d.SHA)
+	c.i64(d.SourceBytes)
+	c.str(d.AEName)
+	c.bytes(d.AESHA)
+	c.time(d.Start)
+	c.time(d.End)
+	c.f64(d.Lat)
+	c.boolean(d.LatAssumed)
+	c.str(d.Site)
+	c.str(d.Operator)
+	c.str(d.LoadColumn)
+	c.strs(d.Columns)
+	c.strs(d.Gauges)
+	c.i64(d.Samples)
+	c.i64(int64(d.Blocks))
+	c.f64(d.Duration)
+	c.f64(d.MaxDepth)
+	c.f64(d.MaxPres)
+	c.boolean(d.Beyond)
+	c.i64(int64(d.AEHits))
+	c.time(d.RecordedAt)
+	return c.b
+}
+
+const diveColumns = `id, hull_id, hull_revision, source_name, source_sha256, source_bytes, ae_source_name, ae_source_sha256,
+	start_time, end_time, latitude, latitude_assumed, site, operator, load_column, columns, gauges, sample_count,
+	block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at`
+
+func (d *diveRow) scanArgs() []any {
+	return []any{&d.ID, &d.HullID, &d.HullRevision, &d.SourceName, &d.SHA, &d.SourceBytes, &d.AEName, &d.AESHA,
+		&d.Start, &d.End, &d.Lat, &d.LatAssumed, &d.Site, &d.Operator, &d.LoadColumn, &d.Columns, &d.Gauges, &d.Samples,
+		&d.Blocks, &d.Duration, &d.MaxDepth, &d.MaxPres, &d.Beyond, &d.AEHits, &d.RecordedAt}
+}
+
+func (d *diveRow) values() []any {
+	return []any{d.ID, d.HullID, d.HullRevision, d.SourceName, d.SHA, d.SourceBytes, d.AEName, d.AESHA,
+		d.Start, d.End, d.Lat, d.LatAssumed, d.Site, d.Operator, d.LoadColumn, d.Columns, d.Gauges, d.Samples,
+		d.Blocks, d.Duration, d.MaxDepth, d.MaxPres, d.Beyond, d.AEHits, d.RecordedAt}
+}
+
+func blockCanon(dive, hull uuid.UUID, no int32, first int64, n int32, t0, t1 int64, dataSHA []byte) []byte {
+	c := newCanon("reading_block")
+	c.uuid(dive)
+	c.uuid(hull)
+	c.i64(int64(no))
+	c.i64(first)
+	c.i64(int64(n))
+	c.i64(t0)
+	c.i64(t1)
+	c.bytes(dataSHA) // SHA-256 of the encoded readings, recomputed from the data
+	return c.b
+}
+
+func hitsCanon(dive uuid.UUID, n int32, digest []byte) []byte {
+	c := newCanon("ae_hits")
+	c.uuid(dive)
+	c.i64(int64(n))
+	c.bytes(digest) // SHA-256 over the canonical bytes of every hit, in order
+	return c.b
+}
+
+func hitBytes(dst []byte, seq int32, h *logfile.Hit) []byte {
+	c := canon{b: dst}
+	c.i64(int64(seq))
+	c.i64(h.TimeNS)
+	c.i64(int64(h.Channel))
+	c.f64(h.AmplitudeDB)
+	c.f64(h.Energy)
+	c.i64(h.Counts)
+	c.f64(h.DurationUS)
+	c.f64(h.RiseUS)
+	return c.b
+}
+
+// InputError wraps a problem with the user's input (as opposed to the
+// database): the command exits with the input-error code.
+type InputError struct{ Err error }
+
+func (e *InputError) Error() string { return e.Err.Error() }
+func (e *InputError) Unwrap() error { return e.Err }
+
+func inputErr(err error) error {
+	var ie *InputError
+	if errors.As(err, &ie) {
+		return err
+	}
+	return &InputError{err}
+}
+
+// LogDive records a dive from its data-logger files in one transaction:
+// all of it or nothing. The same samples file for the same hull is the
+// same dive: it is reported as a duplicate and nothing is added.
+func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
+	h, err := l.Hull(ctx, req.Hull)
+	if err != nil {
+		if errors.Is(err, ErrUnknownHull) {
+			return nil, inputErr(err)
+		}
+		return nil, err
+	}
+	if req.Latitude != nil && !seawater.ValidLatitude(*req.Latitude) {
+		return nil, inputErr(fmt.Errorf("latitude %v: must be between -90 and 90 degrees", *req.Latitude))
+	}
+	sha, size, err := hashFile(req.Samples)
+	if err != nil {
+		return nil, inputErr(err)
+	}
+	var aeSHA []byte
+	if req.AE != "" {
+		if aeSHA, _, err = hashFile(req.AE); err != nil {
+			return nil, inputErr(err)
+		}
+	}
+	if d, err := l.existingDive(ctx, l.pool, h, sha, aeSHA); d != nil || err != nil {
+		return d, err
+	}
+
+	tx, err := l.pool.Begin(ctx)
+	if err != nil {
+		return nil, fmt.Errorf("logging dive: %w", err)
+	}
+	defer tx.Rollback(ctx)
+	// Two processes logging the same file: the second waits here, then
+	// finds the first one's dive.
+	if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock($1, hashtext($2))", lockDive, h.ID.String()+fmt.Sprintf("%x", sha)); err != nil {
+		return nil, fmt.Errorf("logging dive: %w", err)
+	}
+	if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
+		return d, err
+	}
+
+	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA)
+	if err != nil {
+		return nil, err
+	}
+	tag, err := tx.Exec(ctx, "INSERT INTO dives ("+diveColumns+") VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25) ON CONFLICT (hull_id, source_sha256) DO NOTHING", row.values()...)
+	if err != nil {
+		return nil, fmt.Errorf("logging dive: storing the dive row: %w", err)
+	}
+	if tag.RowsAffected() == 0 {
+		tx.Rollback(ctx)
+		return l.existingDive(ctx, l.pool, h, sha, aeSHA)
+	}
+	recs = append([]chainRec{{"dive", row.ID.String(), row.canon()}}, recs...)
+	if _, err := appendChain(ctx, tx, h.ID, recs, row.RecordedAt); err != nil {
+		return nil, err
+	}
+	if err := tx.Commit(ctx); err != nil {
+		return nil, fmt.Errorf("logging dive: commit: %w", err)
+	}
+	return diveFromRow(row, h.Serial, h.Spec.RatedDepthM, false), nil
+}
+
+func (l *Ledger) existingDive(ctx context.Context, q querier, h *Hull, sha, aeSHA []byte) (*Dive, error) {
+	var r diveRow
+	err := q.QueryRow(ctx, "SELECT "+diveColumns+" FROM dives WHERE hull_id = $1 AND source_sha256 = $2", h.ID, sha).Scan(r.scanArgs()...)
+	if err == pgx.ErrNoRows {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("looking for an earlier record of this file: %w", err)
+	}
+	if !equalBytes(r.AESHA, aeSHA) {
+		what := "with a different acoustic-emission file"
+		switch {
+		case aeSHA == nil:
+			what = "with an acoustic-emission file, and none was given now"
+		case r.AESHA == nil:
+			what = "without an acoustic-emission file"
+		}
+		return nil, inputErr(fmt.Errorf("dive %s was already recorded from this samples file %s; nothing was added (a correction is recorded separately, never by re-logging)", r.ID, what))
+	}
+	return diveFromRow(&r, h.Serial, h.Spec.RatedDepthM, true), nil
+}
+
+func equalBytes(a, b []byte) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
+
+func diveFromRow(r *diveRow, serial string, rated float64, dup bool) *Dive {
+	return &Dive{ID: r.ID, Hull: serial, HullRevision: r.HullRevision, Duplicate: dup, Source: r.SourceName,
+		SourceSHA256: fmt.Sprintf("%x", r.SHA), AESource: r.AEName, Start: r.Start, End: r.End, DurationS: r.Duration,
+		Samples: r.Samples, Blocks: r.Blocks, MaxDepthM: r.MaxDepth, MaxPressureMPa: r.MaxPres, RatedDepthM: rated,
+		BeyondRated: r.Beyond, LoadColumn: r.LoadColumn, Columns: r.Columns, Gauges: r.Gauges, AEHits: r.AEHits,
+		Latitude: r.Lat, LatitudeAssumed: r.LatAssumed, Site: r.Site, Operator: r.Operator, RecordedAt: r.RecordedAt}
+}
+
+func hashFile(path string) ([]byte, int64, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, 0, err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, 0, err
+	}
+	if st.IsDir() {
+		return nil, 0, fmt.Errorf("%s is a folder, not a data-logger file", path)
+	}
+	h := sha256.New()
+	n, err := io.Copy(h, f)
+	if err != nil {
+		return nil, 0, fmt.Errorf("reading %s: %w", path, err)
+	}
+	return h.Sum(nil), n, nil
+}
+
+type parsed struct {
+	b   *blocks.Block
+	err error
+}
+
+// ingest parses the samples (and hits) and stores blocks and hits in tx,
+// returning the dive row (not yet inserted) and the chain records.
+func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte) (*diveRow, []chainRec, error) {
+	f, err := os.Open(req.Samples)
+	if err != nil {
+		return nil, nil, inputErr(err)
+	}
+	defer f.Close()
+	tee := sha256.New()
+	name := filepath.Base(req.Samples)
+	sr, err := logfile.NewSampleReader(io.TeeReader(f, tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples})
+	if err != nil {
+		return nil, nil, inputErr(err)
+	}
+	hdr := sr.Header()
+	known := h.Spec.StrainGauges()
+	for i, c := range hdr.Columns {
+		if c.Kind == logfile.KindStrain && !containsStr(known, c.Gauge) {
+			return nil, nil, inputErr(sr.Errorf(i+1, "strain gauge %q is not in hull %s's spec (its strain gauges: %s); record the gauge with a spec revision or correct the header", c.Gauge, h.Serial, listOr(known)))
+		}
+	}
+	load := hdr.Columns[hdr.Load]
+	lat, assumed := l.latitude(req.Latitude, load.Load)
+
+	row := &diveRow{ID: uuid.New(), HullID: h.ID, HullRevision: h.Revision, SourceName: name, SHA: sha, SourceBytes: size,
+		Lat: lat, LatAssumed: assumed, Site: req.Site, Operator: req.Operator, LoadColumn: load.Name, Gauges: hdr.Gauges}
+	if row.Gauges == nil {
+		row.Gauges = []string{}
+	}
+	for _, c := range hdr.Columns {
+		row.Columns = append(row.Columns, c.Name)
+	}
+
+	// Parse in one goroutine, encode and store in this one.
+	ctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	free := make(chan *blocks.Block, 3)
+	for i := 0; i < 3; i++ {
+		free <- sr.NewBlock()
+	}
+	full := make(chan parsed, 2)
+	go func() {
+		defer close(full)
+		for {
+			var b *blocks.Block
+			select {
+			case b = <-free:
+			case <-ctx.Done():
+				return
+			}
+			err := sr.ReadBlock(b)
+			if err == io.EOF {
+				return
+			}
+			select {
+			case full <- parsed{b, err}:
+			case <-ctx.Done():
+				return
+			}
+			if err != nil {
+				return
+			}
+		}
+	}()
+	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress}
+	src.maxLoad = math.Inf(-1)
+	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)
+	if src.perr != nil {
+		return nil, nil, inputErr(src.perr)
+	}
+	if err != nil {
+		return nil, nil, fmt.Errorf("storing readings: %w", err)
+	}
+	if got := tee.Sum(nil); !equalBytes(got, sha) {
+		return nil, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored — log it again once the logger has finished writing", req.Samples))
+	}
+	row.Samples = src.rows
+	row.Blocks = src.blockNo
+	row.Start = time.Unix(0, src.firstNS).UTC().Truncate(time.Microsecond)
+	row.End = time.Unix(0, src.lastNS).UTC().Truncate(time.Microsecond)
+	row.Duration = float64(src.lastNS-src.firstNS) / 1e9
+	switch load.Load {
+	case logfile.LoadDepth:
+		row.MaxDepth = src.maxLoad
+		row.MaxPres = seawater.DepthToMPa(math.Max(src.maxLoad, 0), lat)
+	case logfile.LoadPressureGauge:
+		row.MaxPres = src.maxLoad * load.ToMPa
+		row.MaxDepth = seawater.MPaToDepth(math.Max(row.MaxPres, 0), lat)
+	case logfile.LoadPressureAbsolute:
+		row.MaxPres = src.maxLoad*load.ToMPa - seawater.StandardAtmosphereMPa
+		row.MaxDepth = seawater.MPaToDepth(math.Max(row.MaxPres, 0), lat)
+	}
+	row.Beyond = row.MaxDepth > h.Spec.RatedDepthM
+	recs := src.recs
+
+	if req.AE != "" {
+		n, digest, err := l.ingestHits(ctx, tx, h, row, req, aeSHA, src.firstNS, src.lastNS)
+		if err != nil {
+			return nil, nil, err
+		}
+		row.AEName, row.AESHA, row.AEHits = filepath.Base(req.AE), aeSHA, n
+		recs = append(recs, chainRec{"ae_hits", row.ID.String(), hitsCanon(row.ID, n, digest)})
+	}
+	row.RecordedAt = now()
+	return row, recs, nil
+}
+
+func (l *Ledger) latitude(given *float64, load logfile.Load) (float64, bool) {
+	if given != nil {
+		return *given, false
+	}
+	if l.cfg.Ingest.DefaultLatitude != nil {
+		return *l.cfg.Ingest.DefaultLatitude, true
+	}
+	// Conservative: a logged depth is turned into pressure at the
+	// latitude of strongest gravity; a logged pressure into depth at the
+	// weakest, which gives the deepest depth (for the rated-depth check).
+	if load == logfile.LoadDepth {
+		return 90, true
+	}
+	return 0, true
+}
+
+// blockSource feeds encoded blocks to COPY and keeps the dive's summary.
+type blockSource struct {
+	ctx      context.Context
+	full     chan parsed
+	free     chan *blocks.Block
+	row      *diveRow
+	loadIdx  int
+	progress func(int64)
+
+	buf     []byte
+	vals    []any
+	perr    error
+	blockNo int32
+	rows    int64
+	firstNS int64
+	lastNS  int64
+	maxLoad float64
+	recs    []chainRec
+	sha     hash.Hash
+}
+
+func (s *blockSource) Next() bool {
+	if s.progress != nil && s.blockNo > 0 {
+		s.progress(s.rows)
+	}
+	p, ok := <-s.full
+	if !ok {
+		return false
+	}
+	if p.err != nil {
+		s.perr = p.err
+		return false
+	}
+	b := p.b
+	n := b.Len()
+	if s.rows == 0 {
+		s.firstNS = b.TimeNS[0]
+	}
+	s.lastNS = b.TimeNS[n-1]
+	for _, v := range b.Cols[s.loadIdx].Value {
+		if v > s.maxLoad {
+			s.maxLoad = v
+		}
+	}
+	s.buf = blocks.Encode(s.buf[:0], b)
+	if s.sha == nil {
+		s.sha = sha256.New()
+	}
+	s.sha.Reset()
+	s.sha.Write(s.buf)
+	sum := s.sha.Sum(nil)
+	data := make([]byte, len(s.buf))
+	copy(data, s.buf)
+	s.vals = []any{s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], data, sum}
+	s.recs = append(s.recs, chainRec{"reading_block", fmt.Sprintf("%s/%d", s.row.ID, s.blockNo), blockCanon(s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], sum)})
+	s.rows += int64(n)
+	s.blockNo++
+	s.free <- b
+	return true
+}
+
+func (s *blockSource) Values() ([]any, error) { return s.vals, nil }
+func (s *blockSource) Err() error {
+	if s.perr != nil {
+		return s.perr
+	}
+	return nil
+}
+
+func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRow, req LogRequest, aeSHA []byte, firstNS, lastNS int64) (int32, []byte, error) {
+	f, err := os.Open(req.AE)
+	if err != nil {
+		return 0, nil, inputErr(err)
+	}
+	defer f.Close()
+	tee := sha256.New()
+	hr, err := logfile.NewHitReader(io.TeeReader(f, tee), req.AE, req.Start)
+	if err != nil {
+		return 0, nil, inputErr(err)
+	}
+	chans := h.Spec.AEChannels()
+	src := &hitSource{hr: hr, row: row, chans: chans, first: firstNS, last: lastNS, digest: sha256.New(), serial: h.Serial}
+	_, err = tx.CopyFrom(ctx, pgx.Identifier{"ae_hits"}, []string{"dive_id", "hull_id", "seq", "t_ns", "channel", "amplitude_db", "energy", "counts", "duration_us", "rise_us"}, src)
+	if src.perr != nil {
+		return 0, nil, inputErr(src.perr)
+	}
+	if err != nil {
+		return 0, nil, fmt.Errorf("storing acoustic-emission hits: %w", err)
+	}
+	if !equalBytes(tee.Sum(nil), aeSHA) {
+		return 0, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored", req.AE))
+	}
+	return src.seq, src.digest.Sum(nil), nil
+}
+
+type hitSource struct {
+	hr          *logfile.HitReader
+	row         *diveRow
+	chans       []int
+	first, last int64
+	hit         logfile.Hit
+	seq         int32
+	perr        error
+	digest      hash.Hash
+	buf         []byte
+	serial      string
+}
+
+func (s *hitSource) Next() bool {
+	err := s.hr.Next(&s.hit)
+	if err == io.EOF {
+		return false
+	}
+	if err != nil {
+		s.perr = err
+		return false
+	}
+	if s.hit.TimeNS < s.first || s.hit.TimeNS > s.last {
+		s.perr = s.hr.Errorf("time", "hit at %s is outside the dive's samples (%s to %s)",
+			time.Unix(0, s.hit.TimeNS).UTC().Format(time.RFC3339Nano), time.Unix(0, s.first).UTC().Format(time.RFC3339Nano), time.Unix(0, s.last).UTC().Format(time.RFC3339Nano))
+		return false
+	}
+	if !containsInt(s.chans, s.hit.Channel) {
+		s.perr = s.hr.Errorf("channel", "channel %d is not an acoustic-emission channel of hull %s (its channels: %s)", s.hit.Channel, s.serial, listIntOr(s.chans))
+		return false
+	}
+	s.buf = hitBytes(s.buf[:0], s.seq, &s.hit)
+	s.digest.Write(s.buf)
+	s.seq++
+	return true
+}
+
+func (s *hitSource) Values() ([]any, error) {
+	h := &s.hit
+	return []any{s.row.ID, s.row.HullID, s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS}, nil
+}
+
+func (s *hitSource) Err() error { return s.perr }
+
+func containsStr(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
+}
+
+func containsInt(list []int, v int) bool {
+	for _, x := range list {
+		if x == v {
+			return true
+		}
+	}
+	return false
+}
+
+func listOr(list []string) string {
+	if len(list) == 0 {
+		return "none"
+	}
+	return strings.Join(list, ", ")
+}
+
+func listIntOr(list []int) string {
+	if len(list) == 0 {
+		return "none"
+	}
+	s := make([]string, len(list))
+	for i, v := range list {
+		s[i] = fmt.Sprint(v)
+	}
+	return strings.Join(s, ", ")
+}
+
+// Dives lists a hull's dives, oldest first.
+func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return nil, err
+	}
+	rows, err := l.pool.Query(ctx, "SELECT "+diveColumns+" FROM dives WHERE hull_id = $1 ORDER BY start_time, id", h.ID)
+	if err != nil {
+		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
+	}
+	defer rows.Close()
+	var out []Dive
+	for rows.Next() {
+		var r diveRow
+		if err := rows.Scan(r.scanArgs()...); err != nil {
+			return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
+		}
+		out = append(out, *diveFromRow(&r, serial, h.Spec.RatedDepthM, false))
+	}
+	return out, rows.Err()
+}
+
+// ErrUnknownDive is returned for a dive id not in the ledger.
+var ErrUnknownDive = errors.New("unknown dive")
+
+// Dive returns one dive by id (a unique prefix of at least 8 characters
+// of the id is enough).
+func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
+	id = strings.ToLower(strings.TrimSpace(id))
+	if len(id) < 8 {
+		return nil, inputErr(fmt.Errorf("%w: %q: give the dive id or at least its first 8 characters", ErrUnknownDive, id))
+	}
+	rows, err := l.pool.Query(ctx, "SELECT "+diveColumns+", (SELECT serial FROM hulls WHERE hulls.id = dives.hull_id) FROM dives WHERE id::text LIKE $1 || '%' LIMIT 2", id)
+	if err != nil {
+		return nil, fmt.Errorf("reading dive %s: %w", id, err)
+	}
+	defer rows.Close()
+	var found []*Dive
+	for rows.Next() {
+		var r diveRow
+		var serial string
+		if err := rows.Scan(append(r.scanArgs(), &serial)...); err != nil {
+			return nil, fmt.Errorf("reading dive %s: %w", id, err)
+		}
+		found = append(found, diveFromRow(&r, serial, 0, false))
+	}
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	switch len(found) {
+	case 0:
+		return nil, inputErr(fmt.Errorf("%w: %s (hulltally dive list --hull SERIAL shows the ids)", ErrUnknownDive, id))
+	case 2:
+		return nil, inputErr(fmt.Errorf("dive id prefix %s is ambiguous: give more characters", id))
+	}
+	d := found[0]
+	h, err := l.Hull(ctx, d.Hull)
+	if err != nil {
+		return nil, err
+	}
+	d.RatedDepthM = h.Spec.RatedDepthM
+	return d, nil
+}
+
+// ReadBlocks streams a dive's decoded reading blocks in order.
+func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*blocks.Decoded) error) error {
+	rows, err := l.pool.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 ORDER BY block_no", dive)
+	if err != nil {
+		return fmt.Errorf("reading blocks of dive %s: %w", dive, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var data []byte
+		if err := rows.Scan(&data); err != nil {
+			return err
+		}
+		d, err := blocks.Decode(data)
+		if err != nil {
+			return fmt.Errorf("dive %s: %w", dive, err)
+		}
+		if err := fn(d); err != nil {
+			return err
+		}
+	}
+	return rows.Err()
+}

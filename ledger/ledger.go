@@ -1,0 +1,226 @@
+// Package ledger is hulltally's PostgreSQL record: the connection (to a
+// configured server or to the managed local cluster), the migrations, the
+// repositories for hulls, dives, readings and acoustic-emission hits, the
+// streaming ingest of data-logger files, and the append-only audit chain.
+//
+// Every ledger table is append-only (database triggers refuse UPDATE,
+// DELETE and TRUNCATE) and every record is chained per hull:
+// hash = SHA-256(previous hash ‖ canonical bytes of the record).
+package ledger
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"net/url"
+	"time"
+
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
+	"github.com/jackc/pgx/v5/pgxpool"
+	"github.com/jackc/tern/v2/migrate"
+
+	"hulltally/configs"
+	"hulltally/ledger/cluster"
+	"hulltally/migrations"
+)
+
+// Ledger is an open hulltally ledger.
+type Ledger struct {
+	pool *pgxpool.Pool
+	cfg  *configs.Config
+	info Info
+}
+
+// Info says where the ledger is.
+type Info struct {
+	// URL with any password removed.
+	URL string `json:"url"`
+	// Managed is true for hulltally's own cluster.
+	Managed bool `json:"managed"`
+	// ClusterDir is the managed cluster's folder.
+	ClusterDir string `json:"cluster_dir,omitempty"`
+	// Created is true when this run created the managed cluster.
+	Created bool `json:"created,omitempty"`
+	// Started is true when this run started the managed cluster.
+	Started bool `json:"started,omitempty"`
+	// Owner is the system user the managed server runs as, when not us.
+	Owner string `json:"owner,omitempty"`
+}
+
+// Open connects to the configured database, or creates and starts the
+// managed cluster, and applies pending migrations.
+func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
+	l := &Ledger{cfg: cfg}
+	dbURL := cfg.Database.URL
+	if dbURL == "" {
+		c, err := cluster.New(cfg.Home, nil)
+		if err != nil {
+			return nil, err
+		}
+		ev, err := c.Ensure(ctx)
+		if err != nil {
+			return nil, err
+		}
+		if err := createDatabase(ctx, c.MaintenanceURL(), cluster.Database); err != nil {
+			return nil, err
+		}
+		dbURL = c.URL()
+		l.info = Info{Managed: true, ClusterDir: c.Dir, Created: ev.Created, Started: ev.Started, Owner: ev.Owner}
+	}
+	l.info.URL = redact(dbURL)
+	pc, err := pgxpool.ParseConfig(dbURL)
+	if err != nil {
+		return nil, fmt.Errorf("database.url %s: %w", l.info.URL, err)
+	}
+	pc.MaxConns = cfg.Database.MaxConns
+	pool, err := pgxpool.NewWithConfig(ctx, pc)
+	if err != nil {
+		return nil, fmt.Errorf("connecting to %s: %w", l.info.URL, err)
+	}
+	l.pool = pool
+	if err := l.Migrate(ctx); err != nil {
+		pool.Close()
+		return nil, err
+	}
+	return l, nil
+}
+
+// Close releases the connections (the managed server keeps running).
+func (l *Ledger) Close() { l.pool.Close() }
+
+// Info says where the ledger is.
+func (l *Ledger) Info() Info { return l.info }
+
+// Pool exposes the connection pool to the other ledger packages and tests.
+func (l *Ledger) Pool() *pgxpool.Pool { return l.pool }
+
+// Migrate applies pending migrations under tern's advisory lock.
+func (l *Ledger) Migrate(ctx context.Context) error {
+	conn, err := l.pool.Acquire(ctx)
+	if err != nil {
+		return fmt.Errorf("migrations: connecting to %s: %w", l.info.URL, err)
+	}
+	defer conn.Release()
+	return MigrateConn(ctx, conn.Conn())
+}
+
+// MigrateConn applies pending migrations on one connection.
+func MigrateConn(ctx context.Context, conn *pgx.Conn) error {
+	m, err := migrate.NewMigrator(ctx, conn, "public.hulltally_schema_version")
+	if err != nil {
+		return fmt.Errorf("migrations: %w", err)
+	}
+	if err := m.LoadMigrations(migrations.FS); err != nil {
+		return fmt.Errorf("migrations: loading: %w", err)
+	}
+	if err := m.Migrate(ctx); err != nil {
+		return fmt.Errorf("migrations: applying: %w", err)
+	}
+	return nil
+}
+
+// SchemaVersion returns the applied migration version and the newest one.
+func (l *Ledger) SchemaVersion(ctx context.Context) (current, latest int32, err error) {
+	conn, err := l.pool.Acquire(ctx)
+	if err != nil {
+		return 0, 0, err
+	}
+	defer conn.Release()
+	m, err := migrate.NewMigrator(ctx, conn.Conn(), "public.hulltally_schema_version")
+	if err != nil {
+		return 0, 0, err
+	}
+	if err := m.LoadMigrations(migrations.FS); err != nil {
+		return 0, 0, err
+	}
+	current, err = m.GetCurrentVersion(ctx)
+	return current, int32(len(m.Migrations)), err
+}
+
+func createDatabase(ctx context.Context, maintURL, name string) error {
+	ctx, cancel := context.WithTimeout(ctx, 30*time.Second)
+	defer cancel()
+	conn, err := pgx.Connect(ctx, maintURL)
+	if err != nil {
+		return fmt.Errorf("connecting to the managed cluster: %w", err)
+	}
+	defer conn.Close(ctx)
+	var exists bool
+	if err := conn.QueryRow(ctx, "SELECT EXISTS (SELECT 1 FROM pg_database WHERE datname = $1)", name).Scan(&exists); err != nil {
+		return fmt.Errorf("managed cluster: %w", err)
+	}
+	if exists {
+		return nil
+	}
+	_, err = conn.Exec(ctx, "CREATE DATABASE "+pgx.Identifier{name}.Sanitize())
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) && (pe.Code == "42P04" || pe.Code == "23505") {
+		return nil // created by a process that started at the same time
+	}
+	if err != nil {
+		return fmt.Errorf("creating database %s: %w", name, err)
+	}
+	return nil
+}
+
+func redact(s string) string {
+	u, err := url.Parse(s)
+	if err != nil {
+		return "(unparsable database URL)"
+	}
+	if u.User != nil {
+		if _, has := u.User.Password(); has {
+			u.User = url.UserPassword(u.User.Username(), "xxxxx")
+		}
+	}
+	return u.String()
+}
+
+// Status reports on the configured database without creating anything.
+type Status struct {
+	URL     string `json:"url"`
+	Managed bool   `json:"managed"`
+	Running bool   `json:"running"`
+	Dir     string `json:"cluster_dir,omitempty"`
+	Detail  string `json:"detail,omitempty"`
+}
+
+// DBStatus says whether the database is reachable; for the managed
+// cluster, whether it runs.
+func DBStatus(ctx context.Context, cfg *configs.Config) Status {
+	if cfg.Database.URL != "" {
+		st := Status{URL: redact(cfg.Database.URL)}
+		ctx, cancel := context.WithTimeout(ctx, 5*time.Second)
+		defer cancel()
+		conn, err := pgx.Connect(ctx, cfg.Database.URL)
+		if err != nil {
+			st.Detail = err.Error()
+			return st
+		}
+		conn.Close(ctx)
+		st.Running = true
+		return st
+	}
+	c, err := cluster.New(cfg.Home, nil)
+	if err != nil {
+		return Status{Managed: true, Detail: err.Error()}
+	}
+	st := Status{URL: c.URL(), Managed: true, Dir: c.Dir, Running: c.Running(ctx)}
+	if !c.Initialised() {
+		st.Detail = "not created yet: the first command that needs the ledger creates it"
+	}
+	return st
+}
+
+// StopManaged stops the managed cluster's server.
+func StopManaged(ctx context.Context, cfg *configs.Config) (bool, error) {
+	if cfg.Database.URL != "" {
+		return false, errors.New("database.url is set: hulltally does not manage that server")
+	}
+	c, err := cluster.New(cfg.Home, nil)
+	if err != nil {
+		return false, err
+	}
+	return c.Stop(ctx)
+}

@@ -1,0 +1,278 @@
+package ledger
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"fmt"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+
+	"hulltally/ledger/logfile"
+)
+
+// Broken describes the first link of a chain that does not hold.
+type Broken struct {
+	Hull   string `json:"hull"`
+	Seq    int64  `json:"seq"`
+	Kind   string `json:"kind"`
+	Key    string `json:"record_key"`
+	Reason string `json:"reason"`
+}
+
+// VerifyResult is the outcome of recomputing every hull's chain.
+type VerifyResult struct {
+	OK          bool              `json:"ok"`
+	Records     int64             `json:"records"`
+	Hulls       int               `json:"hulls"`
+	FirstBroken *Broken           `json:"first_broken"`
+	Heads       map[string]string `json:"heads"`
+}
+
+// Verify recomputes every hull's audit chain from the stored records: each
+// record's canonical bytes are rebuilt from its table row (reading blocks
+// are re-hashed from their data), each link's hash recomputed, and the
+// number of records in each table compared with the chain (a row added
+// behind the chain's back is found as well as one edited or removed).
+func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
+	res := &VerifyResult{OK: true, Heads: map[string]string{}}
+	rows, err := l.pool.Query(ctx, `SELECT id, serial FROM hulls ORDER BY serial COLLATE "C"`)
+	if err != nil {
+		return nil, fmt.Errorf("verify: listing hulls: %w", err)
+	}
+	type hullID struct {
+		id     uuid.UUID
+		serial string
+	}
+	var hulls []hullID
+	for rows.Next() {
+		var h hullID
+		if err := rows.Scan(&h.id, &h.serial); err != nil {
+			return nil, err
+		}
+		hulls = append(hulls, h)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	res.Hulls = len(hulls)
+	for _, h := range hulls {
+		n, head, broken, err := l.verifyHull(ctx, h.id, h.serial)
+		if err != nil {
+			return nil, err
+		}
+		res.Records += n
+		res.Heads[h.serial] = fmt.Sprintf("%x", head)
+		if broken != nil && res.FirstBroken == nil {
+			res.FirstBroken = broken
+			res.OK = false
+		}
+	}
+	// Chain rows of hulls that no longer exist, or hull-less records.
+	var orphans int64
+	if err := l.pool.QueryRow(ctx, `SELECT count(*) FROM audit_chain c WHERE NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = c.hull_id)`).Scan(&orphans); err != nil {
+		return nil, err
+	}
+	if orphans > 0 && res.FirstBroken == nil {
+		res.OK = false
+		res.FirstBroken = &Broken{Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
+	}
+	return res, nil
+}
+
+// ChainHead returns the hash at the head of a hull's chain and its length.
+func (l *Ledger) ChainHead(ctx context.Context, hull uuid.UUID) ([]byte, int64, error) {
+	var seq int64
+	var h []byte
+	err := l.pool.QueryRow(ctx, "SELECT seq, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", hull).Scan(&seq, &h)
+	if err == pgx.ErrNoRows {
+		return make([]byte, 32), 0, nil
+	}
+	return h, seq, err
+}
+
+func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) (int64, []byte, *Broken, error) {
+	rows, err := l.pool.Query(ctx, "SELECT seq, kind, record_key, prev_hash, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq", hull)
+	if err != nil {
+		return 0, nil, nil, fmt.Errorf("verify %s: %w", serial, err)
+	}
+	type link struct {
+		seq        int64
+		kind, key  string
+		prev, hash []byte
+	}
+	var links []link
+	for rows.Next() {
+		var k link
+		if err := rows.Scan(&k.seq, &k.kind, &k.key, &k.prev, &k.hash); err != nil {
+			return 0, nil, nil, err
+		}
+		links = append(links, k)
+	}
+	if err := rows.Err(); err != nil {
+		return 0, nil, nil, err
+	}
+	prev := make([]byte, 32)
+	counts := map[string]int64{}
+	for i, k := range links {
+		brk := func(reason string, a ...any) *Broken {
+			return &Broken{Hull: serial, Seq: k.seq, Kind: k.kind, Key: k.key, Reason: fmt.Sprintf(reason, a...)}
+		}
+		if k.seq != int64(i+1) {
+			return int64(i), prev, brk("sequence gap: expected %d", i+1), nil
+		}
+		if !bytes.Equal(k.prev, prev) {
+			return int64(i), prev, brk("previous-hash link does not match the record before it"), nil
+		}
+		canon, why, err := l.recordCanon(ctx, hull, k.kind, k.key)
+		if err != nil {
+			return 0, nil, nil, fmt.Errorf("verify %s record %d: %w", serial, k.seq, err)
+		}
+		if why != "" {
+			return int64(i), prev, brk("%s", why), nil
+		}
+		if h := chainHash(prev, canon); !bytes.Equal(h, k.hash) {
+			return int64(i), prev, brk("record content does not match its hash (the stored record was changed)"), nil
+		}
+		counts[k.kind]++
+		prev = k.hash
+	}
+	// Every stored record must be on the chain.
+	checks := []struct{ kind, sql string }{
+		{"hull", "SELECT count(*) FROM hulls WHERE id = $1"},
+		{"hull_revision", "SELECT count(*) FROM hull_revisions WHERE hull_id = $1"},
+		{"dive", "SELECT count(*) FROM dives WHERE hull_id = $1"},
+		{"reading_block", "SELECT count(*) FROM reading_blocks WHERE hull_id = $1"},
+		{"ae_hits", "SELECT count(DISTINCT dive_id) FROM ae_hits WHERE hull_id = $1"},
+	}
+	for _, c := range checks {
+		var n int64
+		if err := l.pool.QueryRow(ctx, c.sql, hull).Scan(&n); err != nil {
+			return 0, nil, nil, fmt.Errorf("verify %s: counting %s: %w", serial, c.kind, err)
+		}
+		if n != counts[c.kind] {
+			return int64(len(links)), prev, &Broken{Hull: serial, Seq: int64(len(links)) + 1, Kind: c.kind,
+				Reason: fmt.Sprintf("%d %s records stored but %d on the chain (records added or removed behind the chain)", n, c.kind, counts[c.kind])}, nil
+		}
+	}
+	return int64(len(links)), prev, nil, nil
+}
+
+// recordCanon rebuilds the canonical bytes of a record from its row. why
+// is non-empty when the record is missing or inconsistent.
+func (l *Ledger) recordCanon(ctx context.Context, hull uuid.UUID, kind, key string) ([]byte, string, error) {
+	switch kind {
+	case "hull":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, "bad record key", nil
+		}
+		var serial string
+		var at time.Time
+		err = l.pool.QueryRow(ctx, "SELECT serial, recorded_at FROM hulls WHERE id = $1", id).Scan(&serial, &at)
+		if err == pgx.ErrNoRows {
+			return nil, "hull record is missing", nil
+		}
+		if err != nil {
+			return nil, "", err
+		}
+		return hullCanon(id, serial, at), "", nil
+	case "hull_revision":
+		id, rev, ok := splitKey(key)
+		if !ok {
+			return nil, "bad record key", nil
+		}
+		r, err := loadRevision(ctx, l.pool, id, int32(rev))
+		if err == pgx.ErrNoRows {
+			return nil, "hull revision record is missing", nil
+		}
+		if err != nil {
+			return nil, "", err
+		}
+		return r.canon(), "", nil
+	case "dive":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, "bad record key", nil
+		}
+		var r diveRow
+		err = l.pool.QueryRow(ctx, "SELECT "+diveColumns+" FROM dives WHERE id = $1", id).Scan(r.scanArgs()...)
+		if err == pgx.ErrNoRows {
+			return nil, "dive record is missing", nil
+		}
+		if err != nil {
+			return nil, "", err
+		}
+		return r.canon(), "", nil
+	case "reading_block":
+		id, no, ok := splitKey(key)
+		if !ok {
+			return nil, "bad record key", nil
+		}
+		var hullID uuid.UUID
+		var first, t0, t1 int64
+		var n int32
+		var data, sum []byte
+		err := l.pool.QueryRow(ctx, "SELECT hull_id, first_sample, samples, t_first_ns, t_last_ns, data, sha256 FROM reading_blocks WHERE dive_id = $1 AND block_no = $2", id, no).Scan(&hullID, &first, &n, &t0, &t1, &data, &sum)
+		if err == pgx.ErrNoRows {
+			return nil, "reading block is missing", nil
+		}
+		if err != nil {
+			return nil, "", err
+		}
+		actual := sha256.Sum256(data)
+		if !bytes.Equal(actual[:], sum) {
+			return nil, "reading block data does not match its stored SHA-256 (the readings were changed)", nil
+		}
+		return blockCanon(id, hullID, int32(no), first, n, t0, t1, actual[:]), "", nil
+	case "ae_hits":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, "bad record key", nil
+		}
+		rows, err := l.pool.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
+		if err != nil {
+			return nil, "", err
+		}
+		defer rows.Close()
+		digest := sha256.New()
+		var buf []byte
+		var n int32
+		for rows.Next() {
+			var seq, ch int32
+			var h logfile.Hit
+			if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS); err != nil {
+				return nil, "", err
+			}
+			h.Channel = int(ch)
+			buf = hitBytes(buf[:0], seq, &h)
+			digest.Write(buf)
+			n++
+		}
+		if err := rows.Err(); err != nil {
+			return nil, "", err
+		}
+		return hitsCanon(id, n, digest.Sum(nil)), "", nil
+	}
+	return nil, fmt.Sprintf("unknown record kind %q", kind), nil
+}
+
+func splitKey(key string) (uuid.UUID, int64, bool) {
+	i := strings.LastIndexByte(key, '/')
+	if i < 0 {
+		return uuid.Nil, 0, false
+	}
+	id, err := uuid.Parse(key[:i])
+	if err != nil {
+		return uuid.Nil, 0, false
+	}
+	n, err := strconv.ParseInt(key[i+1:], 10, 64)
+	if err != nil {
+		return uuid.Nil, 0, false
+	}
+	return id, n, true
+}
