@@ -678,8 +678,12 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 	return d, nil
 }
 
+// DecodedBlock is a block of a dive's readings: TimeNS and, per column of
+// the dive's file (Dive.Columns), Values (nil for the time column).
+type DecodedBlock = blocks.Decoded
+
 // ReadBlocks streams a dive's decoded reading blocks in order.
-func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*blocks.Decoded) error) error {
+func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*DecodedBlock) error) error {
 	rows, err := l.pool.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 ORDER BY block_no", dive)
 	if err != nil {
 		return fmt.Errorf("reading blocks of dive %s: %w", dive, err)
