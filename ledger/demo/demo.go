@@ -1,0 +1,228 @@
+// Package demo sets up hulltally's demonstration: an invented operator, the
+// Corrigan Shelf Survey Cooperative, with three composite-hull submersibles
+// working an invented basin, and a season of synthetic dives for each. The
+// files are written under <home>/demo and logged like any operator's
+// files; a second run finds them already recorded and finishes quickly.
+// Every name, place and number here is invented.
+package demo
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"time"
+
+	"gopkg.in/yaml.v3"
+
+	"hulltally/ledger"
+	"hulltally/ledger/spec"
+	"hulltally/ledger/synth"
+)
+
+// Options tune the demo.
+type Options struct {
+	// Dir is where the demo's files go (<home>/demo).
+	Dir string
+	// DivesPerHull is the season's length (default 60).
+	DivesPerHull int
+	// SampleHz is the loggers' rate (default 0.5 Hz).
+	SampleHz float64
+	// Log receives progress lines.
+	Log io.Writer
+}
+
+// Summary is what a demo run did.
+type Summary struct {
+	Dir        string `json:"dir"`
+	Hulls      int    `json:"hulls"`
+	HullsAdded int    `json:"hulls_added"`
+	Dives      int    `json:"dives"`
+	Logged     int    `json:"logged"`
+	Duplicates int    `json:"duplicates"`
+	Samples    int64  `json:"samples_logged"`
+}
+
+type hullPlan struct {
+	spec              *spec.Hull
+	minDepth, maxDep  float64
+	lat               float64
+	site              string
+	pilot             string
+	compliance        []synth.Gauge
+	aeRate, aeOnset   float64
+	aeOnsetFrac, ampl float64
+}
+
+func f(v float64) *float64 { return &v }
+func ch(v int) *int        { return &v }
+
+// fleet is the invented fleet.
+func fleet() []hullPlan {
+	return []hullPlan{
+		{
+			spec: &spec.Hull{
+				Serial: "CSC-ORN-01", Name: "Ornell", MaterialSystem: "carbon/epoxy filament-wound cylinder, titanium end rings",
+				Shape: "cylinder", InnerRadiusM: 0.55, WallThicknessM: 0.10, LengthM: 2.2, RatedDepthM: 4000,
+				DesignPressureMPa: 44, ProofPressureMPa: 50, CollapsePressureMPa: 90,
+				Components: []spec.Component{
+					{Name: "laminate", Kind: "laminate_cylinder", Transfer: spec.Transfer{Basis: "lame"}, Curve: "carbon-epoxy-cc-illustrative", RuptureCurve: "carbon-epoxy-rupture-compression-illustrative"},
+					{Name: "end-ring-fwd", Kind: "end_ring", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-9.5), Source: "demo design analysis ORN-FE-03 (invented)"}, Curve: "ti-6al-4v-machined-illustrative"},
+				},
+				Gauges: []spec.Gauge{
+					{Name: "hoop1", Kind: "strain", Component: "laminate", Position: "mid-length 0 deg", Direction: "hoop"},
+					{Name: "hoop2", Kind: "strain", Component: "laminate", Position: "mid-length 180 deg", Direction: "hoop"},
+					{Name: "axial1", Kind: "strain", Component: "laminate", Position: "mid-length 90 deg", Direction: "axial"},
+					{Name: "ae-fwd", Kind: "ae", Channel: ch(1)},
+					{Name: "ae-aft", Kind: "ae", Channel: ch(2)},
+				},
+			},
+			minDepth: 1800, maxDep: 3850, lat: -38.2, site: "Corrigan Shelf, north wall (invented)", pilot: "R. Okonkwo-Lind",
+			compliance: []synth.Gauge{{Name: "hoop1", ComplianceUEPerMPa: -118, Hysteresis: 0.01, NoiseUE: 1.5}, {Name: "hoop2", ComplianceUEPerMPa: -121, Hysteresis: 0.01, NoiseUE: 1.5}, {Name: "axial1", ComplianceUEPerMPa: -52, Hysteresis: 0.008, NoiseUE: 1.5}},
+			aeRate:     3, aeOnset: 0, aeOnsetFrac: 1, ampl: 45,
+		},
+		{
+			spec: &spec.Hull{
+				Serial: "CSC-VES-02", Name: "Vessa", MaterialSystem: "carbon/epoxy filament-wound cylinder, titanium end rings",
+				Shape: "cylinder", InnerRadiusM: 0.40, WallThicknessM: 0.11, LengthM: 1.8, RatedDepthM: 6000,
+				DesignPressureMPa: 66, ProofPressureMPa: 75, CollapsePressureMPa: 135,
+				Components: []spec.Component{
+					{Name: "laminate", Kind: "laminate_cylinder", Transfer: spec.Transfer{Basis: "lame"}, Curve: "carbon-epoxy-cc-illustrative", RuptureCurve: "carbon-epoxy-rupture-compression-illustrative"},
+					{Name: "hatch-seat", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-7.2), Source: "demo design analysis VES-FE-11 (invented)"}, Curve: "ti-6al-4v-machined-illustrative"},
+				},
+				Gauges: []spec.Gauge{
+					{Name: "hoop1", Kind: "strain", Component: "laminate", Position: "mid-length 0 deg", Direction: "hoop"},
+					{Name: "axial1", Kind: "strain", Component: "laminate", Position: "mid-length 90 deg", Direction: "axial"},
+					{Name: "ae-1", Kind: "ae", Channel: ch(1)},
+				},
+			},
+			minDepth: 3500, maxDep: 5900, lat: -38.9, site: "Corrigan Deep, east basin (invented)", pilot: "T. Marsh-Ivanova",
+			compliance: []synth.Gauge{{Name: "hoop1", ComplianceUEPerMPa: -96, Hysteresis: 0.012, NoiseUE: 1.5}, {Name: "axial1", ComplianceUEPerMPa: -41, Hysteresis: 0.01, NoiseUE: 1.5}},
+			aeRate:     4, aeOnset: 0, aeOnsetFrac: 1, ampl: 47,
+		},
+		{
+			spec: &spec.Hull{
+				Serial: "CSC-QUI-03", Name: "Quillon", MaterialSystem: "glass/epoxy sphere, steel hatch ring",
+				Shape: "sphere", InnerRadiusM: 0.80, WallThicknessM: 0.07, RatedDepthM: 1000,
+				DesignPressureMPa: 11, ProofPressureMPa: 12.5, CollapsePressureMPa: 24,
+				Components: []spec.Component{
+					{Name: "laminate", Kind: "laminate_sphere", Transfer: spec.Transfer{Basis: "lame"}, Curve: "glass-epoxy-cc-illustrative", RuptureCurve: "glass-epoxy-rupture-compression-illustrative"},
+					{Name: "hatch-ring", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-11.0), Source: "demo design analysis QUI-FE-02 (invented)"}, Curve: "dnv-rp-c203-d-air"},
+				},
+				Gauges: []spec.Gauge{
+					{Name: "merid1", Kind: "strain", Component: "laminate", Position: "equator 0 deg", Direction: "meridional"},
+					{Name: "ae-1", Kind: "ae", Channel: ch(1)},
+				},
+			},
+			minDepth: 300, maxDep: 960, lat: -37.6, site: "Corrigan Shelf, south terraces (invented)", pilot: "J. Aldana-Voss",
+			compliance: []synth.Gauge{{Name: "merid1", ComplianceUEPerMPa: -410, Hysteresis: 0.015, NoiseUE: 2}},
+			aeRate:     2, aeOnset: 0, aeOnsetFrac: 1, ampl: 44,
+		},
+	}
+}
+
+// Run sets up the fleet, writes missing dive files and logs every file.
+func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
+	if o.DivesPerHull <= 0 {
+		o.DivesPerHull = 60
+	}
+	if o.SampleHz <= 0 {
+		o.SampleHz = 0.5
+	}
+	if o.Log == nil {
+		o.Log = io.Discard
+	}
+	sum := &Summary{Dir: o.Dir}
+	season := time.Date(2026, 3, 2, 7, 30, 0, 0, time.UTC)
+	for hi, hp := range fleet() {
+		sum.Hulls++
+		hdir := filepath.Join(o.Dir, hp.spec.Serial)
+		if err := os.MkdirAll(hdir, 0o755); err != nil {
+			return nil, fmt.Errorf("demo: %w", err)
+		}
+		specFile := filepath.Join(o.Dir, hp.spec.Serial+".yaml")
+		y, err := yaml.Marshal(hp.spec)
+		if err != nil {
+			return nil, err
+		}
+		if err := os.WriteFile(specFile, append([]byte("# invented demo hull\n"), y...), 0o644); err != nil {
+			return nil, fmt.Errorf("demo: %w", err)
+		}
+		_, err = l.AddHull(ctx, hp.spec, ledger.AddHullOptions{Actor: "demo", Reason: "demo fleet"})
+		switch {
+		case err == nil:
+			sum.HullsAdded++
+		case errors.Is(err, ledger.ErrHullExists):
+		default:
+			return nil, err
+		}
+		plan := rand.New(rand.NewPCG(uint64(hi+1), 2026))
+		day := season.Add(time.Duration(hi) * 3 * time.Hour)
+		for i := 0; i < o.DivesPerHull; i++ {
+			day = day.Add(time.Duration(36+plan.IntN(48)) * time.Hour)
+			depth := hp.minDepth + (hp.maxDep-hp.minDepth)*plan.Float64()
+			d := synth.Dive{
+				Start: day, SampleHz: o.SampleHz, Latitude: hp.lat, MaxDepthM: float64(int(depth)),
+				DescentMPS: 0.6 + 0.4*plan.Float64(), AscentMPS: 0.7 + 0.4*plan.Float64(),
+				BottomS: 3600 * (1 + 2*plan.Float64()), SurfaceS: 300, Stops: 1 + plan.IntN(2), StopS: 120 + 180*plan.Float64(),
+				WanderM: 5 + 15*plan.Float64(), DepthNoiseM: 0.05, Gauges: hp.compliance, TempC: true,
+				AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: hp.aeOnsetFrac, AEOnsetRate: hp.aeOnset, AmplitudeMean: hp.ampl,
+			}
+			base := filepath.Join(hdir, fmt.Sprintf("dive-%03d", i+1))
+			samples, hits := base+".csv", base+"-ae.csv"
+			if !exists(samples) || !exists(hits) {
+				if err := writeDive(&d, samples, hits, uint64(hi*1000+i)); err != nil {
+					return nil, err
+				}
+			}
+			lat := hp.lat
+			r, err := l.LogDive(ctx, ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: hp.site, Operator: hp.pilot})
+			if err != nil {
+				return nil, fmt.Errorf("demo: %w", err)
+			}
+			sum.Dives++
+			if r.Duplicate {
+				sum.Duplicates++
+			} else {
+				sum.Logged++
+				sum.Samples += r.Samples
+			}
+		}
+		fmt.Fprintf(o.Log, "demo: %s %s: %d dives in %s\n", hp.spec.Serial, hp.spec.Name, o.DivesPerHull, hdir)
+	}
+	return sum, nil
+}
+
+func writeDive(d *synth.Dive, samples, hits string, seed uint64) error {
+	sf, err := os.Create(samples + ".tmp")
+	if err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	hf, err := os.Create(hits + ".tmp")
+	if err != nil {
+		sf.Close()
+		return fmt.Errorf("demo: %w", err)
+	}
+	_, err = d.Write(sf, hf, seed)
+	if e := sf.Close(); err == nil {
+		err = e
+	}
+	if e := hf.Close(); err == nil {
+		err = e
+	}
+	if err != nil {
+		return fmt.Errorf("demo: writing %s: %w", samples, err)
+	}
+	if err := os.Rename(samples+".tmp", samples); err != nil {
+		return err
+	}
+	return os.Rename(hits+".tmp", hits)
+}
+
+func exists(p string) bool {
+	_, err := os.Stat(p)
+	return err == nil
+}
