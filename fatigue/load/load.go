@@ -21,8 +21,9 @@
 // calibration > designer factor > Lamé default, and says which it used.
 //
 // Lamé thick-walled cylinder, inner radius a, outer radius b, external
-// pressure p (Timoshenko & Goodier, Theory of Elasticity, §29 — from
-// memory; any strength-of-materials text has them):
+// pressure p (Lamé's solution; for example Timoshenko & Goodier, Theory of
+// Elasticity, chapter 4 — from memory; any strength-of-materials text has
+// them):
 //
 //	σθ(r) = −p·b²·(r² + a²) / (r²·(b² − a²))    hoop, largest at r = a
 //	σθ(a) = −2p·b² / (b² − a²)

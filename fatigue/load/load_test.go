@@ -11,7 +11,7 @@ func near(got, want, rel float64) bool {
 }
 
 func TestLameClosedForms(t *testing.T) {
-	// Closed forms of DESIGN.md §4 (Lamé; Timoshenko & Goodier §29, from
+	// Closed forms of DESIGN.md §4 (Lamé; Timoshenko & Goodier ch. 4, from
 	// memory) at a = 0.5 m, b = 0.6 m, per MPa of external pressure:
 	//   a² = 0.25, b² = 0.36, b² − a² = 0.11, a³ = 0.125, b³ = 0.216,
 	//   b³ − a³ = 0.091.
