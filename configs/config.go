@@ -27,6 +27,8 @@ type Config struct {
 	Database Database
 	// Ingest tunes dive logging.
 	Ingest Ingest
+	// Fatigue configures the damage assessment.
+	Fatigue Fatigue
 	// Source lists where the values came from, lowest priority first.
 	Source []string
 }
@@ -46,6 +48,41 @@ type Ingest struct {
 	DefaultLatitude *float64
 	// BlockSamples is the number of samples per stored block.
 	BlockSamples int
+}
+
+// Fatigue configures the damage assessment (see hulltally.yaml).
+type Fatigue struct {
+	CurvesFile          string  `json:"curves_file"`
+	DesignFatigueFactor float64 `json:"design_fatigue_factor"`
+	MeanStress          string  `json:"mean_stress"`
+	Allowable           float64 `json:"allowable"`
+	Combine             string  `json:"combine"`
+	SustainedAllowable  float64 `json:"sustained_allowable"`
+	SensorNoiseMPa      float64 `json:"sensor_noise_mpa"`
+	StrainNoiseUE       float64 `json:"strain_noise_ue"`
+	GateFactor          float64 `json:"gate_factor"`
+	HoldBinMPa          float64 `json:"hold_bin_mpa"`
+	Window              int     `json:"window"`
+	MinDives            int     `json:"min_dives"`
+}
+
+// GateMPa is the rainflow hysteresis gate for pressure.
+func (f Fatigue) GateMPa() float64 { return f.GateFactor * f.SensorNoiseMPa }
+
+// GateUE is the rainflow hysteresis gate for strain.
+func (f Fatigue) GateUE() float64 { return f.GateFactor * f.StrainNoiseUE }
+
+// Curves returns the curve library's bytes: the configured file, or the
+// shipped library.
+func (f Fatigue) Curves() ([]byte, string, error) {
+	if f.CurvesFile == "" {
+		return CurvesYAML, "configs/curves.yaml (shipped)", nil
+	}
+	b, err := os.ReadFile(f.CurvesFile)
+	if err != nil {
+		return nil, "", fmt.Errorf("fatigue.curves_file: %w", err)
+	}
+	return b, f.CurvesFile, nil
 }
 
 // Options are the inputs of Load that do not come from files.
@@ -74,6 +111,18 @@ func Load(o Options) (*Config, error) {
 	v.SetDefault("database.max_conns", 4)
 	v.SetDefault("ingest.default_latitude", "")
 	v.SetDefault("ingest.block_samples", 8192)
+	v.SetDefault("fatigue.curves_file", "")
+	v.SetDefault("fatigue.design_fatigue_factor", 1.0)
+	v.SetDefault("fatigue.mean_stress", "goodman")
+	v.SetDefault("fatigue.allowable", 0.3)
+	v.SetDefault("fatigue.combine", "add")
+	v.SetDefault("fatigue.sustained_allowable", 0.3)
+	v.SetDefault("fatigue.sensor_noise_mpa", 0.01)
+	v.SetDefault("fatigue.strain_noise_ue", 2.0)
+	v.SetDefault("fatigue.gate_factor", 5)
+	v.SetDefault("fatigue.hold_bin_mpa", 0.05)
+	v.SetDefault("fatigue.window", 10)
+	v.SetDefault("fatigue.min_dives", 3)
 	src := []string{"built-in defaults"}
 	if err := v.MergeConfig(bytes.NewReader(defaultYAML)); err != nil {
 		return nil, fmt.Errorf("embedded configs/hulltally.yaml: %w", err)
@@ -117,6 +166,22 @@ func Load(o Options) (*Config, error) {
 	if c.Ingest.BlockSamples < 16 || c.Ingest.BlockSamples > 1<<20 {
 		return nil, fmt.Errorf("ingest.block_samples must be between 16 and 1048576, got %d", c.Ingest.BlockSamples)
 	}
+	fa := &c.Fatigue
+	fa.CurvesFile = v.GetString("fatigue.curves_file")
+	fa.DesignFatigueFactor = v.GetFloat64("fatigue.design_fatigue_factor")
+	fa.MeanStress = v.GetString("fatigue.mean_stress")
+	fa.Allowable = v.GetFloat64("fatigue.allowable")
+	fa.Combine = v.GetString("fatigue.combine")
+	fa.SustainedAllowable = v.GetFloat64("fatigue.sustained_allowable")
+	fa.SensorNoiseMPa = v.GetFloat64("fatigue.sensor_noise_mpa")
+	fa.StrainNoiseUE = v.GetFloat64("fatigue.strain_noise_ue")
+	fa.GateFactor = v.GetFloat64("fatigue.gate_factor")
+	fa.HoldBinMPa = v.GetFloat64("fatigue.hold_bin_mpa")
+	fa.Window = v.GetInt("fatigue.window")
+	fa.MinDives = v.GetInt("fatigue.min_dives")
+	if err := fa.validate(); err != nil {
+		return nil, err
+	}
 	if c.Home == "" {
 		isRoot := o.IsRoot
 		if isRoot == nil {
@@ -146,4 +211,36 @@ func Load(o Options) (*Config, error) {
 	}
 	c.Home = abs
 	return c, nil
+}
+
+func (f *Fatigue) validate() error {
+	var errs []string
+	if !(f.DesignFatigueFactor >= 1) {
+		errs = append(errs, fmt.Sprintf("fatigue.design_fatigue_factor must be at least 1, got %v", f.DesignFatigueFactor))
+	}
+	if f.MeanStress != "goodman" && f.MeanStress != "none" {
+		errs = append(errs, fmt.Sprintf("fatigue.mean_stress must be goodman or none, got %q", f.MeanStress))
+	}
+	if !(f.Allowable > 0) {
+		errs = append(errs, fmt.Sprintf("fatigue.allowable must be positive, got %v", f.Allowable))
+	}
+	if f.Combine != "add" && f.Combine != "separate" {
+		errs = append(errs, fmt.Sprintf("fatigue.combine must be add or separate, got %q", f.Combine))
+	}
+	if f.Combine == "separate" && !(f.SustainedAllowable > 0) {
+		errs = append(errs, fmt.Sprintf("fatigue.sustained_allowable must be positive, got %v", f.SustainedAllowable))
+	}
+	if !(f.SensorNoiseMPa >= 0) || !(f.StrainNoiseUE >= 0) || !(f.GateFactor >= 0) {
+		errs = append(errs, "fatigue.sensor_noise_mpa, strain_noise_ue and gate_factor must be non-negative")
+	}
+	if !(f.HoldBinMPa > 0) {
+		errs = append(errs, fmt.Sprintf("fatigue.hold_bin_mpa must be positive, got %v", f.HoldBinMPa))
+	}
+	if f.Window < 1 || f.MinDives < 1 {
+		errs = append(errs, "fatigue.window and fatigue.min_dives must be at least 1")
+	}
+	if len(errs) > 0 {
+		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
+	}
+	return nil
 }

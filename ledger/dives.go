@@ -16,6 +16,7 @@ import (
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
+	"hulltally/fatigue/assess"
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger/blocks"
 	"hulltally/ledger/logfile"
@@ -380,7 +381,8 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 			}
 		}
 	}()
-	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress}
+	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress,
+		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat)}
 	src.maxLoad = math.Inf(-1)
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)
 	if src.perr != nil {
@@ -411,6 +413,30 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	row.Beyond = row.MaxDepth > h.Spec.RatedDepthM
 	recs := src.recs
 
+	// The counted cycles and time at pressure, then the dive's damage.
+	ss, holds := src.counter.finish()
+	pcycles := ss[0].cycles
+	crecs, err := storeCounts(ctx, tx, row.ID, h.ID, ss, l.fat.binMPa, holds)
+	if err != nil {
+		return nil, nil, err
+	}
+	recs = append(recs, crecs...)
+	comps, err := l.resolve(h.Spec)
+	if err != nil {
+		return nil, nil, inputErr(fmt.Errorf("assessing the dive on hull %s: %w (the dive was not recorded; fix the hull spec or the curve library)", h.Serial, err))
+	}
+	res, _, err := assess.DiveDamage(assess.Dive{PressureCycles: pcycles, Holds: holds}, comps, l.fat.settings, nil)
+	if err != nil {
+		return nil, nil, fmt.Errorf("assessing the dive: %w", err)
+	}
+	ah := &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "dive", configHash: l.fat.hash,
+		configJSON: l.fat.json, reason: "dive logged", actor: actorOr(req.Operator), at: now()}
+	arec, err := storeAssessment(ctx, tx, ah, resultRows(row.ID, comps, res))
+	if err != nil {
+		return nil, nil, err
+	}
+	recs = append(recs, arec)
+
 	if req.AE != "" {
 		n, digest, err := l.ingestHits(ctx, tx, h, row, req, aeSHA, src.firstNS, src.lastNS)
 		if err != nil {
@@ -421,6 +447,13 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	}
 	row.RecordedAt = now()
 	return row, recs, nil
+}
+
+func actorOr(op string) string {
+	if strings.TrimSpace(op) == "" {
+		return "dive log"
+	}
+	return op
 }
 
 func (l *Ledger) latitude(given *float64, load logfile.Load) (float64, bool) {
@@ -458,6 +491,9 @@ type blockSource struct {
 	maxLoad float64
 	recs    []chainRec
 	sha     hash.Hash
+
+	// Counting while storing.
+	counter *diveCounter
 }
 
 func (s *blockSource) Next() bool {
@@ -478,6 +514,7 @@ func (s *blockSource) Next() bool {
 		s.firstNS = b.TimeNS[0]
 	}
 	s.lastNS = b.TimeNS[n-1]
+	s.counter.add(b.TimeNS, func(c int) []float64 { return b.Cols[c].Value })
 	for _, v := range b.Cols[s.loadIdx].Value {
 		if v > s.maxLoad {
 			s.maxLoad = v

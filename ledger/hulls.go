@@ -125,6 +125,9 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 	if err := h.Validate(); err != nil {
 		return nil, err
 	}
+	if err := l.checkCurves(h); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, errors.New("adding a hull: the actor (who records it) is required")
 	}

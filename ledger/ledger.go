@@ -30,6 +30,7 @@ type Ledger struct {
 	pool *pgxpool.Pool
 	cfg  *configs.Config
 	info Info
+	fat  *fatigueEnv
 }
 
 // Info says where the ledger is.
@@ -52,6 +53,9 @@ type Info struct {
 // managed cluster, and applies pending migrations.
 func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
 	l := &Ledger{cfg: cfg}
+	if err := l.loadFatigue(); err != nil {
+		return nil, err
+	}
 	dbURL := cfg.Database.URL
 	if dbURL == "" {
 		c, err := cluster.New(cfg.Home, nil)

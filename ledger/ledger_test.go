@@ -50,7 +50,8 @@ func newLedger(t *testing.T, blockSamples int) *ledger.Ledger {
 	return l
 }
 
-var ledgerTables = []string{"hulls", "hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections", "audit_chain"}
+var ledgerTables = []string{"hulls", "hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections", "audit_chain",
+	"dive_cycles", "dive_holds", "assessments", "assessment_damage"}
 
 func rowCounts(t *testing.T, l *ledger.Ledger) map[string]int64 {
 	t.Helper()

@@ -12,6 +12,7 @@ import (
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
+	"hulltally/fatigue/assess"
 	"hulltally/ledger/logfile"
 )
 
@@ -128,7 +129,7 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		if !bytes.Equal(k.prev, prev) {
 			return int64(i), prev, brk("previous-hash link does not match the record before it"), nil
 		}
-		canon, why, err := l.recordCanon(ctx, hull, k.kind, k.key)
+		canon, rows, why, err := l.recordCanon(ctx, k.kind, k.key)
 		if err != nil {
 			return 0, nil, nil, fmt.Errorf("verify %s record %d: %w", serial, k.seq, err)
 		}
@@ -139,6 +140,12 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 			return int64(i), prev, brk("record content does not match its hash (the stored record was changed)"), nil
 		}
 		counts[k.kind]++
+		switch k.kind {
+		case "assessment":
+			counts["assessment_rows"] += rows
+		case "ae_hits":
+			counts["ae_hit_rows"] += rows
+		}
 		prev = k.hash
 	}
 	// Every stored record must be on the chain.
@@ -147,7 +154,12 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"hull_revision", "SELECT count(*) FROM hull_revisions WHERE hull_id = $1"},
 		{"dive", "SELECT count(*) FROM dives WHERE hull_id = $1"},
 		{"reading_block", "SELECT count(*) FROM reading_blocks WHERE hull_id = $1"},
-		{"ae_hits", "SELECT count(DISTINCT dive_id) FROM ae_hits WHERE hull_id = $1"},
+		{"ae_hits", "SELECT count(*) FROM dives WHERE hull_id = $1 AND ae_source_sha256 IS NOT NULL"},
+		{"ae_hit_rows", "SELECT count(*) FROM ae_hits WHERE hull_id = $1"},
+		{"dive_cycles", "SELECT count(DISTINCT dive_id) FROM dive_cycles WHERE hull_id = $1"},
+		{"dive_holds", "SELECT count(*) FROM dive_holds WHERE hull_id = $1"},
+		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
+		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
 	}
 	for _, c := range checks {
 		var n int64
@@ -164,54 +176,56 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 
 // recordCanon rebuilds the canonical bytes of a record from its row. why
 // is non-empty when the record is missing or inconsistent.
-func (l *Ledger) recordCanon(ctx context.Context, hull uuid.UUID, kind, key string) ([]byte, string, error) {
+// It also returns the number of table rows the record stands for (hits,
+// damage rows), for the count check.
+func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int64, string, error) {
 	switch kind {
 	case "hull":
 		id, err := uuid.Parse(key)
 		if err != nil {
-			return nil, "bad record key", nil
+			return nil, 0, "bad record key", nil
 		}
 		var serial string
 		var at time.Time
 		err = l.pool.QueryRow(ctx, "SELECT serial, recorded_at FROM hulls WHERE id = $1", id).Scan(&serial, &at)
 		if err == pgx.ErrNoRows {
-			return nil, "hull record is missing", nil
+			return nil, 0, "hull record is missing", nil
 		}
 		if err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
-		return hullCanon(id, serial, at), "", nil
+		return hullCanon(id, serial, at), 0, "", nil
 	case "hull_revision":
 		id, rev, ok := splitKey(key)
 		if !ok {
-			return nil, "bad record key", nil
+			return nil, 0, "bad record key", nil
 		}
 		r, err := loadRevision(ctx, l.pool, id, int32(rev))
 		if err == pgx.ErrNoRows {
-			return nil, "hull revision record is missing", nil
+			return nil, 0, "hull revision record is missing", nil
 		}
 		if err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
-		return r.canon(), "", nil
+		return r.canon(), 0, "", nil
 	case "dive":
 		id, err := uuid.Parse(key)
 		if err != nil {
-			return nil, "bad record key", nil
+			return nil, 0, "bad record key", nil
 		}
 		var r diveRow
 		err = l.pool.QueryRow(ctx, "SELECT "+diveColumns+" FROM dives WHERE id = $1", id).Scan(r.scanArgs()...)
 		if err == pgx.ErrNoRows {
-			return nil, "dive record is missing", nil
+			return nil, 0, "dive record is missing", nil
 		}
 		if err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
-		return r.canon(), "", nil
+		return r.canon(), 0, "", nil
 	case "reading_block":
 		id, no, ok := splitKey(key)
 		if !ok {
-			return nil, "bad record key", nil
+			return nil, 0, "bad record key", nil
 		}
 		var hullID uuid.UUID
 		var first, t0, t1 int64
@@ -219,24 +233,24 @@ func (l *Ledger) recordCanon(ctx context.Context, hull uuid.UUID, kind, key stri
 		var data, sum []byte
 		err := l.pool.QueryRow(ctx, "SELECT hull_id, first_sample, samples, t_first_ns, t_last_ns, data, sha256 FROM reading_blocks WHERE dive_id = $1 AND block_no = $2", id, no).Scan(&hullID, &first, &n, &t0, &t1, &data, &sum)
 		if err == pgx.ErrNoRows {
-			return nil, "reading block is missing", nil
+			return nil, 0, "reading block is missing", nil
 		}
 		if err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
 		actual := sha256.Sum256(data)
 		if !bytes.Equal(actual[:], sum) {
-			return nil, "reading block data does not match its stored SHA-256 (the readings were changed)", nil
+			return nil, 0, "reading block data does not match its stored SHA-256 (the readings were changed)", nil
 		}
-		return blockCanon(id, hullID, int32(no), first, n, t0, t1, actual[:]), "", nil
+		return blockCanon(id, hullID, int32(no), first, n, t0, t1, actual[:]), 0, "", nil
 	case "ae_hits":
 		id, err := uuid.Parse(key)
 		if err != nil {
-			return nil, "bad record key", nil
+			return nil, 0, "bad record key", nil
 		}
 		rows, err := l.pool.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
 		if err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
 		defer rows.Close()
 		digest := sha256.New()
@@ -246,7 +260,7 @@ func (l *Ledger) recordCanon(ctx context.Context, hull uuid.UUID, kind, key stri
 			var seq, ch int32
 			var h logfile.Hit
 			if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS); err != nil {
-				return nil, "", err
+				return nil, 0, "", err
 			}
 			h.Channel = int(ch)
 			buf = hitBytes(buf[:0], seq, &h)
@@ -254,11 +268,93 @@ func (l *Ledger) recordCanon(ctx context.Context, hull uuid.UUID, kind, key stri
 			n++
 		}
 		if err := rows.Err(); err != nil {
-			return nil, "", err
+			return nil, 0, "", err
 		}
-		return hitsCanon(id, n, digest.Sum(nil)), "", nil
+		return hitsCanon(id, n, digest.Sum(nil)), int64(n), "", nil
+	case "dive_cycles":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		rows, err := l.pool.Query(ctx, `SELECT series, unit, gate, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 ORDER BY series COLLATE "C"`, id)
+		if err != nil {
+			return nil, 0, "", err
+		}
+		defer rows.Close()
+		var ss []series
+		for rows.Next() {
+			var s series
+			var r, m, n []float64
+			if err := rows.Scan(&s.name, &s.unit, &s.gate, &r, &m, &n); err != nil {
+				return nil, 0, "", err
+			}
+			s.cycles = joinCycles(r, m, n)
+			ss = append(ss, s)
+		}
+		if err := rows.Err(); err != nil {
+			return nil, 0, "", err
+		}
+		if len(ss) == 0 {
+			return nil, 0, "counted cycles are missing", nil
+		}
+		return cyclesCanon(id, ss), 0, "", nil
+	case "dive_holds":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var bin float64
+		var lv, sec []float64
+		err = l.pool.QueryRow(ctx, "SELECT bin_mpa, levels, seconds FROM dive_holds WHERE dive_id = $1", id).Scan(&bin, &lv, &sec)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "time at pressure is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		hs := make([]assess.Hold, len(lv))
+		for i := range lv {
+			hs[i] = assess.Hold{LevelMPa: lv[i], Seconds: sec[i]}
+		}
+		return holdsCanon(id, bin, hs), 0, "", nil
+	case "assessment":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		a := &assessmentHead{id: id}
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at FROM assessments WHERE id = $1", id).Scan(
+			&a.hull, &a.revision, &a.kind, &a.configHash, &a.configJSON, &a.reason, &a.actor, &a.at)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "assessment is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		rows, err := l.pool.Query(ctx, `SELECT dive_id, component, cyclic, sustained, basis, factor, curve, rupture_curve FROM assessment_damage
+			WHERE assessment_id = $1 ORDER BY dive_id, component COLLATE "C"`, id)
+		if err != nil {
+			return nil, 0, "", err
+		}
+		defer rows.Close()
+		digest := sha256.New()
+		var buf []byte
+		var n int64
+		for rows.Next() {
+			var r damageRow
+			if err := rows.Scan(&r.dive, &r.component, &r.cyclic, &r.sustained, &r.basis, &r.factor, &r.curve, &r.ruptureCurve); err != nil {
+				return nil, 0, "", err
+			}
+			buf = damageRowBytes(buf[:0], &r)
+			digest.Write(buf)
+			n++
+		}
+		if err := rows.Err(); err != nil {
+			return nil, 0, "", err
+		}
+		return assessmentCanon(a, n, digest.Sum(nil)), n, "", nil
 	}
-	return nil, fmt.Sprintf("unknown record kind %q", kind), nil
+	return nil, 0, fmt.Sprintf("unknown record kind %q", kind), nil
 }
 
 func splitKey(key string) (uuid.UUID, int64, bool) {

@@ -31,12 +31,16 @@ func (a *app) demoCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			dmg, err := a.damages(cmd.Context(), l)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
+				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
 			}
 			a.printf("demo fleet of the Corrigan Shelf Survey Cooperative (invented), files in %s\n", sum.Dir)
 			a.printf("%d dives: %d logged now (%d samples), %d already recorded; %.1f s\n\n", sum.Dives, sum.Logged, sum.Samples, sum.Duplicates, time.Since(t0).Seconds())
-			a.printHulls(hs)
+			a.printHulls(hs, dmg)
 			return nil
 		},
 	}

@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"sort"
 	"strconv"
 	"strings"
 	"text/tabwriter"
@@ -60,6 +61,15 @@ func (a *app) diveCmd() *cobra.Command {
 				return nil
 			}
 			a.printDive(d)
+			cycles, err := l.DiveCycles(cmd.Context(), d.ID)
+			if err != nil {
+				return err
+			}
+			dmg, err := l.DiveDamageOf(cmd.Context(), d.ID)
+			if err != nil {
+				return err
+			}
+			a.printDiveLoad(cycles, dmg)
 			return nil
 		},
 	}
@@ -125,10 +135,24 @@ func (a *app) diveCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			cycles, err := l.DiveCycles(cmd.Context(), d.ID)
+			if err != nil {
+				return err
+			}
+			dmg, err := l.DiveDamageOf(cmd.Context(), d.ID)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
-				return a.printJSON(d)
+				return a.printJSON(struct {
+					*ledger.Dive
+					PressureCycles []ledger.Cycle                        `json:"pressure_cycles"`
+					Damage         map[string]ledger.DiveComponentDamage `json:"damage"`
+					Caution        string                                `json:"caution"`
+				}{d, cycles, dmg, cautionText()})
 			}
 			a.printDive(d)
+			a.printDiveLoad(cycles, dmg)
 			return nil
 		},
 	}
@@ -159,6 +183,32 @@ func (a *app) printDive(d *ledger.Dive) {
 	fmt.Fprintf(w, "AE hits\t%d\n", d.AEHits)
 	if d.Site != "" || d.Operator != "" {
 		fmt.Fprintf(w, "site / operator\t%s / %s\n", d.Site, d.Operator)
+	}
+	w.Flush()
+}
+
+func (a *app) printDiveLoad(cycles []ledger.Cycle, dmg map[string]ledger.DiveComponentDamage) {
+	var full, half float64
+	biggest := 0.0
+	for _, c := range cycles {
+		if c.Count == 1 {
+			full++
+		} else {
+			half++
+		}
+		biggest = max(biggest, c.RangeMPa)
+	}
+	a.printf("pressure cycles: %d counted (%g full, %g half), largest range %.3f MPa\n", len(cycles), full, half, biggest)
+	names := make([]string, 0, len(dmg))
+	for n := range dmg {
+		names = append(names, n)
+	}
+	sort.Strings(names)
+	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+	fmt.Fprintln(w, "  COMPONENT\tCYCLIC DAMAGE\tSUSTAINED DAMAGE\tTRANSFER\tCURVE")
+	for _, n := range names {
+		d := dmg[n]
+		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%s\t%s\n", n, float64(d.Cyclic), float64(d.Sustained), d.Basis, d.Curve)
 	}
 	w.Flush()
 }

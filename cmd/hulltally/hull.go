@@ -1,7 +1,9 @@
 package main
 
 import (
+	"context"
 	"fmt"
+	"math"
 	"os"
 	"os/user"
 	"text/tabwriter"
@@ -120,7 +122,11 @@ func (a *app) hullCmd() *cobra.Command {
 				}
 				return a.printJSON(map[string]any{"hulls": hs, "caution": cautionText()})
 			}
-			a.printHulls(hs)
+			dmg, err := a.damages(cmd.Context(), l)
+			if err != nil {
+				return err
+			}
+			a.printHulls(hs, dmg)
 			return nil
 		},
 	}
@@ -143,12 +149,21 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			dmg, err := l.HullDamage(cmd.Context(), rec)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
 				return a.printJSON(map[string]any{
 					"serial": rec.Serial, "id": rec.ID, "revision": rec.Revision, "name": rec.Spec.Name,
 					"rated_depth_m": rec.Spec.RatedDepthM, "spec": rec.Spec, "dive_count": sum.DiveCount,
 					"max_pressure_mpa": sum.MaxPressureMPa, "max_depth_m": sum.MaxDepthM,
-					"dives_beyond_rated": sum.BeyondRated, "last_dive": sum.LastDive, "caution": cautionText(),
+					"dives_beyond_rated": sum.BeyondRated, "last_dive": sum.LastDive,
+					"components": dmg.Components, "governing_component": dmg.Governing, "governing_ratio": dmg.GoverningRatio,
+					"remaining_dives": dmg.RemainingDives, "remaining_status": dmg.RemainingStatus, "remaining_reason": dmg.RemainingReason,
+					"assessment": map[string]any{"config_hash": dmg.ConfigHash, "assessments_on_record": dmg.Assessments,
+						"design_fatigue_factor": dmg.DesignFatigueFactor, "mean_stress": dmg.MeanStress, "combine": dmg.Combine},
+					"caution": cautionText(),
 				})
 			}
 			s := rec.Spec
@@ -174,6 +189,7 @@ func (a *app) hullCmd() *cobra.Command {
 				}
 			}
 			w.Flush()
+			a.printDamage(dmg)
 			a.printf("\n%s\n", cautionText())
 			return nil
 		},
@@ -182,16 +198,79 @@ func (a *app) hullCmd() *cobra.Command {
 	return hull
 }
 
-func (a *app) printHulls(hs []ledger.HullSummary) {
+// printHulls prints the hull list with each hull's damage.
+func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages) {
 	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
-	fmt.Fprintln(w, "SERIAL\tNAME\tMATERIAL\tRATED m\tDIVES\tDEEPEST m\tMAX MPa\tBEYOND RATED\tLAST DIVE")
+	fmt.Fprintln(w, "SERIAL\tNAME\tRATED m\tDIVES\tDEEPEST m\tMAX MPa\tBEYOND RATED\tGOVERNING\tDAMAGE/ALLOWABLE\tDIVES LEFT\tLAST DIVE")
 	for _, h := range hs {
 		last := "-"
 		if h.LastDive != nil {
 			last = h.LastDive.UTC().Format("2006-01-02 15:04")
 		}
-		fmt.Fprintf(w, "%s\t%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\n", h.Serial, h.Name, h.MaterialSystem, h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, last)
+		gov, ratio, left := "-", "-", "-"
+		if d := dmg[h.Serial]; d != nil {
+			gov, ratio, left = d.Governing, pct(float64(d.GoverningRatio)), remaining(d)
+		}
+		fmt.Fprintf(w, "%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\t%s\t%s\t%s\n", h.Serial, h.Name, h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, gov, ratio, left, last)
 	}
 	w.Flush()
 	a.printf("\n%s\n", cautionText())
+}
+
+// pct prints a damage ratio as a percentage of the allowable, rounded up
+// (never in the hull's favour).
+func pct(r float64) string {
+	switch {
+	case math.IsInf(r, 1):
+		return "OVERLOAD"
+	case r == 0:
+		return "0 %"
+	case r < 1e-4:
+		return "<0.01 %"
+	}
+	return fmt.Sprintf("%.2f %%", math.Ceil(r*1e4)/100)
+}
+
+func remaining(d *ledger.Damages) string {
+	switch {
+	case d.RemainingDives != nil:
+		return fmt.Sprint(*d.RemainingDives)
+	case d.RemainingStatus == "not_limited_by_damage":
+		return "not limited"
+	case d.RemainingStatus == "too_few_dives":
+		return "too few dives"
+	}
+	return d.RemainingStatus
+}
+
+// printDamage prints a hull's damage table.
+func (a *app) printDamage(d *ledger.Damages) {
+	a.printf("\ncumulative damage (%d dives; design fatigue factor %g, mean stress %s, cyclic and sustained %s):\n", d.DiveCount, d.DesignFatigueFactor, d.MeanStress, d.Combine)
+	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+	fmt.Fprintln(w, "  COMPONENT\tCYCLIC\tSUSTAINED\tALLOWABLE\tOF ALLOWABLE\tTRANSFER\tCURVE")
+	for _, c := range d.Components {
+		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%g\t%s\t%s %.3g MPa/MPa\t%s\n", c.Name, float64(c.CyclicDamage), float64(c.SustainedDamage), c.Allowable, pct(float64(c.Ratio)), c.Basis, c.Factor, c.Curve)
+	}
+	w.Flush()
+	a.printf("governing component: %s at %s of its allowable\n", d.Governing, pct(float64(d.GoverningRatio)))
+	a.printf("remaining dives: %s — %s\n", remaining(d), d.RemainingReason)
+}
+
+// damages reads every hull's damage.
+func (a *app) damages(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Damages, error) {
+	hs, err := l.Hulls(ctx)
+	if err != nil {
+		return nil, err
+	}
+	out := map[string]*ledger.Damages{}
+	for _, s := range hs {
+		h, err := l.Hull(ctx, s.Serial)
+		if err != nil {
+			return nil, err
+		}
+		if out[s.Serial], err = l.HullDamage(ctx, h); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }

@@ -130,3 +130,29 @@ func TestAgainstTEOS10(t *testing.T) {
 	}
 	t.Logf("TEOS-10 cross-check: %d points within 0.02 %% + 0.05 m; largest depth difference %.3f m", i, maxDiff)
 }
+
+func TestDepthTable(t *testing.T) {
+	for _, lat := range []float64{0, 38.2, 90} {
+		tb := NewDepthTable(lat)
+		worst := 0.0
+		for z := 0.0; z < 11700; z += 0.37 {
+			d := math.Abs(tb.MPa(z) - DepthToMPa(z, lat))
+			worst = math.Max(worst, d)
+		}
+		if worst > 1e-8 {
+			t.Errorf("lat %v: table differs from the exact inverse by %g MPa", lat, worst)
+		}
+		if p := tb.MPa(-0.5); p >= 0 || p < -0.0052 {
+			t.Errorf("lat %v: -0.5 m gives %v MPa", lat, p)
+		}
+	}
+}
+
+func BenchmarkDepthTable(b *testing.B) {
+	tb := NewDepthTable(45)
+	s := 0.0
+	for i := 0; i < b.N; i++ {
+		s += tb.MPa(float64(i%11000) + 0.25)
+	}
+	_ = s
+}

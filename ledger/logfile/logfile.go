@@ -504,3 +504,14 @@ func (sr *SampleReader) parseTime(f []byte, i int) (int64, error) {
 }
 
 func fmtNS(ns int64) string { return time.Unix(0, ns).UTC().Format(time.RFC3339Nano) }
+
+// HeaderOf interprets column names as a samples header (for columns stored
+// with a dive).
+func HeaderOf(names []string) (Header, error) {
+	fields := make([][]byte, len(names))
+	for i, n := range names {
+		fields[i] = []byte(n)
+	}
+	lr := &lineReader{file: "(stored columns)", line: 1}
+	return parseHeader(fields, lr)
+}

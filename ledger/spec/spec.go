@@ -47,8 +47,9 @@ type Component struct {
 // Transfer is how gauge pressure becomes stress in a component.
 type Transfer struct {
 	// Basis: "lame" (thick-wall default from the geometry), "designer" (a
-	// factor from the designer's analysis), "gauge" (calibrated from strain
-	// gauges at a proof test) or "measured" (strain read directly).
+	// factor from the designer's analysis) or "gauge" (calibrated from
+	// strain gauges at a proof test; until one is recorded the designer's
+	// factor, else Lamé, is used and the assessment says so).
 	Basis string `yaml:"basis" json:"basis"`
 	// FactorMPaPerMPa is stress per unit gauge pressure (negative in
 	// compression); required for "designer".
@@ -170,7 +171,9 @@ func (h *Hull) Validate() error {
 			bad("%s (%s): curve is required (a name from the curve library)", at, c.Name)
 		}
 		switch c.Transfer.Basis {
-		case "lame", "gauge", "measured":
+		case "lame", "gauge":
+		case "measured":
+			bad("%s (%s): the measured-strain basis is not supported yet: use lame, designer or gauge", at, c.Name)
 		case "designer":
 			if c.Transfer.FactorMPaPerMPa == nil || *c.Transfer.FactorMPaPerMPa == 0 || math.IsNaN(*c.Transfer.FactorMPaPerMPa) || math.IsInf(*c.Transfer.FactorMPaPerMPa, 0) {
 				bad("%s (%s): a designer transfer needs a non-zero factor_mpa_per_mpa", at, c.Name)
@@ -179,7 +182,7 @@ func (h *Hull) Validate() error {
 				bad("%s (%s): a designer transfer needs its source (the analysis it comes from)", at, c.Name)
 			}
 		default:
-			bad("%s (%s): transfer.basis must be lame, designer, gauge or measured, got %q", at, c.Name, c.Transfer.Basis)
+			bad("%s (%s): transfer.basis must be lame, designer or gauge, got %q", at, c.Name, c.Transfer.Basis)
 		}
 	}
 	gnames := map[string]bool{}
