@@ -62,6 +62,7 @@ type Fatigue struct {
 	StrainNoiseUE       float64 `json:"strain_noise_ue"`
 	GateFactor          float64 `json:"gate_factor"`
 	HoldBinMPa          float64 `json:"hold_bin_mpa"`
+	HoldMaxBins         int     `json:"hold_max_bins"`
 	Window              int     `json:"window"`
 	MinDives            int     `json:"min_dives"`
 }
@@ -121,6 +122,7 @@ func Load(o Options) (*Config, error) {
 	v.SetDefault("fatigue.strain_noise_ue", 2.0)
 	v.SetDefault("fatigue.gate_factor", 5)
 	v.SetDefault("fatigue.hold_bin_mpa", 0.05)
+	v.SetDefault("fatigue.hold_max_bins", 24)
 	v.SetDefault("fatigue.window", 10)
 	v.SetDefault("fatigue.min_dives", 3)
 	src := []string{"built-in defaults"}
@@ -177,6 +179,7 @@ func Load(o Options) (*Config, error) {
 	fa.StrainNoiseUE = v.GetFloat64("fatigue.strain_noise_ue")
 	fa.GateFactor = v.GetFloat64("fatigue.gate_factor")
 	fa.HoldBinMPa = v.GetFloat64("fatigue.hold_bin_mpa")
+	fa.HoldMaxBins = v.GetInt("fatigue.hold_max_bins")
 	fa.Window = v.GetInt("fatigue.window")
 	fa.MinDives = v.GetInt("fatigue.min_dives")
 	if err := fa.validate(); err != nil {
@@ -235,6 +238,9 @@ func (f *Fatigue) validate() error {
 	}
 	if !(f.HoldBinMPa > 0) {
 		errs = append(errs, fmt.Sprintf("fatigue.hold_bin_mpa must be positive, got %v", f.HoldBinMPa))
+	}
+	if f.HoldMaxBins < 2 {
+		errs = append(errs, fmt.Sprintf("fatigue.hold_max_bins must be at least 2, got %d", f.HoldMaxBins))
 	}
 	if f.Window < 1 || f.MinDives < 1 {
 		errs = append(errs, "fatigue.window and fatigue.min_dives must be at least 1")

@@ -33,6 +33,7 @@ type fatigueEnv struct {
 	gateMPa   float64
 	gateUE    float64
 	binMPa    float64
+	maxBins   int
 }
 
 func (l *Ledger) loadFatigue() error {
@@ -53,7 +54,7 @@ func (l *Ledger) loadFatigue() error {
 	doc := map[string]any{
 		"design_fatigue_factor": f.DesignFatigueFactor, "mean_stress": f.MeanStress, "allowable": f.Allowable,
 		"combine": f.Combine, "sustained_allowable": f.SustainedAllowable, "gate_mpa": f.GateMPa(), "gate_ue": f.GateUE(),
-		"hold_bin_mpa": f.HoldBinMPa, "window": f.Window, "min_dives": f.MinDives,
+		"hold_bin_mpa": f.HoldBinMPa, "hold_max_bins": f.HoldMaxBins, "window": f.Window, "min_dives": f.MinDives,
 		"curves_source": src, "curves_sha256": fmt.Sprintf("%x", libSum),
 	}
 	js, err := json.Marshal(doc) // map keys are sorted: canonical
@@ -71,7 +72,7 @@ func (l *Ledger) loadFatigue() error {
 	env := &fatigueEnv{lib: lib, libSource: src, settings: assess.Settings{DFF: f.DesignFatigueFactor, MeanStress: ms},
 		limits: damage.Limits{Allowable: f.Allowable, SustainedAllowable: f.SustainedAllowable, Combine: damage.Combination(f.Combine)},
 		life:   damage.LifeOptions{Window: f.Window, MinDives: f.MinDives}, hash: h[:], json: string(js),
-		gateMPa: f.GateMPa(), gateUE: f.GateUE(), binMPa: f.HoldBinMPa}
+		gateMPa: f.GateMPa(), gateUE: f.GateUE(), binMPa: f.HoldBinMPa, maxBins: f.HoldMaxBins}
 	if env.limits.Combine == damage.CombineAdd {
 		env.limits.SustainedAllowable = 0
 	}
@@ -183,7 +184,7 @@ func storeCounts(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, ss []seri
 	rows := make([][]any, len(ss))
 	for i, s := range ss {
 		r, m, n := splitCycles(s.cycles)
-		rows[i] = []any{dive, hull, s.name, s.unit, s.gate, r, m, n}
+		rows[i] = []any{[16]byte(dive), [16]byte(hull), s.name, s.unit, s.gate, r, m, n}
 	}
 	if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dive_cycles"}, []string{"dive_id", "hull_id", "series", "unit", "gate", "ranges", "means", "counts"}, pgx.CopyFromRows(rows)); err != nil {
 		return nil, fmt.Errorf("storing counted cycles: %w", err)
@@ -198,27 +199,53 @@ func storeCounts(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, ss []seri
 	}, nil
 }
 
-// damageRow is one stored damage row.
-type damageRow struct {
-	dive                uuid.UUID
-	component           string
-	cyclic, sustained   float64
-	basis               string
+// compDamage is one component's column of an assessment: the damage of
+// every assessed dive, in parallel arrays.
+type compDamage struct {
+	component, basis    string
 	factor              float64
 	curve, ruptureCurve string
+	dives               []uuid.UUID
+	cyclic, sustained   []float64
 }
 
-func damageRowBytes(dst []byte, r *damageRow) []byte {
-	c := canon{b: dst}
-	c.uuid(r.dive)
-	c.str(r.component)
-	c.f64(r.cyclic)
-	c.f64(r.sustained)
-	c.str(r.basis)
-	c.f64(r.factor)
-	c.str(r.curve)
-	c.str(r.ruptureCurve)
-	return c.b
+func compDamageBytes(c *canon, d *compDamage) {
+	c.str(d.component)
+	c.str(d.basis)
+	c.f64(d.factor)
+	c.str(d.curve)
+	c.str(d.ruptureCurve)
+	c.i64(int64(len(d.dives)))
+	for i := range d.dives {
+		c.uuid(d.dives[i])
+		c.f64(d.cyclic[i])
+		c.f64(d.sustained[i])
+	}
+}
+
+// newColumns makes an assessment's empty columns for the components.
+func newColumns(comps []assess.Component, capacity int) []compDamage {
+	cols := make([]compDamage, len(comps))
+	for i, c := range comps {
+		rup := ""
+		if c.Rupture != nil {
+			rup = c.Rupture.Name
+		}
+		cols[i] = compDamage{component: c.Name, basis: string(c.Transfer.Transfer.Basis), factor: c.Transfer.Transfer.Factor,
+			curve: c.Curve.Name, ruptureCurve: rup, dives: make([]uuid.UUID, 0, capacity),
+			cyclic: make([]float64, 0, capacity), sustained: make([]float64, 0, capacity)}
+	}
+	return cols
+}
+
+// addDive appends one dive's results (in the components' order).
+func addDive(cols []compDamage, dive uuid.UUID, res []assess.Result) {
+	for i, r := range res {
+		c := &cols[i]
+		c.dives = append(c.dives, dive)
+		c.cyclic = append(c.cyclic, r.Damage.Cyclic)
+		c.sustained = append(c.sustained, r.Damage.Sustained)
+	}
 }
 
 type assessmentHead struct {
@@ -233,7 +260,7 @@ type assessmentHead struct {
 	at         time.Time
 }
 
-func assessmentCanon(a *assessmentHead, n int64, digest []byte) []byte {
+func assessmentCanon(a *assessmentHead, cols []compDamage) []byte {
 	c := newCanon("assessment")
 	c.uuid(a.id)
 	c.uuid(a.hull)
@@ -244,55 +271,34 @@ func assessmentCanon(a *assessmentHead, n int64, digest []byte) []byte {
 	c.str(a.reason)
 	c.str(a.actor)
 	c.time(a.at)
-	c.i64(n)
-	c.bytes(digest) // SHA-256 over every damage row, ordered by dive id and component
+	c.i64(int64(len(cols)))
+	for i := range cols {
+		compDamageBytes(c, &cols[i])
+	}
 	return c.b
 }
 
-// storeAssessment stores an assessment and its rows (sorted here by dive
-// id and component, the order verify reads them in) and returns its chain
-// record.
-func storeAssessment(ctx context.Context, tx pgx.Tx, a *assessmentHead, rows []damageRow) (chainRec, error) {
-	sort.Slice(rows, func(i, j int) bool {
-		if c := bytes.Compare(rows[i].dive[:], rows[j].dive[:]); c != 0 {
-			return c < 0
-		}
-		return rows[i].component < rows[j].component
-	})
+// storeAssessment stores an assessment and its columns (sorted here by
+// component, the order verify reads them in) and returns its chain record.
+func storeAssessment(ctx context.Context, tx pgx.Tx, a *assessmentHead, cols []compDamage) (chainRec, error) {
+	sort.Slice(cols, func(i, j int) bool { return cols[i].component < cols[j].component })
 	if _, err := tx.Exec(ctx, `INSERT INTO assessments (id, hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at)
 		VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9)`, a.id, a.hull, a.revision, a.kind, a.configHash, a.configJSON, a.reason, a.actor, a.at); err != nil {
 		return chainRec{}, fmt.Errorf("storing assessment: %w", err)
 	}
-	digest := sha256.New()
-	var buf []byte
-	i := 0
-	src := pgx.CopyFromFunc(func() ([]any, error) {
-		if i == len(rows) {
-			return nil, nil
+	rows := make([][]any, len(cols))
+	for i := range cols {
+		c := &cols[i]
+		ids := make([][16]byte, len(c.dives))
+		for k, d := range c.dives {
+			ids[k] = d
 		}
-		r := &rows[i]
-		i++
-		buf = damageRowBytes(buf[:0], r)
-		digest.Write(buf)
-		return []any{a.id, a.hull, r.dive, r.component, r.cyclic, r.sustained, r.basis, r.factor, r.curve, r.ruptureCurve}, nil
-	})
-	if _, err := tx.CopyFrom(ctx, pgx.Identifier{"assessment_damage"}, []string{"assessment_id", "hull_id", "dive_id", "component", "cyclic", "sustained", "basis", "factor", "curve", "rupture_curve"}, src); err != nil {
+		rows[i] = []any{[16]byte(a.id), [16]byte(a.hull), c.component, c.basis, c.factor, c.curve, c.ruptureCurve, ids, c.cyclic, c.sustained}
+	}
+	if _, err := tx.CopyFrom(ctx, pgx.Identifier{"assessment_damage"}, []string{"assessment_id", "hull_id", "component", "basis", "factor", "curve", "rupture_curve", "dive_ids", "cyclic", "sustained"}, pgx.CopyFromRows(rows)); err != nil {
 		return chainRec{}, fmt.Errorf("storing assessment rows: %w", err)
 	}
-	return chainRec{"assessment", a.id.String(), assessmentCanon(a, int64(len(rows)), digest.Sum(nil))}, nil
-}
-
-func resultRows(dive uuid.UUID, comps []assess.Component, res []assess.Result) []damageRow {
-	rows := make([]damageRow, len(res))
-	for i, r := range res {
-		rup := ""
-		if comps[i].Rupture != nil {
-			rup = comps[i].Rupture.Name
-		}
-		rows[i] = damageRow{dive: dive, component: r.Component, cyclic: r.Damage.Cyclic, sustained: r.Damage.Sustained,
-			basis: string(r.Basis), factor: r.Factor, curve: comps[i].Curve.Name, ruptureCurve: rup}
-	}
-	return rows
+	return chainRec{"assessment", a.id.String(), assessmentCanon(a, cols)}, nil
 }
 
 // AssessOptions say who re-assesses and why.
@@ -317,8 +323,9 @@ type AssessResult struct {
 }
 
 // Assess re-assesses hulls from their stored cycles (no raw readings are
-// read) with the configuration in force, appending a new assessment per
-// hull; the earlier ones stay on record.
+// read, except to count dives logged before cycles were stored) with the
+// configuration in force, appending a new assessment per hull in one
+// transaction; the earlier ones stay on record.
 func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, error) {
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, fmt.Errorf("assess: the actor is required")
@@ -326,102 +333,204 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 	if o.Reason == "" {
 		o.Reason = "re-assessment"
 	}
-	var serials []string
+	var hulls []*Hull
 	if o.Hull != "" {
-		serials = []string{o.Hull}
+		h, err := l.Hull(ctx, o.Hull)
+		if err != nil {
+			return nil, inputErr(err)
+		}
+		hulls = []*Hull{h}
 	} else {
-		hs, err := l.Hulls(ctx)
-		if err != nil {
+		var err error
+		if hulls, err = l.allHulls(ctx); err != nil {
 			return nil, err
 		}
-		for _, h := range hs {
-			serials = append(serials, h.Serial)
+	}
+	if len(hulls) == 0 {
+		return nil, nil
+	}
+	ids := make([][16]byte, len(hulls))
+	byID := map[uuid.UUID]int{}
+	comps := make([][]assess.Component, len(hulls))
+	asr := make([]*assess.Assessor, len(hulls))
+	for i, h := range hulls {
+		ids[i] = h.ID
+		byID[h.ID] = i
+		var err error
+		if comps[i], err = l.resolve(h.Spec); err != nil {
+			return nil, inputErr(fmt.Errorf("hull %s: %w", h.Serial, err))
+		}
+		if asr[i], err = assess.NewAssessor(comps[i], l.fat.settings); err != nil {
+			return nil, inputErr(fmt.Errorf("hull %s: %w", h.Serial, err))
 		}
 	}
-	var out []AssessResult
-	for _, s := range serials {
-		r, err := l.assessHull(ctx, s, o)
-		if err != nil {
-			return nil, err
-		}
-		out = append(out, *r)
-	}
-	return out, nil
-}
-
-func (l *Ledger) assessHull(ctx context.Context, serial string, o AssessOptions) (*AssessResult, error) {
-	h, err := l.Hull(ctx, serial)
-	if err != nil {
-		return nil, inputErr(err)
-	}
-	comps, err := l.resolve(h.Spec)
-	if err != nil {
-		return nil, inputErr(fmt.Errorf("hull %s: %w", serial, err))
-	}
-	prev, err := l.HullDamage(ctx, h)
+	prev, err := l.hullDamages(ctx, hulls)
 	if err != nil {
 		return nil, err
 	}
-	counted, err := l.backfillCounts(ctx, h)
-	if err != nil {
-		return nil, fmt.Errorf("assess %s: %w", serial, err)
-	}
-	rows, err := l.pool.Query(ctx, `SELECT d.id, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
-		FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
-		LEFT JOIN dive_holds h ON h.dive_id = d.id
-		WHERE d.hull_id = $1`, h.ID)
-	if err != nil {
-		return nil, fmt.Errorf("assess %s: reading cycles: %w", serial, err)
-	}
-	var dmg []damageRow
-	var buf []damage.Cycle
-	n := 0
-	var rg, mn, ct, lv, sec []float64
-	var id uuid.UUID
-	for rows.Next() {
-		if err := rows.Scan(&id, &rg, &mn, &ct, &lv, &sec); err != nil {
-			rows.Close()
-			return nil, err
+	out := make([]AssessResult, len(hulls))
+	for i, h := range hulls {
+		if out[i].CountedFromRaw, err = l.backfillCounts(ctx, h); err != nil {
+			return nil, fmt.Errorf("assess %s: %w", h.Serial, err)
 		}
-		d := assess.Dive{PressureCycles: joinCycles(rg, mn, ct)}
-		for i := range lv {
-			d.Holds = append(d.Holds, assess.Hold{LevelMPa: lv[i], Seconds: sec[i]})
+	}
+	dmg := make([][]compDamage, len(hulls))
+	for i := range hulls {
+		dmg[i] = newColumns(comps[i], 1024)
+	}
+	perDive := make([][]DiveDamage, len(hulls))
+	// One goroutine reads and decodes the stored cycles, this one computes.
+	type item struct {
+		hull  int
+		id    uuid.UUID
+		start time.Time
+		dive  assess.Dive
+	}
+	items := make(chan item, 256)
+	readErr := make(chan error, 1)
+	rctx, cancel := context.WithCancel(ctx)
+	defer cancel()
+	go func() {
+		defer close(items)
+		readErr <- pgx.BeginTxFunc(rctx, l.pool, pgx.TxOptions{IsoLevel: pgx.RepeatableRead, AccessMode: pgx.ReadOnly}, func(tx pgx.Tx) error {
+			if _, err := tx.Exec(rctx, "SET LOCAL work_mem = '64MB'"); err != nil {
+				return err
+			}
+			rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
+				FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
+				LEFT JOIN dive_holds h ON h.dive_id = d.id
+				WHERE d.hull_id = ANY($1)`, ids)
+			if err != nil {
+				return fmt.Errorf("assess: reading cycles: %w", err)
+			}
+			defer rows.Close()
+			var rg, mn, ct, lv, sec []float64
+			var hullID uuid.UUID
+			for rows.Next() {
+				var it item
+				if err := rows.Scan(&hullID, &it.id, &it.start, &rg, &mn, &ct, &lv, &sec); err != nil {
+					return err
+				}
+				it.hull = byID[hullID]
+				it.dive.PressureCycles = joinCyclesInto(nil, rg, mn, ct)
+				it.dive.Holds = make([]assess.Hold, len(lv))
+				for k := range lv {
+					it.dive.Holds[k] = assess.Hold{LevelMPa: lv[k], Seconds: sec[k]}
+				}
+				select {
+				case items <- it:
+				case <-rctx.Done():
+					return rctx.Err()
+				}
+			}
+			return rows.Err()
+		})
+	}()
+	var cerr error
+	for it := range items {
+		if cerr != nil {
+			continue
 		}
-		var res []assess.Result
-		res, buf, err = assess.DiveDamage(d, comps, l.fat.settings, buf)
+		res, err := asr[it.hull].Dive(it.dive)
 		if err != nil {
-			rows.Close()
-			return nil, fmt.Errorf("assess %s dive %s: %w", serial, id, err)
+			cerr = fmt.Errorf("assess %s dive %s: %w", hulls[it.hull].Serial, it.id, err)
+			cancel()
+			continue
 		}
-		dmg = append(dmg, resultRows(id, comps, res)...)
-		n++
+		addDive(dmg[it.hull], it.id, res)
+		dd := DiveDamage{Dive: it.id, Start: it.start, Damage: make(map[string]damage.Damage, len(res))}
+		for _, r := range res {
+			dd.Damage[r.Component] = r.Damage
+		}
+		perDive[it.hull] = append(perDive[it.hull], dd)
 	}
-	rows.Close()
-	if err := rows.Err(); err != nil {
-		return nil, err
+	if err := <-readErr; cerr == nil && err != nil {
+		cerr = err
+	}
+	if cerr != nil {
+		return nil, cerr
+	}
+	for i := range perDive {
+		sort.Slice(perDive[i], func(a, b int) bool {
+			x, y := perDive[i][a], perDive[i][b]
+			if !x.Start.Equal(y.Start) {
+				return x.Start.Before(y.Start)
+			}
+			return bytes.Compare(x.Dive[:], y.Dive[:]) < 0
+		})
 	}
 	tx, err := l.pool.Begin(ctx)
 	if err != nil {
 		return nil, err
 	}
 	defer tx.Rollback(ctx)
-	a := &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "reassess", configHash: l.fat.hash,
-		configJSON: l.fat.json, reason: o.Reason, actor: o.Actor, at: now()}
-	rec, err := storeAssessment(ctx, tx, a, dmg)
-	if err != nil {
-		return nil, err
-	}
-	if _, err := appendChain(ctx, tx, h.ID, []chainRec{rec}, a.at); err != nil {
-		return nil, err
+	at := now()
+	heads := make([]*assessmentHead, len(hulls))
+	for i, h := range hulls {
+		heads[i] = &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "reassess", configHash: l.fat.hash,
+			configJSON: l.fat.json, reason: o.Reason, actor: o.Actor, at: at}
+		rec, err := storeAssessment(ctx, tx, heads[i], dmg[i])
+		if err != nil {
+			return nil, fmt.Errorf("assess %s: %w", h.Serial, err)
+		}
+		if _, err := appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
+			return nil, err
+		}
 	}
 	if err := tx.Commit(ctx); err != nil {
-		return nil, fmt.Errorf("assess %s: commit: %w", serial, err)
+		return nil, fmt.Errorf("assess: commit: %w", err)
 	}
-	cur, err := l.HullDamage(ctx, h)
+	for i, h := range hulls {
+		cur := l.newDamages(h)
+		cur.PerDive = perDive[i]
+		for ci, c := range comps[i] {
+			m := &cur.Components[ci]
+			m.Basis, m.Factor, m.Curve = string(c.Transfer.Transfer.Basis), c.Transfer.Transfer.Factor, c.Curve.Name
+			if c.Rupture != nil {
+				m.RuptureCurve = c.Rupture.Name
+			}
+		}
+		cur.Assessments = prev[i].Assessments + 1
+		cur.ConfigHash = fmt.Sprintf("%x", l.fat.hash)
+		if err := l.finishDamages(h, cur); err != nil {
+			return nil, err
+		}
+		out[i].Hull, out[i].AssessmentID, out[i].ConfigHash = h.Serial, heads[i].id, cur.ConfigHash
+		out[i].Dives, out[i].Previous, out[i].Current = len(perDive[i]), prev[i], cur
+	}
+	return out, nil
+}
+
+func joinCyclesInto(dst []rainflow.Cycle, r, m, n []float64) []rainflow.Cycle {
+	for i := range r {
+		dst = append(dst, rainflow.Cycle{Range: r[i], Mean: m[i], Count: n[i]})
+	}
+	return dst
+}
+
+// allHulls returns every hull with its spec in force, by serial.
+func (l *Ledger) allHulls(ctx context.Context) ([]*Hull, error) {
+	rows, err := l.pool.Query(ctx, `SELECT DISTINCT ON (h.serial COLLATE "C") h.id, h.serial, h.recorded_at, r.revision, r.spec_json, r.recorded_at, r.reason, r.actor
+		FROM hulls h JOIN hull_revisions r ON r.hull_id = h.id
+		ORDER BY h.serial COLLATE "C", r.revision DESC`)
 	if err != nil {
-		return nil, err
+		return nil, fmt.Errorf("listing hulls: %w", err)
 	}
-	return &AssessResult{Hull: serial, AssessmentID: a.id, ConfigHash: fmt.Sprintf("%x", a.configHash), Dives: n, CountedFromRaw: counted, Previous: prev, Current: cur}, nil
+	defer rows.Close()
+	var out []*Hull
+	for rows.Next() {
+		h := &Hull{}
+		var js string
+		if err := rows.Scan(&h.ID, &h.Serial, &h.RecordedAt, &h.Revision, &js, &h.RevisedAt, &h.Reason, &h.Actor); err != nil {
+			return nil, err
+		}
+		h.Spec = new(spec.Hull)
+		if err := json.Unmarshal([]byte(js), h.Spec); err != nil {
+			return nil, fmt.Errorf("hull %s: stored spec: %w", h.Serial, err)
+		}
+		out = append(out, h)
+	}
+	return out, rows.Err()
 }
 
 // Num is a damage figure that prints +Inf (a static overload) as the
@@ -485,62 +594,171 @@ type DiveDamage struct {
 
 // HullDamage sums the assessment in force of every dive of the hull.
 func (l *Ledger) HullDamage(ctx context.Context, h *Hull) (*Damages, error) {
-	rows, err := l.pool.Query(ctx, `
-		WITH latest AS (
-			SELECT DISTINCT ON (ad.dive_id) ad.dive_id, a.id
-			FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
-			WHERE ad.hull_id = $1
-			ORDER BY ad.dive_id, a.seq DESC)
-		SELECT d.id, d.start_time, ad.component, ad.cyclic, ad.sustained, ad.basis, ad.factor, ad.curve, ad.rupture_curve
-		FROM dives d
-		LEFT JOIN latest l ON l.dive_id = d.id
-		LEFT JOIN assessment_damage ad ON ad.assessment_id = l.id AND ad.dive_id = d.id
-		WHERE d.hull_id = $1
-		ORDER BY d.start_time, d.id`, h.ID)
+	ds, err := l.hullDamages(ctx, []*Hull{h})
 	if err != nil {
-		return nil, fmt.Errorf("reading damage of %s: %w", h.Serial, err)
+		return nil, err
 	}
-	defer rows.Close()
-	out := &Damages{Combine: string(l.fat.limits.Combination()), DesignFatigueFactor: l.fat.settings.DFF, MeanStress: string(l.fat.settings.MeanStress)}
-	idx := map[string]int{}
-	for i, c := range h.Spec.Components {
-		idx[c.Name] = i
-		out.Components = append(out.Components, ComponentDamage{Name: c.Name, Allowable: l.fat.limits.Allowable, Curve: c.Curve, RuptureCurve: c.RuptureCurve})
+	return ds[0], nil
+}
+
+// hullDamages is HullDamage for several hulls with one query each for
+// the damage rows and the assessment counts.
+func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, error) {
+	ids := make([][16]byte, len(hulls))
+	byID := map[uuid.UUID]int{}
+	out := make([]*Damages, len(hulls))
+	for i, h := range hulls {
+		ids[i] = h.ID
+		byID[h.ID] = i
+		out[i] = l.newDamages(h)
 	}
-	var cur *DiveDamage
+	rows, err := l.pool.Query(ctx, `SELECT hull_id, id, start_time FROM dives WHERE hull_id = ANY($1) ORDER BY hull_id, start_time, id`, ids)
+	if err != nil {
+		return nil, fmt.Errorf("reading dives: %w", err)
+	}
+	pos := make([]map[uuid.UUID]int, len(hulls))
+	for i := range pos {
+		pos[i] = map[uuid.UUID]int{}
+	}
 	for rows.Next() {
-		var id uuid.UUID
+		var hullID, id uuid.UUID
 		var start time.Time
-		var comp, basis, curve, rup *string
-		var cy, su, factor *float64
-		if err := rows.Scan(&id, &start, &comp, &cy, &su, &basis, &factor, &curve, &rup); err != nil {
+		if err := rows.Scan(&hullID, &id, &start); err != nil {
+			rows.Close()
 			return nil, err
 		}
-		if cur == nil || cur.Dive != id {
-			out.PerDive = append(out.PerDive, DiveDamage{Dive: id, Start: start, Damage: map[string]damage.Damage{}})
-			cur = &out.PerDive[len(out.PerDive)-1]
-		}
-		if comp == nil {
-			continue
-		}
-		k, ok := idx[*comp]
-		if !ok {
-			continue // a component no longer in the spec
-		}
-		cur.Damage[*comp] = damage.Damage{Cyclic: *cy, Sustained: *su}
-		c := &out.Components[k]
-		c.Basis, c.Factor, c.Curve, c.RuptureCurve = *basis, *factor, *curve, *rup
+		i := byID[hullID]
+		pos[i][id] = len(out[i].PerDive)
+		out[i].PerDive = append(out[i].PerDive, DiveDamage{Dive: id, Start: start, Damage: map[string]damage.Damage{}})
 	}
+	rows.Close()
 	if err := rows.Err(); err != nil {
 		return nil, err
 	}
+	// Newest assessment first: a dive takes its damage from the newest
+	// assessment that covers it.
+	rows, err = l.pool.Query(ctx, `SELECT a.hull_id, a.seq, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
+		FROM assessments a JOIN assessment_damage ad ON ad.assessment_id = a.id
+		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, a.seq DESC, ad.component`, ids)
+	if err != nil {
+		return nil, fmt.Errorf("reading damage: %w", err)
+	}
+	claimed := make([][]bool, len(hulls))
+	for i := range claimed {
+		claimed[i] = make([]bool, len(out[i].PerDive))
+	}
+	var group []compDamage
+	groupHull, groupSeq := -1, int64(-1)
+	flush := func() {
+		if groupHull < 0 {
+			return
+		}
+		o, cl := out[groupHull], claimed[groupHull]
+		fresh := map[int]bool{}
+		for _, g := range group {
+			for _, d := range g.dives {
+				if p, ok := pos[groupHull][d]; ok && !cl[p] {
+					fresh[p] = true
+				}
+			}
+		}
+		for _, g := range group {
+			k := -1
+			for j := range o.Components {
+				if o.Components[j].Name == g.component {
+					k = j
+				}
+			}
+			if k < 0 {
+				continue // a component no longer in the spec
+			}
+			used := false
+			for n, d := range g.dives {
+				if p, ok := pos[groupHull][d]; ok && fresh[p] {
+					o.PerDive[p].Damage[g.component] = damage.Damage{Cyclic: g.cyclic[n], Sustained: g.sustained[n]}
+					used = true
+				}
+			}
+			if used && o.Components[k].Basis == "" {
+				c := &o.Components[k]
+				c.Basis, c.Factor, c.Curve, c.RuptureCurve = g.basis, g.factor, g.curve, g.ruptureCurve
+			}
+		}
+		for p := range fresh {
+			cl[p] = true
+		}
+		group = group[:0]
+	}
+	for rows.Next() {
+		var hullID uuid.UUID
+		var seq int64
+		var g compDamage
+		var dives [][16]byte
+		if err := rows.Scan(&hullID, &seq, &g.component, &g.basis, &g.factor, &g.curve, &g.ruptureCurve, &dives, &g.cyclic, &g.sustained); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		i := byID[hullID]
+		if i != groupHull || seq != groupSeq {
+			flush()
+			groupHull, groupSeq = i, seq
+		}
+		g.dives = make([]uuid.UUID, len(dives))
+		for k, d := range dives {
+			g.dives[k] = d
+		}
+		group = append(group, g)
+	}
+	flush()
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	rows, err = l.pool.Query(ctx, `SELECT DISTINCT ON (hull_id) hull_id, count(*) OVER (PARTITION BY hull_id), config_hash
+		FROM assessments WHERE hull_id = ANY($1) ORDER BY hull_id, seq DESC`, ids)
+	if err != nil {
+		return nil, err
+	}
+	for rows.Next() {
+		var hullID uuid.UUID
+		var n int
+		var hash []byte
+		if err := rows.Scan(&hullID, &n, &hash); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		o := out[byID[hullID]]
+		o.Assessments, o.ConfigHash = n, fmt.Sprintf("%x", hash)
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	for i, h := range hulls {
+		if err := l.finishDamages(h, out[i]); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
+}
+
+func (l *Ledger) newDamages(h *Hull) *Damages {
+	d := &Damages{Combine: string(l.fat.limits.Combination()), DesignFatigueFactor: l.fat.settings.DFF, MeanStress: string(l.fat.settings.MeanStress)}
+	for _, c := range h.Spec.Components {
+		d.Components = append(d.Components, ComponentDamage{Name: c.Name, Allowable: l.fat.limits.Allowable, Curve: c.Curve, RuptureCurve: c.RuptureCurve})
+	}
+	return d
+}
+
+// finishDamages sums PerDive into the totals and the remaining life.
+func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 	out.DiveCount = len(out.PerDive)
 	dh := damage.Hull{}
 	for _, c := range out.Components {
 		dh.Components = append(dh.Components, damage.Component{Name: c.Name, Limits: l.fat.limits})
 	}
 	for _, d := range out.PerDive {
-		dd := damage.Dive{ID: d.Dive.String(), Damage: map[string]damage.Damage{}}
+		dd := damage.Dive{ID: d.Dive.String(), Damage: make(map[string]damage.Damage, len(out.Components))}
 		for i := range out.Components {
 			c := &out.Components[i]
 			v, ok := d.Damage[c.Name]
@@ -553,7 +771,7 @@ func (l *Ledger) HullDamage(ctx context.Context, h *Hull) (*Damages, error) {
 	}
 	tot, err := dh.Totals()
 	if err != nil {
-		return nil, fmt.Errorf("damage of %s: %w", h.Serial, err)
+		return fmt.Errorf("damage of %s: %w", h.Serial, err)
 	}
 	for i, t := range tot.Components {
 		c := &out.Components[i]
@@ -562,7 +780,7 @@ func (l *Ledger) HullDamage(ctx context.Context, h *Hull) (*Damages, error) {
 	out.Governing, out.GoverningRatio = tot.Governing, Num(tot.Ratio)
 	life, err := dh.RemainingLife(l.fat.life)
 	if err != nil {
-		return nil, fmt.Errorf("remaining life of %s: %w", h.Serial, err)
+		return fmt.Errorf("remaining life of %s: %w", h.Serial, err)
 	}
 	out.RemainingStatus, out.RemainingReason = string(life.Status), life.Reason
 	unassessed := 0
@@ -578,15 +796,7 @@ func (l *Ledger) HullDamage(ctx context.Context, h *Hull) (*Damages, error) {
 		d := life.Dives
 		out.RemainingDives = &d
 	}
-	if err := l.pool.QueryRow(ctx, "SELECT count(*) FROM assessments WHERE hull_id = $1", h.ID).Scan(&out.Assessments); err != nil {
-		return nil, err
-	}
-	var hash []byte
-	err = l.pool.QueryRow(ctx, "SELECT config_hash FROM assessments WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&hash)
-	if err == nil {
-		out.ConfigHash = fmt.Sprintf("%x", hash)
-	}
-	return out, nil
+	return nil
 }
 
 // Cycle is one counted cycle for output.
@@ -622,25 +832,31 @@ type DiveComponentDamage struct {
 }
 
 // DiveDamageOf returns the dive's damage per component in the assessment
-// in force.
+// in force (the newest that covers the dive).
 func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]DiveComponentDamage, error) {
 	rows, err := l.pool.Query(ctx, `
-		SELECT ad.component, ad.cyclic, ad.sustained, ad.basis, ad.curve FROM assessment_damage ad
-		WHERE ad.dive_id = $1 AND ad.assessment_id = (
-			SELECT a.id FROM assessments a JOIN assessment_damage x ON x.assessment_id = a.id
-			WHERE x.dive_id = $1 ORDER BY a.seq DESC LIMIT 1)`, dive)
+		SELECT a.seq, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve
+		FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
+		WHERE ad.hull_id = (SELECT hull_id FROM dives WHERE id = $1) AND $1 = ANY(ad.dive_ids)
+		ORDER BY a.seq DESC`, dive)
 	if err != nil {
 		return nil, err
 	}
 	defer rows.Close()
 	out := map[string]DiveComponentDamage{}
+	newest := int64(-1)
 	for rows.Next() {
+		var seq int64
 		var name string
 		var d DiveComponentDamage
 		var cy, su float64
-		if err := rows.Scan(&name, &cy, &su, &d.Basis, &d.Curve); err != nil {
+		if err := rows.Scan(&seq, &name, &cy, &su, &d.Basis, &d.Curve); err != nil {
 			return nil, err
 		}
+		if newest >= 0 && seq != newest {
+			break
+		}
+		newest = seq
 		d.Cyclic, d.Sustained = Num(cy), Num(su)
 		out[name] = d
 	}

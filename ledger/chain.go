@@ -102,7 +102,7 @@ func appendChain(ctx context.Context, tx pgx.Tx, hull uuid.UUID, recs []chainRec
 	for i, r := range recs {
 		seq++
 		h := chainHash(prev, r.canon)
-		rows[i] = []any{hull, seq, r.kind, r.key, prev, h, now}
+		rows[i] = []any{[16]byte(hull), seq, r.kind, r.key, prev, h, now}
 		prev = h
 	}
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"audit_chain"}, []string{"hull_id", "seq", "kind", "record_key", "prev_hash", "hash", "recorded_at"}, pgx.CopyFromRows(rows))

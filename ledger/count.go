@@ -24,6 +24,7 @@ type diveCounter struct {
 	strains  []strainCounter
 	gateMPa  float64
 	gateUE   float64
+	maxBins  int
 	firstNS  int64
 	started  bool
 	pbuf     []float64
@@ -38,7 +39,7 @@ type strainCounter struct {
 
 func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64) *diveCounter {
 	c := &diveCounter{loadIdx: loadIdx, load: cols[loadIdx], pressure: rainflow.NewCounter(l.fat.gateMPa),
-		holds: assess.NewHoldHistogram(l.fat.binMPa), gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE}
+		holds: assess.NewHoldHistogram(l.fat.binMPa), gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE, maxBins: l.fat.maxBins}
 	if c.load.Load == logfile.LoadDepth {
 		c.depth = seawater.NewDepthTable(lat)
 	}
@@ -93,7 +94,7 @@ func (c *diveCounter) finish() ([]series, []assess.Hold) {
 	for _, sc := range c.strains {
 		ss = append(ss, series{name: "strain:" + sc.gauge, unit: "microstrain", gate: c.gateUE, cycles: sc.counter.Finish()})
 	}
-	return ss, c.holds.Holds()
+	return ss, c.holds.Holds(c.maxBins)
 }
 
 // backfillCounts counts, from the raw readings, the dives of a hull that

@@ -425,13 +425,15 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	if err != nil {
 		return nil, nil, inputErr(fmt.Errorf("assessing the dive on hull %s: %w (the dive was not recorded; fix the hull spec or the curve library)", h.Serial, err))
 	}
-	res, _, err := assess.DiveDamage(assess.Dive{PressureCycles: pcycles, Holds: holds}, comps, l.fat.settings, nil)
+	res, err := assess.DiveDamage(assess.Dive{PressureCycles: pcycles, Holds: holds}, comps, l.fat.settings)
 	if err != nil {
 		return nil, nil, fmt.Errorf("assessing the dive: %w", err)
 	}
 	ah := &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "dive", configHash: l.fat.hash,
 		configJSON: l.fat.json, reason: "dive logged", actor: actorOr(req.Operator), at: now()}
-	arec, err := storeAssessment(ctx, tx, ah, resultRows(row.ID, comps, res))
+	cols := newColumns(comps, 1)
+	addDive(cols, row.ID, res)
+	arec, err := storeAssessment(ctx, tx, ah, cols)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -529,7 +531,7 @@ func (s *blockSource) Next() bool {
 	sum := s.sha.Sum(nil)
 	data := make([]byte, len(s.buf))
 	copy(data, s.buf)
-	s.vals = []any{s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], data, sum}
+	s.vals = []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], data, sum}
 	s.recs = append(s.recs, chainRec{"reading_block", fmt.Sprintf("%s/%d", s.row.ID, s.blockNo), blockCanon(s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], sum)})
 	s.rows += int64(n)
 	s.blockNo++
@@ -610,7 +612,7 @@ func (s *hitSource) Next() bool {
 
 func (s *hitSource) Values() ([]any, error) {
 	h := &s.hit
-	return []any{s.row.ID, s.row.HullID, s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS}, nil
+	return []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS}, nil
 }
 
 func (s *hitSource) Err() error { return s.perr }

@@ -13,6 +13,7 @@ import (
 
 	"github.com/jackc/pgx/v5"
 
+	"hulltally/configs"
 	"hulltally/ledger"
 	"hulltally/ledger/ledgertest"
 	"hulltally/ledger/spec"
@@ -36,6 +37,19 @@ func newLedger(t *testing.T, blockSamples int) *ledger.Ledger {
 		t.Fatal(err)
 	}
 	t.Cleanup(l.Close)
+	addExampleHull(t, l)
+	return l
+}
+
+func addExampleHull(t testing.TB, l *ledger.Ledger) {
+	t.Helper()
+	if _, err := l.AddHull(context.Background(), exampleSpec(t), ledger.AddHullOptions{Actor: "test"}); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func exampleSpec(t testing.TB) *spec.Hull {
+	t.Helper()
 	data, err := os.ReadFile("../testdata/hulls/example-cylinder.yaml")
 	if err != nil {
 		t.Fatal(err)
@@ -44,10 +58,19 @@ func newLedger(t *testing.T, blockSamples int) *ledger.Ledger {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := l.AddHull(context.Background(), h, ledger.AddHullOptions{Actor: "test"}); err != nil {
-		t.Fatal(err)
+	return h
+}
+
+func testConfig(t testing.TB) *configs.Config {
+	return ledgertest.Config(t, srv.NewDatabase(t, true))
+}
+
+func mustTime(s string) time.Time {
+	t, err := time.Parse(time.RFC3339, s)
+	if err != nil {
+		panic(err)
 	}
-	return l
+	return t
 }
 
 var ledgerTables = []string{"hulls", "hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections", "audit_chain",

@@ -331,28 +331,33 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "", err
 		}
-		rows, err := l.pool.Query(ctx, `SELECT dive_id, component, cyclic, sustained, basis, factor, curve, rupture_curve FROM assessment_damage
-			WHERE assessment_id = $1 ORDER BY dive_id, component COLLATE "C"`, id)
+		rows, err := l.pool.Query(ctx, `SELECT component, basis, factor, curve, rupture_curve, dive_ids, cyclic, sustained FROM assessment_damage
+			WHERE assessment_id = $1 ORDER BY component COLLATE "C"`, id)
 		if err != nil {
 			return nil, 0, "", err
 		}
 		defer rows.Close()
-		digest := sha256.New()
-		var buf []byte
-		var n int64
+		var cols []compDamage
 		for rows.Next() {
-			var r damageRow
-			if err := rows.Scan(&r.dive, &r.component, &r.cyclic, &r.sustained, &r.basis, &r.factor, &r.curve, &r.ruptureCurve); err != nil {
+			var g compDamage
+			var dives [][16]byte
+			if err := rows.Scan(&g.component, &g.basis, &g.factor, &g.curve, &g.ruptureCurve, &dives, &g.cyclic, &g.sustained); err != nil {
 				return nil, 0, "", err
 			}
-			buf = damageRowBytes(buf[:0], &r)
-			digest.Write(buf)
-			n++
+			if len(dives) != len(g.cyclic) || len(dives) != len(g.sustained) {
+				return nil, 0, "assessment arrays of unequal length", nil
+			}
+			g.dives = make([]uuid.UUID, len(dives))
+			for k, d := range dives {
+				g.dives[k] = d
+			}
+			cols = append(cols, g)
 		}
 		if err := rows.Err(); err != nil {
 			return nil, 0, "", err
 		}
-		return assessmentCanon(a, n, digest.Sum(nil)), n, "", nil
+		n := int64(len(cols))
+		return assessmentCanon(a, cols), n, "", nil
 	}
 	return nil, 0, fmt.Sprintf("unknown record kind %q", kind), nil
 }

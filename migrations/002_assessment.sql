@@ -47,20 +47,28 @@ CREATE TABLE assessments (
 );
 CREATE INDEX assessments_hull ON assessments (hull_id, seq);
 
+-- One row per assessment and component, holding every assessed dive's
+-- damage as parallel arrays (dive ids, cyclic, sustained): a re-assessment
+-- of 50 hulls of 1000 dives writes 100 rows, not 100 000, which keeps it
+-- within seconds. The dive ids cannot carry a foreign key; they are
+-- written only by the ledger, in the transaction of their assessment, and
+-- the assessment's chain record hashes every element, so verify finds any
+-- change.
 CREATE TABLE assessment_damage (
-    assessment_id uuid NOT NULL REFERENCES assessments(id) DEFERRABLE INITIALLY DEFERRED,
+    assessment_id uuid NOT NULL REFERENCES assessments(id),
     hull_id       uuid NOT NULL,
-    dive_id       uuid NOT NULL REFERENCES dives(id) DEFERRABLE INITIALLY DEFERRED,
     component     text NOT NULL,
-    cyclic        double precision NOT NULL,
-    sustained     double precision NOT NULL,
     basis         text NOT NULL,
     factor        double precision NOT NULL,
     curve         text NOT NULL,
     rupture_curve text NOT NULL,
-    PRIMARY KEY (assessment_id, dive_id, component)
+    dive_ids      uuid[] NOT NULL,
+    cyclic        double precision[] NOT NULL,
+    sustained     double precision[] NOT NULL,
+    PRIMARY KEY (assessment_id, component),
+    CHECK (cardinality(dive_ids) = cardinality(cyclic) AND cardinality(cyclic) = cardinality(sustained))
 );
-CREATE INDEX assessment_damage_dive ON assessment_damage (hull_id, dive_id);
+CREATE INDEX assessment_damage_hull ON assessment_damage (hull_id);
 
 DO $$
 DECLARE t text;

@@ -147,41 +147,78 @@ type Result struct {
 // ErrNoComponents is returned for a hull without components.
 var ErrNoComponents = errors.New("no components to assess")
 
-// DiveDamage assesses one dive on every component. buf is reused for the
-// stress cycles (pass nil to allocate).
-func DiveDamage(d Dive, comps []Component, s Settings, buf []damage.Cycle) ([]Result, []damage.Cycle, error) {
+// Assessor assesses dives on a hull's components with one set of
+// settings; its curves are checked once, when it is made.
+type Assessor struct {
+	comps  []Component
+	miners []*damage.MinerSum
+	buf    []damage.Cycle
+	holds  []damage.Hold
+}
+
+// NewAssessor checks the components' curves with the settings.
+func NewAssessor(comps []Component, s Settings) (*Assessor, error) {
 	if len(comps) == 0 {
-		return nil, buf, ErrNoComponents
+		return nil, ErrNoComponents
 	}
-	out := make([]Result, 0, len(comps))
-	holds := make([]damage.Hold, 0, len(d.Holds))
+	a := &Assessor{comps: comps}
 	for _, c := range comps {
+		m, err := damage.NewMinerSum(c.Curve, s.MeanStress, s.DFF)
+		if err != nil {
+			return nil, fmt.Errorf("component %s: %w", c.Name, err)
+		}
+		a.miners = append(a.miners, m)
+		if c.Rupture != nil {
+			if err := c.Rupture.Validate(); err != nil {
+				return nil, fmt.Errorf("component %s: %w", c.Name, err)
+			}
+		}
+	}
+	return a, nil
+}
+
+// DiveDamage assesses one dive on every component (a convenience for a
+// single dive; use an Assessor for many).
+func DiveDamage(d Dive, comps []Component, s Settings) ([]Result, error) {
+	a, err := NewAssessor(comps, s)
+	if err != nil {
+		return nil, err
+	}
+	return a.Dive(d)
+}
+
+// Dive assesses one dive on every component, in the components' order.
+func (a *Assessor) Dive(d Dive) ([]Result, error) {
+	out := make([]Result, 0, len(a.comps))
+	for ci, c := range a.comps {
 		f := c.Transfer.Transfer.Factor
-		buf = buf[:0]
+		buf := a.buf[:0]
 		for _, pc := range d.PressureCycles {
 			buf = append(buf, damage.Cycle{Range: math.Abs(f) * pc.Range, Mean: f * pc.Mean, Count: pc.Count})
 		}
-		cy, err := damage.Miner(buf, c.Curve, s.MeanStress, s.DFF)
+		a.buf = buf
+		cy, err := a.miners[ci].Sum(buf)
 		if err != nil {
-			return nil, buf, fmt.Errorf("component %s: %w", c.Name, err)
+			return nil, fmt.Errorf("component %s: %w", c.Name, err)
 		}
 		r := Result{Component: c.Name, Cyclic: cy, Factor: f, Basis: c.Transfer.Transfer.Basis}
 		r.Damage.Cyclic = cy.Damage
 		if c.Rupture != nil {
-			holds = holds[:0]
+			holds := a.holds[:0]
 			for _, h := range d.Holds {
 				holds = append(holds, damage.Hold{Stress: f * h.LevelMPa, Duration: h.Seconds})
 			}
+			a.holds = holds
 			su, err := damage.Robinson(holds, *c.Rupture)
 			if err != nil {
-				return nil, buf, fmt.Errorf("component %s: %w", c.Name, err)
+				return nil, fmt.Errorf("component %s: %w", c.Name, err)
 			}
 			r.Sustained = su
 			r.Damage.Sustained = su.Damage
 		}
 		out = append(out, r)
 	}
-	return out, buf, nil
+	return out, nil
 }
 
 // HoldHistogram accumulates time at pressure from a sampled pressure
@@ -220,13 +257,41 @@ func (h *HoldHistogram) Add(t, p []float64) {
 	}
 }
 
-// Holds returns the non-empty bins as holds at their upper edges.
-func (h *HoldHistogram) Holds() []Hold {
+// Holds returns the non-empty bins as holds at their upper edges, merged
+// down to at most maxBins (0: no limit). Merging moves a bin's time up to
+// the level of the next bin above it — never in the hull's favour — and
+// each step merges the pair that adds the least excess pressure × time,
+// so the descent and ascent, which pass through many levels briefly, are
+// coarsened first and the hold at depth is kept sharp.
+func (h *HoldHistogram) Holds(maxBins int) []Hold {
 	var out []Hold
 	for k, s := range h.seconds {
 		if s > 0 {
 			out = append(out, Hold{LevelMPa: float64(k+1) * h.Bin, Seconds: s})
 		}
 	}
-	return out
+	return MergeHolds(out, maxBins)
+}
+
+// MergeHolds merges holds (ascending levels) down to at most maxBins as
+// Holds describes; maxBins ≤ 0 means no limit.
+func MergeHolds(hs []Hold, maxBins int) []Hold {
+	if maxBins <= 0 {
+		return hs
+	}
+	for len(hs) > maxBins {
+		best, cost := -1, math.Inf(1)
+		for i := 0; i+1 < len(hs); i++ {
+			if c := hs[i].Seconds * (hs[i+1].LevelMPa - hs[i].LevelMPa); c < cost {
+				best, cost = i, c
+			}
+		}
+		if best < 0 {
+			// A single level cannot be merged further.
+			break
+		}
+		hs[best+1].Seconds += hs[best].Seconds
+		hs = append(hs[:best], hs[best+1:]...)
+	}
+	return hs
 }

@@ -75,15 +75,39 @@ type Cyclic struct {
 // (≥ 1): D = dff × Σ nᵢ/Nᵢ. Cycles with N = +Inf (zero range, below the
 // cut-off) add nothing; N = 0 gives +Inf.
 func Miner(cycles []Cycle, c sn.Curve, ms sn.MeanStress, dff float64) (Cyclic, error) {
+	m, err := NewMinerSum(c, ms, dff)
+	if err != nil {
+		return Cyclic{}, err
+	}
+	return m.Sum(cycles)
+}
+
+// MinerSum is a checked curve, mean-stress correction and design fatigue
+// factor, for summing the damage of many cycle sets without checking the
+// curve again each time.
+type MinerSum struct {
+	c   sn.Curve
+	ms  sn.MeanStress
+	dff float64
+}
+
+// NewMinerSum checks the curve, the correction and the factor once.
+func NewMinerSum(c sn.Curve, ms sn.MeanStress, dff float64) (*MinerSum, error) {
 	if err := c.Validate(); err != nil {
-		return Cyclic{}, fmt.Errorf("miner: %w", err)
+		return nil, fmt.Errorf("miner: %w", err)
 	}
 	if _, err := sn.ParseMeanStress(string(ms)); err != nil {
-		return Cyclic{}, fmt.Errorf("miner on curve %q: %w", c.Name, err)
+		return nil, fmt.Errorf("miner on curve %q: %w", c.Name, err)
 	}
 	if err := sn.CheckDFF(dff); err != nil {
-		return Cyclic{}, fmt.Errorf("miner on curve %q: %w", c.Name, err)
+		return nil, fmt.Errorf("miner on curve %q: %w", c.Name, err)
 	}
+	return &MinerSum{c: c, ms: ms, dff: dff}, nil
+}
+
+// Sum is Miner's rule on cycles (see Miner).
+func (m *MinerSum) Sum(cycles []Cycle) (Cyclic, error) {
+	c, ms, dff := m.c, m.ms, m.dff
 	out := Cyclic{DFF: dff, Curve: c.Name, MeanStress: ms}
 	for i, cy := range cycles {
 		if err := cy.validate(); err != nil {

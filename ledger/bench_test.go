@@ -1,0 +1,94 @@
+package ledger_test
+
+import (
+	"context"
+	"fmt"
+	"math/rand/v2"
+	"testing"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+
+	"hulltally/ledger"
+)
+
+// BenchmarkReassessFleet re-assesses 50 hulls × 1000 dives from their
+// stored cycles, end to end against PostgreSQL (read cycles, compute,
+// store the new assessments and chain records). The dives are written
+// straight into the tables (their raw readings are not needed to
+// re-assess), each with 12 pressure cycles and 24 time-at-pressure levels (the most
+// a dive keeps by default),
+// like the demo's dives.
+//
+//	go test -run XXX -bench ReassessFleet -benchtime 3x ./ledger/
+func BenchmarkReassessFleet(b *testing.B) {
+	const hulls, dives = 50, 1000
+	ctx := context.Background()
+	l, err := ledger.Open(ctx, testConfig(b))
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer l.Close()
+	base := exampleSpec(b)
+	rng := rand.New(rand.NewPCG(1, 2))
+	for h := 0; h < hulls; h++ {
+		sp := *base
+		sp.Serial = fmt.Sprintf("FLEET-%03d", h)
+		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"})
+		if err != nil {
+			b.Fatal(err)
+		}
+		var diveRows, cycleRows, holdRows [][]any
+		t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+		for d := 0; d < dives; d++ {
+			id := uuid.New()
+			peak := 20 + 20*rng.Float64()
+			st := t0.Add(time.Duration(d) * 30 * time.Hour)
+			sha := make([]byte, 32)
+			copy(sha, id[:])
+			diveRows = append(diveRows, []any{id, rec.ID, int32(1), "bench.csv", sha, int64(1), st, st.Add(5 * time.Hour), 45.0, false, "", "", "pressure_mpa",
+				[]string{"t_s", "pressure_mpa"}, []string{}, int64(1000), int32(1), 18000.0, peak * 99, peak, false, int32(0), st})
+			r, m, n := []float64{peak, peak}, []float64{peak / 2, peak / 2}, []float64{0.5, 0.5}
+			for k := 0; k < 10; k++ {
+				r, m, n = append(r, 0.1+0.3*rng.Float64()), append(m, peak-0.2), append(n, 1)
+			}
+			cycleRows = append(cycleRows, []any{id, rec.ID, "pressure", "MPa", 0.05, r, m, n})
+			var lv, sec []float64
+			for k := 1; k <= 24; k++ {
+				lv, sec = append(lv, peak*float64(k)/24), append(sec, 60+rng.Float64()*600)
+			}
+			holdRows = append(holdRows, []any{id, rec.ID, 0.05, lv, sec})
+		}
+		err = pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
+			cols := []string{"id", "hull_id", "hull_revision", "source_name", "source_sha256", "source_bytes", "start_time", "end_time", "latitude", "latitude_assumed",
+				"site", "operator", "load_column", "columns", "gauges", "sample_count", "block_count", "duration_s", "max_depth_m", "max_pressure_mpa", "beyond_rated", "ae_hit_count", "recorded_at"}
+			if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dives"}, cols, pgx.CopyFromRows(diveRows)); err != nil {
+				return err
+			}
+			if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dive_cycles"}, []string{"dive_id", "hull_id", "series", "unit", "gate", "ranges", "means", "counts"}, pgx.CopyFromRows(cycleRows)); err != nil {
+				return err
+			}
+			_, err := tx.CopyFrom(ctx, pgx.Identifier{"dive_holds"}, []string{"dive_id", "hull_id", "bin_mpa", "levels", "seconds"}, pgx.CopyFromRows(holdRows))
+			return err
+		})
+		if err != nil {
+			b.Fatal(err)
+		}
+	}
+	if _, err := l.Pool().Exec(ctx, "ANALYZE"); err != nil {
+		b.Fatal(err)
+	}
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "bench", Reason: "benchmark"})
+		if err != nil {
+			b.Fatal(err)
+		}
+		if len(res) != hulls || res[0].Dives != dives {
+			b.Fatalf("assessed %d hulls, %d dives", len(res), res[0].Dives)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N), "s/fleet")
+	b.ReportMetric(float64(hulls*dives)*float64(b.N)/b.Elapsed().Seconds(), "dives/s")
+}
