@@ -369,9 +369,16 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 		return nil, err
 	}
 	out := make([]AssessResult, len(hulls))
-	for i, h := range hulls {
-		if out[i].CountedFromRaw, err = l.backfillCounts(ctx, h); err != nil {
-			return nil, fmt.Errorf("assess %s: %w", h.Serial, err)
+	// Dives logged before cycles were stored are counted from their raw
+	// readings first.
+	missing, err := l.hullsMissingCounts(ctx, ids)
+	if err != nil {
+		return nil, err
+	}
+	for _, id := range missing {
+		i := byID[id]
+		if out[i].CountedFromRaw, err = l.backfillCounts(ctx, hulls[i]); err != nil {
+			return nil, fmt.Errorf("assess %s: %w", hulls[i].Serial, err)
 		}
 	}
 	dmg := make([][]compDamage, len(hulls))
@@ -499,6 +506,25 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 		out[i].Dives, out[i].Previous, out[i].Current = len(perDive[i]), prev[i], cur
 	}
 	return out, nil
+}
+
+// hullsMissingCounts lists the hulls that have dives without stored cycles.
+func (l *Ledger) hullsMissingCounts(ctx context.Context, ids [][16]byte) ([]uuid.UUID, error) {
+	rows, err := l.pool.Query(ctx, `SELECT DISTINCT d.hull_id FROM dives d LEFT JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
+		WHERE d.hull_id = ANY($1) AND c.dive_id IS NULL`, ids)
+	if err != nil {
+		return nil, fmt.Errorf("looking for dives without counted cycles: %w", err)
+	}
+	defer rows.Close()
+	var out []uuid.UUID
+	for rows.Next() {
+		var id uuid.UUID
+		if err := rows.Scan(&id); err != nil {
+			return nil, err
+		}
+		out = append(out, id)
+	}
+	return out, rows.Err()
 }
 
 func joinCyclesInto(dst []rainflow.Cycle, r, m, n []float64) []rainflow.Cycle {
