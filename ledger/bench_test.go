@@ -4,6 +4,8 @@ import (
 	"context"
 	"fmt"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"testing"
 	"time"
 
@@ -11,6 +13,8 @@ import (
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/ledger"
+	"hulltally/ledger/spec"
+	"hulltally/ledger/synth"
 )
 
 // BenchmarkReassessFleet re-assesses 50 hulls × 1000 dives from their
@@ -91,4 +95,47 @@ func BenchmarkReassessFleet(b *testing.B) {
 	}
 	b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N), "s/fleet")
 	b.ReportMetric(float64(hulls*dives)*float64(b.N)/b.Elapsed().Seconds(), "dives/s")
+}
+
+// BenchmarkLogDive logs a one-hour, 100 Hz dive with 8 strain gauges
+// (360 000 rows) per iteration, each time as a new file.
+//
+//	go test -run XXX -bench LogDive -benchmem ./ledger/
+func BenchmarkLogDive(b *testing.B) {
+	ctx := context.Background()
+	l, err := ledger.Open(ctx, testConfig(b))
+	if err != nil {
+		b.Fatal(err)
+	}
+	defer l.Close()
+	sp := exampleSpec(b)
+	sp.Gauges = nil
+	for g := 0; g < 8; g++ {
+		sp.Gauges = append(sp.Gauges, spec.Gauge{Name: fmt.Sprintf("g%d", g+1), Kind: "strain", Component: "laminate"})
+	}
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+		b.Fatal(err)
+	}
+	dir := b.TempDir()
+	files := make([]string, b.N)
+	rows := 0
+	for i := range files {
+		files[i] = filepath.Join(dir, fmt.Sprintf("d%d.csv", i))
+		f, err := os.Create(files[i])
+		if err != nil {
+			b.Fatal(err)
+		}
+		if rows, err = synth.BenchFile(f, 1, 100, 8, uint64(i+1)); err != nil {
+			b.Fatal(err)
+		}
+		f.Close()
+	}
+	start := time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC)
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: sp.Serial, Samples: files[i], Start: &start}); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(rows)*float64(b.N)/b.Elapsed().Seconds(), "rows/s")
 }

@@ -6,6 +6,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"math"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -166,6 +167,82 @@ func TestLogJSONAndDuplicate(t *testing.T) {
 	if one["dive_id"] != d["dive_id"] {
 		t.Fatalf("dive show: %v", one)
 	}
+	// 0 -> 500 m -> 0: the residue closes the dive's one big cycle as two
+	// half cycles of the dive's peak gauge pressure.
+	pc, ok := one["pressure_cycles"].([]any)
+	if !ok || len(pc) != 2 {
+		t.Fatalf("pressure_cycles: %v", one["pressure_cycles"])
+	}
+	c0 := pc[0].(map[string]any)
+	if c0["count"].(float64) != 0.5 || math.Abs(c0["range_mpa"].(float64)-d["max_pressure_mpa"].(float64)) > 1e-9 {
+		t.Fatalf("cycle %v, max pressure %v", c0, d["max_pressure_mpa"])
+	}
+	dmg := one["damage"].(map[string]any)
+	for _, comp := range []string{"laminate", "end-ring-fwd"} {
+		cd, ok := dmg[comp].(map[string]any)
+		if !ok || cd["cyclic"].(float64) <= 0 {
+			t.Fatalf("damage of %s: %v", comp, dmg)
+		}
+		if _, ok := cd["sustained"]; !ok {
+			t.Fatalf("damage of %s lacks sustained: %v", comp, cd)
+		}
+	}
+	comps := show["components"].([]any)
+	if len(comps) != 2 {
+		t.Fatalf("hull show components: %v", show["components"])
+	}
+	for _, c := range comps {
+		m := c.(map[string]any)
+		for _, k := range []string{"name", "cyclic_damage", "sustained_damage", "allowable"} {
+			if _, ok := m[k]; !ok {
+				t.Errorf("component lacks %s: %v", k, m)
+			}
+		}
+	}
+	for _, k := range []string{"governing_component", "remaining_dives", "max_pressure_mpa", "dive_count"} {
+		if _, ok := show[k]; !ok {
+			t.Errorf("hull show lacks %s", k)
+		}
+	}
+	// One dive is too few to project a remaining life: no number is given.
+	if show["remaining_dives"] != nil || show["remaining_status"] != "too_few_dives" {
+		t.Errorf("remaining with one dive: %v %v", show["remaining_dives"], show["remaining_status"])
+	}
+}
+
+// TestAssessAfterCurveChange: an engineer changes the design fatigue
+// factor; hulltally assess appends a new assessment and the old stays.
+func TestAssessAfterCurveChange(t *testing.T) {
+	e := newEnv(t)
+	for i, depth := range []int{500, 800, 650} {
+		p := filepath.Join(t.TempDir(), fmt.Sprintf("d%d.csv", i))
+		os.WriteFile(p, []byte(fmt.Sprintf("time,depth_m\n2026-05-0%dT08:00:00Z,0\n2026-05-0%dT08:10:00Z,%d\n2026-05-0%dT08:20:00Z,0\n", i+1, i+1, depth, i+1)), 0o644)
+		e.ok("dive", "log", "--hull", "EX-C4000-01", "--lat", "45", p)
+	}
+	var before map[string]any
+	e.jsonOK(&before, "hull", "show", "EX-C4000-01")
+	cfg := filepath.Join(t.TempDir(), "dff.yaml")
+	os.WriteFile(cfg, []byte("fatigue:\n  design_fatigue_factor: 2\n"), 0o644)
+	var res map[string]any
+	e.jsonOK(&res, "--config", cfg, "assess", "--reason", "DFF 2 after review")
+	as := res["assessments"].([]any)
+	if len(as) != 1 || as[0].(map[string]any)["dives"].(float64) != 3 {
+		t.Fatalf("assess: %v", res)
+	}
+	var after map[string]any
+	e.jsonOK(&after, "--config", cfg, "hull", "show", "EX-C4000-01")
+	b0 := before["components"].([]any)[1].(map[string]any)["cyclic_damage"].(float64)
+	a0 := after["components"].([]any)[1].(map[string]any)["cyclic_damage"].(float64)
+	if math.Abs(a0-2*b0) > 1e-12*a0 {
+		t.Fatalf("cyclic damage %g after DFF 2, want 2 × %g", a0, b0)
+	}
+	if n := after["assessment"].(map[string]any)["assessments_on_record"].(float64); n != 4 {
+		t.Fatalf("%v assessments on record, want 4 (3 at logging, 1 re-assessment)", n)
+	}
+	if before["remaining_dives"] == nil || after["remaining_dives"].(float64) >= before["remaining_dives"].(float64) {
+		t.Fatalf("remaining dives %v -> %v", before["remaining_dives"], after["remaining_dives"])
+	}
+	e.ok("verify")
 }
 
 func TestExitCodes(t *testing.T) {

@@ -85,6 +85,31 @@ func BenchmarkRandomWalk(b *testing.B) {
 	series := randomWalk(10_000_000, 1)
 	b.Run("batch", func(b *testing.B) { benchCount(b, series, 0.05, false) })
 	b.Run("stream", func(b *testing.B) { benchCount(b, series, 0.05, true) })
+	b.Run("sum-baseline", func(b *testing.B) { benchSum(b, series) })
+}
+
+// benchSum is the baseline of the same run: one pass summing the array,
+// the least any counter must do (read every sample once).
+func benchSum(b *testing.B, series []float64) {
+	var total float64
+	for b.Loop() {
+		s0, s1, s2, s3 := 0.0, 0.0, 0.0, 0.0
+		i := 0
+		for ; i+4 <= len(series); i += 4 {
+			s0 += series[i]
+			s1 += series[i+1]
+			s2 += series[i+2]
+			s3 += series[i+3]
+		}
+		for ; i < len(series); i++ {
+			s0 += series[i]
+		}
+		total = s0 + s1 + s2 + s3
+	}
+	ns := float64(b.Elapsed().Nanoseconds()) / (float64(b.N) * float64(len(series)))
+	b.ReportMetric(ns, "ns/sample")
+	b.ReportMetric(1e3/ns, "Msamples/s")
+	_ = total
 }
 
 // BenchmarkDiveRecord counts a smooth 10 h, 100 Hz record of one deep dive
@@ -93,4 +118,5 @@ func BenchmarkDiveRecord(b *testing.B) {
 	series := diveRecord(1)
 	b.Run("batch", func(b *testing.B) { benchCount(b, series, 0.05, false) })
 	b.Run("stream", func(b *testing.B) { benchCount(b, series, 0.05, true) })
+	b.Run("sum-baseline", func(b *testing.B) { benchSum(b, series) })
 }
