@@ -888,3 +888,23 @@ func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]D
 	}
 	return out, rows.Err()
 }
+
+// DiveLoad is what a dive cost the hull: its counted pressure cycles and
+// its damage per component in the assessment in force.
+type DiveLoad struct {
+	PressureCycles []Cycle                        `json:"pressure_cycles"`
+	Damage         map[string]DiveComponentDamage `json:"damage"`
+}
+
+// LoadOf returns a dive's cycles and damage.
+func (l *Ledger) LoadOf(ctx context.Context, dive uuid.UUID) (*DiveLoad, error) {
+	c, err := l.DiveCycles(ctx, dive)
+	if err != nil {
+		return nil, fmt.Errorf("cycles of dive %s: %w", dive, err)
+	}
+	d, err := l.DiveDamageOf(ctx, dive)
+	if err != nil {
+		return nil, fmt.Errorf("damage of dive %s: %w", dive, err)
+	}
+	return &DiveLoad{PressureCycles: c, Damage: d}, nil
+}

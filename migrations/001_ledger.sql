@@ -162,11 +162,12 @@ BEGIN
 END;
 $$;
 
-DO $$
+-- ledger_protect(tables) makes each table append-only; later migrations
+-- call it for the ledger tables they add.
+CREATE FUNCTION ledger_protect(tables text[]) RETURNS void LANGUAGE plpgsql AS $$
 DECLARE t text;
 BEGIN
-    FOREACH t IN ARRAY ARRAY['hulls', 'hull_revisions', 'hull_components', 'gauges', 'dives',
-                             'reading_blocks', 'ae_hits', 'corrections', 'audit_chain'] LOOP
+    FOREACH t IN ARRAY tables LOOP
         EXECUTE format('CREATE TRIGGER %I BEFORE UPDATE OR DELETE ON %I FOR EACH ROW EXECUTE FUNCTION ledger_append_only()',
                        t || '_append_only', t);
         EXECUTE format('CREATE TRIGGER %I BEFORE TRUNCATE ON %I FOR EACH STATEMENT EXECUTE FUNCTION ledger_append_only()',
@@ -174,3 +175,6 @@ BEGIN
     END LOOP;
 END;
 $$;
+
+SELECT ledger_protect(ARRAY['hulls', 'hull_revisions', 'hull_components', 'gauges', 'dives',
+                            'reading_blocks', 'ae_hits', 'corrections', 'audit_chain']);

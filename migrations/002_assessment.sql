@@ -70,14 +70,4 @@ CREATE TABLE assessment_damage (
 );
 CREATE INDEX assessment_damage_hull ON assessment_damage (hull_id);
 
-DO $$
-DECLARE t text;
-BEGIN
-    FOREACH t IN ARRAY ARRAY['dive_cycles', 'dive_holds', 'assessments', 'assessment_damage'] LOOP
-        EXECUTE format('CREATE TRIGGER %I BEFORE UPDATE OR DELETE ON %I FOR EACH ROW EXECUTE FUNCTION ledger_append_only()',
-                       t || '_append_only', t);
-        EXECUTE format('CREATE TRIGGER %I BEFORE TRUNCATE ON %I FOR EACH STATEMENT EXECUTE FUNCTION ledger_append_only()',
-                       t || '_no_truncate', t);
-    END LOOP;
-END;
-$$;
+SELECT ledger_protect(ARRAY['dive_cycles', 'dive_holds', 'assessments', 'assessment_damage']);

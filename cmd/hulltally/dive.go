@@ -61,15 +61,11 @@ func (a *app) diveCmd() *cobra.Command {
 				return nil
 			}
 			a.printDive(d)
-			cycles, err := l.DiveCycles(cmd.Context(), d.ID)
+			load, err := l.LoadOf(cmd.Context(), d.ID)
 			if err != nil {
 				return err
 			}
-			dmg, err := l.DiveDamageOf(cmd.Context(), d.ID)
-			if err != nil {
-				return err
-			}
-			a.printDiveLoad(cycles, dmg)
+			a.printDiveLoad(load)
 			return nil
 		},
 	}
@@ -135,24 +131,19 @@ func (a *app) diveCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			cycles, err := l.DiveCycles(cmd.Context(), d.ID)
-			if err != nil {
-				return err
-			}
-			dmg, err := l.DiveDamageOf(cmd.Context(), d.ID)
+			load, err := l.LoadOf(cmd.Context(), d.ID)
 			if err != nil {
 				return err
 			}
 			if a.asJSON {
 				return a.printJSON(struct {
 					*ledger.Dive
-					PressureCycles []ledger.Cycle                        `json:"pressure_cycles"`
-					Damage         map[string]ledger.DiveComponentDamage `json:"damage"`
-					Caution        string                                `json:"caution"`
-				}{d, cycles, dmg, cautionText()})
+					*ledger.DiveLoad
+					Caution string `json:"caution"`
+				}{d, load, cautionText()})
 			}
 			a.printDive(d)
-			a.printDiveLoad(cycles, dmg)
+			a.printDiveLoad(load)
 			return nil
 		},
 	}
@@ -187,7 +178,8 @@ func (a *app) printDive(d *ledger.Dive) {
 	w.Flush()
 }
 
-func (a *app) printDiveLoad(cycles []ledger.Cycle, dmg map[string]ledger.DiveComponentDamage) {
+func (a *app) printDiveLoad(load *ledger.DiveLoad) {
+	cycles, dmg := load.PressureCycles, load.Damage
 	var full, half float64
 	biggest := 0.0
 	for _, c := range cycles {
