@@ -35,7 +35,8 @@ func (a *app) assessCmd() *cobra.Command {
 				}
 				for i, c := range r.Current.Components {
 					before := r.Previous.Components[i]
-					a.printf("  %-14s %s -> %s of allowable\n", c.Name, pct(float64(before.Ratio)), pct(float64(c.Ratio)))
+					a.printf("  %-14s damage %.3e -> %.3e (%s -> %s of allowable)\n", c.Name,
+						float64(before.CyclicDamage+before.SustainedDamage), float64(c.CyclicDamage+c.SustainedDamage), pct(float64(before.Ratio)), pct(float64(c.Ratio)))
 				}
 				a.printf("  remaining dives: %s -> %s\n", remaining(r.Previous), remaining(r.Current))
 			}

@@ -203,4 +203,5 @@ func (a *app) printDiveLoad(load *ledger.DiveLoad) {
 		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%s\t%s\n", n, float64(d.Cyclic), float64(d.Sustained), d.Basis, d.Curve)
 	}
 	w.Flush()
+	a.printf("\n%s\n", cautionText())
 }
