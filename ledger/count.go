@@ -5,6 +5,7 @@ import (
 	"fmt"
 
 	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
 
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/rainflow"
@@ -29,6 +30,8 @@ type diveCounter struct {
 	started  bool
 	pbuf     []float64
 	tbuf     []float64
+	profile  *profileAcc
+	sbuf     [][]float64
 }
 
 type strainCounter struct {
@@ -43,11 +46,15 @@ func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64)
 	if c.load.Load == logfile.LoadDepth {
 		c.depth = seawater.NewDepthTable(lat)
 	}
+	var gauges []string
 	for i, col := range cols {
 		if col.Kind == logfile.KindStrain {
 			c.strains = append(c.strains, strainCounter{col: i, gauge: col.Gauge, counter: rainflow.NewCounter(l.fat.gateUE)})
+			gauges = append(gauges, col.Gauge)
 		}
 	}
+	c.profile = newProfileAcc(gauges)
+	c.sbuf = make([][]float64, len(c.strains))
 	return c
 }
 
@@ -83,13 +90,16 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 	}
 	c.holds.Add(c.tbuf, c.pbuf)
 	for i := range c.strains {
-		c.strains[i].counter.Add(col(c.strains[i].col))
+		c.sbuf[i] = col(c.strains[i].col)
+		c.strains[i].counter.Add(c.sbuf[i])
 	}
+	c.profile.add(c.tbuf, c.pbuf, c.sbuf)
 }
 
 // finish closes the residues and returns the series (pressure first) and
-// the time at pressure.
+// the time at pressure; the decimated profile is in c.profile.
 func (c *diveCounter) finish() ([]series, []assess.Hold) {
+	c.profile.finish()
 	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: c.pressure.Finish()}}
 	for _, sc := range c.strains {
 		ss = append(ss, series{name: "strain:" + sc.gauge, unit: "microstrain", gate: c.gateUE, cycles: sc.counter.Finish()})
@@ -155,4 +165,62 @@ func (l *Ledger) backfillCounts(ctx context.Context, h *Hull) (int, error) {
 		}
 	}
 	return len(list), nil
+}
+
+func profileCanon(dive uuid.UUID, p *profileAcc) []byte {
+	c := newCanon("dive_profile")
+	c.uuid(dive)
+	c.f64(p.step)
+	c.i64(int64(len(p.TimeS)))
+	for i := range p.TimeS {
+		c.f64(p.TimeS[i])
+		c.f64(p.Press[i])
+	}
+	c.strs(p.gauges)
+	for _, g := range p.Strain {
+		for _, v := range g {
+			c.f64(v)
+		}
+	}
+	return c.b
+}
+
+func flatStrain(p *profileAcc) []float64 {
+	out := make([]float64, 0, len(p.Strain)*len(p.TimeS))
+	for _, g := range p.Strain {
+		out = append(out, g...)
+	}
+	return out
+}
+
+// storeProfile stores a dive's decimated profile in tx.
+func storeProfile(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, p *profileAcc) (chainRec, error) {
+	gauges := p.gauges
+	if gauges == nil {
+		gauges = []string{}
+	}
+	_, err := tx.Exec(ctx, `INSERT INTO dive_profiles (dive_id, hull_id, step_s, time_s, pressure_mpa, gauges, strain_ue) VALUES ($1,$2,$3,$4,$5,$6,$7)`,
+		dive, hull, p.step, p.TimeS, p.Press, gauges, flatStrain(p))
+	if err != nil {
+		return chainRec{}, fmt.Errorf("storing the dive profile: %w", err)
+	}
+	return chainRec{"dive_profile", dive.String(), profileCanon(dive, p)}, nil
+}
+
+// loadProfile reads a dive's stored profile.
+func loadProfile(ctx context.Context, q querier, dive uuid.UUID) (*profileAcc, error) {
+	p := &profileAcc{}
+	var flat []float64
+	err := q.QueryRow(ctx, "SELECT step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1", dive).Scan(&p.step, &p.TimeS, &p.Press, &p.gauges, &flat)
+	if err != nil {
+		return nil, err
+	}
+	n := len(p.TimeS)
+	if len(flat) != n*len(p.gauges) {
+		return nil, fmt.Errorf("dive %s: profile strain has %d values for %d gauges × %d points", dive, len(flat), len(p.gauges), n)
+	}
+	for g := range p.gauges {
+		p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
+	}
+	return p, nil
 }

@@ -421,6 +421,11 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		return nil, nil, err
 	}
 	recs = append(recs, crecs...)
+	prec, err := storeProfile(ctx, tx, row.ID, h.ID, src.counter.profile)
+	if err != nil {
+		return nil, nil, err
+	}
+	recs = append(recs, prec)
 	comps, err := l.resolve(h.Spec)
 	if err != nil {
 		return nil, nil, inputErr(fmt.Errorf("assessing the dive on hull %s: %w (the dive was not recorded; fix the hull spec or the curve library)", h.Serial, err))

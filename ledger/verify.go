@@ -158,6 +158,7 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"ae_hit_rows", "SELECT count(*) FROM ae_hits WHERE hull_id = $1"},
 		{"dive_cycles", "SELECT count(DISTINCT dive_id) FROM dive_cycles WHERE hull_id = $1"},
 		{"dive_holds", "SELECT count(*) FROM dive_holds WHERE hull_id = $1"},
+		{"dive_profile", "SELECT count(*) FROM dive_profiles WHERE hull_id = $1"},
 		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
 		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
 	}
@@ -298,6 +299,19 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "counted cycles are missing", nil
 		}
 		return cyclesCanon(id, ss), 0, "", nil
+	case "dive_profile":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		p, err := loadProfile(ctx, l.pool, id)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "dive profile is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return profileCanon(id, p), 0, "", nil
 	case "dive_holds":
 		id, err := uuid.Parse(key)
 		if err != nil {
