@@ -29,6 +29,9 @@ type Config struct {
 	Ingest Ingest
 	// Fatigue configures the damage assessment.
 	Fatigue Fatigue
+	// RulesFile is the fitness rule set; empty means the shipped
+	// configs/rules.yaml.
+	RulesFile string
 	// Source lists where the values came from, lowest priority first.
 	Source []string
 }
@@ -86,6 +89,18 @@ func (f Fatigue) Curves() ([]byte, string, error) {
 	return b, f.CurvesFile, nil
 }
 
+// Rules returns the fitness rule set's bytes and where they came from.
+func (c *Config) Rules() ([]byte, string, error) {
+	if c.RulesFile == "" {
+		return RulesYAML, "configs/rules.yaml (shipped)", nil
+	}
+	b, err := os.ReadFile(c.RulesFile)
+	if err != nil {
+		return nil, "", fmt.Errorf("fitness.rules_file: %w", err)
+	}
+	return b, c.RulesFile, nil
+}
+
 // Options are the inputs of Load that do not come from files.
 type Options struct {
 	// File is a configuration file given with --config (may be empty).
@@ -113,6 +128,7 @@ func Load(o Options) (*Config, error) {
 	v.SetDefault("ingest.default_latitude", "")
 	v.SetDefault("ingest.block_samples", 8192)
 	v.SetDefault("fatigue.curves_file", "")
+	v.SetDefault("fitness.rules_file", "")
 	v.SetDefault("fatigue.design_fatigue_factor", 1.0)
 	v.SetDefault("fatigue.mean_stress", "goodman")
 	v.SetDefault("fatigue.allowable", 0.3)
@@ -168,6 +184,7 @@ func Load(o Options) (*Config, error) {
 	if c.Ingest.BlockSamples < 16 || c.Ingest.BlockSamples > 1<<20 {
 		return nil, fmt.Errorf("ingest.block_samples must be between 16 and 1048576, got %d", c.Ingest.BlockSamples)
 	}
+	c.RulesFile = v.GetString("fitness.rules_file")
 	fa := &c.Fatigue
 	fa.CurvesFile = v.GetString("fatigue.curves_file")
 	fa.DesignFatigueFactor = v.GetFloat64("fatigue.design_fatigue_factor")

@@ -590,6 +590,15 @@ type ComponentDamage struct {
 	RuptureCurve string  `json:"rupture_curve,omitempty"`
 	// Unassessed counts dives with no damage for this component.
 	Unassessed int `json:"unassessed_dives"`
+	// Prior is damage carried over from an earlier record (in the totals).
+	Prior *PriorDamage `json:"prior_damage,omitempty"`
+}
+
+// PriorDamage is damage carried over from an earlier record.
+type PriorDamage struct {
+	Cyclic    Num    `json:"cyclic"`
+	Sustained Num    `json:"sustained"`
+	Source    string `json:"source"`
 }
 
 // Damages are a hull's cumulative damage and remaining life.
@@ -780,8 +789,13 @@ func (l *Ledger) newDamages(h *Hull) *Damages {
 func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 	out.DiveCount = len(out.PerDive)
 	dh := damage.Hull{}
-	for _, c := range out.Components {
-		dh.Components = append(dh.Components, damage.Component{Name: c.Name, Limits: l.fat.limits})
+	for i, c := range out.Components {
+		dc := damage.Component{Name: c.Name, Limits: l.fat.limits}
+		if pd := h.Spec.Components[i].PriorDamage; pd != nil {
+			dc.Prior = damage.Damage{Cyclic: pd.Cyclic, Sustained: pd.Sustained}
+			out.Components[i].Prior = &PriorDamage{Cyclic: Num(pd.Cyclic), Sustained: Num(pd.Sustained), Source: pd.Source}
+		}
+		dh.Components = append(dh.Components, dc)
 	}
 	for _, d := range out.PerDive {
 		dd := damage.Dive{ID: d.Dive.String(), Damage: make(map[string]damage.Damage, len(out.Components))}

@@ -444,14 +444,25 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	}
 	recs = append(recs, arec)
 
+	var hits []logfile.Hit
 	if req.AE != "" {
-		n, digest, err := l.ingestHits(ctx, tx, h, row, req, aeSHA, src.firstNS, src.lastNS)
+		n, digest, kept, err := l.ingestHits(ctx, tx, h, row, req, aeSHA, src.firstNS, src.lastNS)
 		if err != nil {
 			return nil, nil, err
 		}
+		hits = kept
 		row.AEName, row.AESHA, row.AEHits = filepath.Base(req.AE), aeSHA, n
 		recs = append(recs, chainRec{"ae_hits", row.ID.String(), hitsCanon(row.ID, n, digest)})
 	}
+	ev, err := l.diveEvidence(ctx, tx, h, row.Start, src.counter.profile, hitsForEvidence(hits, src.firstNS), req.AE != "", hdr.Gauges)
+	if err != nil {
+		return nil, nil, err
+	}
+	erec, err := storeEvidence(ctx, tx, row.ID, h.ID, ev)
+	if err != nil {
+		return nil, nil, err
+	}
+	recs = append(recs, erec)
 	row.RecordedAt = now()
 	return row, recs, nil
 }
@@ -552,30 +563,30 @@ func (s *blockSource) Err() error {
 	return nil
 }
 
-func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRow, req LogRequest, aeSHA []byte, firstNS, lastNS int64) (int32, []byte, error) {
+func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRow, req LogRequest, aeSHA []byte, firstNS, lastNS int64) (int32, []byte, []logfile.Hit, error) {
 	f, err := os.Open(req.AE)
 	if err != nil {
-		return 0, nil, inputErr(err)
+		return 0, nil, nil, inputErr(err)
 	}
 	defer f.Close()
 	tee := sha256.New()
 	hr, err := logfile.NewHitReader(io.TeeReader(f, tee), req.AE, req.Start)
 	if err != nil {
-		return 0, nil, inputErr(err)
+		return 0, nil, nil, inputErr(err)
 	}
 	chans := h.Spec.AEChannels()
 	src := &hitSource{hr: hr, row: row, chans: chans, first: firstNS, last: lastNS, digest: sha256.New(), serial: h.Serial}
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"ae_hits"}, []string{"dive_id", "hull_id", "seq", "t_ns", "channel", "amplitude_db", "energy", "counts", "duration_us", "rise_us"}, src)
 	if src.perr != nil {
-		return 0, nil, inputErr(src.perr)
+		return 0, nil, nil, inputErr(src.perr)
 	}
 	if err != nil {
-		return 0, nil, fmt.Errorf("storing acoustic-emission hits: %w", err)
+		return 0, nil, nil, fmt.Errorf("storing acoustic-emission hits: %w", err)
 	}
 	if !equalBytes(tee.Sum(nil), aeSHA) {
-		return 0, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored", req.AE))
+		return 0, nil, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored", req.AE))
 	}
-	return src.seq, src.digest.Sum(nil), nil
+	return src.seq, src.digest.Sum(nil), src.kept, nil
 }
 
 type hitSource struct {
@@ -589,6 +600,7 @@ type hitSource struct {
 	digest      hash.Hash
 	buf         []byte
 	serial      string
+	kept        []logfile.Hit
 }
 
 func (s *hitSource) Next() bool {
@@ -612,6 +624,7 @@ func (s *hitSource) Next() bool {
 	s.buf = hitBytes(s.buf[:0], s.seq, &s.hit)
 	s.digest.Write(s.buf)
 	s.seq++
+	s.kept = append(s.kept, s.hit)
 	return true
 }
 

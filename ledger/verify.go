@@ -159,6 +159,10 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"dive_cycles", "SELECT count(DISTINCT dive_id) FROM dive_cycles WHERE hull_id = $1"},
 		{"dive_holds", "SELECT count(*) FROM dive_holds WHERE hull_id = $1"},
 		{"dive_profile", "SELECT count(*) FROM dive_profiles WHERE hull_id = $1"},
+		{"dive_evidence", "SELECT count(*) FROM dive_evidence WHERE hull_id = $1"},
+		{"inspection", "SELECT count(*) FROM inspections WHERE hull_id = $1"},
+		{"proof_test", "SELECT count(*) FROM proof_tests WHERE hull_id = $1"},
+		{"decision", "SELECT count(*) FROM decisions WHERE hull_id = $1"},
 		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
 		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
 	}
@@ -299,6 +303,69 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "counted cycles are missing", nil
 		}
 		return cyclesCanon(id, ss), 0, "", nil
+	case "dive_evidence":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var js string
+		err = l.pool.QueryRow(ctx, "SELECT evidence_json FROM dive_evidence WHERE dive_id = $1", id).Scan(&js)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "dive evidence is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return evidenceCanon(id, js), 0, "", nil
+	case "inspection":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var in Inspection
+		var hull uuid.UUID
+		in.ID = id
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, method, findings, result, actor, recorded_at FROM inspections WHERE id = $1", id).Scan(&hull, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "inspection record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return inspectionCanon(hull, &in), 0, "", nil
+	case "proof_test":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var p ProofTest
+		var hull uuid.UUID
+		var bj string
+		p.ID = id
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE id = $1", id).Scan(&hull, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "proof test record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return proofCanon(hull, &p, bj), 0, "", nil
+	case "decision":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var d Decision
+		var hull uuid.UUID
+		d.ID = id
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, kind, actor, reason, recorded_at FROM decisions WHERE id = $1", id).Scan(&hull, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "decision record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return decisionCanon(hull, &d), 0, "", nil
 	case "dive_profile":
 		id, err := uuid.Parse(key)
 		if err != nil {

@@ -27,19 +27,8 @@ func (a *app) diveCmd() *cobra.Command {
 			if req.Hull == "" {
 				return usageError{fmt.Errorf("--hull SERIAL is required")}
 			}
-			if lat != "" {
-				v, err := strconv.ParseFloat(lat, 64)
-				if err != nil {
-					return usageError{fmt.Errorf("--lat %q: not a number of degrees", lat)}
-				}
-				req.Latitude = &v
-			}
-			if start != "" {
-				t, err := time.Parse(time.RFC3339Nano, start)
-				if err != nil {
-					return usageError{fmt.Errorf("--start %q: not an RFC 3339 time (e.g. 2026-05-01T08:30:00Z)", start)}
-				}
-				req.Start = &t
+			if err := a.fillLog(&req, lat, start); err != nil {
+				return err
 			}
 			if progress {
 				req.Progress = func(n int64) { fmt.Fprintf(a.errOut, "progress: %d samples stored\n", n) }
@@ -204,4 +193,23 @@ func (a *app) printDiveLoad(load *ledger.DiveLoad) {
 	}
 	w.Flush()
 	a.printf("\n%s\n", cautionText())
+}
+
+// fillLog reads the --lat and --start flags into a log request.
+func (a *app) fillLog(req *ledger.LogRequest, lat, start string) error {
+	if lat != "" {
+		v, err := strconv.ParseFloat(lat, 64)
+		if err != nil {
+			return usageError{fmt.Errorf("--lat %q: not a number of degrees", lat)}
+		}
+		req.Latitude = &v
+	}
+	if start != "" {
+		t, err := time.Parse(time.RFC3339Nano, start)
+		if err != nil {
+			return usageError{fmt.Errorf("--start %q: not an RFC 3339 time (e.g. 2026-05-01T08:30:00Z)", start)}
+		}
+		req.Start = &t
+	}
+	return nil
 }

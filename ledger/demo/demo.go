@@ -18,6 +18,7 @@ import (
 
 	"gopkg.in/yaml.v3"
 
+	"hulltally/fatigue/seawater"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
 	"hulltally/ledger/synth"
@@ -55,6 +56,11 @@ type hullPlan struct {
 	compliance        []synth.Gauge
 	aeRate, aeOnset   float64
 	aeOnsetFrac, ampl float64
+	// degrade: from this fraction of the season on, the hull softens and
+	// emits below its previous peak (the hull that develops damage).
+	degrade float64
+	// proofSamples: the season opens with a logged proof test.
+	proofSamples bool
 }
 
 func f(v float64) *float64 { return &v }
@@ -82,7 +88,7 @@ func fleet() []hullPlan {
 			},
 			minDepth: 1800, maxDep: 3850, lat: -38.2, site: "Corrigan Shelf, north wall (invented)", pilot: "R. Okonkwo-Lind",
 			compliance: []synth.Gauge{{Name: "hoop1", ComplianceUEPerMPa: -118, Hysteresis: 0.01, NoiseUE: 1.5}, {Name: "hoop2", ComplianceUEPerMPa: -121, Hysteresis: 0.01, NoiseUE: 1.5}, {Name: "axial1", ComplianceUEPerMPa: -52, Hysteresis: 0.008, NoiseUE: 1.5}},
-			aeRate:     3, aeOnset: 0, aeOnsetFrac: 1, ampl: 45,
+			aeRate:     3, aeOnset: 0, aeOnsetFrac: 1, ampl: 45, degrade: 2.0 / 3,
 		},
 		{
 			spec: &spec.Hull{
@@ -91,7 +97,8 @@ func fleet() []hullPlan {
 				DesignPressureMPa: 66, ProofPressureMPa: 75, CollapsePressureMPa: 135,
 				Components: []spec.Component{
 					{Name: "laminate", Kind: "laminate_cylinder", Transfer: spec.Transfer{Basis: "lame"}, Curve: "carbon-epoxy-cc-illustrative", RuptureCurve: "carbon-epoxy-rupture-compression-illustrative"},
-					{Name: "hatch-seat", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-7.2), Source: "demo design analysis VES-FE-11 (invented)"}, Curve: "ti-6al-4v-machined-illustrative"},
+					{Name: "hatch-seat", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-7.2), Source: "demo design analysis VES-FE-11 (invented)"}, Curve: "ti-6al-4v-machined-illustrative",
+						PriorDamage: &spec.Prior{Cyclic: 0.155, Source: "carried over from the hull's earlier service log, 2019-2025 (invented)"}},
 				},
 				Gauges: []spec.Gauge{
 					{Name: "hoop1", Kind: "strain", Component: "laminate", Position: "mid-length 0 deg", Direction: "hoop"},
@@ -119,7 +126,7 @@ func fleet() []hullPlan {
 			},
 			minDepth: 300, maxDep: 960, lat: -37.6, site: "Corrigan Shelf, south terraces (invented)", pilot: "J. Aldana-Voss",
 			compliance: []synth.Gauge{{Name: "merid1", ComplianceUEPerMPa: -410, Hysteresis: 0.015, NoiseUE: 2}},
-			aeRate:     2, aeOnset: 0, aeOnsetFrac: 1, ampl: 44,
+			aeRate:     2, aeOnset: 0, aeOnsetFrac: 1, ampl: 44, proofSamples: true,
 		},
 	}
 }
@@ -161,6 +168,20 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 		}
 		plan := rand.New(rand.NewPCG(uint64(hi+1), 2026))
 		day := season.Add(time.Duration(hi) * 3 * time.Hour)
+		rec, err := l.Hull(ctx, hp.spec.Serial)
+		if err != nil {
+			return nil, err
+		}
+		m, err := l.MaintenanceOf(ctx, rec)
+		if err != nil {
+			return nil, err
+		}
+		// The season opens with the hull's proof test.
+		if len(m.ProofTests) == 0 {
+			if err := proofTest(ctx, l, hp, hdir, day.Add(-24*time.Hour), o.SampleHz); err != nil {
+				return nil, err
+			}
+		}
 		for i := 0; i < o.DivesPerHull; i++ {
 			day = day.Add(time.Duration(36+plan.IntN(48)) * time.Hour)
 			depth := hp.minDepth + (hp.maxDep-hp.minDepth)*plan.Float64()
@@ -170,6 +191,18 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 				BottomS: 3600 * (1 + 2*plan.Float64()), SurfaceS: 300, Stops: 1 + plan.IntN(2), StopS: 120 + 180*plan.Float64(),
 				WanderM: 5 + 15*plan.Float64(), DepthNoiseM: 0.05, Gauges: hp.compliance, TempC: true,
 				AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: hp.aeOnsetFrac, AEOnsetRate: hp.aeOnset, AmplitudeMean: hp.ampl,
+			}
+			if hp.degrade > 0 && float64(i) >= hp.degrade*float64(o.DivesPerHull) {
+				// Damage develops: the laminate softens a little more each
+				// dive and emits from 60 % of the dive's depth on.
+				k := float64(i) - hp.degrade*float64(o.DivesPerHull) + 1
+				d.Gauges = make([]synth.Gauge, len(hp.compliance))
+				for g, gg := range hp.compliance {
+					gg.ComplianceUEPerMPa *= 1 + 0.004*k
+					gg.ResidualUE = -3 * k
+					d.Gauges[g] = gg
+				}
+				d.AEOnsetFrac, d.AEOnsetRate = 0.6, 150
 			}
 			base := filepath.Join(hdir, fmt.Sprintf("dive-%03d", i+1))
 			samples, hits := base+".csv", base+"-ae.csv"
@@ -190,10 +223,48 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 				sum.Logged++
 				sum.Samples += r.Samples
 			}
+			// The mid-season inspection.
+			if i == o.DivesPerHull/2 && len(m.Inspections) == 0 {
+				_, err := l.RecordInspection(ctx, hp.spec.Serial, ledger.Inspection{At: r.End.Add(6 * time.Hour), Method: "visual and ultrasonic (invented)",
+					Findings: "no indications", Result: "pass", Actor: "M. Ferreira-Lund (invented)"})
+				if err != nil {
+					return nil, fmt.Errorf("demo: %w", err)
+				}
+			}
 		}
 		fmt.Fprintf(o.Log, "demo: %s %s: %d dives in %s\n", hp.spec.Serial, hp.spec.Name, o.DivesPerHull, hdir)
 	}
 	return sum, nil
+}
+
+// proofTest records the hull's proof test at the opening of the season:
+// with a logged samples file for the hull that has one, else from its
+// certificate.
+func proofTest(ctx context.Context, l *ledger.Ledger, hp hullPlan, dir string, at time.Time, hz float64) error {
+	p := ledger.ProofTest{At: at, PressureMPa: hp.spec.ProofPressureMPa, Result: "pass", Actor: "yard test crew (invented)",
+		Notes: "proof test at the opening of the season (invented)"}
+	var req ledger.LogRequest
+	if hp.proofSamples {
+		depth := seawater.MPaToDepth(hp.spec.ProofPressureMPa, hp.lat)
+		d := synth.Dive{Start: at, SampleHz: hz, Latitude: hp.lat, MaxDepthM: depth, DescentMPS: 0.5, AscentMPS: 0.5,
+			BottomS: 1800, SurfaceS: 300, Stops: 1, StopS: 300, DepthNoiseM: 0.05, Gauges: hp.compliance, TempC: true,
+			AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: 1, AmplitudeMean: hp.ampl}
+		samples, hits := filepath.Join(dir, "proof-test.csv"), filepath.Join(dir, "proof-test-ae.csv")
+		if !exists(samples) || !exists(hits) {
+			if err := writeDive(&d, samples, hits, 999); err != nil {
+				return err
+			}
+		}
+		lat := hp.lat
+		req = ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: "proof test tank (invented)", Operator: p.Actor}
+		p.At, p.PressureMPa = time.Time{}, 0 // from the samples
+	} else {
+		p.Notes = "proof test certificate of the yard (invented); no samples on record"
+	}
+	if _, err := l.ProofTestWithSamples(ctx, hp.spec.Serial, p, req); err != nil {
+		return fmt.Errorf("demo: proof test of %s: %w", hp.spec.Serial, err)
+	}
+	return nil
 }
 
 func writeDive(d *synth.Dive, samples, hits string, seed uint64) error {

@@ -44,7 +44,11 @@ func TestDemoRunsTwice(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if d.DiveCount != 4 || !(d.GoverningRatio > 0) || d.RemainingDives == nil {
+		want := 4
+		if s.Serial == "CSC-QUI-03" {
+			want = 5 // its proof test's samples are logged as a dive too
+		}
+		if d.DiveCount != want || !(d.GoverningRatio > 0) || d.RemainingDives == nil {
 			t.Errorf("%s: %+v", s.Serial, d)
 		}
 	}

@@ -42,6 +42,16 @@ type Component struct {
 	Transfer     Transfer `yaml:"transfer" json:"transfer"`
 	Curve        string   `yaml:"curve" json:"curve"`
 	RuptureCurve string   `yaml:"rupture_curve,omitempty" json:"rupture_curve,omitempty"`
+	// PriorDamage is damage done before the hull's first dive in this
+	// ledger (an earlier service record carried over), with its source.
+	PriorDamage *Prior `yaml:"prior_damage,omitempty" json:"prior_damage,omitempty"`
+}
+
+// Prior is damage carried over from an earlier record.
+type Prior struct {
+	Cyclic    float64 `yaml:"cyclic" json:"cyclic"`
+	Sustained float64 `yaml:"sustained" json:"sustained"`
+	Source    string  `yaml:"source" json:"source"`
 }
 
 // Transfer is how gauge pressure becomes stress in a component.
@@ -169,6 +179,14 @@ func (h *Hull) Validate() error {
 		}
 		if strings.TrimSpace(c.Curve) == "" {
 			bad("%s (%s): curve is required (a name from the curve library)", at, c.Name)
+		}
+		if pd := c.PriorDamage; pd != nil {
+			if !(pd.Cyclic >= 0) || !(pd.Sustained >= 0) || math.IsInf(pd.Cyclic, 0) || math.IsInf(pd.Sustained, 0) {
+				bad("%s (%s): prior_damage cyclic and sustained must be non-negative numbers", at, c.Name)
+			}
+			if strings.TrimSpace(pd.Source) == "" {
+				bad("%s (%s): prior_damage needs its source (the earlier record it is carried over from)", at, c.Name)
+			}
 		}
 		switch c.Transfer.Basis {
 		case "lame", "gauge":

@@ -1,0 +1,164 @@
+package main
+
+import (
+	"fmt"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"hulltally/ledger"
+)
+
+// parseAt reads an optional --at time (RFC 3339); empty means now.
+func parseAt(s string) (time.Time, error) {
+	if s == "" {
+		return time.Time{}, nil
+	}
+	t, err := time.Parse(time.RFC3339Nano, s)
+	if err != nil {
+		return time.Time{}, usageError{fmt.Errorf("--at %q: not an RFC 3339 time (e.g. 2026-07-01T09:00:00Z)", s)}
+	}
+	return t, nil
+}
+
+func (a *app) inspectCmd() *cobra.Command {
+	var in ledger.Inspection
+	var at string
+	c := &cobra.Command{
+		Use:   "inspect SERIAL --method M --result pass|fail [--findings TEXT] [--actor NAME] [--at TIME]",
+		Short: "Record an inspection of a hull (append-only, in the audit chain)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			var err error
+			if in.At, err = parseAt(at); err != nil {
+				return err
+			}
+			if in.Actor == "" {
+				in.Actor = currentActor()
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			rec, err := l.RecordInspection(cmd.Context(), args[0], in)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(rec)
+			}
+			a.printf("recorded inspection %s of %s: %s, %s (%s, %s)\n", rec.ID, args[0], rec.Method, rec.Result, rec.Actor, rec.At.Format(time.RFC3339))
+			return nil
+		},
+	}
+	f := c.Flags()
+	f.StringVar(&in.Method, "method", "", "inspection method (e.g. visual, ultrasonic, shearography)")
+	f.StringVar(&in.Findings, "findings", "", "what was found")
+	f.StringVar(&in.Result, "result", "", "pass or fail")
+	f.StringVar(&in.Actor, "actor", "", "inspector (default: the login name)")
+	f.StringVar(&at, "at", "", "when it was done (RFC 3339; default now)")
+	return c
+}
+
+func (a *app) prooftestCmd() *cobra.Command {
+	var p ledger.ProofTest
+	var at, samples, ae, start, lat string
+	c := &cobra.Command{
+		Use:   "prooftest SERIAL --pressure MPA --result pass|fail [--samples FILE.csv [--ae HITS.csv]] [--actor NAME] [--at TIME]",
+		Short: "Record a proof test; its samples file (optional) is logged as a dive and sets the strain baseline and Felicity reference",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			var err error
+			if p.At, err = parseAt(at); err != nil {
+				return err
+			}
+			if p.Actor == "" {
+				p.Actor = currentActor()
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			req := ledger.LogRequest{Hull: args[0], Samples: samples, AE: ae, Site: "proof test", Operator: p.Actor}
+			if samples != "" {
+				if err := a.fillLog(&req, lat, start); err != nil {
+					return err
+				}
+			}
+			rec, err := l.ProofTestWithSamples(cmd.Context(), args[0], p, req)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(rec)
+			}
+			a.printf("recorded proof test %s of %s at %.3f MPa: %s (%s)\n", rec.ID, args[0], rec.PressureMPa, rec.Result, rec.Actor)
+			if rec.DiveID != nil {
+				a.printf("its samples were logged as dive %s; strain baseline: %v\n", rec.DiveID, rec.Baseline)
+			}
+			return nil
+		},
+	}
+	f := c.Flags()
+	f.Float64Var(&p.PressureMPa, "pressure", 0, "test pressure, MPa gauge")
+	f.StringVar(&p.Result, "result", "", "pass or fail")
+	f.StringVar(&p.Notes, "notes", "", "notes")
+	f.StringVar(&p.Actor, "actor", "", "who ran the test (default: the login name)")
+	f.StringVar(&at, "at", "", "when (RFC 3339; default now, or the samples' start)")
+	f.StringVar(&samples, "samples", "", "the test's data-logger file")
+	f.StringVar(&ae, "ae", "", "the test's acoustic-emission hits")
+	f.StringVar(&start, "start", "", "start time for files with t_s columns")
+	f.StringVar(&lat, "lat", "", "latitude for depth columns")
+	return c
+}
+
+func (a *app) decideCmd() *cobra.Command {
+	var d ledger.Decision
+	var at string
+	var ret, withdraw bool
+	c := &cobra.Command{
+		Use:   "decide SERIAL (--return-to-service | --withdraw) --reason TEXT [--actor NAME] [--at TIME]",
+		Short: "Record a decision to return a hull to service or to withdraw it",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			switch {
+			case ret == withdraw:
+				return usageError{fmt.Errorf("give exactly one of --return-to-service and --withdraw")}
+			case ret:
+				d.Kind = ledger.DecisionReturn
+			default:
+				d.Kind = ledger.DecisionWithdraw
+			}
+			var err error
+			if d.At, err = parseAt(at); err != nil {
+				return err
+			}
+			if d.Actor == "" {
+				d.Actor = currentActor()
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			rec, err := l.RecordDecision(cmd.Context(), args[0], d)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(rec)
+			}
+			a.printf("recorded decision %s on %s: %s by %s — %s\n", rec.ID, args[0], rec.Kind, rec.Actor, rec.Reason)
+			return nil
+		},
+	}
+	f := c.Flags()
+	f.BoolVar(&ret, "return-to-service", false, "return the hull to service")
+	f.BoolVar(&withdraw, "withdraw", false, "withdraw the hull from service")
+	f.StringVar(&d.Reason, "reason", "", "why (required)")
+	f.StringVar(&d.Actor, "actor", "", "who decides (default: the login name)")
+	f.StringVar(&at, "at", "", "when (RFC 3339; default now)")
+	return c
+}

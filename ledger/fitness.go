@@ -1,0 +1,367 @@
+package ledger
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"math"
+	"sort"
+	"strconv"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+
+	"hulltally/fatigue/assess"
+	"hulltally/fatigue/fitness"
+	"hulltally/fatigue/rainflow"
+	"hulltally/fatigue/seawater"
+)
+
+// Fitness is a hull's fitness for service: its status with every reason,
+// the open flags, and the facts they were computed from.
+type Fitness struct {
+	Hull     string           `json:"hull"`
+	Status   string           `json:"status"`
+	Reasons  []fitness.Reason `json:"reasons"`
+	Flags    []fitness.Flag   `json:"flags"`
+	Damage   *Damages         `json:"damage"`
+	LastDive *time.Time       `json:"last_dive"`
+	// RulesSource names the rule set.
+	RulesSource string `json:"rules_source"`
+	facts       fitness.HullFacts
+	verdict     fitness.Verdict
+	hull        *Hull
+}
+
+func (l *Ledger) rules() (*fitness.Rules, string, error) {
+	b, src, err := l.cfg.Rules()
+	if err != nil {
+		return nil, "", err
+	}
+	r, err := fitness.ParseRules(b)
+	if err != nil {
+		return nil, "", fmt.Errorf("fitness rules %s: %w", src, err)
+	}
+	return r, src, nil
+}
+
+// FitnessOf evaluates the hull's rules and status at now.
+func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitness, error) {
+	r, src, err := l.rules()
+	if err != nil {
+		return nil, err
+	}
+	dmg, err := l.HullDamage(ctx, h)
+	if err != nil {
+		return nil, err
+	}
+	m, err := l.MaintenanceOf(ctx, h)
+	if err != nil {
+		return nil, err
+	}
+	facts, err := l.hullFacts(ctx, h, dmg, m, now)
+	if err != nil {
+		return nil, err
+	}
+	flags := fitness.Evaluate(r, facts)
+	var decisions []fitness.Decision
+	for _, d := range m.Decisions {
+		decisions = append(decisions, fitness.Decision{At: d.At, Kind: fitness.DecisionKind(d.Kind), Actor: d.Actor, Reason: d.Reason})
+	}
+	v := fitness.Status(flags, decisions, fitness.Records{Inspections: facts.Inspections, ProofTests: facts.ProofTests}, now)
+	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: v.Reasons, Flags: flags, Damage: dmg, RulesSource: src,
+		facts: facts, verdict: v, hull: h}
+	if f.Flags == nil {
+		f.Flags = []fitness.Flag{}
+	}
+	if n := len(dmg.PerDive); n > 0 {
+		t := dmg.PerDive[n-1].Start
+		f.LastDive = &t
+	}
+	if err := l.noteStatus(ctx, h, f); err != nil {
+		return nil, err
+	}
+	return f, nil
+}
+
+// hullFacts gathers what the rules need from the ledger.
+func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Maintenance, now time.Time) (fitness.HullFacts, error) {
+	f := fitness.HullFacts{Hull: h.Serial, Now: now, RatedDepthM: h.Spec.RatedDepthM, GoverningComponent: dmg.Governing, DiveCount: dmg.DiveCount}
+	if dmg.RemainingStatus != "incomplete" {
+		r := float64(dmg.GoverningRatio)
+		f.DamageRatio = &r
+	}
+	proofDives := map[uuid.UUID]bool{}
+	for _, p := range m.ProofTests {
+		if p.DiveID != nil {
+			proofDives[*p.DiveID] = true
+		}
+	}
+	rows, err := l.pool.Query(ctx, `SELECT d.id, d.start_time, d.max_depth_m, coalesce(e.evidence_json, '') FROM dives d
+		LEFT JOIN dive_evidence e ON e.dive_id = d.id WHERE d.hull_id = $1 ORDER BY d.start_time, d.id`, h.ID)
+	if err != nil {
+		return f, fmt.Errorf("facts of %s: %w", h.Serial, err)
+	}
+	defer rows.Close()
+	var starts []time.Time
+	var gauges, channels []string
+	gauges = h.Spec.StrainGauges()
+	for _, c := range h.Spec.AEChannels() {
+		channels = append(channels, strconv.Itoa(c))
+	}
+	for rows.Next() {
+		var id uuid.UUID
+		var d fitness.DiveFacts
+		var js string
+		if err := rows.Scan(&id, &d.Start, &d.MaxDepthM, &js); err != nil {
+			return f, err
+		}
+		starts = append(starts, d.Start)
+		d.ID, d.Gauges, d.Channels = id.String(), gauges, channels
+		if proofDives[id] {
+			// A proof test goes beyond the rated depth on purpose; its
+			// evidence still counts.
+			d.RatedDepthM = math.Max(h.Spec.RatedDepthM, d.MaxDepthM)
+		}
+		if js == "" {
+			// Logged before evidence was kept: nothing is present, which
+			// the missing-evidence rule reports.
+			f.Dives = append(f.Dives, d)
+			continue
+		}
+		var ev Evidence
+		if err := json.Unmarshal([]byte(js), &ev); err != nil {
+			return f, fmt.Errorf("dive %s: evidence: %w", id, err)
+		}
+		for _, s := range ev.Strain {
+			if s.ComplianceUEPerMPa != nil || s.ResidualUE != nil {
+				d.GaugesPresent = append(d.GaugesPresent, s.Gauge)
+			}
+			if s.ComplianceChange != nil {
+				if d.ComplianceChange == nil {
+					d.ComplianceChange = map[string]float64{}
+				}
+				d.ComplianceChange[s.Gauge] = *s.ComplianceChange
+			}
+			if s.ResidualUE != nil {
+				if d.ResidualStrain == nil {
+					d.ResidualStrain = map[string]float64{}
+				}
+				d.ResidualStrain[s.Gauge] = *s.ResidualUE
+			}
+		}
+		if ae := ev.AE; ae != nil {
+			d.ChannelsPresent = channels
+			switch {
+			case ae.FelicityRatio != nil:
+				d.FelicityRatio = ae.FelicityRatio
+			case ae.FelicityEval || ev.PreviousMaxMPa > 0:
+				// No significant emission up to the previous peak (or the
+				// dive stayed below it without any): Kaiser behaviour, no
+				// evidence of damage.
+				one := 1.0
+				d.FelicityRatio = &one
+			}
+			decays := ae.HoldDecays
+			d.HoldDecays = &decays
+		}
+		if !ev.Evaluated {
+			d.NoHoldPeriod = true
+		}
+		f.Dives = append(f.Dives, d)
+	}
+	if err := rows.Err(); err != nil {
+		return f, err
+	}
+	count := func(at time.Time) int {
+		return sort.Search(len(starts), func(i int) bool { return !starts[i].Before(at) })
+	}
+	for _, in := range m.Inspections {
+		f.Inspections = append(f.Inspections, fitness.Inspection{At: in.At, Method: in.Method, Result: fitness.Result(in.Result), Findings: in.Findings, Actor: in.Actor, DiveCount: count(in.At)})
+	}
+	for _, p := range m.ProofTests {
+		f.ProofTests = append(f.ProofTests, fitness.ProofTest{At: p.At, PressureMPa: p.PressureMPa, Result: fitness.Result(p.Result), Actor: p.Actor, DiveCount: count(p.At)})
+	}
+	return f, nil
+}
+
+// noteStatus appends the status to the hull's history when it changed.
+func (l *Ledger) noteStatus(ctx context.Context, h *Hull, f *Fitness) error {
+	var last string
+	err := l.pool.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
+	if err == nil && last == f.Status {
+		return nil
+	}
+	reasons, _ := json.Marshal(f.Reasons)
+	return l.record(ctx, h.Serial, func(tx pgx.Tx, hh *Hull) (chainRec, error) {
+		var seq int64
+		at := now()
+		if err := tx.QueryRow(ctx, "INSERT INTO status_history (hull_id, status, reasons_json, recorded_at) VALUES ($1,$2,$3,$4) RETURNING seq",
+			hh.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
+			return chainRec{}, fmt.Errorf("status history of %s: %w", hh.Serial, err)
+		}
+		return chainRec{"status", fmt.Sprintf("%s/%d", hh.ID, seq), statusCanon(hh.ID, seq, f.Status, string(reasons), at)}, nil
+	})
+}
+
+func statusCanon(hull uuid.UUID, seq int64, status, reasons string, at time.Time) []byte {
+	c := newCanon("status")
+	c.uuid(hull)
+	c.i64(seq)
+	c.str(status)
+	c.str(reasons)
+	c.time(at)
+	return c.b
+}
+
+// StatusChange is one entry of a hull's status history.
+type StatusChange struct {
+	Status     string    `json:"status"`
+	RecordedAt time.Time `json:"recorded_at"`
+}
+
+// StatusHistory lists a hull's status changes, oldest first.
+func (l *Ledger) StatusHistory(ctx context.Context, h *Hull) ([]StatusChange, error) {
+	rows, err := l.pool.Query(ctx, "SELECT status, recorded_at FROM status_history WHERE hull_id = $1 ORDER BY seq", h.ID)
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	out := []StatusChange{}
+	for rows.Next() {
+		var s StatusChange
+		if err := rows.Scan(&s.Status, &s.RecordedAt); err != nil {
+			return nil, err
+		}
+		out = append(out, s)
+	}
+	return out, rows.Err()
+}
+
+// Clearance is a pre-dive go or no-go.
+type Clearance struct {
+	Hull                 string           `json:"hull"`
+	Go                   bool             `json:"go"`
+	Status               string           `json:"status"`
+	DepthM               float64          `json:"planned_depth_m"`
+	BottomTimeMin        float64          `json:"planned_bottom_time_min"`
+	PredictedDamageRatio Num              `json:"predicted_damage_ratio"`
+	PredictionBasis      string           `json:"prediction_basis"`
+	Reasons              []fitness.Reason `json:"reasons"`
+}
+
+// Clear answers whether the hull is cleared for a planned dive.
+func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin float64, now time.Time) (*Clearance, error) {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return nil, inputErr(err)
+	}
+	if !(depthM > 0) || depthM > 11500 || bottomMin < 0 || math.IsNaN(bottomMin) {
+		return nil, inputErr(fmt.Errorf("planned depth %v m and bottom time %v min: the depth must be between 0 and 11 500 m, the bottom time not negative", depthM, bottomMin))
+	}
+	f, err := l.FitnessOf(ctx, h, now)
+	if err != nil {
+		return nil, err
+	}
+	r, _, err := l.rules()
+	if err != nil {
+		return nil, err
+	}
+	pred, basis, err := l.predict(ctx, h, depthM, bottomMin)
+	if err != nil {
+		return nil, err
+	}
+	c := fitness.Clear(f.verdict, f.facts, fitness.Plan{DepthM: depthM, BottomTimeMin: bottomMin, PredictedDamageRatio: pred}, r)
+	return &Clearance{Hull: serial, Go: c.Go, Status: f.Status, DepthM: depthM, BottomTimeMin: bottomMin,
+		PredictedDamageRatio: Num(pred), PredictionBasis: basis, Reasons: c.Reasons}, nil
+}
+
+// predict estimates the damage of a planned dive as a ratio of the
+// allowable, for the component it costs most: the hull's typical profile
+// (the one of its last 10 dives whose peak is nearest the planned
+// pressure) scaled to the planned depth, its time at depth scaled to the
+// planned bottom time. A hull with no dives gets a plain profile: one
+// cycle from the surface to the planned pressure and the bottom time at it.
+func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64) (float64, string, error) {
+	target := seawater.DepthToMPa(depthM, 90) // the most pressure per metre: the safe side
+	comps, err := l.resolve(h.Spec)
+	if err != nil {
+		return math.Inf(1), "", inputErr(err)
+	}
+	rows, err := l.pool.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
+		FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.dive_id = d.id
+		WHERE d.hull_id = $1 ORDER BY d.start_time DESC LIMIT 10`, h.ID)
+	if err != nil {
+		return 0, "", err
+	}
+	defer rows.Close()
+	var best *assess.Dive
+	var bestPeak float64
+	bestID := ""
+	for rows.Next() {
+		var id uuid.UUID
+		var peak float64
+		var rg, mn, ct, lv, sec []float64
+		if err := rows.Scan(&id, &peak, &rg, &mn, &ct, &lv, &sec); err != nil {
+			return 0, "", err
+		}
+		if !(peak > 0) {
+			continue
+		}
+		if best == nil || math.Abs(peak-target) < math.Abs(bestPeak-target) {
+			d := assess.Dive{PressureCycles: joinCycles(rg, mn, ct)}
+			for i := range lv {
+				d.Holds = append(d.Holds, assess.Hold{LevelMPa: lv[i], Seconds: sec[i]})
+			}
+			best, bestPeak, bestID = &d, peak, id.String()
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return 0, "", err
+	}
+	var d assess.Dive
+	var basis string
+	if best == nil {
+		d = assess.Dive{PressureCycles: joinCycles([]float64{target}, []float64{target / 2}, []float64{1}),
+			Holds: []assess.Hold{{LevelMPa: target, Seconds: bottomMin * 60}}}
+		basis = fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it", target, bottomMin)
+	} else {
+		s := target / bestPeak
+		for _, c := range best.PressureCycles {
+			d.PressureCycles = append(d.PressureCycles, fitnessScale(c, s))
+		}
+		holdS := 0.0
+		for _, hl := range best.Holds {
+			if hl.LevelMPa >= 0.95*bestPeak {
+				holdS += hl.Seconds
+			}
+		}
+		ts := 1.0
+		if bottomMin > 0 && holdS > 0 {
+			ts = math.Max(1, bottomMin*60/holdS) // never less time at depth than the typical dive
+		}
+		for _, hl := range best.Holds {
+			sec := hl.Seconds
+			if hl.LevelMPa >= 0.95*bestPeak {
+				sec *= ts
+			}
+			d.Holds = append(d.Holds, assess.Hold{LevelMPa: hl.LevelMPa * s, Seconds: sec})
+		}
+		basis = fmt.Sprintf("dive %s (peak %.3f MPa) scaled ×%.3f to %.3f MPa (planned depth at latitude 90°), time at depth ×%.2f", bestID[:8], bestPeak, s, target, ts)
+	}
+	res, err := assess.DiveDamage(d, comps, l.fat.settings)
+	if err != nil {
+		return 0, "", err
+	}
+	worst := 0.0
+	for _, r := range res {
+		ratio := l.fat.limits.Ratio(r.Damage)
+		worst = math.Max(worst, ratio)
+	}
+	return worst, basis, nil
+}
+
+func fitnessScale(c rainflow.Cycle, s float64) rainflow.Cycle {
+	return rainflow.Cycle{Range: c.Range * s, Mean: c.Mean * s, Count: c.Count}
+}

@@ -1,0 +1,325 @@
+package ledger
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"sort"
+	"strings"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+)
+
+// Inspection is a recorded inspection of a hull.
+type Inspection struct {
+	ID         uuid.UUID `json:"id"`
+	At         time.Time `json:"at"`
+	Method     string    `json:"method"`
+	Findings   string    `json:"findings"`
+	Result     string    `json:"result"`
+	Actor      string    `json:"actor"`
+	RecordedAt time.Time `json:"recorded_at"`
+}
+
+// ProofTest is a recorded proof test.
+type ProofTest struct {
+	ID          uuid.UUID  `json:"id"`
+	At          time.Time  `json:"at"`
+	PressureMPa float64    `json:"pressure_mpa"`
+	Result      string     `json:"result"`
+	Notes       string     `json:"notes"`
+	Actor       string     `json:"actor"`
+	DiveID      *uuid.UUID `json:"dive_id,omitempty"`
+	// Baseline is the compliance per strain gauge (µε per MPa) measured
+	// on the test, the baseline of later dives.
+	Baseline   map[string]float64 `json:"baseline_compliance_ue_per_mpa"`
+	RecordedAt time.Time          `json:"recorded_at"`
+}
+
+// Decision is a recorded maintenance decision.
+type Decision struct {
+	ID         uuid.UUID `json:"id"`
+	At         time.Time `json:"at"`
+	Kind       string    `json:"kind"`
+	Actor      string    `json:"actor"`
+	Reason     string    `json:"reason"`
+	RecordedAt time.Time `json:"recorded_at"`
+}
+
+// Decision kinds.
+const (
+	DecisionReturn   = "return_to_service"
+	DecisionWithdraw = "withdraw"
+)
+
+func checkWhen(at time.Time, rec time.Time) error {
+	if at.After(rec.Add(time.Minute)) {
+		return fmt.Errorf("the time %s is in the future", at.Format(time.RFC3339))
+	}
+	return nil
+}
+
+func checkResult(r string) error {
+	if r != "pass" && r != "fail" {
+		return fmt.Errorf("result must be pass or fail, got %q", r)
+	}
+	return nil
+}
+
+func inspectionCanon(hull uuid.UUID, in *Inspection) []byte {
+	c := newCanon("inspection")
+	c.uuid(in.ID)
+	c.uuid(hull)
+	c.time(in.At)
+	c.str(in.Method)
+	c.str(in.Findings)
+	c.str(in.Result)
+	c.str(in.Actor)
+	c.time(in.RecordedAt)
+	return c.b
+}
+
+func proofCanon(hull uuid.UUID, p *ProofTest, baselineJSON string) []byte {
+	c := newCanon("proof_test")
+	c.uuid(p.ID)
+	c.uuid(hull)
+	c.time(p.At)
+	c.f64(p.PressureMPa)
+	c.str(p.Result)
+	c.str(p.Notes)
+	c.str(p.Actor)
+	if p.DiveID != nil {
+		c.uuid(*p.DiveID)
+	} else {
+		c.tag('n')
+	}
+	c.str(baselineJSON)
+	c.time(p.RecordedAt)
+	return c.b
+}
+
+func decisionCanon(hull uuid.UUID, d *Decision) []byte {
+	c := newCanon("decision")
+	c.uuid(d.ID)
+	c.uuid(hull)
+	c.time(d.At)
+	c.str(d.Kind)
+	c.str(d.Actor)
+	c.str(d.Reason)
+	c.time(d.RecordedAt)
+	return c.b
+}
+
+// canonicalJSON encodes a baseline map with sorted keys (encoding/json
+// sorts map keys).
+func canonicalJSON(m map[string]float64) string {
+	if m == nil {
+		m = map[string]float64{}
+	}
+	b, _ := json.Marshal(m)
+	return string(b)
+}
+
+// record appends one maintenance record and its chain link.
+func (l *Ledger) record(ctx context.Context, serial string, insert func(tx pgx.Tx, h *Hull) (chainRec, error)) error {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return inputErr(err)
+	}
+	return pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
+		rec, err := insert(tx, h)
+		if err != nil {
+			return err
+		}
+		_, err = appendChain(ctx, tx, h.ID, []chainRec{rec}, now())
+		return err
+	})
+}
+
+// RecordInspection records an inspection of a hull.
+func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspection) (*Inspection, error) {
+	in.ID, in.RecordedAt = uuid.New(), now()
+	if in.At.IsZero() {
+		in.At = in.RecordedAt
+	}
+	in.At = in.At.UTC().Truncate(time.Microsecond)
+	var errs []string
+	if strings.TrimSpace(in.Method) == "" {
+		errs = append(errs, "the method is required (e.g. visual, ultrasonic, shearography)")
+	}
+	if strings.TrimSpace(in.Actor) == "" {
+		errs = append(errs, "the inspector's name is required")
+	}
+	if err := checkResult(in.Result); err != nil {
+		errs = append(errs, err.Error())
+	}
+	if err := checkWhen(in.At, in.RecordedAt); err != nil {
+		errs = append(errs, err.Error())
+	}
+	if len(errs) > 0 {
+		return nil, inputErr(fmt.Errorf("inspection of %s: %s", serial, strings.Join(errs, "; ")))
+	}
+	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
+		_, err := tx.Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, findings, result, actor, recorded_at) VALUES ($1,$2,$3,$4,$5,$6,$7,$8)`,
+			in.ID, h.ID, in.At, in.Method, in.Findings, in.Result, in.Actor, in.RecordedAt)
+		return chainRec{"inspection", in.ID.String(), inspectionCanon(h.ID, &in)}, err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return &in, nil
+}
+
+// RecordProofTest records a proof test (its samples, if any, are logged
+// first as a dive of the hull by the caller and named by DiveID).
+func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest) (*ProofTest, error) {
+	p.ID, p.RecordedAt = uuid.New(), now()
+	if p.At.IsZero() {
+		p.At = p.RecordedAt
+	}
+	p.At = p.At.UTC().Truncate(time.Microsecond)
+	var errs []string
+	if !(p.PressureMPa > 0) {
+		errs = append(errs, fmt.Sprintf("the test pressure must be positive, got %v MPa", p.PressureMPa))
+	}
+	if strings.TrimSpace(p.Actor) == "" {
+		errs = append(errs, "the name of who ran the test is required")
+	}
+	if err := checkResult(p.Result); err != nil {
+		errs = append(errs, err.Error())
+	}
+	if err := checkWhen(p.At, p.RecordedAt); err != nil {
+		errs = append(errs, err.Error())
+	}
+	if len(errs) > 0 {
+		return nil, inputErr(fmt.Errorf("proof test of %s: %s", serial, strings.Join(errs, "; ")))
+	}
+	bj := canonicalJSON(p.Baseline)
+	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
+		_, err := tx.Exec(ctx, `INSERT INTO proof_tests (id, hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at)
+			VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10)`, p.ID, h.ID, p.At, p.PressureMPa, p.Result, p.Notes, p.Actor, p.DiveID, bj, p.RecordedAt)
+		return chainRec{"proof_test", p.ID.String(), proofCanon(h.ID, &p, bj)}, err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return &p, nil
+}
+
+// RecordDecision records a decision to return a hull to service or to
+// withdraw it, by a named person with a reason.
+func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) (*Decision, error) {
+	d.ID, d.RecordedAt = uuid.New(), now()
+	if d.At.IsZero() {
+		d.At = d.RecordedAt
+	}
+	d.At = d.At.UTC().Truncate(time.Microsecond)
+	var errs []string
+	if d.Kind != DecisionReturn && d.Kind != DecisionWithdraw {
+		errs = append(errs, fmt.Sprintf("the decision must be %s or %s, got %q", DecisionReturn, DecisionWithdraw, d.Kind))
+	}
+	if strings.TrimSpace(d.Actor) == "" {
+		errs = append(errs, "a decision needs the name of who takes it")
+	}
+	if strings.TrimSpace(d.Reason) == "" {
+		errs = append(errs, "a decision needs its reason")
+	}
+	if err := checkWhen(d.At, d.RecordedAt); err != nil {
+		errs = append(errs, err.Error())
+	}
+	if len(errs) > 0 {
+		return nil, inputErr(fmt.Errorf("decision on %s: %s", serial, strings.Join(errs, "; ")))
+	}
+	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
+		_, err := tx.Exec(ctx, `INSERT INTO decisions (id, hull_id, at, kind, actor, reason, recorded_at) VALUES ($1,$2,$3,$4,$5,$6,$7)`,
+			d.ID, h.ID, d.At, d.Kind, d.Actor, d.Reason, d.RecordedAt)
+		return chainRec{"decision", d.ID.String(), decisionCanon(h.ID, &d)}, err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return &d, nil
+}
+
+// Maintenance is a hull's maintenance record, oldest first.
+type Maintenance struct {
+	Inspections []Inspection `json:"inspections"`
+	ProofTests  []ProofTest  `json:"proof_tests"`
+	Decisions   []Decision   `json:"decisions"`
+}
+
+// MaintenanceOf reads a hull's maintenance records.
+func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, error) {
+	m := &Maintenance{Inspections: []Inspection{}, ProofTests: []ProofTest{}, Decisions: []Decision{}}
+	rows, err := l.pool.Query(ctx, "SELECT id, at, method, findings, result, actor, recorded_at FROM inspections WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	if err != nil {
+		return nil, fmt.Errorf("inspections of %s: %w", h.Serial, err)
+	}
+	for rows.Next() {
+		var in Inspection
+		if err := rows.Scan(&in.ID, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		m.Inspections = append(m.Inspections, in)
+	}
+	rows.Close()
+	rows, err = l.pool.Query(ctx, "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	if err != nil {
+		return nil, fmt.Errorf("proof tests of %s: %w", h.Serial, err)
+	}
+	for rows.Next() {
+		var p ProofTest
+		var bj string
+		if err := rows.Scan(&p.ID, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt); err != nil {
+			rows.Close()
+			return nil, err
+		}
+		if err := json.Unmarshal([]byte(bj), &p.Baseline); err != nil {
+			rows.Close()
+			return nil, fmt.Errorf("proof test %s: baseline: %w", p.ID, err)
+		}
+		m.ProofTests = append(m.ProofTests, p)
+	}
+	rows.Close()
+	rows, err = l.pool.Query(ctx, "SELECT id, at, kind, actor, reason, recorded_at FROM decisions WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	if err != nil {
+		return nil, fmt.Errorf("decisions of %s: %w", h.Serial, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var d Decision
+		if err := rows.Scan(&d.ID, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt); err != nil {
+			return nil, err
+		}
+		m.Decisions = append(m.Decisions, d)
+	}
+	sort.SliceStable(m.Decisions, func(i, j int) bool { return m.Decisions[i].At.Before(m.Decisions[j].At) })
+	return m, rows.Err()
+}
+
+// ProofTestWithSamples records a proof test; when req names a samples
+// file, the file is first logged as a dive of the hull (so that its load
+// counts towards damage, and its peak becomes the Felicity reference) and
+// the strain compliance measured on it becomes the new baseline.
+func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p ProofTest, req LogRequest) (*ProofTest, error) {
+	if req.Samples != "" {
+		d, err := l.LogDive(ctx, req)
+		if err != nil {
+			return nil, err
+		}
+		p.DiveID = &d.ID
+		if p.At.IsZero() {
+			p.At = d.Start
+		}
+		if p.PressureMPa == 0 {
+			p.PressureMPa = d.MaxPressureMPa
+		}
+		if p.Baseline, err = l.complianceOf(ctx, d.ID); err != nil {
+			return nil, err
+		}
+	}
+	return l.RecordProofTest(ctx, serial, p)
+}
