@@ -21,12 +21,12 @@ import (
 // Fitness is a hull's fitness for service: its status with every reason,
 // the open flags, and the facts they were computed from.
 type Fitness struct {
-	Hull     string           `json:"hull"`
-	Status   string           `json:"status"`
-	Reasons  []fitness.Reason `json:"reasons"`
-	Flags    []fitness.Flag   `json:"flags"`
-	Damage   *Damages         `json:"damage"`
-	LastDive *time.Time       `json:"last_dive"`
+	Hull     string     `json:"hull"`
+	Status   string     `json:"status"`
+	Reasons  []Reason   `json:"reasons"`
+	Flags    []Flag     `json:"flags"`
+	Damage   *Damages   `json:"damage"`
+	LastDive *time.Time `json:"last_dive"`
 	// RulesSource names the rule set.
 	RulesSource string `json:"rules_source"`
 	facts       fitness.HullFacts
@@ -70,11 +70,8 @@ func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitnes
 		decisions = append(decisions, fitness.Decision{At: d.At, Kind: fitness.DecisionKind(d.Kind), Actor: d.Actor, Reason: d.Reason})
 	}
 	v := fitness.Status(flags, decisions, fitness.Records{Inspections: facts.Inspections, ProofTests: facts.ProofTests}, now)
-	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: v.Reasons, Flags: flags, Damage: dmg, RulesSource: src,
+	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: reasonViews(v.Reasons), Flags: flagViews(flags), Damage: dmg, RulesSource: src,
 		facts: facts, verdict: v, hull: h}
-	if f.Flags == nil {
-		f.Flags = []fitness.Flag{}
-	}
 	if n := len(dmg.PerDive); n > 0 {
 		t := dmg.PerDive[n-1].Start
 		f.LastDive = &t
@@ -241,14 +238,14 @@ func (l *Ledger) StatusHistory(ctx context.Context, h *Hull) ([]StatusChange, er
 
 // Clearance is a pre-dive go or no-go.
 type Clearance struct {
-	Hull                 string           `json:"hull"`
-	Go                   bool             `json:"go"`
-	Status               string           `json:"status"`
-	DepthM               float64          `json:"planned_depth_m"`
-	BottomTimeMin        float64          `json:"planned_bottom_time_min"`
-	PredictedDamageRatio Num              `json:"predicted_damage_ratio"`
-	PredictionBasis      string           `json:"prediction_basis"`
-	Reasons              []fitness.Reason `json:"reasons"`
+	Hull                 string   `json:"hull"`
+	Go                   bool     `json:"go"`
+	Status               string   `json:"status"`
+	DepthM               float64  `json:"planned_depth_m"`
+	BottomTimeMin        float64  `json:"planned_bottom_time_min"`
+	PredictedDamageRatio Num      `json:"predicted_damage_ratio"`
+	PredictionBasis      string   `json:"prediction_basis"`
+	Reasons              []Reason `json:"reasons"`
 }
 
 // Clear answers whether the hull is cleared for a planned dive.
@@ -274,7 +271,7 @@ func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin flo
 	}
 	c := fitness.Clear(f.verdict, f.facts, fitness.Plan{DepthM: depthM, BottomTimeMin: bottomMin, PredictedDamageRatio: pred}, r)
 	return &Clearance{Hull: serial, Go: c.Go, Status: f.Status, DepthM: depthM, BottomTimeMin: bottomMin,
-		PredictedDamageRatio: Num(pred), PredictionBasis: basis, Reasons: c.Reasons}, nil
+		PredictedDamageRatio: Num(pred), PredictionBasis: basis, Reasons: reasonViews(c.Reasons)}, nil
 }
 
 // predict estimates the damage of a planned dive as a ratio of the
@@ -364,4 +361,55 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 
 func fitnessScale(c rainflow.Cycle, s float64) rainflow.Cycle {
 	return rainflow.Cycle{Range: c.Range * s, Mean: c.Mean * s, Count: c.Count}
+}
+
+// Reason is a reason behind a status or a clearance, for output.
+type Reason struct {
+	Kind  string     `json:"kind"`
+	Code  string     `json:"code,omitempty"`
+	State string     `json:"state"`
+	NoGo  bool       `json:"no_go"`
+	Text  string     `json:"text"`
+	At    *time.Time `json:"at,omitempty"`
+}
+
+// Flag is a raised rule, for output (a missing value prints as "nan").
+type Flag struct {
+	Rule      string     `json:"rule"`
+	Title     string     `json:"title"`
+	Level     string     `json:"level"`
+	Value     Num        `json:"value"`
+	Threshold float64    `json:"threshold"`
+	When      string     `json:"comparison"`
+	Unit      string     `json:"unit,omitempty"`
+	Missing   bool       `json:"missing"`
+	Detail    string     `json:"detail,omitempty"`
+	Basis     string     `json:"basis"`
+	Source    string     `json:"source"`
+	Dive      string     `json:"dive,omitempty"`
+	At        *time.Time `json:"at,omitempty"`
+}
+
+func when(t time.Time) *time.Time {
+	if t.IsZero() {
+		return nil
+	}
+	return &t
+}
+
+func reasonViews(rs []fitness.Reason) []Reason {
+	out := make([]Reason, len(rs))
+	for i, r := range rs {
+		out[i] = Reason{Kind: r.Kind, Code: r.Code, State: string(r.State), NoGo: r.NoGo, Text: r.Text, At: when(r.At)}
+	}
+	return out
+}
+
+func flagViews(fs []fitness.Flag) []Flag {
+	out := make([]Flag, len(fs))
+	for i, f := range fs {
+		out[i] = Flag{Rule: f.Rule, Title: f.Title, Level: string(f.Level), Value: Num(f.Value), Threshold: f.Threshold, When: string(f.When),
+			Unit: f.Unit, Missing: f.Missing, Detail: f.Detail, Basis: f.Basis, Source: f.Source, Dive: f.Dive, At: when(f.At)}
+	}
+	return out
 }

@@ -163,6 +163,7 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"inspection", "SELECT count(*) FROM inspections WHERE hull_id = $1"},
 		{"proof_test", "SELECT count(*) FROM proof_tests WHERE hull_id = $1"},
 		{"decision", "SELECT count(*) FROM decisions WHERE hull_id = $1"},
+		{"status", "SELECT count(*) FROM status_history WHERE hull_id = $1"},
 		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
 		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
 	}
@@ -303,6 +304,21 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "counted cycles are missing", nil
 		}
 		return cyclesCanon(id, ss), 0, "", nil
+	case "status":
+		id, seq, ok := splitKey(key)
+		if !ok {
+			return nil, 0, "bad record key", nil
+		}
+		var status, reasons string
+		var at time.Time
+		err := l.pool.QueryRow(ctx, "SELECT status, reasons_json, recorded_at FROM status_history WHERE hull_id = $1 AND seq = $2", id, seq).Scan(&status, &reasons, &at)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "status record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return statusCanon(id, seq, status, reasons, at), 0, "", nil
 	case "dive_evidence":
 		id, err := uuid.Parse(key)
 		if err != nil {

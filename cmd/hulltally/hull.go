@@ -6,7 +6,9 @@ import (
 	"math"
 	"os"
 	"os/user"
+	"strings"
 	"text/tabwriter"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -149,7 +151,16 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			dmg, err := l.HullDamage(cmd.Context(), rec)
+			fit, err := l.FitnessOf(cmd.Context(), rec, time.Now().UTC())
+			if err != nil {
+				return err
+			}
+			dmg := fit.Damage
+			maint, err := l.MaintenanceOf(cmd.Context(), rec)
+			if err != nil {
+				return err
+			}
+			history, err := l.StatusHistory(cmd.Context(), rec)
 			if err != nil {
 				return err
 			}
@@ -163,6 +174,8 @@ func (a *app) hullCmd() *cobra.Command {
 					"remaining_dives": dmg.RemainingDives, "remaining_status": dmg.RemainingStatus, "remaining_reason": dmg.RemainingReason,
 					"assessment": map[string]any{"config_hash": dmg.ConfigHash, "assessments_on_record": dmg.Assessments,
 						"design_fatigue_factor": dmg.DesignFatigueFactor, "mean_stress": dmg.MeanStress, "combine": dmg.Combine},
+					"status": fit.Status, "status_reasons": fit.Reasons, "flags": fit.Flags, "rules_source": fit.RulesSource,
+					"maintenance": maint, "status_history": history,
 					"caution": cautionText(),
 				})
 			}
@@ -190,6 +203,26 @@ func (a *app) hullCmd() *cobra.Command {
 			}
 			w.Flush()
 			a.printDamage(dmg)
+			a.printf("\nstatus: %s\n", strings.ToUpper(fit.Status))
+			seen := map[string]int{}
+			for _, x := range fit.Reasons {
+				if x.Kind == "flag" {
+					seen[x.Code+string(x.State)]++
+					if seen[x.Code+string(x.State)] > 1 {
+						continue
+					}
+				}
+				a.printf("  [%s] %s\n", x.State, short(x.Text))
+			}
+			for _, in := range maint.Inspections {
+				a.printf("inspection %s: %s, %s by %s — %s\n", in.At.Format("2006-01-02"), in.Method, in.Result, in.Actor, in.Findings)
+			}
+			for _, p := range maint.ProofTests {
+				a.printf("proof test %s: %.3f MPa, %s by %s\n", p.At.Format("2006-01-02"), p.PressureMPa, p.Result, p.Actor)
+			}
+			for _, d := range maint.Decisions {
+				a.printf("decision %s: %s by %s — %s\n", d.At.Format("2006-01-02"), d.Kind, d.Actor, d.Reason)
+			}
 			a.printf("\n%s\n", cautionText())
 			return nil
 		},
@@ -252,6 +285,11 @@ func (a *app) printDamage(d *ledger.Damages) {
 		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%g\t%s\t%s %.3g MPa/MPa\t%s\n", c.Name, float64(c.CyclicDamage), float64(c.SustainedDamage), c.Allowable, pct(float64(c.Ratio)), c.Basis, c.Factor, c.Curve)
 	}
 	w.Flush()
+	for _, c := range d.Components {
+		if c.Prior != nil {
+			a.printf("  %s includes prior damage %.3e cyclic, %.3e sustained: %s\n", c.Name, float64(c.Prior.Cyclic), float64(c.Prior.Sustained), c.Prior.Source)
+		}
+	}
 	a.printf("governing component: %s at %s of its allowable\n", d.Governing, pct(float64(d.GoverningRatio)))
 	a.printf("remaining dives: %s — %s\n", remaining(d), d.RemainingReason)
 }
