@@ -35,12 +35,18 @@ func (a *app) demoCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			fl, err := a.fleet(cmd, l)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
+				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
 			}
 			a.printf("demo fleet of the Corrigan Shelf Survey Cooperative (invented), files in %s\n", sum.Dir)
 			a.printf("%d dives: %d logged now (%d samples), %d already recorded; %.1f s\n\n", sum.Dives, sum.Logged, sum.Samples, sum.Duplicates, time.Since(t0).Seconds())
-			a.printHulls(hs, dmg)
+			a.printHulls(hs, dmg, false)
+			a.printf("\nfleet status, most urgent first:\n")
+			a.printFleet(fl)
 			return nil
 		},
 	}

@@ -128,7 +128,7 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			a.printHulls(hs, dmg)
+			a.printHulls(hs, dmg, true)
 			return nil
 		},
 	}
@@ -232,7 +232,7 @@ func (a *app) hullCmd() *cobra.Command {
 }
 
 // printHulls prints the hull list with each hull's damage.
-func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages) {
+func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages, caution bool) {
 	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(w, "SERIAL\tNAME\tRATED m\tDIVES\tDEEPEST m\tMAX MPa\tBEYOND RATED\tGOVERNING\tDAMAGE/ALLOWABLE\tDIVES LEFT\tLAST DIVE")
 	for _, h := range hs {
@@ -247,7 +247,9 @@ func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages
 		fmt.Fprintf(w, "%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\t%s\t%s\t%s\n", h.Serial, h.Name, h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, gov, ratio, left, last)
 	}
 	w.Flush()
-	a.printf("\n%s\n", cautionText())
+	if caution {
+		a.printf("\n%s\n", cautionText())
+	}
 }
 
 // pct prints a damage ratio as a percentage of the allowable, rounded up
