@@ -89,7 +89,8 @@ type DiveFacts struct {
 	NoHoldPeriod bool
 	// ComplianceChange is, per gauge, the relative change of compliance
 	// against the baseline (positive = softer, 0.05 = 5 %); nil when there
-	// is no baseline.
+	// is no baseline, which the compliance rule takes as missing evidence
+	// for every gauge that gave data.
 	ComplianceChange map[string]float64
 	// ResidualStrain is, per gauge, the strain at the surface after the
 	// dive minus before, µε.

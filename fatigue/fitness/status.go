@@ -59,8 +59,10 @@ type ProofTest struct {
 
 // Records are a hull's inspections and proof tests.
 type Records struct {
+	// Inspections are the hull's recorded inspections, in any order.
 	Inspections []Inspection
-	ProofTests  []ProofTest
+	// ProofTests are the hull's recorded proof tests, in any order.
+	ProofTests []ProofTest
 }
 
 // DecisionKind is what a maintenance decision decides.
@@ -225,13 +227,13 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 		}
 		return time.Time{}, false
 	}
-	rtsAfter := func(t time.Time) Decision {
+	rtsAfter := func(t time.Time) (Decision, bool) {
 		for _, d := range rts {
 			if d.At.After(t) {
-				return d
+				return d, true
 			}
 		}
-		return Decision{}
+		return Decision{}, false
 	}
 
 	for _, f := range flags {
@@ -240,7 +242,7 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 		if p, ok := passAfter(f.At, hold); ok {
 			closed := fmt.Sprintf("closed by the passing record of %s", when(p))
 			if hold {
-				d := rtsAfter(p)
+				d, _ := rtsAfter(p)
 				closed += fmt.Sprintf(" and the return to service by %s on %s (%s)", d.Actor, when(d.At), d.Reason)
 			}
 			info = append(info, Reason{Kind: "flag", Code: f.Rule, State: Fit, At: f.At, Text: closed + ": " + text})
@@ -297,7 +299,7 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 			continue
 		}
 		text := fmt.Sprintf("withdrawn from service on %s by %s: %s", when(d.At), nameOr(d.Actor), orNone(d.Reason))
-		if back := rtsAfter(d.At); back.Actor != "" {
+		if back, ok := rtsAfter(d.At); ok {
 			info = append(info, Reason{Kind: "decision", State: Fit, At: d.At,
 				Text: fmt.Sprintf("%s; returned to service on %s by %s: %s", text, when(back.At), back.Actor, back.Reason)})
 		} else {
