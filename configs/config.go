@@ -32,6 +32,8 @@ type Config struct {
 	// RulesFile is the fitness rule set; empty means the shipped
 	// configs/rules.yaml.
 	RulesFile string
+	// Evidence configures the evidence-of-damage measures.
+	Evidence Evidence
 	// Source lists where the values came from, lowest priority first.
 	Source []string
 }
@@ -68,6 +70,20 @@ type Fatigue struct {
 	HoldMaxBins         int     `json:"hold_max_bins"`
 	Window              int     `json:"window"`
 	MinDives            int     `json:"min_dives"`
+}
+
+// Evidence configures the acoustic-emission and strain measures (see
+// hulltally.yaml for the source of each default).
+type Evidence struct {
+	HoldFraction       float64
+	OnsetIncrementFrac float64
+	OnsetHits          float64
+	MinAmplitudeDB     float64
+	HoldWindows        int
+	HoldDecayFraction  float64
+	HoldQuietHits      int
+	HoldMinHits        int
+	BaselineDives      int
 }
 
 // GateMPa is the rainflow hysteresis gate for pressure.
@@ -129,6 +145,15 @@ func Load(o Options) (*Config, error) {
 	v.SetDefault("ingest.block_samples", 8192)
 	v.SetDefault("fatigue.curves_file", "")
 	v.SetDefault("fitness.rules_file", "")
+	v.SetDefault("evidence.hold_fraction", 0.95)
+	v.SetDefault("evidence.onset_increment_fraction", 0.10)
+	v.SetDefault("evidence.onset_hits", 6)
+	v.SetDefault("evidence.min_amplitude_db", 45)
+	v.SetDefault("evidence.hold_windows", 4)
+	v.SetDefault("evidence.hold_decay_fraction", 0.5)
+	v.SetDefault("evidence.hold_quiet_hits", 2)
+	v.SetDefault("evidence.hold_min_hits", 5)
+	v.SetDefault("evidence.baseline_dives", 3)
 	v.SetDefault("fatigue.design_fatigue_factor", 1.0)
 	v.SetDefault("fatigue.mean_stress", "goodman")
 	v.SetDefault("fatigue.allowable", 0.3)
@@ -185,6 +210,14 @@ func Load(o Options) (*Config, error) {
 		return nil, fmt.Errorf("ingest.block_samples must be between 16 and 1048576, got %d", c.Ingest.BlockSamples)
 	}
 	c.RulesFile = v.GetString("fitness.rules_file")
+	c.Evidence = Evidence{HoldFraction: v.GetFloat64("evidence.hold_fraction"), OnsetIncrementFrac: v.GetFloat64("evidence.onset_increment_fraction"),
+		OnsetHits: v.GetFloat64("evidence.onset_hits"), MinAmplitudeDB: v.GetFloat64("evidence.min_amplitude_db"),
+		HoldWindows: v.GetInt("evidence.hold_windows"), HoldDecayFraction: v.GetFloat64("evidence.hold_decay_fraction"),
+		HoldQuietHits: v.GetInt("evidence.hold_quiet_hits"), HoldMinHits: v.GetInt("evidence.hold_min_hits"), BaselineDives: v.GetInt("evidence.baseline_dives")}
+	if e := c.Evidence; !(e.HoldFraction > 0 && e.HoldFraction <= 1) || !(e.OnsetIncrementFrac > 0) || !(e.OnsetHits > 0) || e.HoldWindows < 2 ||
+		!(e.HoldDecayFraction >= 0 && e.HoldDecayFraction <= 1) || e.HoldQuietHits < 0 || e.HoldMinHits < 0 || e.BaselineDives < 1 {
+		return nil, fmt.Errorf("configuration: evidence settings out of range: %+v", e)
+	}
 	fa := &c.Fatigue
 	fa.CurvesFile = v.GetString("fatigue.curves_file")
 	fa.DesignFatigueFactor = v.GetFloat64("fatigue.design_fatigue_factor")

@@ -14,10 +14,6 @@ import (
 	"hulltally/ledger/logfile"
 )
 
-// baselineDives is how many first dives give the strain baseline when no
-// proof test with strain is recorded (common practice).
-const baselineDives = 3
-
 // Evidence is one dive's evidence of damage, as stored (dive_evidence).
 type Evidence struct {
 	// Evaluated is false for a dive that never left the surface.
@@ -101,14 +97,14 @@ func (l *Ledger) diveEvidence(ctx context.Context, tx pgx.Tx, h *Hull, start tim
 		return nil, fmt.Errorf("evidence: previous maximum pressure: %w", err)
 	}
 	p := toProfile(prof)
-	ph, err := evidence.Phases(p, 0)
+	ph, err := evidence.Phases(p, l.cfg.Evidence.HoldFraction)
 	if err != nil {
 		ev.Reason = fmt.Sprintf("not evaluated: %v", err)
 		return ev, nil
 	}
 	ev.Evaluated, ev.PeakMPa, ev.HoldStartS, ev.HoldEndS = true, ph.PeakMPa, ph.HoldStartS, ph.HoldEndS
 	if hadAE {
-		ev.AE = aeEvidence(p, ph, hits, ev.PreviousMaxMPa, h.Spec.ProofPressureMPa)
+		ev.AE = l.aeEvidence(p, ph, hits, ev.PreviousMaxMPa, h.Spec.ProofPressureMPa)
 	}
 	base, src, err := l.baseline(ctx, tx, h, start)
 	if err != nil {
@@ -147,7 +143,8 @@ func (l *Ledger) diveEvidence(ctx context.Context, tx pgx.Tx, h *Hull, start tim
 	return ev, nil
 }
 
-func aeEvidence(p evidence.Profile, ph evidence.Phase, hits []evidence.Hit, prevMax, proof float64) *AEEvidence {
+func (l *Ledger) aeEvidence(p evidence.Profile, ph evidence.Phase, hits []evidence.Hit, prevMax, proof float64) *AEEvidence {
+	cfg := l.cfg.Evidence
 	ae := &AEEvidence{Hits: len(hits)}
 	pr := evidence.PressureAt(p, hits)
 	ref := prevMax
@@ -155,13 +152,16 @@ func aeEvidence(p evidence.Profile, ph evidence.Phase, hits []evidence.Hit, prev
 		ref = proof
 	}
 	crit := evidence.DefaultOnsetCriterion(ref)
+	crit.IncrementMPa, crit.Threshold, crit.MinAmplitudeDB = cfg.OnsetIncrementFrac*ref, cfg.OnsetHits, cfg.MinAmplitudeDB
 	ae.OnsetCriterion = fmt.Sprintf("%s ≥ %g per %.3g MPa increment, amplitude ≥ %g dB_AE", crit.Measure, crit.Threshold, crit.IncrementMPa, crit.MinAmplitudeDB)
 	if on, err := evidence.Onset(hits, pr, ph, crit); err == nil {
 		ae.OnsetMPa = on.OnsetMPa
 	}
 	f := evidence.Felicity(ae.OnsetMPa, prevMax, ph.PeakMPa)
 	ae.FelicityRatio, ae.FelicityEval, ae.FelicityReason, ae.BeyondPrevious = f.Ratio, f.Evaluated, f.Reason, f.BeyondPrevious
-	hr := evidence.HoldEmission(hits, pr, ph, evidence.DefaultHoldCriterion())
+	hc := evidence.HoldCriterion{Windows: cfg.HoldWindows, DecayFraction: cfg.HoldDecayFraction, QuietHits: cfg.HoldQuietHits,
+		MinHits: cfg.HoldMinHits, MinAmplitudeDB: cfg.MinAmplitudeDB}
+	hr := evidence.HoldEmission(hits, pr, ph, hc)
 	ae.HoldHits, ae.HoldEnergy, ae.HoldDecays, ae.HoldReason = hr.Hits, hr.Energy, hr.Decays, hr.Reason
 	if !hr.Evaluated {
 		ae.HoldDecays = false // not judged: lean to the safe side
@@ -195,7 +195,7 @@ func (l *Ledger) baseline(ctx context.Context, q querier, h *Hull, start time.Ti
 		return nil, "", fmt.Errorf("evidence: baseline: %w", err)
 	}
 	rows, err := q.Query(ctx, `SELECT e.evidence_json FROM dive_evidence e JOIN dives d ON d.id = e.dive_id
-		WHERE d.hull_id = $1 AND d.start_time < $2 ORDER BY d.start_time LIMIT $3`, h.ID, start, baselineDives)
+		WHERE d.hull_id = $1 AND d.start_time < $2 ORDER BY d.start_time LIMIT $3`, h.ID, start, l.cfg.Evidence.BaselineDives)
 	if err != nil {
 		return nil, "", fmt.Errorf("evidence: baseline dives: %w", err)
 	}
@@ -222,14 +222,14 @@ func (l *Ledger) baseline(ctx context.Context, q querier, h *Hull, start time.Ti
 	if err := rows.Err(); err != nil {
 		return nil, "", err
 	}
-	if dives < baselineDives {
-		return nil, fmt.Sprintf("none yet: no proof test with strain, and fewer than %d earlier dives", baselineDives), nil
+	if dives < l.cfg.Evidence.BaselineDives {
+		return nil, fmt.Sprintf("none yet: no proof test with strain, and fewer than %d earlier dives", l.cfg.Evidence.BaselineDives), nil
 	}
 	m := map[string]float64{}
 	for g, s := range sum {
 		m[g] = s / float64(n[g])
 	}
-	return m, fmt.Sprintf("mean of the hull's first %d dives (no proof test with strain recorded)", baselineDives), nil
+	return m, fmt.Sprintf("mean of the hull's first %d dives (no proof test with strain recorded)", l.cfg.Evidence.BaselineDives), nil
 }
 
 func evidenceCanon(dive uuid.UUID, js string) []byte {

@@ -201,7 +201,8 @@ func (a *app) printFleet(fl []fleetRow) {
 		}
 		for _, key := range sortedKeys(shown) {
 			if n := shown[key]; n > 1 {
-				a.printf("  (%s: raised by %d dives in all)\n", strings.Split(key, "|")[0], n)
+				parts := strings.Split(key, "|")
+				a.printf("  (%s at %s: raised by %d dives in all)\n", parts[0], parts[1], n)
 			}
 		}
 	}
