@@ -16,6 +16,7 @@ import (
 	"hulltally/fatigue/fitness"
 	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
+	"hulltally/ledger/spec"
 )
 
 // Fitness is a hull's fitness for service: its status with every reason,
@@ -46,8 +47,19 @@ func (l *Ledger) rules() (*fitness.Rules, string, error) {
 	return r, src, nil
 }
 
-// FitnessOf evaluates the hull's rules and status at now.
+// FitnessOf evaluates the hull's rules and status at now, and appends the
+// status to the hull's history when it changed.
 func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitness, error) {
+	return l.fitnessOf(ctx, h, now, true)
+}
+
+// FitnessAt evaluates the hull's status at a time without recording
+// anything (for reports and their verification).
+func (l *Ledger) FitnessAt(ctx context.Context, h *Hull, at time.Time) (*Fitness, error) {
+	return l.fitnessOf(ctx, h, at, false)
+}
+
+func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note bool) (*Fitness, error) {
 	r, src, err := l.rules()
 	if err != nil {
 		return nil, err
@@ -76,8 +88,10 @@ func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitnes
 		t := dmg.PerDive[n-1].Start
 		f.LastDive = &t
 	}
-	if err := l.noteStatus(ctx, h, f); err != nil {
-		return nil, err
+	if note {
+		if err := l.noteStatus(ctx, h, f); err != nil {
+			return nil, err
+		}
 	}
 	return f, nil
 }
@@ -412,4 +426,65 @@ func flagViews(fs []fitness.Flag) []Flag {
 			Unit: f.Unit, Missing: f.Missing, Detail: f.Detail, Basis: f.Basis, Source: f.Source, Dive: f.Dive, At: when(f.At)}
 	}
 	return out
+}
+
+// BasisInfo is what a report states as its basis.
+type BasisInfo struct {
+	DFF         float64
+	MeanStress  string
+	Combine     string
+	Curves      []CurveBasis
+	Rules       []RuleBasis
+	RulesSource string
+}
+
+// CurveBasis is a curve used, with its source.
+type CurveBasis struct {
+	Name, Source, Basis string
+	Illustrative        bool
+}
+
+// RuleBasis is a rule with its thresholds and source.
+type RuleBasis struct {
+	ID, Title, Thresholds, Source string
+}
+
+// ReportBasis lists the settings, the curves the hulls use and the rules.
+func (l *Ledger) ReportBasis(hulls []*spec.Hull) (*BasisInfo, error) {
+	r, src, err := l.rules()
+	if err != nil {
+		return nil, err
+	}
+	b := &BasisInfo{DFF: l.fat.settings.DFF, MeanStress: string(l.fat.settings.MeanStress), Combine: string(l.fat.limits.Combination()), RulesSource: src}
+	seen := map[string]bool{}
+	for _, h := range hulls {
+		for _, c := range h.Components {
+			for _, name := range []string{c.Curve, c.RuptureCurve} {
+				if name == "" || seen[name] {
+					continue
+				}
+				seen[name] = true
+				if cv, err := l.fat.lib.Curve(name); err == nil {
+					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: cv.Source, Basis: string(cv.Basis), Illustrative: cv.Illustrative})
+				} else if rp, err := l.fat.lib.Rupture(name); err == nil {
+					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: rp.Source, Basis: string(rp.Basis), Illustrative: rp.Illustrative})
+				}
+			}
+		}
+	}
+	sort.Slice(b.Curves, func(i, j int) bool { return b.Curves[i].Name < b.Curves[j].Name })
+	for _, rule := range r.Rules {
+		th := ""
+		if rule.Watch != nil {
+			th += "watch " + rule.Watch.String()
+		}
+		if rule.Hold != nil {
+			if th != "" {
+				th += "; "
+			}
+			th += "hold " + rule.Hold.String()
+		}
+		b.Rules = append(b.Rules, RuleBasis{ID: rule.ID, Title: rule.Title, Thresholds: th, Source: rule.Source})
+	}
+	return b, nil
 }

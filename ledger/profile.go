@@ -1,7 +1,11 @@
 package ledger
 
 import (
+	"context"
 	"math"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
 )
 
 // maxProfilePoints bounds a dive's decimated profile, whatever its length.
@@ -93,3 +97,46 @@ func (a *profileAcc) halve() {
 
 // finish closes the last window.
 func (a *profileAcc) finish() { a.flush() }
+
+// Profile is a dive's stored decimated profile.
+type Profile struct {
+	TimeS       []float64
+	PressureMPa []float64
+	// Strain per gauge, µε.
+	Strain map[string][]float64
+}
+
+// ProfileOf returns a dive's decimated profile (nil for dives logged
+// before profiles were kept).
+func (l *Ledger) ProfileOf(ctx context.Context, dive uuid.UUID) (*Profile, error) {
+	p, err := loadProfile(ctx, l.pool, dive)
+	if err == pgx.ErrNoRows {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, err
+	}
+	out := &Profile{TimeS: p.TimeS, PressureMPa: p.Press, Strain: map[string][]float64{}}
+	for i, g := range p.gauges {
+		out.Strain[g] = p.Strain[i]
+	}
+	return out, nil
+}
+
+// HullCycles returns every pressure cycle of a hull's dives (range, count
+// pairs), for the histogram of its load.
+func (l *Ledger) HullCycles(ctx context.Context, hull uuid.UUID) (ranges, counts []float64, err error) {
+	rows, err := l.pool.Query(ctx, "SELECT ranges, counts FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'", hull)
+	if err != nil {
+		return nil, nil, err
+	}
+	defer rows.Close()
+	for rows.Next() {
+		var r, c []float64
+		if err := rows.Scan(&r, &c); err != nil {
+			return nil, nil, err
+		}
+		ranges, counts = append(ranges, r...), append(counts, c...)
+	}
+	return ranges, counts, rows.Err()
+}

@@ -91,7 +91,7 @@ func (a *app) rootCmd() *cobra.Command {
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error { return usageError{err} })
 	root.PersistentFlags().StringVar(&a.cfgFile, "config", "", "configuration file (YAML); overrides configs/hulltally.yaml, overridden by HULLTALLY_* variables")
 	root.PersistentFlags().BoolVar(&a.asJSON, "json", false, "print one JSON document instead of text")
-	root.AddCommand(a.dbCmd(), a.hullCmd(), a.diveCmd(), a.assessCmd(), a.fleetCmd(), a.clearCmd(), a.inspectCmd(), a.prooftestCmd(), a.decideCmd(), a.verifyCmd(), a.demoCmd())
+	root.AddCommand(a.dbCmd(), a.hullCmd(), a.diveCmd(), a.assessCmd(), a.fleetCmd(), a.clearCmd(), a.inspectCmd(), a.prooftestCmd(), a.decideCmd(), a.reportCmd(), a.verifyCmd(), a.demoCmd())
 	return root
 }
 

@@ -1,0 +1,79 @@
+package main
+
+import (
+	"fmt"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"hulltally/reports"
+)
+
+func (a *app) reportCmd() *cobra.Command {
+	rep := &cobra.Command{Use: "report", Short: "PDF reports: a hull's fitness-for-service summary, a dive sheet, the fleet summary; verify a report"}
+	var out string
+	mk := func(use, short, kind string, nargs int) *cobra.Command {
+		c := &cobra.Command{
+			Use:   use,
+			Short: short,
+			Args:  cobra.ExactArgs(nargs),
+			RunE: func(cmd *cobra.Command, args []string) error {
+				if out == "" {
+					return usageError{fmt.Errorf("-o FILE.pdf is required")}
+				}
+				subject := "fleet"
+				if nargs == 1 {
+					subject = args[0]
+				}
+				l, err := a.open(cmd.Context())
+				if err != nil {
+					return err
+				}
+				defer l.Close()
+				w, err := reports.Write(cmd.Context(), l, kind, subject, out, time.Now())
+				if err != nil {
+					return err
+				}
+				if a.asJSON {
+					return a.printJSON(w)
+				}
+				a.printf("wrote %s (%d pages), fingerprint %s\n", w.Path, w.Pages, w.Fingerprint)
+				return nil
+			},
+		}
+		c.Flags().StringVarP(&out, "output", "o", "", "the PDF file to write")
+		return c
+	}
+	verify := &cobra.Command{
+		Use:   "verify FILE.pdf",
+		Short: "Check a report against the ledger (exit 0 when it matches, 1 with the reason when it does not)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			v, err := reports.Verify(cmd.Context(), l, args[0])
+			if err != nil {
+				return err
+			}
+			if !v.OK {
+				a.exit = exitFailed
+			}
+			if a.asJSON {
+				return a.printJSON(v)
+			}
+			verdict := "REPORT DOES NOT MATCH"
+			if v.OK {
+				verdict = "report verified"
+			}
+			a.printf("%s: %s %s generated %s: %s\n", verdict, v.Kind, v.Subject, v.GeneratedAt.Format(time.RFC3339), v.Reason)
+			return nil
+		},
+	}
+	rep.AddCommand(mk("hull SERIAL -o FILE.pdf", "A hull's fitness-for-service summary", reports.KindHull, 1),
+		mk("dive ID -o FILE.pdf", "A one-page dive sheet", reports.KindDive, 1),
+		mk("fleet -o FILE.pdf", "The fleet summary", reports.KindFleet, 0), verify)
+	return rep
+}

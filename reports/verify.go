@@ -1,0 +1,144 @@
+package reports
+
+import (
+	"context"
+	"crypto/sha256"
+	"fmt"
+	"os"
+	"regexp"
+	"time"
+
+	"hulltally/ledger"
+)
+
+// Build gathers a report's content by kind and subject.
+func Build(ctx context.Context, l *ledger.Ledger, kind, subject string, at time.Time) (*Model, error) {
+	switch kind {
+	case KindHull:
+		return BuildHull(ctx, l, subject, at)
+	case KindDive:
+		return BuildDive(ctx, l, subject, at)
+	case KindFleet:
+		return BuildFleet(ctx, l, at)
+	}
+	return nil, fmt.Errorf("unknown report kind %q", kind)
+}
+
+// Written is a report written to a file.
+type Written struct {
+	Path        string    `json:"path"`
+	Kind        string    `json:"kind"`
+	Subject     string    `json:"subject"`
+	Fingerprint string    `json:"fingerprint"`
+	GeneratedAt time.Time `json:"generated_at"`
+	Pages       int       `json:"pages"`
+	Bytes       int       `json:"bytes"`
+}
+
+// Write builds and renders a report and writes it to path.
+func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at time.Time) (*Written, error) {
+	at = at.UTC().Truncate(time.Second)
+	m, err := Build(ctx, l, kind, subject, at)
+	if err != nil {
+		return nil, err
+	}
+	b, err := Render(m)
+	if err != nil {
+		return nil, err
+	}
+	if err := os.WriteFile(path, b, 0o644); err != nil {
+		return nil, fmt.Errorf("writing %s: %w", path, err)
+	}
+	fp, _ := m.Fingerprint()
+	sum := sha256.Sum256(b)
+	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: pages(b), Bytes: len(b)}
+	if err := l.RegisterReport(ctx, ledger.IssuedReport{FileSHA256: sum[:], Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: w.Pages}); err != nil {
+		return nil, err
+	}
+	return w, nil
+}
+
+var (
+	keywordsRE = regexp.MustCompile(`/Keywords \(hulltally-report kind=(\w+) subject=([^ ]+) generated=([^ ]+) records=(\d+) fingerprint=([0-9a-f]{64})\)`)
+	pagesRE    = regexp.MustCompile(`/Type /Page\b`)
+)
+
+func pages(b []byte) int { return len(pagesRE.FindAll(b, -1)) }
+
+// Verification is the outcome of checking a report against the ledger.
+type Verification struct {
+	OK          bool      `json:"ok"`
+	Kind        string    `json:"kind"`
+	Subject     string    `json:"subject"`
+	GeneratedAt time.Time `json:"generated_at"`
+	Fingerprint string    `json:"fingerprint"`
+	Reason      string    `json:"reason"`
+}
+
+// Verify checks a report file against the ledger: the file must be in the
+// register of issued reports (by the SHA-256 of its bytes: any change to
+// the file is found), and the fingerprint of the ledger content recomputed
+// at the report's generation time must equal the one it was issued with.
+func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	mm := keywordsRE.FindSubmatch(b)
+	if mm == nil {
+		return &Verification{Reason: "the file carries no hulltally fingerprint: not a hulltally report, or its metadata was altered"}, nil
+	}
+	v := &Verification{Kind: string(mm[1]), Subject: string(mm[2]), Fingerprint: string(mm[5])}
+	var then int64
+	fmt.Sscan(string(mm[4]), &then)
+	at, err := time.Parse(time.RFC3339Nano, string(mm[3]))
+	if err != nil {
+		v.Reason = "the generation time in the metadata is unreadable: the file was altered"
+		return v, nil
+	}
+	v.GeneratedAt = at
+	m, err := Build(ctx, l, v.Kind, v.Subject, at)
+	if err != nil {
+		v.Reason = fmt.Sprintf("the report's subject is no longer in the ledger: %v", err)
+		return v, nil
+	}
+	fp, err := m.Fingerprint()
+	if err != nil {
+		return nil, err
+	}
+	sum := sha256.Sum256(b)
+	issued, err := l.IssuedReportOf(ctx, sum[:])
+	if err != nil {
+		return nil, err
+	}
+	if issued == nil {
+		v.Reason = "the file is not one this ledger issued (its SHA-256 is not in the register of issued reports): the file was altered"
+		if fp != v.Fingerprint {
+			v.Reason += "; also, " + what(m, then)
+		}
+		return v, nil
+	}
+	if issued.Fingerprint != v.Fingerprint {
+		v.Reason = "the file's fingerprint differs from the one it was issued with: the file was altered"
+		return v, nil
+	}
+	if fp != v.Fingerprint {
+		v.Reason = "the ledger no longer matches the report: " + what(m, then)
+		return v, nil
+	}
+	v.OK, v.Reason = true, "the report is as issued and matches the ledger"
+	return v, nil
+}
+
+// what explains a fingerprint mismatch from the number of chain records
+// the report was made from.
+func what(m *Model, then int64) string {
+	now := m.records()
+	switch {
+	case now > then:
+		return fmt.Sprintf("%d records were added to the ledger since it was made (for example a dive logged or a maintenance record)", now-then)
+	case now < then:
+		return fmt.Sprintf("the ledger holds %d fewer records than when it was made: records were removed", then-now)
+	}
+	return "the same number of records, but a record, the configuration (curves, rules, settings) or the file's fingerprint changed"
+}
