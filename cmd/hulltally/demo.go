@@ -1,12 +1,15 @@
 package main
 
 import (
+	"os"
 	"path/filepath"
 	"time"
 
 	"github.com/spf13/cobra"
 
+	"hulltally/ledger"
 	"hulltally/ledger/demo"
+	"hulltally/reports"
 )
 
 func (a *app) demoCmd() *cobra.Command {
@@ -39,18 +42,53 @@ func (a *app) demoCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			written, err := a.demoReports(cmd, l)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
+				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "reports": written, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
 			}
 			a.printf("demo fleet of the Corrigan Shelf Survey Cooperative (invented), files in %s\n", sum.Dir)
 			a.printf("%d dives: %d logged now (%d samples), %d already recorded; %.1f s\n\n", sum.Dives, sum.Logged, sum.Samples, sum.Duplicates, time.Since(t0).Seconds())
 			a.printHulls(hs, dmg, false)
 			a.printf("\nfleet status, most urgent first:\n")
 			a.printFleet(fl)
+			a.printf("\nreports:\n")
+			for _, w := range written {
+				a.printf("  %s (%d pages)\n", w.Path, w.Pages)
+			}
 			return nil
 		},
 	}
 	c.Flags().IntVar(&dives, "dives", 60, "dives per hull")
 	c.Flags().Float64Var(&hz, "hz", 0.5, "logger sample rate, Hz")
 	return c
+}
+
+// demoReports writes the fleet summary and every hull's report under
+// <home>/reports.
+func (a *app) demoReports(cmd *cobra.Command, l *ledger.Ledger) ([]*reports.Written, error) {
+	dir := filepath.Join(a.cfg.Home, "reports")
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		return nil, err
+	}
+	now := time.Now()
+	w, err := reports.Write(cmd.Context(), l, reports.KindFleet, "fleet", filepath.Join(dir, "fleet-summary.pdf"), now)
+	if err != nil {
+		return nil, err
+	}
+	out := []*reports.Written{w}
+	hs, err := l.Hulls(cmd.Context())
+	if err != nil {
+		return nil, err
+	}
+	for _, h := range hs {
+		w, err := reports.Write(cmd.Context(), l, reports.KindHull, h.Serial, filepath.Join(dir, h.Serial+".pdf"), now)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, w)
+	}
+	return out, nil
 }

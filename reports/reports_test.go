@@ -1,0 +1,160 @@
+package reports_test
+
+import (
+	"context"
+	"fmt"
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+	"time"
+
+	"hulltally/ledger"
+	"hulltally/ledger/demo"
+	"hulltally/ledger/ledgertest"
+	"hulltally/reports"
+)
+
+var srv *ledgertest.Server
+
+func TestMain(m *testing.M) { os.Exit(ledgertest.Main(m, &srv)) }
+
+func pdftotext(t *testing.T, path string) string {
+	t.Helper()
+	bin, err := exec.LookPath("pdftotext")
+	if err != nil {
+		t.Skip("SKIP PDF content checks: pdftotext is not installed (Debian: apt-get install poppler-utils; .ci/run installs it)")
+	}
+	out, err := exec.Command(bin, "-layout", path, "-").Output()
+	if err != nil {
+		t.Fatalf("pdftotext %s: %v", path, err)
+	}
+	return string(out)
+}
+
+func squash(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+func TestHullReport(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: t.TempDir(), DivesPerHull: 6, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	dir := t.TempDir()
+	for _, serial := range []string{"CSC-ORN-01", "CSC-VES-02", "CSC-QUI-03"} {
+		path := filepath.Join(dir, serial+".pdf")
+		w, err := reports.Write(ctx, l, reports.KindHull, serial, path, time.Now())
+		if err != nil {
+			t.Fatal(err)
+		}
+		text := pdftotext(t, path)
+		h, _ := l.Hull(ctx, serial)
+		f, err := l.FitnessAt(ctx, h, w.GeneratedAt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		flat := squash(text)
+		for _, want := range []string{serial, "STATUS: " + strings.ToUpper(f.Status), squash(reports.Caution), "page 1 of", w.Fingerprint} {
+			if !strings.Contains(flat, squash(want)) {
+				t.Errorf("%s: report lacks %q", serial, want)
+			}
+		}
+		// The damage figures are the ones hull show --json gives.
+		for _, c := range f.Damage.Components {
+			for _, v := range []ledger.Num{c.CyclicDamage, c.SustainedDamage} {
+				if s := fmt.Sprintf("%.3e", float64(v)); !strings.Contains(text, s) {
+					t.Errorf("%s: component %s damage %s not in the report", serial, c.Name, s)
+				}
+			}
+		}
+		// pdftotext separates pages with form feeds.
+		if n := strings.Count(text, "\f"); n != w.Pages || n < 4 {
+			t.Errorf("%s: %d pages in the text, %d written", serial, n, w.Pages)
+		}
+		v, err := reports.Verify(ctx, l, path)
+		if err != nil || !v.OK {
+			t.Fatalf("%s: fresh report does not verify: %v %+v", serial, err, v)
+		}
+	}
+}
+
+func TestVerifyFails(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	dd := t.TempDir()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: dd, DivesPerHull: 4, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "r.pdf")
+	if _, err := reports.Write(ctx, l, reports.KindHull, "CSC-QUI-03", path, time.Now()); err != nil {
+		t.Fatal(err)
+	}
+	fleet := filepath.Join(t.TempDir(), "f.pdf")
+	if _, err := reports.Write(ctx, l, reports.KindFleet, "fleet", fleet, time.Now()); err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []string{path, fleet} {
+		if v, err := reports.Verify(ctx, l, p); err != nil || !v.OK {
+			t.Fatalf("fresh: %v %+v", err, v)
+		}
+	}
+	// The file altered: one byte of its content changed.
+	b, _ := os.ReadFile(path)
+	altered := filepath.Join(t.TempDir(), "altered.pdf")
+	b2 := append([]byte(nil), b...)
+	i := strings.Index(string(b2), "stream\n") + 100
+	b2[i] ^= 0x20
+	os.WriteFile(altered, b2, 0o644)
+	v, err := reports.Verify(ctx, l, altered)
+	if err != nil || v.OK || !strings.Contains(v.Reason, "altered") {
+		t.Fatalf("altered file: %v %+v", err, v)
+	}
+	// A dive logged since: the report no longer matches the ledger.
+	lat := -37.6
+	samples := filepath.Join(dd, "CSC-QUI-03", "dive-001.csv")
+	again, _ := os.ReadFile(samples)
+	newFile := filepath.Join(t.TempDir(), "later.csv")
+	os.WriteFile(newFile, []byte(strings.Replace(string(again), "2026-03", "2026-09", -1)), 0o644)
+	if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: "CSC-QUI-03", Samples: newFile, Latitude: &lat}); err != nil {
+		t.Fatal(err)
+	}
+	for _, p := range []string{path, fleet} {
+		v, err = reports.Verify(ctx, l, p)
+		if err != nil || v.OK || !strings.Contains(v.Reason, "records were added") {
+			t.Fatalf("after a new dive (%s): %v %+v", p, err, v)
+		}
+	}
+	// Not a report at all.
+	junk := filepath.Join(t.TempDir(), "junk.pdf")
+	os.WriteFile(junk, []byte("%PDF-1.4\nnothing\n"), 0o644)
+	if v, err := reports.Verify(ctx, l, junk); err != nil || v.OK {
+		t.Fatalf("junk: %v %+v", err, v)
+	}
+}
+
+func TestDiveSheet(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: t.TempDir(), DivesPerHull: 3, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	ds, err := l.Dives(ctx, "CSC-ORN-01")
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "d.pdf")
+	w, err := reports.Write(ctx, l, reports.KindDive, ds[1].ID.String(), path, time.Now())
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := squash(pdftotext(t, path))
+	for _, want := range []string{ds[1].ID.String(), "Damage added", "Pressure cycles", "Evidence", squash(reports.Caution)} {
+		if !strings.Contains(text, want) {
+			t.Errorf("dive sheet lacks %q", want)
+		}
+	}
+	if v, err := reports.Verify(ctx, l, w.Path); err != nil || !v.OK {
+		t.Fatalf("dive sheet: %v %+v", err, v)
+	}
+}
