@@ -490,7 +490,11 @@ func RenderDive(m *Model) ([]byte, error) {
 		{"Hull status now", m.Hulls[0].Status},
 	})
 	if dp.profile != nil {
-		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, 0, chartSize)
+		rated := 0.0
+		if dv.MaxDepthM > 0 {
+			rated = dv.MaxPressureMPa * dv.RatedDepthM / dv.MaxDepthM // this dive's pressure per metre
+		}
+		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, rated, chartSize)
 		if err != nil {
 			return nil, err
 		}
