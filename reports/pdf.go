@@ -340,7 +340,7 @@ func RenderHull(m *Model) ([]byte, error) {
 		}
 		rows = append(rows, []string{c.Name, c.Basis, ill, c.Source})
 	}
-	d.table([]string{"curve", "mean / characteristic", "note", "source"}, []float64{42, 24, 28, bodyW - 94}, rows)
+	d.table([]string{"curve", "basis", "note", "source"}, []float64{42, 24, 28, bodyW - 94}, rows)
 	d.h2("Rules (" + m.Basis.RulesFrom + ")")
 	rows = nil
 	for _, r := range m.Basis.Rules {
