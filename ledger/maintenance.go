@@ -54,11 +54,19 @@ const (
 	DecisionWithdraw = "withdraw"
 )
 
-func checkWhen(at time.Time, rec time.Time) error {
-	if at.After(rec.Add(time.Minute)) {
-		return fmt.Errorf("the time %s is in the future", at.Format(time.RFC3339))
+// stamp gives a new record its id and recording time, defaults its event
+// time to now, and refuses an event time in the future.
+func stamp(at *time.Time) (uuid.UUID, time.Time, []string) {
+	rec := now()
+	if at.IsZero() {
+		*at = rec
 	}
-	return nil
+	*at = at.UTC().Truncate(time.Microsecond)
+	var errs []string
+	if at.After(rec.Add(time.Minute)) {
+		errs = append(errs, fmt.Sprintf("the time %s is in the future", at.Format(time.RFC3339)))
+	}
+	return uuid.New(), rec, errs
 }
 
 func checkResult(r string) error {
@@ -140,12 +148,8 @@ func (l *Ledger) record(ctx context.Context, serial string, insert func(tx pgx.T
 
 // RecordInspection records an inspection of a hull.
 func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspection) (*Inspection, error) {
-	in.ID, in.RecordedAt = uuid.New(), now()
-	if in.At.IsZero() {
-		in.At = in.RecordedAt
-	}
-	in.At = in.At.UTC().Truncate(time.Microsecond)
 	var errs []string
+	in.ID, in.RecordedAt, errs = stamp(&in.At)
 	if strings.TrimSpace(in.Method) == "" {
 		errs = append(errs, "the method is required (e.g. visual, ultrasonic, shearography)")
 	}
@@ -153,9 +157,6 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 		errs = append(errs, "the inspector's name is required")
 	}
 	if err := checkResult(in.Result); err != nil {
-		errs = append(errs, err.Error())
-	}
-	if err := checkWhen(in.At, in.RecordedAt); err != nil {
 		errs = append(errs, err.Error())
 	}
 	if len(errs) > 0 {
@@ -175,12 +176,8 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 // RecordProofTest records a proof test (its samples, if any, are logged
 // first as a dive of the hull by the caller and named by DiveID).
 func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest) (*ProofTest, error) {
-	p.ID, p.RecordedAt = uuid.New(), now()
-	if p.At.IsZero() {
-		p.At = p.RecordedAt
-	}
-	p.At = p.At.UTC().Truncate(time.Microsecond)
 	var errs []string
+	p.ID, p.RecordedAt, errs = stamp(&p.At)
 	if !(p.PressureMPa > 0) {
 		errs = append(errs, fmt.Sprintf("the test pressure must be positive, got %v MPa", p.PressureMPa))
 	}
@@ -188,9 +185,6 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 		errs = append(errs, "the name of who ran the test is required")
 	}
 	if err := checkResult(p.Result); err != nil {
-		errs = append(errs, err.Error())
-	}
-	if err := checkWhen(p.At, p.RecordedAt); err != nil {
 		errs = append(errs, err.Error())
 	}
 	if len(errs) > 0 {
@@ -211,12 +205,8 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 // RecordDecision records a decision to return a hull to service or to
 // withdraw it, by a named person with a reason.
 func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) (*Decision, error) {
-	d.ID, d.RecordedAt = uuid.New(), now()
-	if d.At.IsZero() {
-		d.At = d.RecordedAt
-	}
-	d.At = d.At.UTC().Truncate(time.Microsecond)
 	var errs []string
+	d.ID, d.RecordedAt, errs = stamp(&d.At)
 	if d.Kind != DecisionReturn && d.Kind != DecisionWithdraw {
 		errs = append(errs, fmt.Sprintf("the decision must be %s or %s, got %q", DecisionReturn, DecisionWithdraw, d.Kind))
 	}
@@ -225,9 +215,6 @@ func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) 
 	}
 	if strings.TrimSpace(d.Reason) == "" {
 		errs = append(errs, "a decision needs its reason")
-	}
-	if err := checkWhen(d.At, d.RecordedAt); err != nil {
-		errs = append(errs, err.Error())
 	}
 	if len(errs) > 0 {
 		return nil, inputErr(fmt.Errorf("decision on %s: %s", serial, strings.Join(errs, "; ")))
