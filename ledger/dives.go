@@ -66,6 +66,8 @@ type Dive struct {
 	Site            string    `json:"site"`
 	Operator        string    `json:"operator"`
 	RecordedAt      time.Time `json:"recorded_at"`
+	// Corrections recorded on the dive (applied to Site and Operator).
+	Corrections []Correction `json:"corrections,omitempty"`
 }
 
 // diveRow is the stored dive row, for canonical bytes.
@@ -732,6 +734,9 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 		return nil, err
 	}
 	d.RatedDepthM = h.Spec.RatedDepthM
+	if err := l.applyCorrections(ctx, d); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 

@@ -164,6 +164,7 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"proof_test", "SELECT count(*) FROM proof_tests WHERE hull_id = $1"},
 		{"decision", "SELECT count(*) FROM decisions WHERE hull_id = $1"},
 		{"status", "SELECT count(*) FROM status_history WHERE hull_id = $1"},
+		{"correction", "SELECT count(*) FROM corrections WHERE hull_id = $1"},
 		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
 		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
 	}
@@ -304,6 +305,25 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "counted cycles are missing", nil
 		}
 		return cyclesCanon(id, ss), 0, "", nil
+	case "correction":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		c := Correction{ID: id}
+		var hull uuid.UUID
+		var target, vj string
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE id = $1", id).Scan(&hull, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "correction record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		if c.Dive, err = uuid.Parse(target); err != nil {
+			return nil, 0, "correction names no dive", nil
+		}
+		return correctionCanon(hull, &c, vj), 0, "", nil
 	case "status":
 		id, seq, ok := splitKey(key)
 		if !ok {

@@ -136,7 +136,37 @@ func (a *app) diveCmd() *cobra.Command {
 			return nil
 		},
 	}
-	dive.AddCommand(logc, list, show)
+	var field, value, reason, actor string
+	correct := &cobra.Command{
+		Use:   "correct ID --field site|operator --value TEXT --reason TEXT [--actor NAME]",
+		Short: "Record a correction of a dive's site or operator (the original record stays)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if actor == "" {
+				actor = currentActor()
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			c, err := l.CorrectDive(cmd.Context(), args[0], field, value, reason, actor)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(c)
+			}
+			a.printf("recorded correction %s of dive %s: %s = %q (%s, by %s)\n", c.ID, c.Dive, c.Field, c.Value, c.Reason, c.Actor)
+			return nil
+		},
+	}
+	cf := correct.Flags()
+	cf.StringVar(&field, "field", "", "site or operator")
+	cf.StringVar(&value, "value", "", "the value it should have had")
+	cf.StringVar(&reason, "reason", "", "why (required)")
+	cf.StringVar(&actor, "actor", "", "who (default: the login name)")
+	dive.AddCommand(logc, list, show, correct)
 	return dive
 }
 
@@ -163,6 +193,9 @@ func (a *app) printDive(d *ledger.Dive) {
 	fmt.Fprintf(w, "AE hits\t%d\n", d.AEHits)
 	if d.Site != "" || d.Operator != "" {
 		fmt.Fprintf(w, "site / operator\t%s / %s\n", d.Site, d.Operator)
+	}
+	for _, c := range d.Corrections {
+		fmt.Fprintf(w, "correction\t%s set to %q on %s by %s: %s\n", c.Field, c.Value, c.RecordedAt.Format("2006-01-02"), c.Actor, c.Reason)
 	}
 	w.Flush()
 }

@@ -436,3 +436,28 @@ func TestManagedCluster(t *testing.T) {
 		t.Fatalf("after stop: %v", st)
 	}
 }
+
+// TestCorrection: a correction is a new record that names what it
+// corrects; the dive row itself is never edited.
+func TestCorrection(t *testing.T) {
+	e := newEnv(t)
+	p := filepath.Join(t.TempDir(), "d.csv")
+	os.WriteFile(p, []byte("time,depth_m\n2026-05-01T08:00:00Z,0\n2026-05-01T08:10:00Z,300\n2026-05-01T08:20:00Z,0\n"), 0o644)
+	var d map[string]any
+	e.jsonOK(&d, "dive", "log", "--hull", "EX-C4000-01", "--site", "Wrong Bay", p)
+	id := d["dive_id"].(string)
+	e.ok("dive", "correct", id[:8], "--field", "site", "--value", "Right Bay", "--reason", "typed the wrong site", "--actor", "Ops")
+	var show map[string]any
+	e.jsonOK(&show, "dive", "show", id)
+	if show["site"] != "Right Bay" || len(show["corrections"].([]any)) != 1 {
+		t.Fatalf("after correction: site %v, corrections %v", show["site"], show["corrections"])
+	}
+	if n := e.count("dives WHERE site = 'Wrong Bay'"); n != 1 {
+		t.Fatalf("the original dive row changed (%d rows with the original site)", n)
+	}
+	_, errs, code := e.run("dive", "correct", id, "--field", "latitude", "--value", "10", "--reason", "x", "--actor", "Ops")
+	if code != 2 || !strings.Contains(errs, "cannot be corrected") {
+		t.Fatalf("latitude correction: exit %d %s", code, errs)
+	}
+	e.ok("verify")
+}

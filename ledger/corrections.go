@@ -1,0 +1,111 @@
+package ledger
+
+import (
+	"context"
+	"encoding/json"
+	"fmt"
+	"strings"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+)
+
+// Correction is a recorded correction of a dive's descriptive field. The
+// corrected row stays as it was; readers apply the newest correction of
+// each field.
+type Correction struct {
+	ID         uuid.UUID `json:"id"`
+	Dive       uuid.UUID `json:"dive_id"`
+	Field      string    `json:"field"`
+	Value      string    `json:"value"`
+	Reason     string    `json:"reason"`
+	Actor      string    `json:"actor"`
+	RecordedAt time.Time `json:"recorded_at"`
+}
+
+// CorrectableFields are the dive fields a correction may set. Fields that
+// feed the damage (the readings, the latitude) are not among them: such an
+// error is corrected by logging the right file, never by editing.
+var correctableFields = []string{"site", "operator"}
+
+func correctionCanon(hull uuid.UUID, c *Correction, valueJSON string) []byte {
+	k := newCanon("correction")
+	k.uuid(c.ID)
+	k.uuid(hull)
+	k.str("dive")
+	k.str(c.Dive.String())
+	k.str(c.Field)
+	k.str(valueJSON)
+	k.str(c.Reason)
+	k.str(c.Actor)
+	k.time(c.RecordedAt)
+	return k.b
+}
+
+// CorrectDive records a correction of a dive's site or operator.
+func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reason, actor string) (*Correction, error) {
+	d, err := l.Dive(ctx, id)
+	if err != nil {
+		return nil, err
+	}
+	if !containsStr(correctableFields, field) {
+		return nil, inputErr(fmt.Errorf("field %q cannot be corrected (correctable: %s); a reading or the latitude is corrected by logging the right file", field, strings.Join(correctableFields, ", ")))
+	}
+	if strings.TrimSpace(reason) == "" || strings.TrimSpace(actor) == "" {
+		return nil, inputErr(fmt.Errorf("a correction needs a reason and the name of who makes it"))
+	}
+	c := &Correction{ID: uuid.New(), Dive: d.ID, Field: field, Value: value, Reason: reason, Actor: actor, RecordedAt: now()}
+	vj, _ := json.Marshal(value)
+	err = l.record(ctx, d.Hull, func(tx pgx.Tx, h *Hull) (chainRec, error) {
+		_, err := tx.Exec(ctx, `INSERT INTO corrections (id, hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at)
+			VALUES ($1,$2,'dive',$3,$4,$5,$6,$7,$8)`, c.ID, h.ID, c.Dive.String(), field, string(vj), reason, actor, c.RecordedAt)
+		return chainRec{"correction", c.ID.String(), correctionCanon(h.ID, c, string(vj))}, err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+// correctionsOf returns a dive's corrections, oldest first.
+func (l *Ledger) correctionsOf(ctx context.Context, dive uuid.UUID) ([]Correction, error) {
+	rows, err := l.pool.Query(ctx, `SELECT id, field, value_json, reason, actor, recorded_at FROM corrections
+		WHERE target_kind = 'dive' AND target_key = $1 ORDER BY recorded_at, id`, dive.String())
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	var out []Correction
+	for rows.Next() {
+		c := Correction{Dive: dive}
+		var vj string
+		if err := rows.Scan(&c.ID, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt); err != nil {
+			return nil, err
+		}
+		if err := json.Unmarshal([]byte(vj), &c.Value); err != nil {
+			return nil, fmt.Errorf("correction %s: %w", c.ID, err)
+		}
+		out = append(out, c)
+	}
+	return out, rows.Err()
+}
+
+// applyCorrections sets the dive's corrected fields and lists the
+// corrections on it.
+func (l *Ledger) applyCorrections(ctx context.Context, d *Dive) error {
+	cs, err := l.correctionsOf(ctx, d.ID)
+	if err != nil {
+		return err
+	}
+	for _, c := range cs {
+		switch c.Field {
+		case "site":
+			d.Site = c.Value
+		case "operator":
+			d.Operator = c.Value
+		}
+	}
+	d.Corrections = cs
+	return nil
+}
