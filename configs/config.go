@@ -130,6 +130,21 @@ type Options struct {
 	IsRoot func() bool
 }
 
+// defaults are the built-in values of every key (the lowest layer); the
+// embedded hulltally.yaml states the same values with their sources.
+var defaults = map[string]any{
+	"home": "", "database.url": "", "database.max_conns": 4,
+	"ingest.default_latitude": "", "ingest.block_samples": 8192,
+	"fatigue.curves_file": "", "fatigue.design_fatigue_factor": 1.0, "fatigue.mean_stress": "goodman",
+	"fatigue.allowable": 0.3, "fatigue.combine": "add", "fatigue.sustained_allowable": 0.3,
+	"fatigue.sensor_noise_mpa": 0.01, "fatigue.strain_noise_ue": 2.0, "fatigue.gate_factor": 5,
+	"fatigue.hold_bin_mpa": 0.05, "fatigue.hold_max_bins": 24, "fatigue.window": 10, "fatigue.min_dives": 3,
+	"fitness.rules_file":     "",
+	"evidence.hold_fraction": 0.95, "evidence.onset_increment_fraction": 0.10, "evidence.onset_hits": 6,
+	"evidence.min_amplitude_db": 45, "evidence.hold_windows": 4, "evidence.hold_decay_fraction": 0.5,
+	"evidence.hold_quiet_hits": 2, "evidence.hold_min_hits": 5, "evidence.baseline_dives": 3,
+}
+
 // Load resolves the configuration.
 func Load(o Options) (*Config, error) {
 	env := o.Env
@@ -138,34 +153,9 @@ func Load(o Options) (*Config, error) {
 	}
 	v := viper.New()
 	v.SetConfigType("yaml")
-	v.SetDefault("home", "")
-	v.SetDefault("database.url", "")
-	v.SetDefault("database.max_conns", 4)
-	v.SetDefault("ingest.default_latitude", "")
-	v.SetDefault("ingest.block_samples", 8192)
-	v.SetDefault("fatigue.curves_file", "")
-	v.SetDefault("fitness.rules_file", "")
-	v.SetDefault("evidence.hold_fraction", 0.95)
-	v.SetDefault("evidence.onset_increment_fraction", 0.10)
-	v.SetDefault("evidence.onset_hits", 6)
-	v.SetDefault("evidence.min_amplitude_db", 45)
-	v.SetDefault("evidence.hold_windows", 4)
-	v.SetDefault("evidence.hold_decay_fraction", 0.5)
-	v.SetDefault("evidence.hold_quiet_hits", 2)
-	v.SetDefault("evidence.hold_min_hits", 5)
-	v.SetDefault("evidence.baseline_dives", 3)
-	v.SetDefault("fatigue.design_fatigue_factor", 1.0)
-	v.SetDefault("fatigue.mean_stress", "goodman")
-	v.SetDefault("fatigue.allowable", 0.3)
-	v.SetDefault("fatigue.combine", "add")
-	v.SetDefault("fatigue.sustained_allowable", 0.3)
-	v.SetDefault("fatigue.sensor_noise_mpa", 0.01)
-	v.SetDefault("fatigue.strain_noise_ue", 2.0)
-	v.SetDefault("fatigue.gate_factor", 5)
-	v.SetDefault("fatigue.hold_bin_mpa", 0.05)
-	v.SetDefault("fatigue.hold_max_bins", 24)
-	v.SetDefault("fatigue.window", 10)
-	v.SetDefault("fatigue.min_dives", 3)
+	for key, val := range defaults {
+		v.SetDefault(key, val)
+	}
 	src := []string{"built-in defaults"}
 	if err := v.MergeConfig(bytes.NewReader(defaultYAML)); err != nil {
 		return nil, fmt.Errorf("embedded configs/hulltally.yaml: %w", err)

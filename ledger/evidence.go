@@ -269,6 +269,30 @@ func (l *Ledger) EvidenceOf(ctx context.Context, dive uuid.UUID) (*Evidence, err
 	return &e, nil
 }
 
+// HullEvidence returns the stored evidence of every dive of a hull, by
+// dive (dives logged before evidence was kept are absent).
+func (l *Ledger) HullEvidence(ctx context.Context, hull uuid.UUID) (map[uuid.UUID]*Evidence, error) {
+	rows, err := l.pool.Query(ctx, "SELECT dive_id, evidence_json FROM dive_evidence WHERE hull_id = $1", hull)
+	if err != nil {
+		return nil, fmt.Errorf("evidence of hull %s: %w", hull, err)
+	}
+	defer rows.Close()
+	out := map[uuid.UUID]*Evidence{}
+	for rows.Next() {
+		var id uuid.UUID
+		var js string
+		if err := rows.Scan(&id, &js); err != nil {
+			return nil, err
+		}
+		e := new(Evidence)
+		if err := json.Unmarshal([]byte(js), e); err != nil {
+			return nil, fmt.Errorf("dive %s: evidence: %w", id, err)
+		}
+		out[id] = e
+	}
+	return out, rows.Err()
+}
+
 // complianceOf returns the compliance per gauge measured on a dive (a
 // proof test's baseline).
 func (l *Ledger) complianceOf(ctx context.Context, dive uuid.UUID) (map[string]float64, error) {

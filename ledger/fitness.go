@@ -35,16 +35,17 @@ type Fitness struct {
 	hull        *Hull
 }
 
-func (l *Ledger) rules() (*fitness.Rules, string, error) {
+func (l *Ledger) loadRules() error {
 	b, src, err := l.cfg.Rules()
 	if err != nil {
-		return nil, "", err
+		return err
 	}
 	r, err := fitness.ParseRules(b)
 	if err != nil {
-		return nil, "", fmt.Errorf("fitness rules %s: %w", src, err)
+		return fmt.Errorf("fitness rules %s: %w", src, err)
 	}
-	return r, src, nil
+	l.rulesSet, l.rulesSrc = r, src
+	return nil
 }
 
 // FitnessOf evaluates the hull's rules and status at now, and appends the
@@ -60,10 +61,7 @@ func (l *Ledger) FitnessAt(ctx context.Context, h *Hull, at time.Time) (*Fitness
 }
 
 func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note bool) (*Fitness, error) {
-	r, src, err := l.rules()
-	if err != nil {
-		return nil, err
-	}
+	r, src := l.rulesSet, l.rulesSrc
 	dmg, err := l.HullDamage(ctx, h)
 	if err != nil {
 		return nil, err
@@ -275,10 +273,7 @@ func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin flo
 	if err != nil {
 		return nil, err
 	}
-	r, _, err := l.rules()
-	if err != nil {
-		return nil, err
-	}
+	r := l.rulesSet
 	pred, basis, err := l.predict(ctx, h, depthM, bottomMin)
 	if err != nil {
 		return nil, err
@@ -451,10 +446,7 @@ type RuleBasis struct {
 
 // ReportBasis lists the settings, the curves the hulls use and the rules.
 func (l *Ledger) ReportBasis(hulls []*spec.Hull) (*BasisInfo, error) {
-	r, src, err := l.rules()
-	if err != nil {
-		return nil, err
-	}
+	r, src := l.rulesSet, l.rulesSrc
 	b := &BasisInfo{DFF: l.fat.settings.DFF, MeanStress: string(l.fat.settings.MeanStress), Combine: string(l.fat.limits.Combination()), RulesSource: src}
 	seen := map[string]bool{}
 	for _, h := range hulls {

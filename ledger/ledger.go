@@ -21,6 +21,7 @@ import (
 	"github.com/jackc/tern/v2/migrate"
 
 	"hulltally/configs"
+	"hulltally/fatigue/fitness"
 	"hulltally/ledger/cluster"
 	"hulltally/migrations"
 )
@@ -31,6 +32,9 @@ type Ledger struct {
 	cfg  *configs.Config
 	info Info
 	fat  *fatigueEnv
+	// rulesSet is the fitness rule set, parsed once at Open.
+	rulesSet *fitness.Rules
+	rulesSrc string
 }
 
 // Info says where the ledger is.
@@ -54,6 +58,9 @@ type Info struct {
 func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
 	l := &Ledger{cfg: cfg}
 	if err := l.loadFatigue(); err != nil {
+		return nil, err
+	}
+	if err := l.loadRules(); err != nil {
 		return nil, err
 	}
 	dbURL := cfg.Database.URL

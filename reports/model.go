@@ -210,11 +210,10 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	// Cumulative damage of the governing component, dive by dive.
 	gov := f.Damage.Governing
 	var prior float64
-	for i, c := range h.Spec.Components {
+	for _, c := range h.Spec.Components {
 		if c.Name == gov && c.PriorDamage != nil {
 			prior = c.PriorDamage.Cyclic + c.PriorDamage.Sustained
 		}
-		_ = i
 	}
 	allow := 0.0
 	for _, c := range f.Damage.Components {
@@ -237,11 +236,12 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	for _, g := range h.Spec.StrainGauges() {
 		hp.Compliance[g] = make([]*float64, len(hp.Dives))
 	}
+	evs, err := l.HullEvidence(ctx, h.ID)
+	if err != nil {
+		return nil, err
+	}
 	for i, d := range hp.Dives {
-		ev, err := l.EvidenceOf(ctx, d.ID)
-		if err != nil {
-			return nil, err
-		}
+		ev := evs[d.ID]
 		var fr *float64
 		if ev != nil {
 			if ev.AE != nil {
