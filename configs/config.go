@@ -12,6 +12,7 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"time"
 
 	"github.com/spf13/viper"
 )
@@ -34,6 +35,8 @@ type Config struct {
 	RulesFile string
 	// Evidence configures the evidence-of-damage measures.
 	Evidence Evidence
+	// Proof configures the checks of proof tests.
+	Proof Proof
 	// Source lists where the values came from, lowest priority first.
 	Source []string
 }
@@ -53,6 +56,29 @@ type Ingest struct {
 	DefaultLatitude *float64
 	// BlockSamples is the number of samples per stored block.
 	BlockSamples int
+	// ClockToleranceS is how far ahead of the clock a record may be dated,
+	// seconds; anything later is refused.
+	ClockToleranceS float64
+	// EarliestTime is the earliest time stamp accepted (RFC 3339).
+	EarliestTime string
+	// SurfaceToleranceMPa: a record that does not start or end within this
+	// gauge pressure of the surface is cut off (flagged, and its cycle
+	// closed to the surface).
+	SurfaceToleranceMPa float64
+	// MaxGapS is the longest gap between samples below the surface that
+	// passes without a data-quality finding, seconds.
+	MaxGapS float64
+	// MaxIntervalS is the coarsest sample interval below the surface that
+	// the hysteresis gate and the hold criteria can work with, seconds.
+	MaxIntervalS float64
+}
+
+// Proof configures the checks of a recorded proof test.
+type Proof struct {
+	// Tolerance is the relative tolerance of a proof test's pressure: a
+	// passing test below the spec's proof pressure by more is refused, and
+	// the recorded pressure must agree with the samples' peak within it.
+	Tolerance float64
 }
 
 // Fatigue configures the damage assessment (see hulltally.yaml).
@@ -70,6 +96,11 @@ type Fatigue struct {
 	HoldMaxBins         int     `json:"hold_max_bins"`
 	Window              int     `json:"window"`
 	MinDives            int     `json:"min_dives"`
+	// DesignBottomTimeMin is the bottom time of the design dive (to the
+	// rated depth) whose damage rate bounds the remaining life, minutes.
+	DesignBottomTimeMin float64 `json:"design_bottom_time_min"`
+	// LifeHorizon: remaining dives beyond it are shown as "more than".
+	LifeHorizon int64 `json:"life_horizon"`
 }
 
 // Evidence configures the acoustic-emission and strain measures (see
@@ -84,6 +115,27 @@ type Evidence struct {
 	HoldQuietHits      int
 	HoldMinHits        int
 	BaselineDives      int
+	// HoldSettleS: hits after the first HoldSettleS seconds of a hold are
+	// counted against HoldMaxHitsAfterSettle (an absolute criterion).
+	HoldSettleS            float64
+	HoldMaxHitsAfterSettle int
+	// SensorCheckMinDB is the amplitude a sensor check must reach to show
+	// the channel alive, dB_AE.
+	SensorCheckMinDB float64
+	// HighAmplitudeDB is the amplitude of a high-amplitude hit, dB_AE.
+	HighAmplitudeDB float64
+	// ResidualTempToleranceC: residual strain is compared only when the
+	// surface temperatures before and after the dive agree within it.
+	ResidualTempToleranceC float64
+}
+
+// Earliest is EarliestTime parsed.
+func (in Ingest) Earliest() (time.Time, error) {
+	t, err := time.Parse(time.RFC3339, in.EarliestTime)
+	if err != nil {
+		return time.Time{}, fmt.Errorf("ingest.earliest_time must be an RFC 3339 time, got %q: %w", in.EarliestTime, err)
+	}
+	return t, nil
 }
 
 // GateMPa is the rainflow hysteresis gate for pressure.
@@ -135,6 +187,11 @@ type Options struct {
 var defaults = map[string]any{
 	"home": "", "database.url": "", "database.max_conns": 4,
 	"ingest.default_latitude": "", "ingest.block_samples": 8192,
+	"ingest.clock_tolerance_s": 600, "ingest.earliest_time": "1990-01-01T00:00:00Z", "ingest.surface_tolerance_mpa": 0.1,
+	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "proof.tolerance": 0.02,
+	"fatigue.design_bottom_time_min": 60, "fatigue.life_horizon": 100000,
+	"evidence.hold_settle_s": 60, "evidence.hold_max_hits_after_settle": 5, "evidence.sensor_check_min_db": 80,
+	"evidence.high_amplitude_db": 80, "evidence.residual_temp_tolerance_c": 2,
 	"fatigue.curves_file": "", "fatigue.design_fatigue_factor": 1.0, "fatigue.mean_stress": "goodman",
 	"fatigue.allowable": 0.3, "fatigue.combine": "add", "fatigue.sustained_allowable": 0.3,
 	"fatigue.sensor_noise_mpa": 0.01, "fatigue.strain_noise_ue": 2.0, "fatigue.gate_factor": 5,
@@ -199,13 +256,32 @@ func Load(o Options) (*Config, error) {
 	if c.Ingest.BlockSamples < 16 || c.Ingest.BlockSamples > 1<<20 {
 		return nil, fmt.Errorf("ingest.block_samples must be between 16 and 1048576, got %d", c.Ingest.BlockSamples)
 	}
+	in := &c.Ingest
+	in.ClockToleranceS, in.EarliestTime = v.GetFloat64("ingest.clock_tolerance_s"), v.GetString("ingest.earliest_time")
+	in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS = v.GetFloat64("ingest.surface_tolerance_mpa"), v.GetFloat64("ingest.max_gap_s"), v.GetFloat64("ingest.max_interval_s")
+	if _, err := in.Earliest(); err != nil {
+		return nil, err
+	}
+	if !(in.ClockToleranceS >= 0 && in.ClockToleranceS <= 86400) || !(in.SurfaceToleranceMPa > 0 && in.SurfaceToleranceMPa <= 5) ||
+		!(in.MaxGapS > 0 && in.MaxGapS < 1e9) || !(in.MaxIntervalS > 0 && in.MaxIntervalS <= in.MaxGapS) {
+		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 5], max_gap_s > 0, 0 < max_interval_s <= max_gap_s): %+v", *in)
+	}
+	c.Proof.Tolerance = v.GetFloat64("proof.tolerance")
+	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance < 0.2) {
+		return nil, fmt.Errorf("configuration: proof.tolerance must be a fraction in [0, 0.2), got %v", c.Proof.Tolerance)
+	}
 	c.RulesFile = v.GetString("fitness.rules_file")
 	c.Evidence = Evidence{HoldFraction: v.GetFloat64("evidence.hold_fraction"), OnsetIncrementFrac: v.GetFloat64("evidence.onset_increment_fraction"),
 		OnsetHits: v.GetFloat64("evidence.onset_hits"), MinAmplitudeDB: v.GetFloat64("evidence.min_amplitude_db"),
 		HoldWindows: v.GetInt("evidence.hold_windows"), HoldDecayFraction: v.GetFloat64("evidence.hold_decay_fraction"),
-		HoldQuietHits: v.GetInt("evidence.hold_quiet_hits"), HoldMinHits: v.GetInt("evidence.hold_min_hits"), BaselineDives: v.GetInt("evidence.baseline_dives")}
+		HoldQuietHits: v.GetInt("evidence.hold_quiet_hits"), HoldMinHits: v.GetInt("evidence.hold_min_hits"), BaselineDives: v.GetInt("evidence.baseline_dives"),
+		HoldSettleS: v.GetFloat64("evidence.hold_settle_s"), HoldMaxHitsAfterSettle: v.GetInt("evidence.hold_max_hits_after_settle"),
+		SensorCheckMinDB: v.GetFloat64("evidence.sensor_check_min_db"), HighAmplitudeDB: v.GetFloat64("evidence.high_amplitude_db"),
+		ResidualTempToleranceC: v.GetFloat64("evidence.residual_temp_tolerance_c")}
 	if e := c.Evidence; !(e.HoldFraction > 0 && e.HoldFraction <= 1) || !(e.OnsetIncrementFrac > 0) || !(e.OnsetHits > 0) || e.HoldWindows < 2 ||
-		!(e.HoldDecayFraction >= 0 && e.HoldDecayFraction <= 1) || e.HoldQuietHits < 0 || e.HoldMinHits < 0 || e.BaselineDives < 1 {
+		!(e.HoldDecayFraction >= 0 && e.HoldDecayFraction <= 1) || e.HoldQuietHits < 0 || e.HoldMinHits < 0 || e.BaselineDives < 1 ||
+		!(e.HoldSettleS >= 0) || e.HoldMaxHitsAfterSettle < 0 || !(e.SensorCheckMinDB > 0 && e.SensorCheckMinDB <= 140) ||
+		!(e.HighAmplitudeDB > 0 && e.HighAmplitudeDB <= 140) || !(e.ResidualTempToleranceC >= 0 && e.ResidualTempToleranceC < 50) {
 		return nil, fmt.Errorf("configuration: evidence settings out of range: %+v", e)
 	}
 	fa := &c.Fatigue
@@ -222,6 +298,8 @@ func Load(o Options) (*Config, error) {
 	fa.HoldMaxBins = v.GetInt("fatigue.hold_max_bins")
 	fa.Window = v.GetInt("fatigue.window")
 	fa.MinDives = v.GetInt("fatigue.min_dives")
+	fa.DesignBottomTimeMin = v.GetFloat64("fatigue.design_bottom_time_min")
+	fa.LifeHorizon = v.GetInt64("fatigue.life_horizon")
 	if err := fa.validate(); err != nil {
 		return nil, err
 	}
@@ -281,6 +359,12 @@ func (f *Fatigue) validate() error {
 	}
 	if f.HoldMaxBins < 2 {
 		errs = append(errs, fmt.Sprintf("fatigue.hold_max_bins must be at least 2, got %d", f.HoldMaxBins))
+	}
+	if !(f.DesignBottomTimeMin >= 0 && f.DesignBottomTimeMin <= 100000) {
+		errs = append(errs, fmt.Sprintf("fatigue.design_bottom_time_min must be between 0 and 100000 minutes, got %v", f.DesignBottomTimeMin))
+	}
+	if f.LifeHorizon < 1 {
+		errs = append(errs, fmt.Sprintf("fatigue.life_horizon must be at least 1 dive, got %d", f.LifeHorizon))
 	}
 	if f.Window < 1 || f.MinDives < 1 {
 		errs = append(errs, "fatigue.window and fatigue.min_dives must be at least 1")

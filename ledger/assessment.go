@@ -647,7 +647,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		byID[h.ID] = i
 		out[i] = l.newDamages(h)
 	}
-	rows, err := l.pool.Query(ctx, `SELECT hull_id, id, start_time FROM dives WHERE hull_id = ANY($1) ORDER BY hull_id, start_time, id`, ids)
+	rows, err := l.pool.Query(ctx, `SELECT hull_id, id, start_time FROM dives d WHERE hull_id = ANY($1) AND `+notVoided+` ORDER BY hull_id, start_time, id`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("reading dives: %w", err)
 	}

@@ -82,7 +82,7 @@ type chainRec struct {
 // lock classes for pg_advisory_xact_lock(class, key).
 const (
 	lockChain = 1 // one hull's audit chain
-	lockDive  = 2 // one (hull, source file) pair being logged
+	lockDive  = 2 // one hull's dives being judged (logging, voiding, proof tests)
 	lockHull  = 3 // creating or revising one hull serial
 )
 

@@ -32,6 +32,8 @@ type diveCounter struct {
 	tbuf     []float64
 	profile  *profileAcc
 	sbuf     [][]float64
+	quality  *quality
+	tempIdx  int
 }
 
 type strainCounter struct {
@@ -55,6 +57,14 @@ func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64)
 	}
 	c.profile = newProfileAcc(gauges)
 	c.sbuf = make([][]float64, len(c.strains))
+	c.tempIdx = -1
+	for i, col := range cols {
+		if col.Kind == logfile.KindTemp {
+			c.tempIdx = i
+		}
+	}
+	in := l.cfg.Ingest
+	c.quality = newQuality(in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS, c.tempIdx)
 	return c
 }
 
@@ -83,11 +93,21 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 			c.pbuf = append(c.pbuf, v*c.load.ToMPa-seawater.StandardAtmosphereMPa)
 		}
 	}
+	if !c.quality.have && len(c.pbuf) > 0 && c.pbuf[0] > c.quality.surfTol {
+		// The record starts below the surface: the dive began from the
+		// surface all the same, so its first cycle starts at 0.
+		c.pressure.Add([]float64{0})
+	}
 	c.pressure.Add(c.pbuf)
 	c.tbuf = c.tbuf[:0]
 	for _, t := range timeNS {
 		c.tbuf = append(c.tbuf, float64(t-c.firstNS)/1e9)
 	}
+	var temp []float64
+	if c.tempIdx >= 0 {
+		temp = col(c.tempIdx)
+	}
+	c.quality.add(c.tbuf, c.pbuf, temp)
 	c.holds.Add(c.tbuf, c.pbuf)
 	for i := range c.strains {
 		c.sbuf[i] = col(c.strains[i].col)
@@ -100,6 +120,11 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 // the time at pressure; the decimated profile is in c.profile.
 func (c *diveCounter) finish() ([]series, []assess.Hold) {
 	c.profile.finish()
+	if c.quality.endsCut() {
+		// The record ends below the surface: close the cycle to the
+		// surface so it is counted whole, not as a half.
+		c.pressure.Add([]float64{0})
+	}
 	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: c.pressure.Finish()}}
 	for _, sc := range c.strains {
 		ss = append(ss, series{name: "strain:" + sc.gauge, unit: "microstrain", gate: c.gateUE, cycles: sc.counter.Finish()})

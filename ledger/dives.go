@@ -37,6 +37,9 @@ type LogRequest struct {
 	// Progress, if set, is called after each stored block with the samples
 	// stored so far.
 	Progress func(samples int64)
+	// proof, when set, is the proof test these samples record: it is
+	// checked against them and stored in the same transaction.
+	proof *ProofTest
 }
 
 // Dive is a recorded dive's summary.
@@ -68,6 +71,21 @@ type Dive struct {
 	RecordedAt      time.Time `json:"recorded_at"`
 	// Corrections recorded on the dive (applied to Site and Operator).
 	Corrections []Correction `json:"corrections,omitempty"`
+	// Voided is true when a void record took the dive out of damage,
+	// evidence and status; Void is that record (dive show).
+	Voided bool  `json:"voided"`
+	Void   *Void `json:"void,omitempty"`
+	// ProofTest is true when the dive records a proof test: it is judged
+	// as one, never as a dive beyond the rated depth.
+	ProofTest bool `json:"proof_test"`
+	// Evidence is the dive's evidence in force (dive show and dive log).
+	Evidence *EvidenceView `json:"evidence,omitempty"`
+	// Rejudged lists the later dives whose evidence was judged again
+	// because this dive was logged late (dive log only).
+	Rejudged []uuid.UUID `json:"rejudged,omitempty"`
+	// Replaces names a void dive of another hull recorded from the same
+	// samples (dive log only).
+	Replaces *uuid.UUID `json:"replaces_void_dive,omitempty"`
 }
 
 // diveRow is the stored dive row, for canonical bytes.
@@ -90,6 +108,11 @@ type diveRow struct {
 	Beyond                      bool
 	AEHits                      int32
 	RecordedAt                  time.Time
+	// fingerprint is the SHA-256 of the normalised samples (not a dive
+	// column: stored in dive_fingerprints).
+	fingerprint []byte
+	// evidence is the dive's evidence as judged at logging.
+	evidence *Evidence
 }
 
 func (d *diveRow) canon() []byte {
@@ -169,7 +192,20 @@ func hitBytes(dst []byte, seq int32, h *logfile.Hit) []byte {
 	c.i64(h.Counts)
 	c.f64(h.DurationUS)
 	c.f64(h.RiseUS)
+	if e := hitEvent(h); e != logfile.EventHit {
+		// A sensor check; hits keep the bytes they had before checks
+		// were recorded.
+		c.str(string(e))
+	}
 	return c.b
+}
+
+// hitEvent is a hit's event, "hit" when the file had no event column.
+func hitEvent(h *logfile.Hit) logfile.Event {
+	if h.Event == "" {
+		return logfile.EventHit
+	}
+	return h.Event
 }
 
 // InputError wraps a problem with the user's input (as opposed to the
@@ -214,15 +250,20 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if d, err := l.existingDive(ctx, l.pool, h, sha, aeSHA); d != nil || err != nil {
 		return d, err
 	}
+	replaces, err := l.elsewhere(ctx, l.pool, h, "source_sha256", sha, "samples file")
+	if err != nil {
+		return nil, err
+	}
 
 	tx, err := l.pool.Begin(ctx)
 	if err != nil {
 		return nil, fmt.Errorf("logging dive: %w", err)
 	}
 	defer tx.Rollback(ctx)
-	// Two processes logging the same file: the second waits here, then
-	// finds the first one's dive.
-	if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock($1, hashtext($2))", lockDive, h.ID.String()+fmt.Sprintf("%x", sha)); err != nil {
+	// One hull, one dive at a time: a second process logging the same file
+	// (or another dive of the hull) waits here, then finds the first one's
+	// dive.
+	if err := lockHullDives(ctx, tx, h); err != nil {
 		return nil, fmt.Errorf("logging dive: %w", err)
 	}
 	if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
@@ -233,6 +274,26 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err != nil {
 		return nil, err
 	}
+	if err := l.checkPlace(ctx, tx, h, row); err != nil {
+		return nil, err
+	}
+	if row.fingerprint != nil {
+		d, err := l.sameSamples(ctx, tx, h, row.fingerprint)
+		if d != nil || err != nil {
+			return d, err
+		}
+		r2, err := l.elsewhere(ctx, tx, h, "fingerprint", row.fingerprint, "samples (under another file name)")
+		if err != nil {
+			return nil, err
+		}
+		if replaces == nil {
+			replaces = r2
+		}
+		if _, err := tx.Exec(ctx, "INSERT INTO dive_fingerprints (dive_id, hull_id, fingerprint) VALUES ($1,$2,$3)", row.ID, h.ID, row.fingerprint); err != nil {
+			return nil, fmt.Errorf("logging dive: storing the samples' fingerprint: %w", err)
+		}
+		recs = append(recs, chainRec{"dive_fingerprint", row.ID.String(), fingerprintCanon(row.ID, row.fingerprint)})
+	}
 	tag, err := tx.Exec(ctx, "INSERT INTO dives ("+diveColumns+") VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25) ON CONFLICT (hull_id, source_sha256) DO NOTHING", row.values()...)
 	if err != nil {
 		return nil, fmt.Errorf("logging dive: storing the dive row: %w", err)
@@ -242,13 +303,130 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		return l.existingDive(ctx, l.pool, h, sha, aeSHA)
 	}
 	recs = append([]chainRec{{"dive", row.ID.String(), row.canon()}}, recs...)
+	if p := req.proof; p != nil {
+		p.DiveID = &row.ID
+		if p.At.IsZero() {
+			p.At = row.Start
+		}
+		if p.PressureMPa == 0 {
+			p.PressureMPa = row.MaxPres
+		}
+		p.Baseline = map[string]float64{}
+		if row.evidence != nil {
+			for _, s := range row.evidence.Strain {
+				if s.ComplianceUEPerMPa != nil {
+					p.Baseline[s.Gauge] = *s.ComplianceUEPerMPa
+				}
+			}
+		}
+		precs, err := l.insertProof(ctx, tx, h, p, row)
+		if err != nil {
+			return nil, err
+		}
+		recs = append(recs, precs...)
+	}
+	// A dive logged late for an earlier day: judge every later dive again.
+	rejudged, rrecs, err := l.rejudge(ctx, tx, h, row.Start, fmt.Sprintf("dive %s logged late (started %s)", row.ID, row.Start.Format(time.RFC3339)))
+	if err != nil {
+		return nil, err
+	}
+	recs = append(recs, rrecs...)
 	if _, err := appendChain(ctx, tx, h.ID, recs, row.RecordedAt); err != nil {
 		return nil, err
 	}
 	if err := tx.Commit(ctx); err != nil {
 		return nil, fmt.Errorf("logging dive: commit: %w", err)
 	}
-	return diveFromRow(row, h.Serial, h.Spec.RatedDepthM, false), nil
+	d := diveFromRow(row, h.Serial, h.Spec.RatedDepthM, false)
+	d.Rejudged, d.Replaces = rejudged, replaces
+	d.Evidence, d.ProofTest = row.evidence.View(), req.proof != nil
+	d.BeyondRated = d.BeyondRated && !d.ProofTest
+	return d, nil
+}
+
+// checkPlace refuses a dive dated ahead of the clock, or overlapping a
+// dive of the same hull that is already recorded (and not void).
+func (l *Ledger) checkPlace(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRow) error {
+	tol := time.Duration(l.cfg.Ingest.ClockToleranceS * float64(time.Second))
+	if limit := now().Add(tol); row.End.After(limit) {
+		return inputErr(fmt.Errorf("the dive is dated ahead of the clock: it ends %s, later than now plus the clock tolerance of %s (%s); check the logger's clock", row.End.Format(time.RFC3339), tol, limit.Format(time.RFC3339)))
+	}
+	var id uuid.UUID
+	var name string
+	var s, e time.Time
+	err := tx.QueryRow(ctx, `SELECT d.id, d.source_name, d.start_time, d.end_time FROM dives d WHERE d.hull_id = $1 AND d.start_time <= $3 AND d.end_time >= $2 AND `+notVoided+`
+		ORDER BY d.start_time LIMIT 1`, h.ID, row.Start, row.End).Scan(&id, &name, &s, &e)
+	if err == pgx.ErrNoRows {
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("logging dive: looking for overlapping dives: %w", err)
+	}
+	return inputErr(fmt.Errorf("hull %s cannot make two dives at once: this record (%s to %s) overlaps dive %s from %s (%s to %s); nothing was stored",
+		h.Serial, row.Start.Format(time.RFC3339), row.End.Format(time.RFC3339), id, name, s.Format(time.RFC3339), e.Format(time.RFC3339)))
+}
+
+// sameSamples finds a dive of the hull recorded from the same normalised
+// samples under another file: the same dive.
+func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp []byte) (*Dive, error) {
+	var r diveRow
+	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+" FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 AND "+notVoided+" LIMIT 1", h.ID, fp).Scan(r.scanArgs()...)
+	if err == pgx.ErrNoRows {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("looking for the same samples under another file: %w", err)
+	}
+	return diveFromRow(&r, h.Serial, h.Spec.RatedDepthM, true), nil
+}
+
+// elsewhere refuses samples already recorded for another hull (by the
+// file's SHA-256 or the samples' fingerprint) unless that dive is void;
+// it returns the void dive the new one replaces, if any.
+func (l *Ledger) elsewhere(ctx context.Context, q querier, h *Hull, column string, sum []byte, what string) (*uuid.UUID, error) {
+	var sql string
+	if column == "fingerprint" {
+		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.dive_id = d.id) FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id JOIN hulls hs ON hs.id = d.hull_id
+			WHERE f.fingerprint = $2 AND d.hull_id <> $1 ORDER BY 3, d.recorded_at`
+	} else {
+		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.dive_id = d.id) FROM dives d JOIN hulls hs ON hs.id = d.hull_id
+			WHERE d.source_sha256 = $2 AND d.hull_id <> $1 ORDER BY 3, d.recorded_at`
+	}
+	rows, err := q.Query(ctx, sql, h.ID, sum)
+	if err != nil {
+		return nil, fmt.Errorf("looking for the same %s on other hulls: %w", what, err)
+	}
+	type other struct {
+		id     uuid.UUID
+		serial string
+		void   bool
+	}
+	os, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (other, error) {
+		var o other
+		err := r.Scan(&o.id, &o.serial, &o.void)
+		return o, err
+	})
+	if err != nil {
+		return nil, fmt.Errorf("looking for the same %s on other hulls: %w", what, err)
+	}
+	var replaces *uuid.UUID
+	for _, o := range os {
+		if !o.void {
+			return nil, inputErr(fmt.Errorf("the same %s is already recorded as dive %s of hull %s; a dive belongs to one hull — if it was logged to the wrong hull, void it first (hulltally dive void %s --reason ...), then log it here", what, o.id, o.serial, o.id))
+		}
+		id := o.id
+		replaces = &id
+	}
+	return replaces, nil
+}
+
+// prefixed puts a table alias before every column of a column list.
+func prefixed(alias, cols string) string {
+	parts := strings.Split(cols, ",")
+	for i, p := range parts {
+		parts[i] = alias + strings.TrimSpace(p)
+	}
+	return strings.Join(parts, ", ")
 }
 
 func (l *Ledger) existingDive(ctx context.Context, q querier, h *Hull, sha, aeSHA []byte) (*Dive, error) {
@@ -456,10 +634,17 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		row.AEName, row.AESHA, row.AEHits = filepath.Base(req.AE), aeSHA, n
 		recs = append(recs, chainRec{"ae_hits", row.ID.String(), hitsCanon(row.ID, n, digest)})
 	}
-	ev, err := l.diveEvidence(ctx, tx, h, row.Start, src.counter.profile, hitsForEvidence(hits, src.firstNS), req.AE != "", hdr.Gauges)
+	q := src.counter.quality
+	in := evidenceInput{dive: row.ID, start: row.Start, prof: src.counter.profile, hadAE: req.AE != "", gauges: hdr.Gauges, quality: q.findings()}
+	in.hits, in.checks = hitsForEvidence(hits, src.firstNS)
+	if b, a, ok := q.surfaceTemps(); ok {
+		in.tempBefore, in.tempAfter = &b, &a
+	}
+	ev, err := l.diveEvidence(ctx, tx, h, in)
 	if err != nil {
 		return nil, nil, err
 	}
+	row.evidence = ev
 	erec, err := storeEvidence(ctx, tx, row.ID, h.ID, ev)
 	if err != nil {
 		return nil, nil, err
@@ -578,7 +763,7 @@ func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 	}
 	chans := h.Spec.AEChannels()
 	src := &hitSource{hr: hr, row: row, chans: chans, first: firstNS, last: lastNS, digest: sha256.New(), serial: h.Serial}
-	_, err = tx.CopyFrom(ctx, pgx.Identifier{"ae_hits"}, []string{"dive_id", "hull_id", "seq", "t_ns", "channel", "amplitude_db", "energy", "counts", "duration_us", "rise_us"}, src)
+	_, err = tx.CopyFrom(ctx, pgx.Identifier{"ae_hits"}, []string{"dive_id", "hull_id", "seq", "t_ns", "channel", "amplitude_db", "energy", "counts", "duration_us", "rise_us", "event"}, src)
 	if src.perr != nil {
 		return 0, nil, nil, inputErr(src.perr)
 	}
@@ -632,7 +817,7 @@ func (s *hitSource) Next() bool {
 
 func (s *hitSource) Values() ([]any, error) {
 	h := &s.hit
-	return []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS}, nil
+	return []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS, string(hitEvent(h))}, nil
 }
 
 func (s *hitSource) Err() error { return s.perr }
@@ -679,7 +864,7 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	if err != nil {
 		return nil, err
 	}
-	rows, err := l.pool.Query(ctx, "SELECT "+diveColumns+" FROM dives WHERE hull_id = $1 ORDER BY start_time, id", h.ID)
+	rows, err := l.pool.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+", EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}
@@ -687,10 +872,14 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	var out []Dive
 	for rows.Next() {
 		var r diveRow
-		if err := rows.Scan(r.scanArgs()...); err != nil {
+		var void, proof bool
+		if err := rows.Scan(append(r.scanArgs(), &void, &proof)...); err != nil {
 			return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 		}
-		out = append(out, *diveFromRow(&r, serial, h.Spec.RatedDepthM, false))
+		d := diveFromRow(&r, serial, h.Spec.RatedDepthM, false)
+		d.Voided, d.ProofTest = void, proof
+		d.BeyondRated = d.BeyondRated && !proof
+		out = append(out, *d)
 	}
 	return out, rows.Err()
 }
@@ -702,6 +891,9 @@ var ErrUnknownDive = errors.New("unknown dive")
 // of the id is enough).
 func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 	id = strings.ToLower(strings.TrimSpace(id))
+	if strings.Trim(id, "0123456789abcdef-") != "" || len(id) > 36 {
+		return nil, inputErr(fmt.Errorf("%w: %q is not a dive id (hexadecimal digits and dashes)", ErrUnknownDive, id))
+	}
 	if len(id) < 8 {
 		return nil, inputErr(fmt.Errorf("%w: %q: give the dive id or at least its first 8 characters", ErrUnknownDive, id))
 	}
@@ -737,6 +929,19 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 	if err := l.applyCorrections(ctx, d); err != nil {
 		return nil, err
 	}
+	if d.Void, err = l.VoidOf(ctx, d.ID); err != nil {
+		return nil, err
+	}
+	d.Voided = d.Void != nil
+	if err := l.pool.QueryRow(ctx, "SELECT EXISTS (SELECT 1 FROM proof_tests WHERE dive_id = $1)", d.ID).Scan(&d.ProofTest); err != nil {
+		return nil, err
+	}
+	d.BeyondRated = d.BeyondRated && !d.ProofTest
+	ev, err := l.EvidenceOf(ctx, d.ID)
+	if err != nil {
+		return nil, err
+	}
+	d.Evidence = ev.View()
 	return d, nil
 }
 

@@ -94,9 +94,12 @@ func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note boo
 	return f, nil
 }
 
-// hullFacts gathers what the rules need from the ledger.
+// hullFacts gathers what the rules need from the ledger. Void dives are
+// left out; each dive's evidence is the one in force (its newest
+// revision); every dive and record carries when the ledger learned of it.
 func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Maintenance, now time.Time) (fitness.HullFacts, error) {
-	f := fitness.HullFacts{Hull: h.Serial, Now: now, RatedDepthM: h.Spec.RatedDepthM, GoverningComponent: dmg.Governing, DiveCount: dmg.DiveCount}
+	f := fitness.HullFacts{Hull: h.Serial, Now: now, RatedDepthM: h.Spec.RatedDepthM, GoverningComponent: dmg.Governing, DiveCount: dmg.DiveCount,
+		CollapsePressureMPa: h.Spec.CollapsePressureMPa, QualifiedCycles: h.Spec.QualifiedPressureCycles}
 	if dmg.RemainingStatus != "incomplete" {
 		r := float64(dmg.GoverningRatio)
 		f.DamageRatio = &r
@@ -106,14 +109,15 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		if p.DiveID != nil {
 			proofDives[*p.DiveID] = true
 		}
+		f.MaxPressureMPa = math.Max(f.MaxPressureMPa, p.PressureMPa)
 	}
-	rows, err := l.pool.Query(ctx, `SELECT d.id, d.start_time, d.max_depth_m, coalesce(e.evidence_json, '') FROM dives d
-		LEFT JOIN dive_evidence e ON e.dive_id = d.id WHERE d.hull_id = $1 ORDER BY d.start_time, d.id`, h.ID)
+	rows, err := l.pool.Query(ctx, `SELECT d.id, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa, `+effectiveEvidence+` FROM dives d
+		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time, d.id`, h.ID)
 	if err != nil {
 		return f, fmt.Errorf("facts of %s: %w", h.Serial, err)
 	}
 	defer rows.Close()
-	var starts []time.Time
+	var recorded []time.Time
 	var gauges, channels []string
 	gauges = h.Spec.StrainGauges()
 	for _, c := range h.Spec.AEChannels() {
@@ -123,16 +127,14 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		var id uuid.UUID
 		var d fitness.DiveFacts
 		var js string
-		if err := rows.Scan(&id, &d.Start, &d.MaxDepthM, &js); err != nil {
+		if err := rows.Scan(&id, &d.Start, &d.RecordedAt, &d.MaxDepthM, &d.PeakMPa, &js); err != nil {
 			return f, err
 		}
-		starts = append(starts, d.Start)
+		recorded = append(recorded, d.RecordedAt)
+		f.MaxPressureMPa = math.Max(f.MaxPressureMPa, d.PeakMPa)
 		d.ID, d.Gauges, d.Channels = id.String(), gauges, channels
-		if proofDives[id] {
-			// A proof test goes beyond the rated depth on purpose; its
-			// evidence still counts.
-			d.RatedDepthM = math.Max(h.Spec.RatedDepthM, d.MaxDepthM)
-		}
+		d.SpecProofMPa, d.CollapseMPa = h.Spec.ProofPressureMPa, h.Spec.CollapsePressureMPa
+		d.ProofTest = proofDives[id]
 		if js == "" {
 			// Logged before evidence was kept: nothing is present, which
 			// the missing-evidence rule reports.
@@ -143,56 +145,93 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		if err := json.Unmarshal([]byte(js), &ev); err != nil {
 			return f, fmt.Errorf("dive %s: evidence: %w", id, err)
 		}
-		for _, s := range ev.Strain {
-			if s.ComplianceUEPerMPa != nil || s.ResidualUE != nil {
-				d.GaugesPresent = append(d.GaugesPresent, s.Gauge)
-			}
-			if s.ComplianceChange != nil {
-				if d.ComplianceChange == nil {
-					d.ComplianceChange = map[string]float64{}
-				}
-				d.ComplianceChange[s.Gauge] = *s.ComplianceChange
-			}
-			if s.ResidualUE != nil {
-				if d.ResidualStrain == nil {
-					d.ResidualStrain = map[string]float64{}
-				}
-				d.ResidualStrain[s.Gauge] = *s.ResidualUE
-			}
-		}
-		if ae := ev.AE; ae != nil {
-			d.ChannelsPresent = channels
-			switch {
-			case ae.FelicityRatio != nil:
-				d.FelicityRatio = ae.FelicityRatio
-			case ae.FelicityEval || ev.PreviousMaxMPa > 0:
-				// No significant emission up to the previous peak (or the
-				// dive stayed below it without any): Kaiser behaviour, no
-				// evidence of damage.
-				one := 1.0
-				d.FelicityRatio = &one
-			}
-			decays := ae.HoldDecays
-			d.HoldDecays = &decays
-		}
-		if !ev.Evaluated {
-			d.NoHoldPeriod = true
-		}
+		diveFacts(&d, &ev)
 		f.Dives = append(f.Dives, d)
 	}
 	if err := rows.Err(); err != nil {
 		return f, err
 	}
+	f.CyclesUsed = float64(len(f.Dives))
+	sort.Slice(recorded, func(i, j int) bool { return recorded[i].Before(recorded[j]) })
+	// A record's dive count is by recording order: the dives the ledger
+	// knew of when the record was made.
 	count := func(at time.Time) int {
-		return sort.Search(len(starts), func(i int) bool { return !starts[i].Before(at) })
+		return sort.Search(len(recorded), func(i int) bool { return recorded[i].After(at) })
 	}
 	for _, in := range m.Inspections {
-		f.Inspections = append(f.Inspections, fitness.Inspection{At: in.At, Method: in.Method, Result: fitness.Result(in.Result), Findings: in.Findings, Actor: in.Actor, DiveCount: count(in.At)})
+		f.Inspections = append(f.Inspections, fitness.Inspection{At: in.At, RecordedAt: in.RecordedAt, Method: in.Method, Result: fitness.Result(in.Result), Findings: in.Findings, Actor: in.Actor, DiveCount: count(in.RecordedAt)})
 	}
 	for _, p := range m.ProofTests {
-		f.ProofTests = append(f.ProofTests, fitness.ProofTest{At: p.At, PressureMPa: p.PressureMPa, Result: fitness.Result(p.Result), Actor: p.Actor, DiveCount: count(p.At)})
+		f.ProofTests = append(f.ProofTests, fitness.ProofTest{At: p.At, RecordedAt: p.RecordedAt, PressureMPa: p.PressureMPa, Result: fitness.Result(p.Result), Actor: p.Actor, DiveCount: count(p.RecordedAt)})
 	}
 	return f, nil
+}
+
+// diveFacts fills a dive's facts from its evidence.
+func diveFacts(d *fitness.DiveFacts, ev *Evidence) {
+	for _, s := range ev.Strain {
+		if s.ComplianceUEPerMPa != nil || s.ResidualUE != nil || s.ResidualNotComparable != "" {
+			d.GaugesPresent = append(d.GaugesPresent, s.Gauge)
+		}
+		if s.ComplianceChange != nil {
+			setF(&d.ComplianceChange, s.Gauge, *s.ComplianceChange)
+		}
+		if s.ResidualUE != nil {
+			setF(&d.ResidualStrain, s.Gauge, *s.ResidualUE)
+		}
+		if s.ResidualNotComparable != "" {
+			if d.ResidualNotComparable == nil {
+				d.ResidualNotComparable = map[string]string{}
+			}
+			d.ResidualNotComparable[s.Gauge] = s.ResidualNotComparable
+		}
+		if s.CreepUE != nil {
+			setF(&d.Creep, s.Gauge, *s.CreepUE)
+		}
+		if s.Hysteresis != nil {
+			setF(&d.Hysteresis, s.Gauge, *s.Hysteresis)
+		}
+	}
+	if len(ev.GaugeProblems) > 0 {
+		d.GaugeProblems = map[string]string{}
+		for g, why := range ev.GaugeProblems {
+			d.GaugeProblems[g] = why
+		}
+	}
+	if ev.DataQuality != nil {
+		d.DataQualityChecked = true
+		for _, q := range ev.DataQuality {
+			d.DataQuality = append(d.DataQuality, fitness.Finding{Code: q.Code, Detail: q.Detail})
+		}
+	}
+	if ae := ev.AE; ae != nil {
+		d.FelicityRatio, d.FelicityLowerBound, d.FelicityReason = ae.FelicityRatio, ae.FelicityLowerBound, ae.FelicityReason
+		decays, sig, after := ae.HoldDecays, ae.HoldSignificant, ae.HoldHitsAfterSettle
+		d.HoldDecays, d.HoldEmissionSignificant = &decays, &sig
+		if ae.HoldAbsoluteJudged {
+			d.HoldHitsAfterSettle = &after
+		}
+		d.ChannelFacts = map[string]fitness.ChannelFacts{}
+		for _, c := range ev.Channels {
+			name := strconv.Itoa(c.Channel)
+			d.ChannelFacts[name] = fitness.ChannelFacts{Present: c.Present, Checked: c.Checked, HistoricIndex: c.HistoricIndex,
+				HistoricIndexTooFewHits: c.HistoricIndexTooFew, Severity: c.Severity, SeverityTooFewHits: c.SeverityTooFew,
+				HighAmplitudeHits: c.HighAmplitudeHits, TotalCounts: c.TotalCounts, Reason: c.Notes}
+			if c.Present {
+				d.ChannelsPresent = append(d.ChannelsPresent, name)
+			}
+		}
+	}
+	if !ev.Evaluated {
+		d.NoHoldPeriod = true
+	}
+}
+
+func setF(m *map[string]float64, k string, v float64) {
+	if *m == nil {
+		*m = map[string]float64{}
+	}
+	(*m)[k] = v
 }
 
 // noteStatus appends the status to the hull's history when it changed.
@@ -297,7 +336,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 	}
 	rows, err := l.pool.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
 		FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.dive_id = d.id
-		WHERE d.hull_id = $1 ORDER BY d.start_time DESC LIMIT 10`, h.ID)
+		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {
 		return 0, "", err
 	}

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"math"
 	"sort"
 	"strings"
 	"time"
@@ -173,13 +174,45 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 	return &in, nil
 }
 
-// RecordProofTest records a proof test (its samples, if any, are logged
-// first as a dive of the hull by the caller and named by DiveID).
+// RecordProofTest records a proof test without samples (a test with
+// samples goes through ProofTestWithSamples). A passing test below the
+// spec's proof pressure, less the configured tolerance, is refused.
 func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest) (*ProofTest, error) {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return nil, inputErr(err)
+	}
+	bj := canonicalJSON(p.Baseline)
+	err = pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
+		if err := lockHullDives(ctx, tx, h); err != nil {
+			return err
+		}
+		recs, err := l.insertProof(ctx, tx, h, &p, nil)
+		if err != nil {
+			return err
+		}
+		_, err = appendChain(ctx, tx, h.ID, recs, p.RecordedAt)
+		return err
+	})
+	if err != nil {
+		return nil, err
+	}
+	p.Baseline = map[string]float64{}
+	_ = json.Unmarshal([]byte(bj), &p.Baseline)
+	return &p, nil
+}
+
+// insertProof checks a proof test against the hull's spec and, when it
+// has samples, against the samples' own peak (row), then stores it in tx
+// and judges again the dives after it (its pressure is part of their
+// reference). It returns the chain records to append.
+func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTest, row *diveRow) ([]chainRec, error) {
 	var errs []string
 	p.ID, p.RecordedAt, errs = stamp(&p.At)
-	if !(p.PressureMPa > 0) {
-		errs = append(errs, fmt.Sprintf("the test pressure must be positive, got %v MPa", p.PressureMPa))
+	tol := l.cfg.Proof.Tolerance
+	spec := h.Spec.ProofPressureMPa
+	if !(p.PressureMPa > 0) || math.IsInf(p.PressureMPa, 0) {
+		errs = append(errs, fmt.Sprintf("the test pressure must be a positive number, got %v MPa", p.PressureMPa))
 	}
 	if strings.TrimSpace(p.Actor) == "" {
 		errs = append(errs, "the name of who ran the test is required")
@@ -187,19 +220,31 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 	if err := checkResult(p.Result); err != nil {
 		errs = append(errs, err.Error())
 	}
+	if p.Result == "pass" && p.PressureMPa < spec*(1-tol) {
+		errs = append(errs, fmt.Sprintf("a passing proof test at %.4g MPa is below the spec's proof pressure %.4g MPa less the tolerance of %.3g %% (%.4g MPa): it cannot pass as a proof test; record it as failed, or test to the proof pressure",
+			p.PressureMPa, spec, 100*tol, spec*(1-tol)))
+	}
+	if row != nil && math.Abs(p.PressureMPa-row.MaxPres) > tol*math.Max(p.PressureMPa, row.MaxPres) {
+		errs = append(errs, fmt.Sprintf("the recorded test pressure %.4g MPa does not agree with the peak of its samples, %.4g MPa, within the tolerance of %.3g %%: the record contradicts its own data",
+			p.PressureMPa, row.MaxPres, 100*tol))
+	}
 	if len(errs) > 0 {
-		return nil, inputErr(fmt.Errorf("proof test of %s: %s", serial, strings.Join(errs, "; ")))
+		return nil, inputErr(fmt.Errorf("proof test of %s: %s", h.Serial, strings.Join(errs, "; ")))
+	}
+	if p.Baseline == nil {
+		p.Baseline = map[string]float64{}
 	}
 	bj := canonicalJSON(p.Baseline)
-	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
-		_, err := tx.Exec(ctx, `INSERT INTO proof_tests (id, hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at)
-			VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10)`, p.ID, h.ID, p.At, p.PressureMPa, p.Result, p.Notes, p.Actor, p.DiveID, bj, p.RecordedAt)
-		return chainRec{"proof_test", p.ID.String(), proofCanon(h.ID, &p, bj)}, err
-	})
+	if _, err := tx.Exec(ctx, `INSERT INTO proof_tests (id, hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at)
+		VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10)`, p.ID, h.ID, p.At, p.PressureMPa, p.Result, p.Notes, p.Actor, p.DiveID, bj, p.RecordedAt); err != nil {
+		return nil, fmt.Errorf("proof test of %s: %w", h.Serial, err)
+	}
+	recs := []chainRec{{"proof_test", p.ID.String(), proofCanon(h.ID, p, bj)}}
+	_, rrecs, err := l.rejudge(ctx, tx, h, p.At, fmt.Sprintf("proof test of %s at %.4g MPa recorded", p.At.Format(time.RFC3339), p.PressureMPa))
 	if err != nil {
 		return nil, err
 	}
-	return &p, nil
+	return append(recs, rrecs...), nil
 }
 
 // RecordDecision records a decision to return a hull to service or to
@@ -288,25 +333,29 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 }
 
 // ProofTestWithSamples records a proof test; when req names a samples
-// file, the file is first logged as a dive of the hull (so that its load
-// counts towards damage, and its peak becomes the Felicity reference) and
-// the strain compliance measured on it becomes the new baseline.
+// file, the file is logged as a dive of the hull in the same transaction
+// as the proof record (so that its load counts towards damage, its peak
+// becomes part of the Felicity reference, and the strain compliance
+// measured on it becomes the new baseline), after the record is checked
+// against its samples: all of it is stored, or nothing.
 func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p ProofTest, req LogRequest) (*ProofTest, error) {
-	if req.Samples != "" {
-		d, err := l.LogDive(ctx, req)
-		if err != nil {
-			return nil, err
-		}
-		p.DiveID = &d.ID
-		if p.At.IsZero() {
-			p.At = d.Start
-		}
-		if p.PressureMPa == 0 {
-			p.PressureMPa = d.MaxPressureMPa
-		}
-		if p.Baseline, err = l.complianceOf(ctx, d.ID); err != nil {
-			return nil, err
-		}
+	if req.Samples == "" {
+		return l.RecordProofTest(ctx, serial, p)
 	}
-	return l.RecordProofTest(ctx, serial, p)
+	req.proof = &p
+	d, err := l.LogDive(ctx, req)
+	if err != nil {
+		return nil, err
+	}
+	if d.Duplicate {
+		var n int
+		if err := l.pool.QueryRow(ctx, "SELECT count(*) FROM proof_tests WHERE dive_id = $1", d.ID).Scan(&n); err != nil {
+			return nil, err
+		}
+		if n > 0 {
+			return nil, inputErr(fmt.Errorf("these samples are already recorded as the proof test of dive %s; nothing was added", d.ID))
+		}
+		return nil, inputErr(fmt.Errorf("these samples are already recorded as dive %s, not as a proof test; a dive is not turned into a proof test afterwards", d.ID))
+	}
+	return &p, nil
 }

@@ -167,6 +167,9 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		{"correction", "SELECT count(*) FROM corrections WHERE hull_id = $1"},
 		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
 		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
+		{"evidence_revision", "SELECT count(*) FROM evidence_revisions WHERE hull_id = $1"},
+		{"dive_void", "SELECT count(*) FROM dive_voids WHERE hull_id = $1"},
+		{"dive_fingerprint", "SELECT count(*) FROM dive_fingerprints WHERE hull_id = $1"},
 	}
 	for _, c := range checks {
 		var n int64
@@ -255,7 +258,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		rows, err := l.pool.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
+		rows, err := l.pool.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
 		if err != nil {
 			return nil, 0, "", err
 		}
@@ -266,10 +269,11 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		for rows.Next() {
 			var seq, ch int32
 			var h logfile.Hit
-			if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS); err != nil {
+			var ev string
+			if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS, &ev); err != nil {
 				return nil, 0, "", err
 			}
-			h.Channel = int(ch)
+			h.Channel, h.Event = int(ch), logfile.Event(ev)
 			buf = hitBytes(buf[:0], seq, &h)
 			digest.Write(buf)
 			n++
@@ -475,6 +479,50 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		n := int64(len(cols))
 		return assessmentCanon(a, cols), n, "", nil
+	case "evidence_revision":
+		id, seq, ok := splitKey(key)
+		if !ok {
+			return nil, 0, "bad record key", nil
+		}
+		var js, reason, cause string
+		var at time.Time
+		err := l.pool.QueryRow(ctx, "SELECT evidence_json, reason, cause, recorded_at FROM evidence_revisions WHERE dive_id = $1 AND seq = $2", id, seq).Scan(&js, &reason, &cause, &at)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "evidence revision is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return revisionCanon(id, seq, js, reason, cause, at), 0, "", nil
+	case "dive_void":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		v := &Void{ID: id}
+		var hull uuid.UUID
+		err = l.pool.QueryRow(ctx, "SELECT hull_id, dive_id, reason, actor, recorded_at FROM dive_voids WHERE id = $1", id).Scan(&hull, &v.Dive, &v.Reason, &v.Actor, &v.RecordedAt)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "void record is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return voidCanon(hull, v), 0, "", nil
+	case "dive_fingerprint":
+		id, err := uuid.Parse(key)
+		if err != nil {
+			return nil, 0, "bad record key", nil
+		}
+		var fp []byte
+		err = l.pool.QueryRow(ctx, "SELECT fingerprint FROM dive_fingerprints WHERE dive_id = $1", id).Scan(&fp)
+		if err == pgx.ErrNoRows {
+			return nil, 0, "samples fingerprint is missing", nil
+		}
+		if err != nil {
+			return nil, 0, "", err
+		}
+		return fingerprintCanon(id, fp), 0, "", nil
 	}
 	return nil, 0, fmt.Sprintf("unknown record kind %q", kind), nil
 }

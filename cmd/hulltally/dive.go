@@ -8,6 +8,7 @@ import (
 	"text/tabwriter"
 	"time"
 
+	"github.com/google/uuid"
 	"github.com/spf13/cobra"
 
 	"hulltally/ledger"
@@ -38,22 +39,46 @@ func (a *app) diveCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
+			h, err := l.Hull(cmd.Context(), req.Hull)
+			if err != nil {
+				return &ledger.InputError{Err: err}
+			}
+			before, err := l.FitnessAt(cmd.Context(), h, time.Now().UTC())
+			if err != nil {
+				return err
+			}
 			d, err := l.LogDive(cmd.Context(), req)
 			if err != nil {
 				return err
 			}
-			if a.asJSON {
-				return a.printJSON(d)
-			}
 			if d.Duplicate {
+				if a.asJSON {
+					return a.printJSON(d)
+				}
 				a.printf("already recorded: dive %s of hull %s (recorded %s); nothing added\n", d.ID, d.Hull, d.RecordedAt.Format(time.RFC3339))
 				return nil
 			}
-			a.printDive(d)
+			after, err := l.FitnessOf(cmd.Context(), h, time.Now().UTC())
+			if err != nil {
+				return err
+			}
 			load, err := l.LoadOf(cmd.Context(), d.ID)
 			if err != nil {
 				return err
 			}
+			if a.asJSON {
+				return a.printJSON(struct {
+					*ledger.Dive
+					*ledger.DiveLoad
+					StatusBefore string          `json:"status_before"`
+					StatusAfter  string          `json:"status_after"`
+					Reasons      []ledger.Reason `json:"status_reasons"`
+					Caution      string          `json:"caution"`
+				}{d, load, before.Status, after.Status, after.Reasons, cautionText()})
+			}
+			a.printDive(d)
+			a.printEvidence(d.Evidence)
+			a.printStatusChange(before, after)
 			a.printDiveLoad(load)
 			return nil
 		},
@@ -94,10 +119,17 @@ func (a *app) diveCmd() *cobra.Command {
 			w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
 			fmt.Fprintln(w, "DIVE\tSTART (UTC)\tHOURS\tDEEPEST m\tMAX MPa\tSAMPLES\tAE HITS\tNOTE")
 			for _, d := range ds {
-				note := ""
-				if d.BeyondRated {
-					note = "BEYOND RATED DEPTH"
+				var notes []string
+				if d.ProofTest {
+					notes = append(notes, "proof test")
 				}
+				if d.BeyondRated {
+					notes = append(notes, "BEYOND RATED DEPTH")
+				}
+				if d.Voided {
+					notes = append(notes, "VOID")
+				}
+				note := strings.Join(notes, ", ")
 				fmt.Fprintf(w, "%s\t%s\t%.2f\t%.1f\t%.3f\t%d\t%d\t%s\n", d.ID.String()[:8], d.Start.UTC().Format("2006-01-02 15:04"), d.DurationS/3600, d.MaxDepthM, d.MaxPressureMPa, d.Samples, d.AEHits, note)
 			}
 			w.Flush()
@@ -132,10 +164,44 @@ func (a *app) diveCmd() *cobra.Command {
 				}{d, load, cautionText()})
 			}
 			a.printDive(d)
+			a.printEvidence(d.Evidence)
 			a.printDiveLoad(load)
 			return nil
 		},
 	}
+	var voidReason, voidActor string
+	void := &cobra.Command{
+		Use:   "void ID --reason TEXT [--actor NAME]",
+		Short: "Take a dive out of damage, evidence and status from now on (logged to the wrong hull, say); the record stays",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if voidReason == "" {
+				return usageError{fmt.Errorf("--reason TEXT is required")}
+			}
+			if voidActor == "" {
+				voidActor = currentActor()
+			}
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			v, err := l.VoidDive(cmd.Context(), args[0], voidReason, voidActor)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(v)
+			}
+			a.printf("dive %s of hull %s is void from now on (%s, by %s); it no longer counts for damage, evidence or status\n", v.Dive, v.Hull, v.Reason, v.Actor)
+			if len(v.Rejudged) > 0 {
+				a.printf("judged again without it: %d later dive(s): %s\n", len(v.Rejudged), shortIDs(v.Rejudged))
+			}
+			return nil
+		},
+	}
+	void.Flags().StringVar(&voidReason, "reason", "", "why (required)")
+	void.Flags().StringVar(&voidActor, "actor", "", "who decides (default: the login name)")
 	var field, value, reason, actor string
 	correct := &cobra.Command{
 		Use:   "correct ID --field site|operator --value TEXT --reason TEXT [--actor NAME]",
@@ -166,7 +232,7 @@ func (a *app) diveCmd() *cobra.Command {
 	cf.StringVar(&value, "value", "", "the value it should have had")
 	cf.StringVar(&reason, "reason", "", "why (required)")
 	cf.StringVar(&actor, "actor", "", "who (default: the login name)")
-	dive.AddCommand(logc, list, show, correct)
+	dive.AddCommand(logc, list, show, correct, void)
 	return dive
 }
 
@@ -176,8 +242,20 @@ func (a *app) printDive(d *ledger.Dive) {
 	fmt.Fprintf(w, "hull\t%s (spec revision %d)\n", d.Hull, d.HullRevision)
 	fmt.Fprintf(w, "time\t%s to %s UTC (%.2f h)\n", d.Start.UTC().Format("2006-01-02 15:04:05"), d.End.UTC().Format("2006-01-02 15:04:05"), d.DurationS/3600)
 	fmt.Fprintf(w, "deepest\t%.1f m, %.3f MPa gauge (rated depth %.0f m)\n", d.MaxDepthM, d.MaxPressureMPa, d.RatedDepthM)
+	if d.ProofTest {
+		fmt.Fprintf(w, "proof test\tthese samples record a proof test of the hull\n")
+	}
 	if d.BeyondRated {
 		fmt.Fprintf(w, "WARNING\tthis dive went beyond the hull's rated depth: it is recorded and flagged\n")
+	}
+	if d.Void != nil {
+		fmt.Fprintf(w, "VOID\tsince %s, by %s: %s (kept in the ledger; not counted for damage, evidence or status)\n", d.Void.RecordedAt.Format(time.RFC3339), d.Void.Actor, d.Void.Reason)
+	}
+	if d.Replaces != nil {
+		fmt.Fprintf(w, "replaces\tvoid dive %s (the same samples, logged to another hull)\n", d.Replaces)
+	}
+	if len(d.Rejudged) > 0 {
+		fmt.Fprintf(w, "logged late\tthe evidence of %d later dive(s) was judged again: %s\n", len(d.Rejudged), shortIDs(d.Rejudged))
 	}
 	latNote := ""
 	if d.LatitudeAssumed {
@@ -245,4 +323,136 @@ func (a *app) fillLog(req *ledger.LogRequest, lat, start string) error {
 		req.Start = &t
 	}
 	return nil
+}
+
+// shortIDs lists dive ids by their first 8 characters.
+func shortIDs(ids []uuid.UUID) string {
+	out := make([]string, len(ids))
+	for i, id := range ids {
+		out[i] = id.String()[:8]
+	}
+	return strings.Join(out, ", ")
+}
+
+func optNum(v *float64, format string) string {
+	if v == nil {
+		return "not evaluated"
+	}
+	return fmt.Sprintf(format, *v)
+}
+
+// printEvidence prints a dive's evidence of damage: Felicity with its
+// reference, onset, hold emission, per channel and per gauge figures and
+// the data-quality findings.
+func (a *app) printEvidence(e *ledger.EvidenceView) {
+	if e == nil {
+		a.printf("evidence: none recorded for this dive\n")
+		return
+	}
+	a.printf("evidence of damage:\n")
+	if !e.Evaluated {
+		a.printf("  not evaluated: %s\n", e.Reason)
+	}
+	a.printf("  reference pressure %.4g MPa (%s)\n", e.ReferencePressureMPa, e.ReferenceSource)
+	switch {
+	case e.FelicityRatio != nil:
+		a.printf("  Felicity ratio %.3f: %s\n", *e.FelicityRatio, e.FelicityReason)
+	case e.FelicityLowerBound != nil:
+		a.printf("  Felicity ratio not evaluated, at least %.3f: %s\n", *e.FelicityLowerBound, e.FelicityReason)
+	default:
+		a.printf("  Felicity ratio not evaluated: %s\n", e.FelicityReason)
+	}
+	if e.OnsetMPa != nil {
+		a.printf("  onset of significant emission at %.4g MPa (%s)\n", *e.OnsetMPa, e.OnsetCriterion)
+	}
+	if h := e.HoldEmission; h != nil {
+		verdict := "not significant"
+		if h.Significant {
+			verdict = "SIGNIFICANT"
+		}
+		a.printf("  hold emission: %s — %d hits, %d after settling; %s\n", verdict, h.Hits, h.HitsAfterSettle, h.Reason)
+	}
+	if e.MissingAE {
+		a.printf("  acoustic emission: MISSING (the hull has channels and no hits file was given)\n")
+	}
+	if len(e.Channels) > 0 {
+		w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+		fmt.Fprintln(w, "  CHANNEL\tSTATE\tHITS\tHIST. INDEX\tSEVERITY\tHIGH-AMPL.\tCOUNTS\tNOTE")
+		for _, c := range e.Channels {
+			state := "MISSING"
+			switch {
+			case c.Checked:
+				state = "checked"
+			case c.Present:
+				state = "hits"
+			}
+			fmt.Fprintf(w, "  %d\t%s\t%d\t%s\t%s\t%d\t%.0f\t%s\n", c.Channel, state, c.Hits, optNum(c.HistoricIndex, "%.3g"), optNum(c.Severity, "%.3g"),
+				c.HighAmplitudeHits, c.TotalCounts, terminalSafe(c.Notes))
+		}
+		w.Flush()
+	}
+	if len(e.Gauges) > 0 {
+		w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
+		fmt.Fprintln(w, "  GAUGE\tCOMPLIANCE µε/MPa\tCHANGE\tRESIDUAL µε\tHYSTERESIS\tCREEP µε\tNOTE")
+		for _, g := range e.Gauges {
+			change := "no baseline"
+			if g.ComplianceChange != nil {
+				change = fmt.Sprintf("%+.2f %%", 100**g.ComplianceChange)
+			}
+			residual := optNum(g.ResidualUE, "%.1f")
+			if g.ResidualNotComparable != "" {
+				residual = "not comparable"
+			}
+			note := e.GaugeProblems[g.Gauge]
+			fmt.Fprintf(w, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", g.Gauge, optNum(g.ComplianceUEPerMPa, "%.2f"), change, residual,
+				optNum(g.Hysteresis, "%.3f"), optNum(g.CreepUE, "%.1f"), terminalSafe(note))
+		}
+		w.Flush()
+	}
+	for _, g := range e.MissingGauges {
+		a.printf("  strain gauge %s: MISSING (no column in the file)\n", g)
+	}
+	if len(e.DataQuality) == 0 {
+		a.printf("  data quality: no findings\n")
+	}
+	for _, q := range e.DataQuality {
+		a.printf("  data quality: %s — %s\n", q.Code, q.Detail)
+	}
+}
+
+// printStatusChange prints the hull's status before and after a dive,
+// with the reasons when it changed.
+func (a *app) printStatusChange(before, after *ledger.Fitness) {
+	if before.Status == after.Status {
+		a.printf("hull status: %s (unchanged)\n", after.Status)
+	} else {
+		a.printf("hull status: %s → %s\n", strings.ToUpper(before.Status), strings.ToUpper(after.Status))
+	}
+	was := map[string]bool{}
+	for _, r := range before.Reasons {
+		was[r.Text] = true
+	}
+	seen := map[string]bool{}
+	for _, r := range after.Reasons {
+		if r.State == "fit" || seen[r.Code] {
+			continue
+		}
+		seen[r.Code] = true
+		mark := "  "
+		if !was[r.Text] {
+			mark = "+ "
+		}
+		a.printf("  %s%s: %s\n", mark, r.State, short(r.Text))
+	}
+}
+
+// terminalSafe replaces control characters (terminal escapes, new lines)
+// in text from the ledger before it is printed.
+func terminalSafe(s string) string {
+	return strings.Map(func(r rune) rune {
+		if r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0) {
+			return '\uFFFD'
+		}
+		return r
+	}, s)
 }
