@@ -4,7 +4,6 @@ import (
 	"errors"
 	"fmt"
 	"math"
-	"sort"
 )
 
 // Combination says whether cyclic and sustained damage add.
@@ -22,11 +21,18 @@ const (
 
 // Defaults of the remaining-life estimate.
 const (
-	// DefaultWindow is the number of most recent dives whose median
-	// damage per dive projects the remaining life.
+	// DefaultWindow is the number of most recent dives whose mean damage
+	// per dive projects the remaining life.
 	DefaultWindow = 10
 	// DefaultMinDives is the fewest dives for a remaining-life estimate.
 	DefaultMinDives = 3
+	// DefaultLimitRatio is the ratio projected to when none is given: the
+	// allowable itself. A caller with a hold level below the allowable
+	// should give it (LifeOptions.LimitRatio).
+	DefaultLimitRatio = 1.0
+	// DefaultHorizon is the number of dives beyond which the remaining
+	// life is reported as "more than" this many rather than as a figure.
+	DefaultHorizon int64 = 100000
 )
 
 // Damage is the cyclic (Miner, factored) and sustained (Robinson) damage
@@ -248,156 +254,4 @@ func (h Hull) totals(sum []Damage) Totals {
 		}
 	}
 	return t
-}
-
-// LifeOptions tune the remaining-life estimate; zero fields take the
-// defaults (DefaultWindow, DefaultMinDives).
-type LifeOptions struct {
-	// Window is how many of the latest dives give the median damage per
-	// dive.
-	Window int
-	// MinDives is the fewest dives for an estimate.
-	MinDives int
-}
-
-// LifeStatus says what a remaining-life result is.
-type LifeStatus string
-
-// The remaining-life outcomes.
-const (
-	// LifeEstimated means Dives is an estimate.
-	LifeEstimated LifeStatus = "estimated"
-	// LifeTooFewDives means the hull has fewer dives than MinDives: no
-	// estimate is given.
-	LifeTooFewDives LifeStatus = "too_few_dives"
-	// LifeNotLimited means the median damage per dive is zero for every
-	// component: the hull is not limited by damage at its recent use.
-	LifeNotLimited LifeStatus = "not_limited_by_damage"
-	// LifeExhausted means a component has reached its allowable: no dives
-	// are left.
-	LifeExhausted LifeStatus = "allowable_reached"
-)
-
-// Life is a remaining-life estimate.
-type Life struct {
-	// Status says what the result is; Dives means something only for
-	// LifeEstimated and LifeExhausted (0).
-	Status LifeStatus
-	// Dives is the number of further dives, at the median damage per
-	// dive, before the limiting component reaches its allowable, floored.
-	Dives int64
-	// Component is the component that limits the remaining life.
-	Component string
-	// Governing is the component with the highest ratio now.
-	Governing string
-	// Ratio is the governing component's ratio now.
-	Ratio float64
-	// MedianPerDive is the median increase per dive of the limiting
-	// component's ratio over the window.
-	MedianPerDive float64
-	// Window is the number of dives the median was taken over.
-	Window int
-	// Reason explains the result in words, for reports.
-	Reason string
-}
-
-// RemainingLife returns the dives left until a component reaches its
-// allowable, at the median damage per dive of the hull's latest dives
-// (opt.Window, default 10). Every component is projected, not only the
-// one governing now, and the earliest to reach its allowable limits the
-// life; with separate combination each allowable is projected on its own.
-// The median of an even number of dives is the mean of the two middle
-// ones. Fewer dives than opt.MinDives (default 3) give LifeTooFewDives, a
-// zero median for every component LifeNotLimited; a component already at
-// its allowable gives LifeExhausted whatever the number of dives. The
-// quotient is floored: floating-point error may make an exact integer
-// one dive fewer, never one more.
-func (h Hull) RemainingLife(opt LifeOptions) (Life, error) {
-	if opt.Window == 0 {
-		opt.Window = DefaultWindow
-	}
-	if opt.MinDives == 0 {
-		opt.MinDives = DefaultMinDives
-	}
-	if opt.Window < 1 || opt.MinDives < 1 || opt.MinDives > opt.Window {
-		return Life{}, fmt.Errorf("remaining life: need 1 ≤ minimum dives (%d) ≤ window (%d)", opt.MinDives, opt.Window)
-	}
-	tot, err := h.Totals()
-	if err != nil {
-		return Life{}, fmt.Errorf("remaining life: %w", err)
-	}
-	life := Life{Governing: tot.Governing, Ratio: tot.Ratio}
-	if tot.Ratio >= 1 {
-		life.Status, life.Component = LifeExhausted, tot.Governing
-		life.Reason = fmt.Sprintf("component %q is at %.4g of its allowable: no dives left", tot.Governing, tot.Ratio)
-		return life, nil
-	}
-	if len(h.Dives) < opt.MinDives {
-		life.Status = LifeTooFewDives
-		life.Reason = fmt.Sprintf("only %d dives recorded; at least %d are needed for a remaining-life estimate", len(h.Dives), opt.MinDives)
-		return life, nil
-	}
-	recent := h.Dives[max(0, len(h.Dives)-opt.Window):]
-	life.Window = len(recent)
-	best := math.Inf(1)
-	for ci, c := range h.Components {
-		now := c.Limits.terms(tot.Components[ci].Total)
-		per := make([][]float64, len(now))
-		for _, d := range recent {
-			for k, v := range c.Limits.terms(d.Damage[c.Name]) {
-				per[k] = append(per[k], v)
-			}
-		}
-		for k := range now {
-			m := median(per[k])
-			if m == 0 {
-				continue
-			}
-			left := (1 - now[k]) / m
-			if left < best || life.Component == "" {
-				best, life.Component, life.MedianPerDive = left, c.Name, m
-			}
-		}
-	}
-	if life.Component == "" {
-		life.Status = LifeNotLimited
-		life.Reason = fmt.Sprintf("median damage per dive over the last %d dives is zero for every component: not limited by damage at this use", life.Window)
-		return life, nil
-	}
-	life.Status = LifeEstimated
-	life.Dives = floorDives(best)
-	life.Reason = fmt.Sprintf("component %q reaches its allowable after %d more dives at the median of the last %d dives (%.4g of the allowable per dive)",
-		life.Component, life.Dives, life.Window, life.MedianPerDive)
-	if life.Component != life.Governing {
-		life.Reason += fmt.Sprintf("; component %q governs now but accumulates damage more slowly", life.Governing)
-	}
-	return life, nil
-}
-
-// floorDives floors a non-negative number of dives, saturating at the
-// largest int64.
-func floorDives(x float64) int64 {
-	if !(x > 0) {
-		return 0
-	}
-	if x >= math.MaxInt64 {
-		return math.MaxInt64
-	}
-	return int64(math.Floor(x))
-}
-
-// median returns the median of xs (not empty); for an even count, the
-// mean of the two middle values.
-func median(xs []float64) float64 {
-	s := append([]float64(nil), xs...)
-	sort.Float64s(s)
-	n := len(s)
-	if n%2 == 1 {
-		return s[n/2]
-	}
-	a, b := s[n/2-1], s[n/2]
-	if math.IsInf(a, 1) || math.IsInf(b, 1) {
-		return math.Inf(1)
-	}
-	return a/2 + b/2
 }

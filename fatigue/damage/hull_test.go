@@ -131,8 +131,8 @@ func TestRemainingLife(t *testing.T) {
 		if l.Status != LifeEstimated || l.Dives != 36 || l.Component != "cylinder" || l.Window != 5 {
 			t.Errorf("got %+v, want 36 dives limited by the cylinder", l)
 		}
-		if math.Abs(l.MedianPerDive-0.024) > 1e-12 {
-			t.Errorf("median per dive %v, want 0.024", l.MedianPerDive)
+		if math.Abs(l.AtRecentMean.PerDive-0.024) > 1e-12 {
+			t.Errorf("mean per dive %v, want 0.024", l.AtRecentMean.PerDive)
 		}
 	})
 	t.Run("fewer than the minimum dives", func(t *testing.T) {
@@ -150,23 +150,23 @@ func TestRemainingLife(t *testing.T) {
 			t.Errorf("min 2: %+v, %v", l, err)
 		}
 	})
-	t.Run("median of an even count", func(t *testing.T) {
+	t.Run("mean of an uneven window", func(t *testing.T) {
 		// Cylinder per-dive damage 0.01, 0.04, 0.02, 0.03 (÷ 0.5 → ratios
-		// 0.02, 0.08, 0.04, 0.06); sorted 0.02, 0.04, 0.06, 0.08: the
-		// median is (0.04 + 0.06)/2 = 0.05. Now 0.2; (1 − 0.2)/0.05 = 16.
+		// 0.02, 0.08, 0.04, 0.06); the mean is 0.2/4 = 0.05. Now 0.2;
+		// (1 − 0.2)/0.05 = 16 (15 if the quotient falls a hair below 16).
 		cyl := []Damage{{Cyclic: 0.01}, {Cyclic: 0.04}, {Cyclic: 0.02}, {Cyclic: 0.03}}
 		h := Hull{Components: comps, Dives: dives(cyl, repeat(Damage{}, 4))}
 		l, err := h.RemainingLife(LifeOptions{})
 		if err != nil {
 			t.Fatal(err)
 		}
-		if math.Abs(l.MedianPerDive-0.05) > 1e-12 || l.Dives < 15 || l.Dives > 16 {
-			t.Errorf("got %+v, want median 0.05 and 16 dives (15 if 0.8/0.05 rounds below 16)", l)
+		if math.Abs(l.AtRecentMean.PerDive-0.05) > 1e-12 || l.Dives < 15 || l.Dives > 16 || l.Basis != BasisRecentMean {
+			t.Errorf("got %+v, want mean 0.05 and 16 dives", l)
 		}
 	})
 	t.Run("window of the last 10 dives", func(t *testing.T) {
 		// 12 dives: two early heavy dives (0.1 each) then ten of 0.001.
-		// The median of the last 10 is 0.001 → ratio 0.002 per dive. Now
+		// The mean of the last 10 is 0.001 → ratio 0.002 per dive. Now
 		// (0.2 + 0.01)/0.5 = 0.42; (1 − 0.42)/0.002 = 290 (289 if the
 		// quotient falls a hair below 290 in floating point).
 		cyl := append(repeat(Damage{Cyclic: 0.1}, 2), repeat(Damage{Cyclic: 0.001}, 10)...)
@@ -175,7 +175,7 @@ func TestRemainingLife(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if l.Window != 10 || math.Abs(l.MedianPerDive-0.002) > 1e-12 || l.Dives < 289 || l.Dives > 290 {
+		if l.Window != 10 || math.Abs(l.AtRecentMean.PerDive-0.002) > 1e-12 || l.Dives < 289 || l.Dives > 290 {
 			t.Errorf("got %+v", l)
 		}
 	})
@@ -231,7 +231,7 @@ func TestRemainingLife(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if l.Dives < 46 || l.Dives > 47 || math.Abs(l.MedianPerDive-0.02) > 1e-12 {
+		if l.Dives < 46 || l.Dives > 47 || math.Abs(l.AtRecentMean.PerDive-0.02) > 1e-12 {
 			t.Errorf("got %+v", l)
 		}
 	})
@@ -243,31 +243,6 @@ func TestRemainingLife(t *testing.T) {
 			}
 		}
 	})
-}
-
-func TestMedian(t *testing.T) {
-	tests := []struct {
-		xs   []float64
-		want float64
-	}{
-		{[]float64{3}, 3},
-		{[]float64{3, 1, 2}, 2},
-		// Even count: mean of the two middle values, (2 + 3)/2 = 2.5.
-		{[]float64{4, 1, 3, 2}, 2.5},
-		{[]float64{0, 0, 5, 7}, 2.5},
-		{[]float64{1, math.Inf(1)}, math.Inf(1)},
-	}
-	for _, tc := range tests {
-		if got := median(tc.xs); got != tc.want {
-			t.Errorf("median(%v) = %v, want %v", tc.xs, got, tc.want)
-		}
-	}
-	// The input is not reordered.
-	xs := []float64{4, 1, 3, 2}
-	median(xs)
-	if xs[0] != 4 || xs[1] != 1 {
-		t.Errorf("median reordered its input: %v", xs)
-	}
 }
 
 func TestFloorDives(t *testing.T) {
