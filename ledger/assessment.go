@@ -16,7 +16,9 @@ import (
 
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/damage"
+	"hulltally/fatigue/fitness"
 	"hulltally/fatigue/rainflow"
+	"hulltally/fatigue/seawater"
 	"hulltally/fatigue/sn"
 	"hulltally/ledger/spec"
 )
@@ -603,18 +605,33 @@ type PriorDamage struct {
 
 // Damages are a hull's cumulative damage and remaining life.
 type Damages struct {
-	DiveCount           int               `json:"dive_count"`
-	Components          []ComponentDamage `json:"components"`
-	Governing           string            `json:"governing_component"`
-	GoverningRatio      Num               `json:"governing_ratio"`
-	RemainingDives      *int64            `json:"remaining_dives"`
-	RemainingStatus     string            `json:"remaining_status"`
-	RemainingReason     string            `json:"remaining_reason"`
-	ConfigHash          string            `json:"config_hash,omitempty"`
-	Assessments         int               `json:"assessments"`
-	Combine             string            `json:"combine"`
-	DesignFatigueFactor float64           `json:"design_fatigue_factor"`
-	MeanStress          string            `json:"mean_stress"`
+	DiveCount       int               `json:"dive_count"`
+	Components      []ComponentDamage `json:"components"`
+	Governing       string            `json:"governing_component"`
+	GoverningRatio  Num               `json:"governing_ratio"`
+	RemainingDives  *int64            `json:"remaining_dives"`
+	RemainingStatus string            `json:"remaining_status"`
+	RemainingReason string            `json:"remaining_reason"`
+	// RemainingMoreThan is true when RemainingDives is the horizon and the
+	// life left is more than that.
+	RemainingMoreThan bool `json:"remaining_more_than"`
+	// RemainingBasis says which figure governs: recent_mean, design_dive,
+	// qualified_cycles or current_damage.
+	RemainingBasis string `json:"remaining_basis,omitempty"`
+	// RemainingAtRecentMean and RemainingAtDesignDive are the two
+	// projections (null when not evaluated); the smaller is shown.
+	RemainingAtRecentMean *int64 `json:"remaining_at_recent_mean"`
+	RemainingAtDesignDive *int64 `json:"remaining_at_design_dive"`
+	// LimitRatio is the ratio of the allowable the life is projected to
+	// (the damage rule's hold level).
+	LimitRatio float64 `json:"remaining_limit_ratio"`
+	// DesignDive describes the design dive of the projection.
+	DesignDive          string  `json:"design_dive,omitempty"`
+	ConfigHash          string  `json:"config_hash,omitempty"`
+	Assessments         int     `json:"assessments"`
+	Combine             string  `json:"combine"`
+	DesignFatigueFactor float64 `json:"design_fatigue_factor"`
+	MeanStress          string  `json:"mean_stress"`
 	// PerDive is each dive's damage in dive order (for reports), by
 	// component name.
 	PerDive []DiveDamage `json:"-"`
@@ -818,11 +835,29 @@ func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 		c.CyclicDamage, c.SustainedDamage, c.Ratio = Num(t.Total.Cyclic), Num(t.Total.Sustained), Num(t.Ratio)
 	}
 	out.Governing, out.GoverningRatio = tot.Governing, Num(tot.Ratio)
-	life, err := dh.RemainingLife(l.fat.life)
+	opt := l.fat.life
+	opt.LimitRatio = l.damageHoldLevel()
+	opt.Horizon = l.cfg.Fatigue.LifeHorizon
+	opt.QualifiedCycles, opt.CyclesUsed = h.Spec.QualifiedPressureCycles, float64(len(out.PerDive))
+	dd, ddText, err := l.designDive(h)
 	if err != nil {
 		return fmt.Errorf("remaining life of %s: %w", h.Serial, err)
 	}
-	out.RemainingStatus, out.RemainingReason = string(life.Status), life.Reason
+	opt.DesignDive, out.DesignDive = dd, ddText
+	life, err := dh.RemainingLife(opt)
+	if err != nil {
+		return fmt.Errorf("remaining life of %s: %w", h.Serial, err)
+	}
+	out.RemainingStatus, out.RemainingReason, out.LimitRatio = string(life.Status), life.Reason, life.LimitRatio
+	out.RemainingBasis = string(life.Basis)
+	if p := life.AtRecentMean; p != nil {
+		v := p.Dives
+		out.RemainingAtRecentMean = &v
+	}
+	if p := life.AtDesignDive; p != nil {
+		v := p.Dives
+		out.RemainingAtDesignDive = &v
+	}
 	unassessed := 0
 	for _, c := range out.Components {
 		unassessed = max(unassessed, c.Unassessed)
@@ -832,9 +867,10 @@ func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 		// Never give a number the ledger cannot back.
 		out.RemainingStatus = "incomplete"
 		out.RemainingReason = fmt.Sprintf("%d dives have no damage assessment for every component (run hulltally assess); %s", unassessed, life.Reason)
-	case life.Status == damage.LifeEstimated || life.Status == damage.LifeExhausted:
+	case life.Status == damage.LifeEstimated || life.Status == damage.LifeExhausted || life.Status == damage.LifeBeyondHorizon:
 		d := life.Dives
 		out.RemainingDives = &d
+		out.RemainingMoreThan = life.Status == damage.LifeBeyondHorizon
 	}
 	return nil
 }
@@ -921,4 +957,43 @@ func (l *Ledger) LoadOf(ctx context.Context, dive uuid.UUID) (*DiveLoad, error) 
 		return nil, fmt.Errorf("damage of dive %s: %w", dive, err)
 	}
 	return &DiveLoad{PressureCycles: c, Damage: d}, nil
+}
+
+// damageHoldLevel is the hold level of the damage rule in force (the
+// ratio of the allowable the remaining life is projected to); 1 when no
+// rule on damage has a hold level.
+func (l *Ledger) damageHoldLevel() float64 {
+	lvl := 1.0
+	if l.rulesSet == nil {
+		return lvl
+	}
+	for _, r := range l.rulesSet.Rules {
+		if r.Measure == fitness.MeasureDamageRatio && r.Hold != nil && r.Hold.At > 0 && r.Hold.At < lvl {
+			lvl = r.Hold.At
+		}
+	}
+	return lvl
+}
+
+// designDive is the damage per component of one design dive: from the
+// surface to the rated depth's pressure (at latitude 90°, the most
+// pressure per metre) and back, with the configured bottom time at it.
+func (l *Ledger) designDive(h *Hull) (map[string]damage.Damage, string, error) {
+	comps, err := l.resolve(h.Spec)
+	if err != nil {
+		return nil, "", err
+	}
+	p := seawater.DepthToMPa(h.Spec.RatedDepthM, 90)
+	bt := l.cfg.Fatigue.DesignBottomTimeMin
+	d := assess.Dive{PressureCycles: joinCycles([]float64{p}, []float64{p / 2}, []float64{1}),
+		Holds: []assess.Hold{{LevelMPa: p, Seconds: bt * 60}}}
+	res, err := assess.DiveDamage(d, comps, l.fat.settings)
+	if err != nil {
+		return nil, "", err
+	}
+	out := make(map[string]damage.Damage, len(res))
+	for _, r := range res {
+		out[r.Component] = r.Damage
+	}
+	return out, fmt.Sprintf("one cycle to the rated depth %.0f m (%.3f MPa at latitude 90°) with %.0f min at it", h.Spec.RatedDepthM, p, bt), nil
 }

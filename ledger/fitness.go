@@ -13,6 +13,7 @@ import (
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/fatigue/assess"
+	"hulltally/fatigue/damage"
 	"hulltally/fatigue/fitness"
 	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
@@ -80,6 +81,7 @@ func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note boo
 		decisions = append(decisions, fitness.Decision{At: d.At, Kind: fitness.DecisionKind(d.Kind), Actor: d.Actor, Reason: d.Reason})
 	}
 	v := fitness.Status(flags, decisions, fitness.Records{Inspections: facts.Inspections, ProofTests: facts.ProofTests}, now)
+	voidLife(dmg, v, r)
 	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: reasonViews(v.Reasons), Flags: flagViews(flags), Damage: dmg, RulesSource: src,
 		facts: facts, verdict: v, hull: h}
 	if n := len(dmg.PerDive); n > 0 {
@@ -518,4 +520,51 @@ func (l *Ledger) ReportBasis(hulls []*spec.Hull) (*BasisInfo, error) {
 		b.Rules = append(b.Rules, RuleBasis{ID: rule.ID, Title: rule.Title, Thresholds: th, Source: rule.Source})
 	}
 	return b, nil
+}
+
+// isEvidenceMeasure reports whether a measure's flags are evidence of
+// damage (acoustic emission, strain, an overload): while one is open, a
+// fatigue projection means nothing.
+func isEvidenceMeasure(m fitness.Measure) bool {
+	switch m {
+	case fitness.MeasureFelicityRatio, fitness.MeasureHoldEmission, fitness.MeasureComplianceChange,
+		fitness.MeasureResidualStrain, fitness.MeasureResidualGrowth:
+		return true
+	}
+	switch string(m) {
+	case "hold_hits_after_settle", "historic_index", "severity", "high_amplitude_hits", "total_counts", "creep_strain", "strain_hysteresis", "proof_overshoot", "collapse_fraction":
+		return true
+	}
+	return false
+}
+
+// voidLife takes the remaining-life figure away while the hull is on hold
+// or withdrawn, or while a flag of evidence of damage is open: a figure
+// is not shown where it is void.
+func voidLife(dmg *Damages, v fitness.Verdict, r *fitness.Rules) {
+	why := ""
+	switch v.State {
+	case fitness.Hold:
+		why = "the hull is on hold"
+	case fitness.Withdrawn:
+		why = "the hull is withdrawn from service"
+	}
+	if why == "" && r != nil {
+		measure := map[string]fitness.Measure{}
+		for _, rule := range r.Rules {
+			measure[rule.ID] = rule.Measure
+		}
+		for _, rs := range v.Reasons {
+			if rs.Kind == "flag" && rs.State != fitness.Fit && isEvidenceMeasure(measure[rs.Code]) {
+				why = "a flag of evidence of damage is open (" + rs.Code + ")"
+				break
+			}
+		}
+	}
+	if why == "" {
+		return
+	}
+	dmg.RemainingDives, dmg.RemainingAtRecentMean, dmg.RemainingAtDesignDive, dmg.RemainingMoreThan = nil, nil, nil, false
+	dmg.RemainingStatus = string(damage.LifeVoid)
+	dmg.RemainingReason = damage.LifeVoidReason + ": " + why
 }
