@@ -2,7 +2,6 @@ package evidence
 
 import (
 	"math"
-	"strings"
 	"testing"
 
 	"pgregory.net/rapid"
@@ -58,66 +57,6 @@ func TestAEDivePhases(t *testing.T) {
 	}
 }
 
-func TestOnsetAndFelicity(t *testing.T) {
-	p, ph := aeDive()
-	// DefaultOnsetCriterion(30): increments of 3 MPa (10 % of 30 MPa),
-	// more than 5 hits, 45 dB_AE floor (from memory / common practice).
-	hitsCrit := DefaultOnsetCriterion(30)
-	energyCrit := OnsetCriterion{Measure: MeasureEnergy, IncrementMPa: 3, Threshold: 1000, MinAmplitudeDB: 45}
-	background := descentHits(60, 50, 2, 5, 8, 11) // one hit in four increments
-	faint := descentHits(40, 50, 13.1, 13.2, 13.3, 13.4, 13.5, 13.6, 13.7, 13.8, 13.9, 14.0)
-	burst24 := descentHits(55, 80, 24.1, 24.2, 24.3, 24.4, 24.5, 24.6, 24.7)
-	atHold := holdHits(70, 10, 10, 10, 10)
-
-	f := func(v float64) *float64 { return &v }
-	tests := []struct {
-		name      string
-		hits      []Hit
-		c         OnsetCriterion
-		prevMax   float64
-		wantOnset *float64
-		wantRatio *float64
-		wantEval  bool
-		wantBeyon bool
-		reason    string
-	}{
-		// 7 hits in 24–27 MPa, the first increment with ≥ 6: onset 24 MPa;
-		// 24/30 = 0.8 (the 10 faint hits at 40 dB and the hold hits do not
-		// count).
-		{"onset below previous peak", join(background, faint, burst24, atHold), hitsCrit, 30, f(24), f(0.8), true, true, "at or below"},
-		// 5 hits at 33.5 MPa: fewer than 6; no onset, dive to 40 > 30.
-		{"beyond previous, no early emission", join(background, descentHits(60, 50, 33.5, 33.5, 33.5, 33.5, 33.5), atHold), hitsCrit, 30, nil, nil, true, true, "Kaiser behaviour held"},
-		// 6 hits at 33.2 MPa: increment 33–36; 33/30 = 1.1.
-		{"onset above previous peak", join(background, descentHits(60, 50, 33.2, 33.2, 33.2, 33.2, 33.2, 33.2)), hitsCrit, 30, f(33), f(1.1), true, true, "above the previous"},
-		// Previous maximum 50 MPa (proof test), dive to 40: no onset.
-		{"quiet dive below previous peak", background, DefaultOnsetCriterion(50), 50, nil, nil, false, false, "stayed at or below"},
-		// First dive, no proof test: onset found, ratio not evaluated.
-		{"first dive", join(background, burst24), hitsCrit, 0, f(24), nil, false, false, "first dive"},
-		// Energy 300 per hit: 15–18 MPa holds 3 (900 < 1000), 18–21 holds 4
-		// (1200 ≥ 1000): onset 18 MPa; 18/30 = 0.6.
-		{"energy measure", join(descentHits(60, 300, 15.5, 16, 16.5), descentHits(60, 300, 18.5, 19, 19.5, 20)), energyCrit, 30, f(18), f(0.6), true, true, "at or below"},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			press := PressureAt(p, tt.hits)
-			on, err := Onset(tt.hits, press, ph, tt.c)
-			if err != nil {
-				t.Fatal(err)
-			}
-			if !sameFloatPtr(on.OnsetMPa, tt.wantOnset, 1e-9) {
-				t.Fatalf("onset %v, want %v (increments %+v)", fp(on.OnsetMPa), fp(tt.wantOnset), on.Increments)
-			}
-			fr := Felicity(on.OnsetMPa, tt.prevMax, ph.PeakMPa)
-			if !sameFloatPtr(fr.Ratio, tt.wantRatio, 1e-9) || fr.Evaluated != tt.wantEval || fr.BeyondPrevious != tt.wantBeyon {
-				t.Fatalf("felicity %+v ratio %v, want ratio %v evaluated %v beyond %v", fr, fp(fr.Ratio), fp(tt.wantRatio), tt.wantEval, tt.wantBeyon)
-			}
-			if !strings.Contains(fr.Reason, tt.reason) {
-				t.Fatalf("reason %q, want it to contain %q", fr.Reason, tt.reason)
-			}
-		})
-	}
-}
-
 func sameFloatPtr(a, b *float64, tol float64) bool {
 	if a == nil || b == nil {
 		return a == nil && b == nil
@@ -130,79 +69,6 @@ func fp(v *float64) any {
 		return "nil"
 	}
 	return *v
-}
-
-func TestOnsetErrors(t *testing.T) {
-	p, ph := aeDive()
-	hits := descentHits(60, 1, 5)
-	press := PressureAt(p, hits)
-	good := DefaultOnsetCriterion(30)
-	tests := []struct {
-		name  string
-		c     OnsetCriterion
-		press []float64
-		want  string
-	}{
-		{"unknown measure", OnsetCriterion{Measure: "counts", IncrementMPa: 1, Threshold: 1}, press, "neither"},
-		{"zero increment", DefaultOnsetCriterion(0), press, "increment"},
-		{"zero threshold", OnsetCriterion{Measure: MeasureHits, IncrementMPa: 1}, press, "threshold"},
-		{"pressures mismatch", good, nil, "pressures for"},
-		{"NaN pressure", good, []float64{math.NaN()}, "NaN"},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			if _, err := Onset(hits, tt.press, ph, tt.c); err == nil || !strings.Contains(err.Error(), tt.want) {
-				t.Fatalf("error %v, want one containing %q", err, tt.want)
-			}
-		})
-	}
-}
-
-func TestHoldEmission(t *testing.T) {
-	p, ph := aeDive()
-	def := DefaultHoldCriterion()
-	tests := []struct {
-		name       string
-		hits       []Hit
-		c          HoldCriterion
-		wantHits   int
-		wantWin    []int
-		wantDecays bool
-		wantQuiet  bool
-		wantEval   bool
-		reason     string
-	}{
-		// last window 1 ≤ QuietHits 2.
-		{"decaying to quiet", holdHits(60, 10, 5, 3, 1), def, 19, []int{10, 5, 3, 1}, true, false, true, "at most 2"},
-		// last 9 ≤ 0.5 × 20 = 10.
-		{"decaying by half", holdHits(60, 20, 15, 12, 9), def, 56, []int{20, 15, 12, 9}, true, false, true, "against 20"},
-		// last 5 > 0.5 × 8 = 4 and > 2.
-		{"not decaying", holdHits(60, 8, 6, 6, 5), def, 25, []int{8, 6, 6, 5}, false, false, true, "does not decay"},
-		// rising emission at depth.
-		{"rising", holdHits(60, 2, 4, 6, 8), def, 20, []int{2, 4, 6, 8}, false, false, true, "does not decay"},
-		// 4 hits < MinHits 5; descent hits and faint hold hits do not count.
-		{"quiet hold", join(descentHits(60, 1, 10, 20, 30), holdHits(60, 1, 1, 1, 1), holdHits(30, 9, 9, 9, 9)), def, 4, []int{1, 1, 1, 1}, true, true, true, "quiet hold"},
-		{"zero criterion", holdHits(60, 8, 6, 6, 5), HoldCriterion{}, 0, nil, false, false, false, "not evaluated"},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			r := HoldEmission(tt.hits, PressureAt(p, tt.hits), ph, tt.c)
-			if r.Evaluated != tt.wantEval || r.Hits != tt.wantHits || r.Decays != tt.wantDecays || r.Quiet != tt.wantQuiet {
-				t.Fatalf("hold %+v, want hits %d decays %v quiet %v evaluated %v", r, tt.wantHits, tt.wantDecays, tt.wantQuiet, tt.wantEval)
-			}
-			for i, n := range tt.wantWin {
-				if r.PerWindow[i] != n {
-					t.Fatalf("windows %v, want %v", r.PerWindow, tt.wantWin)
-				}
-			}
-			if !strings.Contains(r.Reason, tt.reason) {
-				t.Fatalf("reason %q, want it to contain %q", r.Reason, tt.reason)
-			}
-			if r.Hits > 0 && (r.MinPressureMPa < 38 || r.MaxPressureMPa > 40) {
-				t.Fatalf("hold hits at %g–%g MPa, want within 38–40 MPa", r.MinPressureMPa, r.MaxPressureMPa)
-			}
-		})
-	}
 }
 
 func TestDefaultK(t *testing.T) {
@@ -333,79 +199,3 @@ func TestPressureAtProperties(t *testing.T) {
 	})
 }
 
-func TestHoldCriterionValidate(t *testing.T) {
-	mod := func(f func(c *HoldCriterion)) HoldCriterion {
-		c := DefaultHoldCriterion()
-		f(&c)
-		return c
-	}
-	tests := []struct {
-		name string
-		c    HoldCriterion
-		want string // "" for valid
-	}{
-		{"default", DefaultHoldCriterion(), ""},
-		{"one window", mod(func(c *HoldCriterion) { c.Windows = 1 }), "windows"},
-		{"fraction above 1", mod(func(c *HoldCriterion) { c.DecayFraction = 1.5 }), "decay fraction"},
-		{"negative quiet hits", mod(func(c *HoldCriterion) { c.QuietHits = -1 }), "quiet hits"},
-		{"negative minimum", mod(func(c *HoldCriterion) { c.MinHits = -1 }), "minimum hits"},
-		{"NaN floor", mod(func(c *HoldCriterion) { c.MinAmplitudeDB = math.NaN() }), "NaN"},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			err := tt.c.Validate()
-			if (tt.want == "") != (err == nil) || (err != nil && !strings.Contains(err.Error(), tt.want)) {
-				t.Fatalf("Validate = %v, want %q", err, tt.want)
-			}
-		})
-	}
-}
-
-func TestOnsetSurfaceHits(t *testing.T) {
-	// Hits before the first sample and at slightly negative gauge pressure
-	// (surface noise) count in the first increment, 0–3 MPa: 6 hits there
-	// give an onset at 0 MPa (ratio 0 against 30 MPa: emission from the
-	// start calls for evaluation).
-	p := Profile{TimeS: []float64{0, 10, 20, 30}, Pressure: []float64{-0.01, 0, 30, 0}}
-	ph, err := Phases(p, 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	hits := []Hit{{TimeS: -5, AmplitudeDB: 50}, {TimeS: 0, AmplitudeDB: 50}, {TimeS: 1, AmplitudeDB: 50},
-		{TimeS: 2, AmplitudeDB: 50}, {TimeS: 10, AmplitudeDB: 50}, {TimeS: 10.5, AmplitudeDB: 50}}
-	on, err := Onset(hits, PressureAt(p, hits), ph, DefaultOnsetCriterion(30))
-	if err != nil {
-		t.Fatal(err)
-	}
-	if on.OnsetMPa == nil || *on.OnsetMPa != 0 || on.CountedHits != 6 || on.Increments[0].Hits != 6 {
-		t.Fatalf("onset %+v, want 0 MPa from 6 hits in the first increment", on)
-	}
-}
-
-func TestFelicityCases(t *testing.T) {
-	f := func(v float64) *float64 { return &v }
-	tests := []struct {
-		name                 string
-		onset                *float64
-		prev, peak           float64
-		wantRatio            *float64
-		wantEval, wantBeyond bool
-	}{
-		// 20/30 = 0.6667: emission below the previous peak on a dive that
-		// stayed below it is still evidence.
-		{"onset on a shallower dive", f(20), 30, 25, f(20.0 / 30), true, false},
-		// onset exactly at the previous maximum: 30/30 = 1.
-		{"onset at previous max", f(30), 30, 35, f(1), true, true},
-		{"negative previous max", f(10), -1, 20, nil, false, false},
-		// dive peak equal to the previous max is not beyond it.
-		{"peak equals previous, no onset", nil, 30, 30, nil, false, false},
-	}
-	for _, tt := range tests {
-		t.Run(tt.name, func(t *testing.T) {
-			r := Felicity(tt.onset, tt.prev, tt.peak)
-			if !sameFloatPtr(r.Ratio, tt.wantRatio, 1e-12) || r.Evaluated != tt.wantEval || r.BeyondPrevious != tt.wantBeyond || r.Reason == "" {
-				t.Fatalf("Felicity = %+v (ratio %v), want ratio %v evaluated %v beyond %v", r, fp(r.Ratio), fp(tt.wantRatio), tt.wantEval, tt.wantBeyond)
-			}
-		})
-	}
-}

@@ -23,10 +23,16 @@ type Profile struct {
 	// microstrain (negative in compression); every slice has the length of
 	// TimeS.
 	Strain map[string][]float64
+	// Temp is the temperature at each sample, °C, where it is logged (the
+	// hull's or the gauges' temperature): nil or empty when not logged,
+	// otherwise of the length of TimeS. A value that is NaN or infinite
+	// is an unknown temperature; the measures that need it are then not
+	// computed.
+	Temp []float64
 }
 
 // Validate checks that the profile has samples, that every series has the
-// length of TimeS, that time strictly increases and that no value is NaN or
+// length of TimeS (Temp when logged), that time strictly increases and that no value is NaN or
 // infinite.
 func (p Profile) Validate() error {
 	n := len(p.TimeS)
@@ -46,6 +52,9 @@ func (p Profile) Validate() error {
 		if v := p.Pressure[i]; math.IsNaN(v) || math.IsInf(v, 0) {
 			return fmt.Errorf("evidence: profile pressure %d is %v", i, v)
 		}
+	}
+	if len(p.Temp) != 0 && len(p.Temp) != n {
+		return fmt.Errorf("evidence: profile has %d times but %d temperatures", n, len(p.Temp))
 	}
 	for _, g := range sortedGauges(p.Strain) {
 		s := p.Strain[g]

@@ -30,6 +30,14 @@ type StrainCriterion struct {
 	// CreepEdgeFrac is the fraction of the hold's duration averaged at its
 	// start and at its end for creep.
 	CreepEdgeFrac float64
+	// MaxTempDiffC is the largest difference of mean temperature between
+	// the surface samples before and after the dive at which a residual
+	// strain is still compared, °C (≥ 0); used when the profile carries
+	// temperature.
+	MaxTempDiffC float64
+	// Quality is the data-quality check every gauge must pass before its
+	// measures are computed (see GaugeQuality).
+	Quality GaugeCriterion
 }
 
 // DefaultStrainCriterion returns the strain constants, all common practice
@@ -37,12 +45,16 @@ type StrainCriterion struct {
 // of the peak, at least 10 fit points, surface below 2 % of the peak with
 // at least 3 samples each side, a 50-point hysteresis grid, creep only for
 // holds of at least 60 s, averaged over the first and last 10 % of the
-// hold.
+// hold; a residual strain compared only when the surface temperatures
+// before and after the dive agree within 2 °C (operator's choice: a
+// foil gauge's apparent strain on a composite can reach some µε per °C);
+// and the gauge quality check of DefaultGaugeCriterion.
 func DefaultStrainCriterion() StrainCriterion {
 	return StrainCriterion{
 		FitLowFrac: 0.10, FitHighFrac: 0.90, MinFitPoints: 10,
 		SurfaceFrac: 0.02, MinSurfacePoints: 3,
 		GridPoints: 50, MinHoldS: 60, CreepEdgeFrac: 0.10,
+		MaxTempDiffC: 2, Quality: DefaultGaugeCriterion(),
 	}
 }
 
@@ -63,6 +75,11 @@ func (c StrainCriterion) Validate() error {
 		return fmt.Errorf("evidence: minimum hold %g s is negative", c.MinHoldS)
 	case !(c.CreepEdgeFrac > 0 && c.CreepEdgeFrac <= 0.5):
 		return fmt.Errorf("evidence: creep edge fraction %g outside (0, 0.5]", c.CreepEdgeFrac)
+	case !(c.MaxTempDiffC >= 0) || math.IsInf(c.MaxTempDiffC, 0):
+		return fmt.Errorf("evidence: temperature tolerance %g °C must be finite and not negative", c.MaxTempDiffC)
+	}
+	if err := c.Quality.Validate(); err != nil {
+		return err
 	}
 	return nil
 }
@@ -113,6 +130,10 @@ type Residual struct {
 	// to UE): it takes out the strain of the near-surface pressure that
 	// the surface samples still carry (2 % of 40 MPa is 80 m of water).
 	PressureCorrectedUE float64
+	// TempBeforeC and TempAfterC are the mean temperatures of the two
+	// surface windows, °C, and TempDiffC after − before; nil when the
+	// profile carries no temperature or the windows were not formed.
+	TempBeforeC, TempAfterC, TempDiffC *float64
 }
 
 // Hysteresis is the area between the ascent and descent branches of strain
@@ -155,12 +176,17 @@ type Creep struct {
 // StrainResult is one gauge's strain evidence for one dive.
 type StrainResult struct {
 	// Gauge is the strain gauge's name.
-	Gauge      string
-	Compliance Compliance
-	Change     ComplianceChange
-	Residual   Residual
-	Hysteresis Hysteresis
-	Creep      Creep
+	Gauge string
+	// QualityOK is false when the gauge failed the data-quality check
+	// (GaugeQuality); its measures are then all not computed and
+	// QualityReason says why.
+	QualityOK     bool
+	QualityReason string
+	Compliance    Compliance
+	Change        ComplianceChange
+	Residual      Residual
+	Hysteresis    Hysteresis
+	Creep         Creep
 }
 
 // Strain computes the strain evidence of every gauge of the profile, in
@@ -190,9 +216,19 @@ func Strain(p Profile, ph Phase, baseline map[string]float64, c StrainCriterion)
 func gauge(p Profile, ph Phase, name string, c0 float64, haveBaseline bool, c StrainCriterion) StrainResult {
 	s := p.Strain[name]
 	r := StrainResult{Gauge: name}
+	r.QualityOK, r.QualityReason = GaugeQuality(p, name, c.Quality)
+	if !r.QualityOK {
+		why := "not computed: gauge doubtful: " + r.QualityReason
+		r.Compliance.Reason = "compliance " + why
+		r.Change = ComplianceChange{BaselineUEPerMPa: c0, Reason: "change " + why}
+		r.Residual.Reason = "residual strain " + why
+		r.Hysteresis.Reason = "hysteresis " + why
+		r.Creep = Creep{HoldS: ph.HoldDurationS(), Reason: "creep " + why}
+		return r
+	}
 	r.Compliance = compliance(p.Pressure, s, ph, c)
 	r.Change = change(r.Compliance, c0, haveBaseline)
-	r.Residual = residual(p.Pressure, s, ph, r.Compliance, c)
+	r.Residual = residual(p.Pressure, s, p.Temp, ph, r.Compliance, c)
 	r.Hysteresis = hysteresis(p.Pressure, s, ph, c)
 	r.Creep = creep(p, s, ph, r.Compliance, c)
 	return r
@@ -241,25 +277,46 @@ func change(cm Compliance, c0 float64, have bool) ComplianceChange {
 	return out
 }
 
-func residual(pr, s []float64, ph Phase, cm Compliance, c StrainCriterion) Residual {
+// residual is the residual strain; temp is the profile's temperature
+// (empty when not logged).
+func residual(pr, s, temp []float64, ph Phase, cm Compliance, c StrainCriterion) Residual {
 	level := c.SurfaceFrac * ph.PeakMPa
 	var out Residual
-	var sb, sa, pb, pa float64
+	var sb, sa, pb, pa, tb, ta float64
 	for i := 0; i < ph.N && pr[i] < level; i++ {
 		sb += s[i]
 		pb += pr[i]
+		if len(temp) > 0 {
+			tb += temp[i]
+		}
 		out.BeforePoints++
 	}
 	for i := ph.HoldEnd + 1; i < ph.N; i++ {
 		if pr[i] < level {
 			sa += s[i]
 			pa += pr[i]
+			if len(temp) > 0 {
+				ta += temp[i]
+			}
 			out.AfterPoints++
 		}
 	}
 	if out.BeforePoints < c.MinSurfacePoints || out.AfterPoints < c.MinSurfacePoints {
 		out.Reason = fmt.Sprintf("residual strain not computed: %d surface samples before and %d after the dive (below %.4g MPa), fewer than %d", out.BeforePoints, out.AfterPoints, level, c.MinSurfacePoints)
 		return out
+	}
+	if len(temp) > 0 {
+		before, after := tb/float64(out.BeforePoints), ta/float64(out.AfterPoints)
+		d := after - before
+		if math.IsNaN(d) || math.IsInf(d, 0) {
+			out.Reason = "residual strain not comparable: temperature unknown in a surface window (logged values not finite)"
+			return out
+		}
+		out.TempBeforeC, out.TempAfterC, out.TempDiffC = &before, &after, &d
+		if math.Abs(d) > c.MaxTempDiffC {
+			out.Reason = fmt.Sprintf("residual strain not comparable: temperature differs by %.3g °C between the surface before (%.4g °C) and after (%.4g °C) the dive, more than %g °C", d, before, after, c.MaxTempDiffC)
+			return out
+		}
 	}
 	out.Computed = true
 	out.BeforeUE = sb / float64(out.BeforePoints)
@@ -384,4 +441,108 @@ func creep(p Profile, s []float64, ph Phase, cm Compliance, c StrainCriterion) C
 		out.PressureCorrectedUE -= cm.UEPerMPa * (lp/float64(ln) - fp/float64(fn))
 	}
 	return out
+}
+
+// GaugeCriterion holds the constants of a strain gauge's data-quality
+// check. Use DefaultGaugeCriterion and change what the operator chooses.
+type GaugeCriterion struct {
+	// MinStdevUE is the standard deviation of strain over the dive below
+	// which the gauge is constant (dead, disconnected or stuck), µε (≥ 0).
+	MinStdevUE float64
+	// MaxAbsUE is the largest plausible |strain| at any sample, µε (> 0):
+	// beyond it the gauge is over range or debonded.
+	MaxAbsUE float64
+	// Sign is the expected sign of the compliance (dε/dp): −1 for a gauge
+	// that shortens under external pressure (the hoop and axial gauges of
+	// a compression hull), +1 for one known to stretch, 0 not checked.
+	Sign int
+	// MinCorrelation is the least correlation between strain and pressure
+	// over the dive, taken with Sign (with Sign 0: its absolute value), in
+	// [0, 1]: below it the strain does not follow the pressure.
+	MinCorrelation float64
+}
+
+// DefaultGaugeCriterion returns the gauge quality constants, all the
+// operator's choice and conservative: a gauge is doubtful when its strain
+// varies by less than 1 µε (standard deviation) over the dive, when any
+// |strain| exceeds 20 000 µε (2 %, beyond the compressive failure strain
+// of carbon/epoxy laminates of about 1 to 1.5 % — common practice, from
+// memory — so a reading there is more likely a broken or over-range gauge
+// than a standing hull), when it does not shorten with pressure (Sign −1:
+// every surface of a hull under external pressure is expected in
+// compression; set Sign to +1 or 0 for a gauge the design places in
+// tension, e.g. near a penetration), or when its correlation with
+// pressure is below 0.8.
+func DefaultGaugeCriterion() GaugeCriterion {
+	return GaugeCriterion{MinStdevUE: 1, MaxAbsUE: 20000, Sign: -1, MinCorrelation: 0.8}
+}
+
+// Validate checks the criterion.
+func (c GaugeCriterion) Validate() error {
+	switch {
+	case !(c.MinStdevUE >= 0) || math.IsInf(c.MinStdevUE, 0):
+		return fmt.Errorf("evidence: gauge minimum standard deviation %g µε must be finite and not negative", c.MinStdevUE)
+	case !(c.MaxAbsUE > 0):
+		return fmt.Errorf("evidence: gauge strain limit %g µε must be positive", c.MaxAbsUE)
+	case c.Sign < -1 || c.Sign > 1:
+		return fmt.Errorf("evidence: gauge sign %d is not −1, 0 or +1", c.Sign)
+	case !(c.MinCorrelation >= 0 && c.MinCorrelation <= 1):
+		return fmt.Errorf("evidence: gauge minimum correlation %g outside [0, 1]", c.MinCorrelation)
+	}
+	return nil
+}
+
+// GaugeQuality checks one gauge of the profile: it reports false, with a
+// reason, for a gauge that is absent, has samples missing or not finite,
+// is constant (standard deviation below c.MinStdevUE), reads beyond
+// ±c.MaxAbsUE, shortens or stretches against c.Sign, or does not follow
+// the pressure (correlation below c.MinCorrelation). A doubtful gauge is
+// missing evidence. It also reports false for an invalid criterion or a
+// profile whose pressure does not vary.
+func GaugeQuality(p Profile, gauge string, c GaugeCriterion) (bool, string) {
+	if err := c.Validate(); err != nil {
+		return false, fmt.Sprintf("quality not judged: %v", err)
+	}
+	s, ok := p.Strain[gauge]
+	n := len(p.Pressure)
+	switch {
+	case !ok:
+		return false, fmt.Sprintf("gauge %q has no column in the profile", gauge)
+	case len(s) != n || n == 0:
+		return false, fmt.Sprintf("gauge %q has %d samples for %d pressures", gauge, len(s), n)
+	}
+	for i, v := range s {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false, fmt.Sprintf("gauge %q strain at sample %d is %v", gauge, i, v)
+		}
+		if math.Abs(v) > c.MaxAbsUE {
+			return false, fmt.Sprintf("gauge %q reads %.6g µε at %g s, beyond ±%g µε: over range or debonded", gauge, v, p.TimeS[min(i, len(p.TimeS)-1)], c.MaxAbsUE)
+		}
+	}
+	for i, v := range p.Pressure {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return false, fmt.Sprintf("pressure at sample %d is %v: gauge %q not judged", i, v, gauge)
+		}
+	}
+	sd := stat.StdDev(s, nil)
+	if n < 2 || !(sd >= c.MinStdevUE) || sd == 0 {
+		return false, fmt.Sprintf("gauge %q is constant over the dive: standard deviation %.3g µε, below %g µε (dead, disconnected or stuck)", gauge, sd, c.MinStdevUE)
+	}
+	if stat.StdDev(p.Pressure, nil) == 0 {
+		return false, fmt.Sprintf("pressure does not vary over the record: gauge %q not judged", gauge)
+	}
+	r := stat.Correlation(p.Pressure, s, nil)
+	switch {
+	case c.Sign != 0 && r*float64(c.Sign) < 0:
+		want := "shorten (compression)"
+		if c.Sign > 0 {
+			want = "stretch (tension)"
+		}
+		return false, fmt.Sprintf("gauge %q has a compliance of the wrong sign: correlation with pressure %.3f, expected to %s (check wiring and orientation)", gauge, r, want)
+	case c.Sign != 0 && r*float64(c.Sign) < c.MinCorrelation:
+		return false, fmt.Sprintf("gauge %q does not follow the pressure: correlation %.3f, below %g", gauge, r*float64(c.Sign), c.MinCorrelation)
+	case c.Sign == 0 && math.Abs(r) < c.MinCorrelation:
+		return false, fmt.Sprintf("gauge %q does not follow the pressure: |correlation| %.3f, below %g", gauge, math.Abs(r), c.MinCorrelation)
+	}
+	return true, fmt.Sprintf("gauge %q follows the pressure: correlation %.3f, standard deviation %.4g µε", gauge, r, sd)
 }
