@@ -1,8 +1,10 @@
 package blocks
 
 import (
+	"errors"
 	"math"
 	"math/rand/v2"
+	"regexp"
 	"strconv"
 	"testing"
 )
@@ -146,14 +148,78 @@ func FuzzDecode(f *testing.F) {
 	})
 }
 
+func TestPlainNumber(t *testing.T) {
+	tests := []struct {
+		in string
+		ok bool
+	}{
+		{"0", true}, {"-12.50", true}, {"+7", true}, {".5", true}, {"5.", true},
+		{"1e5", true}, {"1E-5", true}, {"-2.5e+10", true}, {"007", true}, {".5e1", true},
+		{"", false}, {".", false}, {"+.", false}, {"-", false}, {"+", false}, {"e5", false}, {".e5", false},
+		{"1e", false}, {"1e+", false}, {"1e-", false}, {"1_000", false}, {"0x1p3", false}, {"0x10", false},
+		{"Inf", false}, {"-Inf", false}, {"infinity", false}, {"NaN", false}, {"1.2.3", false},
+		{" 1", false}, {"1 ", false}, {"1,5", false}, {"--1", false}, {"+-1", false}, {"1e5.0", false},
+		{"1d3", false}, {"١", false}, {"1e1e1", false}, {"1.e", false},
+	}
+	for _, tc := range tests {
+		if got := PlainNumber([]byte(tc.in)); got != tc.ok {
+			t.Errorf("PlainNumber(%q) = %v, want %v", tc.in, got, tc.ok)
+		}
+	}
+}
+
+func TestWholeNumber(t *testing.T) {
+	tests := []struct {
+		in string
+		v  int64
+		ok bool
+	}{
+		{"0", 0, true}, {"42", 42, true}, {"007", 7, true}, {"999999999999999999", 999999999999999999, true},
+		{"1000000000000000000", 0, false}, {"", 0, false}, {"+1", 0, false}, {"-0", 0, false},
+		{"1.0", 0, false}, {"1e3", 0, false}, {"1_000", 0, false}, {" 1", 0, false}, {"0x1", 0, false},
+	}
+	for _, tc := range tests {
+		v, ok := WholeNumber([]byte(tc.in))
+		if ok != tc.ok || (ok && v != tc.v) {
+			t.Errorf("WholeNumber(%q) = %d, %v; want %d, %v", tc.in, v, ok, tc.v, tc.ok)
+		}
+	}
+}
+
+// An independent statement of the number syntax.
+var (
+	plainNumberRE  = regexp.MustCompile(`^[+-]?([0-9]+\.?[0-9]*|\.[0-9]+)([eE][+-]?[0-9]+)?$`)
+	plainDecimalRE = regexp.MustCompile(`^[+-]?([0-9]+\.?[0-9]*|\.[0-9]+)$`)
+)
+
 func FuzzParseDecimal(f *testing.F) {
-	for _, s := range []string{"1", "-2.5", "0.0001", "1e3", "", "."} {
+	for _, s := range []string{"1", "-2.5", "0.0001", "1e3", "", ".", "+.", "1_000", "0x1p3", "Inf", "NaN", "1e", "-.5e-3"} {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, s string) {
+		plain := PlainNumber([]byte(s))
+		if plain != plainNumberRE.MatchString(s) {
+			t.Fatalf("PlainNumber(%q) = %v", s, plain)
+		}
+		if plain {
+			// The syntax is one strconv.ParseFloat reads: only a range
+			// error is possible.
+			if _, err := strconv.ParseFloat(s, 64); err != nil && !errors.Is(err, strconv.ErrRange) {
+				t.Fatalf("PlainNumber accepted %q which ParseFloat refuses: %v", s, err)
+			}
+		}
+		if v, ok := WholeNumber([]byte(s)); ok {
+			want, err := strconv.ParseInt(s, 10, 64)
+			if !digitsOnly(s) || err != nil || v != want {
+				t.Fatalf("WholeNumber accepted %q as %d", s, v)
+			}
+		}
 		m, sc, ok := ParseDecimal([]byte(s))
 		if !ok {
 			return
+		}
+		if !plainDecimalRE.MatchString(s) {
+			t.Fatalf("ParseDecimal accepted %q, not a plain decimal", s)
 		}
 		want, err := strconv.ParseFloat(s, 64)
 		if err != nil {
@@ -163,4 +229,13 @@ func FuzzParseDecimal(f *testing.F) {
 			t.Fatalf("%q: %v != %v", s, got, want)
 		}
 	})
+}
+
+func digitsOnly(s string) bool {
+	for _, c := range s {
+		if c < '0' || c > '9' {
+			return false
+		}
+	}
+	return s != ""
 }

@@ -109,3 +109,64 @@ func parseDecimal(mant int64, scale uint8) float64 {
 	v, _ := strconv.ParseFloat(s, 64)
 	return v
 }
+
+// PlainNumber reports whether s is a number written the way data loggers
+// write them: an optional sign, decimal digits with at most one decimal
+// point (at least one digit in all, so "5", "5.", ".5" and "-0.25" are
+// numbers and ".", "+." and "-" are not), then an optional exponent: e or
+// E, an optional sign and at least one digit. Nothing else is a number:
+// no spaces, no digit separators ("1_000"), no hexadecimal ("0x1p3"), no
+// "Inf", "Infinity" or "NaN", no comma for the point — all of which
+// strconv.ParseFloat would read in some form. Callers gate ParseFloat with
+// it.
+func PlainNumber(s []byte) bool {
+	i, n := 0, len(s)
+	if i < n && (s[i] == '+' || s[i] == '-') {
+		i++
+	}
+	digits := 0
+	for i < n && s[i] >= '0' && s[i] <= '9' {
+		i++
+		digits++
+	}
+	if i < n && s[i] == '.' {
+		i++
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			digits++
+		}
+	}
+	if digits == 0 {
+		return false
+	}
+	if i < n && (s[i] == 'e' || s[i] == 'E') {
+		i++
+		if i < n && (s[i] == '+' || s[i] == '-') {
+			i++
+		}
+		exp := 0
+		for i < n && s[i] >= '0' && s[i] <= '9' {
+			i++
+			exp++
+		}
+		if exp == 0 {
+			return false
+		}
+	}
+	return i == n
+}
+
+// WholeNumber parses a count: decimal digits only (no sign, point,
+// exponent or spaces), at most 18 of them. ok is false for anything else.
+func WholeNumber(s []byte) (v int64, ok bool) {
+	if len(s) == 0 || len(s) > 18 {
+		return 0, false
+	}
+	for _, c := range s {
+		if c < '0' || c > '9' {
+			return 0, false
+		}
+		v = v*10 + int64(c-'0')
+	}
+	return v, true
+}

@@ -285,19 +285,31 @@ type SampleOptions struct {
 	Limits *Limits
 	// BlockSamples is the number of rows per block (default 8192).
 	BlockSamples int
+	// MinTime is the earliest accepted time stamp; the zero value means
+	// 1990-01-01T00:00:00Z (DefaultMinTimeUnix). An earlier stamp is
+	// refused with its line and column. To accept older records give an
+	// earlier time explicitly; before 1677-09-21 only what int64
+	// nanoseconds hold is accepted.
+	MinTime time.Time
+	// MaxTime is the latest accepted time stamp: the caller passes the
+	// present plus a clock tolerance (DefaultClockTolerance). The zero
+	// value sets no upper limit beyond what int64 nanoseconds hold
+	// (2262-04-11); a time beyond that is refused, never wrapped.
+	MaxTime time.Time
 }
 
 // SampleReader streams a samples file block by block.
 type SampleReader struct {
-	lr      *lineReader
-	h       Header
-	opt     SampleOptions
-	lim     Limits
-	fields  [][]byte
-	prevT   int64
-	rows    int64
-	startNS int64
-	done    bool
+	lr     *lineReader
+	h      Header
+	opt    SampleOptions
+	lim    Limits
+	fields [][]byte
+	prevT  int64
+	rows   int64
+	start  time.Time // t_s = 0, for t_s files
+	win    window
+	done   bool
 }
 
 // NewSampleReader reads and checks the header.
@@ -310,7 +322,7 @@ func NewSampleReader(r io.Reader, file string, opt SampleOptions) (*SampleReader
 	if err != nil {
 		return nil, err
 	}
-	sr := &SampleReader{lr: lr, opt: opt, lim: DefaultLimits}
+	sr := &SampleReader{lr: lr, opt: opt, lim: DefaultLimits, win: newWindow(opt.MinTime, opt.MaxTime)}
 	if opt.Limits != nil {
 		sr.lim = *opt.Limits
 	}
@@ -326,7 +338,10 @@ func NewSampleReader(r io.Reader, file string, opt SampleOptions) (*SampleReader
 		if opt.Start == nil {
 			return nil, &Error{File: file, Line: lr.line, Column: sr.h.Time + 1, Name: "t_s", Msg: "times are relative (t_s): give the dive's start time (--start, RFC 3339)"}
 		}
-		sr.startNS = opt.Start.UnixNano()
+		sr.start = *opt.Start
+		if msg := sr.win.checkStart(sr.start); msg != "" {
+			return nil, &Error{File: file, Line: lr.line, Column: sr.h.Time + 1, Name: "t_s", Msg: msg + " (--start)"}
+		}
 	}
 	return sr, nil
 }
@@ -447,13 +462,22 @@ func (sr *SampleReader) parseNumber(f []byte, i int, col *blocks.Column) (float6
 	return v, nil
 }
 
-// parseFloat parses a number that is not a plain decimal, refusing NaN and
-// Inf and anything that is not a number.
+// parseFloat parses a number that is not a plain decimal of at most 18
+// digits (an exponent, a long mantissa). Only the syntax blocks.PlainNumber
+// accepts is passed to strconv.ParseFloat, which would also read digit
+// separators, hexadecimal, Inf and NaN.
 func parseFloat(f []byte) (float64, error) {
 	if len(f) == 0 {
 		return 0, errors.New("empty value")
 	}
 	s := unsafe.String(&f[0], len(f))
+	if !blocks.PlainNumber(f) {
+		switch strings.ToLower(strings.TrimLeft(s, "+-")) {
+		case "nan", "inf", "infinity":
+			return 0, fmt.Errorf("%q: NaN and Inf are not readings", s)
+		}
+		return 0, fmt.Errorf("not a number: %q (a number is written with digits, an optional sign, point and exponent, e.g. -12.5 or 1.25e3)", s)
+	}
 	v, err := strconv.ParseFloat(s, 64)
 	if err != nil {
 		var ne *strconv.NumError
@@ -470,37 +494,44 @@ func parseFloat(f []byte) (float64, error) {
 
 func (sr *SampleReader) parseTime(f []byte, i int) (int64, error) {
 	c := sr.h.Columns[i]
-	if c.Kind == KindTRel {
+	ns, msg := parseTimeField(f, c.Kind == KindTRel, sr.start, &sr.win)
+	if msg != "" {
+		return 0, sr.lr.errf(i+1, c.Name, "%s", msg)
+	}
+	return ns, nil
+}
+
+// parseTimeField parses a time field: RFC 3339, or for rel seconds from
+// start as a plain decimal. It returns nanoseconds since 1970, or a
+// message; no time outside win, and no time int64 nanoseconds cannot
+// hold, is returned.
+func parseTimeField(f []byte, rel bool, start time.Time, win *window) (int64, string) {
+	if len(f) == 0 {
+		return 0, "empty time"
+	}
+	var t time.Time
+	if rel {
 		m, s, ok := blocks.ParseDecimal(f)
 		if !ok {
 			if _, err := parseFloat(f); err != nil {
-				return 0, sr.lr.errf(i+1, c.Name, "%v", err)
+				return 0, err.Error()
 			}
-			return 0, sr.lr.errf(i+1, c.Name, "seconds must be a plain decimal number (no exponent), got %q", f)
+			return 0, fmt.Sprintf("seconds must be a plain decimal number (no exponent, at most 18 digits), got %q", f)
 		}
 		if s > 9 {
-			return 0, sr.lr.errf(i+1, c.Name, "time %q is finer than 1 ns", f)
+			return 0, fmt.Sprintf("time %q is finer than 1 ns", f)
 		}
 		if m < 0 {
-			return 0, sr.lr.errf(i+1, c.Name, "negative time %q: t_s counts from the start", f)
+			return 0, fmt.Sprintf("negative time %q: t_s counts from the start", f)
 		}
-		mul := int64(1)
-		for k := s; k < 9; k++ {
-			mul *= 10
+		t = relTime(start, m, s)
+	} else {
+		var msg string
+		if t, msg = parseRFC3339(f); msg != "" {
+			return 0, msg
 		}
-		if m > (math.MaxInt64-sr.startNS)/mul {
-			return 0, sr.lr.errf(i+1, c.Name, "time %q too large", f)
-		}
-		return sr.startNS + m*mul, nil
 	}
-	if len(f) == 0 {
-		return 0, sr.lr.errf(i+1, c.Name, "empty time")
-	}
-	t, err := time.Parse(time.RFC3339Nano, unsafe.String(&f[0], len(f)))
-	if err != nil {
-		return 0, sr.lr.errf(i+1, c.Name, "not an RFC 3339 time (e.g. 2026-05-01T08:30:00Z): %q", f)
-	}
-	return t.UnixNano(), nil
+	return win.check(t)
 }
 
 func fmtNS(ns int64) string { return time.Unix(0, ns).UTC().Format(time.RFC3339Nano) }

@@ -74,7 +74,7 @@ func TestBlocksSplit(t *testing.T) {
 	for i := 0; i < 100; i++ {
 		b.WriteString(strconv.Itoa(i) + "," + strconv.Itoa(i%7) + "\n")
 	}
-	start := time.Unix(0, 0)
+	start := time.Date(2026, 5, 1, 0, 0, 0, 0, time.UTC)
 	sr, err := NewSampleReader(strings.NewReader(b.String()), "f", SampleOptions{Start: &start, BlockSamples: 16})
 	if err != nil {
 		t.Fatal(err)
@@ -139,10 +139,29 @@ func FuzzSamples(f *testing.F) {
 	f.Add("time,depth_m,strain_a_ue\n2026-05-01T00:00:00Z,1,2\n2026-05-01T00:00:01Z,3,4\n")
 	f.Add("t_s,pressure_bar,temp_c\n0,1,2\n0.5,1e2,3\n")
 	f.Add("t_s,pressure_abs_psi\n0,14.7\n")
+	f.Add("time,depth_m\n1989-12-31T23:59:59Z,1\n2262-04-11T23:47:16.854775808Z,0x1p3\n")
+	f.Add("t_s,depth_m\n0,1_0\n9999999999,Inf\n")
+	f.Add("time,depth_m\n2026-05-01t00:00:00+24:00,1\n")
 	f.Add("")
+	start := time.Unix(1700000000, 0)
+	minT, maxT := time.Unix(DefaultMinTimeUnix, 0), time.Date(2100, 1, 1, 0, 0, 0, 0, time.UTC)
 	f.Fuzz(func(t *testing.T, src string) {
-		start := time.Unix(1700000000, 0)
-		n, load, err := readAll(t, src, SampleOptions{Start: &start, BlockSamples: 4})
+		sr, err := NewSampleReader(strings.NewReader(src), "f", SampleOptions{Start: &start, BlockSamples: 4, MaxTime: maxT})
+		var times []int64
+		var n int64
+		if err == nil {
+			b := sr.NewBlock()
+			for {
+				if err = sr.ReadBlock(b); err != nil {
+					break
+				}
+				times = append(times, b.TimeNS...)
+				n += int64(len(b.Cols[sr.Header().Load].Value))
+			}
+			if err == io.EOF {
+				err = nil
+			}
+		}
 		if err != nil {
 			var e *Error
 			if !errors.As(err, &e) {
@@ -150,8 +169,27 @@ func FuzzSamples(f *testing.F) {
 			}
 			return
 		}
-		if int64(len(load)) != n || n == 0 {
-			t.Fatalf("rows %d, load values %d", n, len(load))
+		if n != sr.Rows() || n == 0 || int64(len(times)) != n {
+			t.Fatalf("rows %d, load values %d, times %d", sr.Rows(), n, len(times))
+		}
+		for _, ns := range times {
+			if ns < minT.UnixNano() || ns > maxT.UnixNano() {
+				t.Fatalf("accepted time %s outside %s..%s", fmtNS(ns), minT, maxT)
+			}
+		}
+		// Every accepted field is a plain number or an RFC 3339 time.
+		h := sr.Header()
+		for _, row := range dataFields(src) {
+			for i, v := range row {
+				switch {
+				case i == h.Time && h.Columns[i].Kind == KindTime:
+					if !rfc3339RE.MatchString(v) {
+						t.Fatalf("accepted time %q", v)
+					}
+				case !plainNumberRE.MatchString(v):
+					t.Fatalf("accepted number %q", v)
+				}
+			}
 		}
 	})
 }
@@ -159,21 +197,82 @@ func FuzzSamples(f *testing.F) {
 func FuzzHits(f *testing.F) {
 	f.Add("time,channel,amplitude_db,energy,counts,duration_us,rise_us\n2026-05-01T00:00:00Z,1,50,1.5,3,100,10\n")
 	f.Add("t_s,channel,amplitude_db,energy,counts,duration_us,rise_us\n0.5,1,50,1.5,3,100,10\n")
+	f.Add("event,time,channel,amplitude_db,energy,counts,duration_us,rise_us\nlead_break,2026-05-01T00:00:00Z,1,98,1e3,400,2000,5\nsensor_test,2026-05-01T00:00:01Z,2,90,800,300,1500,4\n")
+	f.Add("t_s,channel,amplitude_db,energy,counts,duration_us,rise_us\n99999999999,1,50,0x1p3,3.0,100,10\n")
+	start := time.Unix(1700000000, 0)
+	minT, maxT := time.Unix(DefaultMinTimeUnix, 0), time.Date(2100, 1, 1, 0, 0, 0, 0, time.UTC)
 	f.Fuzz(func(t *testing.T, src string) {
-		start := time.Unix(1700000000, 0)
-		hr, err := NewHitReader(strings.NewReader(src), "h", &start)
+		hr, err := NewHitReaderOptions(strings.NewReader(src), "h", HitOptions{Start: &start, MaxTime: maxT})
 		if err != nil {
 			return
 		}
 		var h Hit
+		var n int
 		for i := 0; i < 10000; i++ {
-			err := hr.Next(&h)
+			err = hr.Next(&h)
 			if err != nil {
-				return
+				break
 			}
-			if h.RiseUS > h.DurationUS || h.AmplitudeDB < 0 || h.Counts < 0 {
+			n++
+			if h.RiseUS > h.DurationUS || h.AmplitudeDB < 0 || h.Counts < 0 || h.Channel < 0 {
 				t.Fatalf("accepted an impossible hit %+v", h)
 			}
+			if h.TimeNS < minT.UnixNano() || h.TimeNS > maxT.UnixNano() {
+				t.Fatalf("accepted time %s outside %s..%s", fmtNS(h.TimeNS), minT, maxT)
+			}
+			if h.Event > EventSensorTest {
+				t.Fatalf("accepted event %d", h.Event)
+			}
+		}
+		if err != io.EOF {
+			return
+		}
+		// Every field of an accepted file is well formed.
+		rows := dataFields(src)
+		if len(rows) != n {
+			t.Fatalf("%d rows accepted, %d data lines", n, len(rows))
+		}
+		for _, row := range rows {
+			for slot, at := range hr.idx {
+				if at < 0 {
+					continue
+				}
+				v := row[at]
+				ok := true
+				switch {
+				case slot == 0 && !hr.rel:
+					ok = rfc3339RE.MatchString(v)
+				case slot == slotChannel || slot == slotCounts:
+					ok = digitsRE.MatchString(v)
+				case slot == slotEvent:
+					_, ok = ParseEvent(v)
+				default:
+					ok = plainNumberRE.MatchString(v)
+				}
+				if !ok {
+					t.Fatalf("accepted field %q in column %d", v, at+1)
+				}
+			}
+		}
+	})
+}
+
+// FuzzRFC3339 checks the time parser against the syntax of RFC 3339 and,
+// where the standard library also reads the text, against its instant.
+func FuzzRFC3339(f *testing.F) {
+	for _, s := range []string{"2026-05-01T08:30:00Z", "2026-05-01t08:30:00.5+02:00", "2016-12-31T23:59:60Z", "2026-05-01T08:30:00+24:00", "2026-02-29T00:00:00Z", "2026-05-01T08:30:00,5Z"} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, s string) {
+		got, msg := parseRFC3339([]byte(s))
+		if msg != "" {
+			return
+		}
+		if !rfc3339RE.MatchString(s) {
+			t.Fatalf("accepted %q", s)
+		}
+		if want, err := time.Parse(time.RFC3339Nano, s); err == nil && !want.Equal(got) {
+			t.Fatalf("%q: %v, time.Parse %v", s, got, want)
 		}
 	})
 }
