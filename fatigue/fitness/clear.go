@@ -4,12 +4,18 @@ import (
 	"fmt"
 	"math"
 	"sort"
+
+	"hulltally/fatigue/seawater"
 )
 
 // Plan is a dive the operator means to make.
 type Plan struct {
 	// DepthM is the planned maximum depth, m.
 	DepthM float64
+	// PressureMPa is the planned maximum gauge pressure, MPa; 0 means not
+	// given. Clear takes the larger of it and the pressure of DepthM at
+	// latitude 90° (the most pressure per metre: the safe side).
+	PressureMPa float64
 	// BottomTimeMin is the planned time at depth, minutes (reported only;
 	// its damage is in PredictedDamageRatio).
 	BottomTimeMin float64
@@ -38,9 +44,12 @@ type Clearance struct {
 // exceeds it (or trips the depth rule's hold level); when the predicted
 // damage exceeds what is left of the allowable (the damage rule's hold
 // level, at most 1, minus the governing ratio; unknown damage leaves
-// nothing); when a rule on the time or dives since the last inspection or
-// proof test stands at hold; and when there are no rules. A watch status
-// is go with a reason saying so. Every check is listed, passed or not.
+// nothing); when the planned pressure reaches the collapse-fraction
+// rule's hold level of the collapse pressure (or the collapse pressure is
+// not known); when a rule on the time or dives since the last inspection
+// or proof test stands at hold; and when there are no rules. A watch
+// status is go with a reason saying so. Every check is listed, passed or
+// not.
 func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 	var reasons []Reason
 	check := func(code string, nogo bool, state State, format string, args ...any) {
@@ -83,7 +92,7 @@ func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 	for _, n := range []struct {
 		name string
 		x    float64
-	}{{"depth", p.DepthM}, {"bottom time", p.BottomTimeMin}, {"predicted damage", p.PredictedDamageRatio}, {"remaining damage", p.RemainingRatio}} {
+	}{{"depth", p.DepthM}, {"pressure", p.PressureMPa}, {"bottom time", p.BottomTimeMin}, {"predicted damage", p.PredictedDamageRatio}, {"remaining damage", p.RemainingRatio}} {
 		if math.IsNaN(n.x) || math.IsInf(n.x, 0) || n.x < 0 {
 			check("plan", true, Hold, "planned %s %v is not a valid number", n.name, n.x)
 			planOK = false
@@ -146,6 +155,9 @@ func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 		}
 	}
 
+	// Pressure against the collapse pressure.
+	clearCollapse(check, f, p, planOK, r)
+
 	// Inspection and proof test due.
 	for _, rule := range r.Rules {
 		switch rule.Measure {
@@ -153,8 +165,8 @@ func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 		default:
 			continue
 		}
-		val, detail, ok := hullValue(rule.Measure, f, f.Dives)
-		fl := appendFlag(nil, rule, val, detail, ok, "", f.Now)
+		val, detail, ok, _ := hullValue(rule.Measure, f, f.Dives)
+		fl := appendFlag(nil, rule, val, detail, ok, "", f.Now, f.Now)
 		switch {
 		case len(fl) == 0:
 			check(rule.ID, false, Fit, "%s: %s, not due (%s)", rule.Title, num(val, rule.Measure.Unit()), detail)
@@ -178,12 +190,40 @@ func finish(reasons []Reason) Clearance {
 	return c
 }
 
+// latest returns the dive the ledger recorded last.
 func latest(ds []DiveFacts) DiveFacts {
-	best := ds[0]
-	for _, d := range ds[1:] {
-		if d.Start.After(best.Start) {
-			best = d
+	s := append([]DiveFacts(nil), ds...)
+	sortByRecording(s)
+	return s[len(s)-1]
+}
+
+// clearCollapse checks the planned pressure against the collapse-fraction
+// rules' hold level of the collapse pressure.
+func clearCollapse(check func(code string, nogo bool, state State, format string, args ...any), f HullFacts, p Plan, planOK bool, r *Rules) {
+	rules := r.ByMeasure(MeasureCollapseFraction)
+	var holds []Rule
+	for _, rule := range rules {
+		if rule.Hold != nil {
+			holds = append(holds, rule)
 		}
 	}
-	return best
+	c := f.CollapsePressureMPa
+	planned := math.Max(p.PressureMPa, seawater.DepthToMPa(p.DepthM, 90))
+	switch {
+	case len(holds) == 0:
+		check("collapse", true, Hold, "no collapse-fraction rule with a hold level: the planned pressure cannot be checked against the collapse pressure")
+	case bad(c) || c == 0:
+		check("collapse", true, Hold, "collapse pressure not known: the planned pressure cannot be checked against it")
+	case !planOK || bad(planned):
+		check("collapse", true, Hold, "planned pressure not checked: the plan is not valid")
+	default:
+		frac := planned / c
+		for _, rule := range holds {
+			if lvl, t, ok := rule.Level(frac); ok && lvl == LevelHold {
+				check("collapse", true, Hold, "planned pressure %.3f MPa is %.3g of the collapse pressure %.3f MPa (%s %s: rule %s)", planned, frac, c, t.When.Symbol(), num(t.At, ""), rule.ID)
+				return
+			}
+		}
+		check("collapse", false, Fit, "planned pressure %.3f MPa is %.3g of the collapse pressure %.3f MPa, below the hold level %s", planned, frac, c, *holds[0].Hold)
+	}
 }

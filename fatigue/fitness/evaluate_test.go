@@ -62,7 +62,7 @@ func TestRuleHoldEmission(t *testing.T) {
 	runRuleCases(t, "hold-emission-not-decaying", []ruleCase{
 		{"decays", func(f *HullFacts) { f.Dives[0].HoldDecays = bp(true) }, "", false, 0},
 		{"does not decay", func(f *HullFacts) { f.Dives[0].HoldDecays = bp(false) }, LevelHold, false, 1},
-		{"not evaluated", func(f *HullFacts) { f.Dives[0].HoldDecays = nil }, LevelWatch, true, 0},
+		{"not evaluated", func(f *HullFacts) { f.Dives[0].HoldDecays, f.Dives[0].HoldEmissionSignificant = nil, nil }, LevelWatch, true, 0},
 		{"no hold period", func(f *HullFacts) { f.Dives[0].HoldDecays, f.Dives[0].NoHoldPeriod = nil, true }, "", false, 0},
 		{"no AE configured", func(f *HullFacts) { f.Dives[0].Channels, f.Dives[0].HoldDecays = nil, nil }, "", false, 0},
 	})

@@ -26,16 +26,30 @@ func day(n float64) time.Duration { return time.Duration(n * 24 * float64(time.H
 
 func fp(x float64) *float64 { return &x }
 func bp(x bool) *bool       { return &x }
+func ip(x int) *int         { return &x }
 
-// goodDive is a dive with every piece of evidence present and healthy.
+// goodChannel is a channel's evidence, present and healthy.
+func goodChannel() ChannelFacts {
+	return ChannelFacts{Present: true, Checked: true, HistoricIndex: fp(1.0), Severity: fp(800), HighAmplitudeHits: 0, TotalCounts: 300}
+}
+
+// goodDive is a dive with every piece of evidence present and healthy,
+// recorded two hours after it began.
 func goodDive(id string, start time.Time) DiveFacts {
 	return DiveFacts{
-		ID: id, Start: start, MaxDepthM: 800, RatedDepthM: 1000,
-		FelicityRatio:    fp(1.05),
-		HoldDecays:       bp(true),
-		ComplianceChange: map[string]float64{"g1": 0.004, "g2": -0.002},
-		ResidualStrain:   map[string]float64{"g1": 3, "g2": -2},
-		Gauges:           []string{"g1", "g2"}, GaugesPresent: []string{"g1", "g2"},
+		ID: id, Start: start, RecordedAt: start.Add(2 * time.Hour), MaxDepthM: 800, RatedDepthM: 1000,
+		FelicityRatio:           fp(1.05),
+		HoldDecays:              bp(true),
+		HoldEmissionSignificant: bp(false),
+		HoldHitsAfterSettle:     ip(0),
+		ChannelFacts:            map[string]ChannelFacts{"ae1": goodChannel()},
+		ComplianceChange:        map[string]float64{"g1": 0.004, "g2": -0.002},
+		ResidualStrain:          map[string]float64{"g1": 3, "g2": -2},
+		Creep:                   map[string]float64{"g1": 4, "g2": -3},
+		Hysteresis:              map[string]float64{"g1": 0.01, "g2": 0.02},
+		DataQualityChecked:      true,
+		PeakMPa:                 8.1,
+		Gauges:                  []string{"g1", "g2"}, GaugesPresent: []string{"g1", "g2"},
 		Channels: []string{"ae1"}, ChannelsPresent: []string{"ae1"},
 	}
 }
@@ -46,8 +60,10 @@ func goodHull() HullFacts {
 	return HullFacts{
 		Hull: "HX-01", Now: t0,
 		DamageRatio: fp(0.2), GoverningComponent: "cylinder",
-		RatedDepthM: 1000,
-		Dives:       []DiveFacts{goodDive("d1", t0.Add(-day(1)))},
+		RatedDepthM:    1000,
+		MaxPressureMPa: 12.5, CollapsePressureMPa: 20,
+		QualifiedCycles: fp(10000), CyclesUsed: 110,
+		Dives:           []DiveFacts{goodDive("d1", t0.Add(-day(1)))},
 		DiveCount:   110,
 		Inspections: []Inspection{{At: t0.Add(-day(10)), Method: "visual", Result: ResultPass, Actor: "A. Inspector", DiveCount: 100}},
 		ProofTests:  []ProofTest{{At: t0.Add(-day(200)), PressureMPa: 12.5, Result: ResultPass, Actor: "B. Tester", DiveCount: 0}},

@@ -122,6 +122,44 @@ const (
 	// MeasureMissingEvidence is the number of configured strain gauges and
 	// acoustic-emission channels with no data in a dive (per dive).
 	MeasureMissingEvidence Measure = "missing_evidence"
+	// MeasureHoldHitsAfterSettle is the number of acoustic-emission hits,
+	// over all channels, during a dive's hold at depth after the settling
+	// time (per dive): the absolute test paired with the decay test of
+	// MeasureHoldEmission.
+	MeasureHoldHitsAfterSettle Measure = "hold_hits_after_settle"
+	// MeasureHistoricIndex is the largest historic index over a dive's
+	// acoustic-emission channels (per dive; the channel is named).
+	MeasureHistoricIndex Measure = "historic_index"
+	// MeasureSeverity is the largest severity (mean of the largest signal
+	// strengths, the instrument's unit) over a dive's channels (per dive).
+	MeasureSeverity Measure = "severity"
+	// MeasureHighAmplitudeHits is the largest number of hits above the
+	// reference amplitude over a dive's channels (per dive).
+	MeasureHighAmplitudeHits Measure = "high_amplitude_hits"
+	// MeasureTotalCounts is the largest sum of threshold-crossing counts
+	// over a dive's channels (per dive).
+	MeasureTotalCounts Measure = "total_counts"
+	// MeasureCreepStrain is the largest magnitude, over the gauges, of the
+	// pressure-corrected strain drift during a dive's hold at depth, µε
+	// (per dive).
+	MeasureCreepStrain Measure = "creep_strain"
+	// MeasureStrainHysteresis is the largest magnitude, over the gauges,
+	// of a dive's normalised strain hysteresis (per dive).
+	MeasureStrainHysteresis Measure = "strain_hysteresis"
+	// MeasureDataQuality is the number of findings against the quality of
+	// a dive's record (per dive).
+	MeasureDataQuality Measure = "data_quality_findings"
+	// MeasureProofOvershoot is a proof-test dive's peak pressure divided
+	// by the spec's proof pressure (per proof-test dive).
+	MeasureProofOvershoot Measure = "proof_overshoot"
+	// MeasureCollapseFraction is the highest pressure the hull has been
+	// recorded at, proof tests included, divided by its collapse pressure
+	// (hull level).
+	MeasureCollapseFraction Measure = "collapse_fraction"
+	// MeasureDesignCyclesUsed is the number of pressure cycles used
+	// divided by the number the design was qualified for (hull level; the
+	// rule does not apply when the spec does not say).
+	MeasureDesignCyclesUsed Measure = "design_cycles_used"
 )
 
 // Measures lists every measure in the order rules are usually written.
@@ -131,6 +169,10 @@ func Measures() []Measure {
 		MeasureComplianceChange, MeasureResidualStrain, MeasureResidualGrowth,
 		MeasureDepthRatio, MeasureDivesSinceInspection, MeasureDaysSinceInspection,
 		MeasureDaysSinceProofTest, MeasureMissingEvidence,
+		MeasureHoldHitsAfterSettle, MeasureHistoricIndex, MeasureSeverity,
+		MeasureHighAmplitudeHits, MeasureTotalCounts, MeasureCreepStrain,
+		MeasureStrainHysteresis, MeasureDataQuality, MeasureProofOvershoot,
+		MeasureCollapseFraction, MeasureDesignCyclesUsed,
 	}
 }
 
@@ -174,6 +216,29 @@ func specOf(m Measure) (measureSpec, bool) {
 		return measureSpec{rising: true, hull: true, required: true, unit: "days"}, true
 	case MeasureMissingEvidence:
 		return measureSpec{rising: true, required: true, unit: "missing"}, true
+	case MeasureHoldHitsAfterSettle:
+		return measureSpec{rising: true, unit: "hits"}, true
+	case MeasureHistoricIndex:
+		return measureSpec{rising: true, unit: ""}, true
+	case MeasureSeverity:
+		return measureSpec{rising: true, unit: "signal-strength units"}, true
+	case MeasureHighAmplitudeHits:
+		return measureSpec{rising: true, unit: "hits"}, true
+	case MeasureTotalCounts:
+		return measureSpec{rising: true, unit: "counts"}, true
+	case MeasureCreepStrain:
+		return measureSpec{rising: true, unit: "µε"}, true
+	case MeasureStrainHysteresis:
+		return measureSpec{rising: true, unit: ""}, true
+	case MeasureDataQuality:
+		return measureSpec{rising: true, unit: "findings"}, true
+	case MeasureProofOvershoot:
+		// Required: proof-test dives are left out of the depth rule.
+		return measureSpec{rising: true, required: true, needsHold: true, unit: "of the proof pressure"}, true
+	case MeasureCollapseFraction:
+		return measureSpec{rising: true, hull: true, required: true, needsHold: true, unit: "of the collapse pressure"}, true
+	case MeasureDesignCyclesUsed:
+		return measureSpec{rising: true, hull: true, needsHold: true, unit: "of the qualified cycles"}, true
 	}
 	return measureSpec{}, false
 }
@@ -435,7 +500,8 @@ func checkThreshold(m Measure, spec measureSpec, t Threshold) error {
 }
 
 // checkLimits refuses hold levels that would let a hull past its
-// allowable damage or its rated depth.
+// allowable damage, its rated depth, its collapse pressure or its
+// qualified cycles.
 func checkLimits(r Rule) error {
 	if r.Hold == nil {
 		return nil
@@ -449,6 +515,14 @@ func checkLimits(r Rule) error {
 	case MeasureDepthRatio:
 		if h.At > 1 {
 			return fmt.Errorf("hold level %s lets dives beyond the rated depth pass", h)
+		}
+	case MeasureCollapseFraction:
+		if (h.When == AtOrAbove && h.At > 1) || (h.When == Above && h.At >= 1) {
+			return fmt.Errorf("hold level %s lets the hull reach or pass its collapse pressure", h)
+		}
+	case MeasureDesignCyclesUsed:
+		if (h.When == AtOrAbove && h.At > 1) || (h.When == Above && h.At >= 1) {
+			return fmt.Errorf("hold level %s lets the hull reach or pass the cycles it was qualified for", h)
 		}
 	}
 	return nil

@@ -27,6 +27,17 @@ func TestShippedRules(t *testing.T) {
 		{"inspection-due-by-days", MeasureDaysSinceInspection, th(AtOrAbove, 292), th(AtOrAbove, 365), LevelHold, LabelOperator},
 		{"proof-test-due", MeasureDaysSinceProofTest, th(AtOrAbove, 1461), th(AtOrAbove, 1826), LevelHold, LabelOperator},
 		{"missing-evidence", MeasureMissingEvidence, th(AtOrAbove, 1), nil, LevelWatch, LabelOperator},
+		{"hold-hits-after-settle", MeasureHoldHitsAfterSettle, th(AtOrAbove, 2), th(Above, 5), LevelWatch, LabelOperator},
+		{"historic-index", MeasureHistoricIndex, th(AtOrAbove, 1.5), th(AtOrAbove, 2.0), LevelWatch, LabelOperator},
+		{"severity", MeasureSeverity, th(AtOrAbove, 5000), th(AtOrAbove, 10000), LevelWatch, LabelOperator},
+		{"high-amplitude-hits", MeasureHighAmplitudeHits, th(AtOrAbove, 1), th(AtOrAbove, 5), LevelWatch, LabelOperator},
+		{"total-counts", MeasureTotalCounts, th(AtOrAbove, 5000), th(AtOrAbove, 20000), LevelWatch, LabelOperator},
+		{"creep-strain", MeasureCreepStrain, th(AtOrAbove, 50), th(AtOrAbove, 100), LevelWatch, LabelOperator},
+		{"strain-hysteresis", MeasureStrainHysteresis, th(AtOrAbove, 0.05), th(AtOrAbove, 0.10), LevelWatch, LabelOperator},
+		{"data-quality", MeasureDataQuality, th(AtOrAbove, 1), nil, LevelWatch, LabelOperator},
+		{"proof-overshoot", MeasureProofOvershoot, th(Above, 1.01), th(Above, 1.03), LevelHold, LabelOperator},
+		{"collapse-fraction", MeasureCollapseFraction, th(AtOrAbove, 0.8), th(AtOrAbove, 0.9), LevelHold, LabelOperator},
+		{"design-cycles-used", MeasureDesignCyclesUsed, th(AtOrAbove, 0.8), th(AtOrAbove, 1.0), LevelHold, LabelOperator},
 	}
 	if len(rs.Rules) != len(want) {
 		t.Fatalf("%d rules, want %d", len(rs.Rules), len(want))
@@ -122,6 +133,12 @@ func TestParseRulesErrors(t *testing.T) {
 		{"operator label, cited source", replaced(t, "    source: operator's choice\n    label: operator's choice\n\n  - id: felicity", "    source: DNV rules\n    label: operator's choice\n\n  - id: felicity"), "does not say so"},
 		{"from memory label without saying so", replaced(t, "emission examination of fiber-reinforced plastic vessels), hold-period\n      criteria, from memory: check", "emission examination of fiber-reinforced plastic vessels), hold-period\n      criteria: check"), "from memory"},
 		{"memory source labelled published", replaced(t, "label: from memory", "label: published"), "from memory"},
+		{"collapse hold beyond the collapse pressure", replaced(t, "hold: {when: at_or_above, at: 0.9}", "hold: {when: at_or_above, at: 1.05}"), "collapse pressure"},
+		{"collapse hold strictly above 1", replaced(t, "hold: {when: at_or_above, at: 0.9}", "hold: {when: above, at: 1.0}"), "collapse pressure"},
+		{"cycles hold beyond the qualified", replaced(t, "    hold: {when: at_or_above, at: 1.0}\n    if_missing: hold\n    basis: >-\n      Pressure cycles", "    hold: {when: at_or_above, at: 1.2}\n    if_missing: hold\n    basis: >-\n      Pressure cycles"), "qualified"},
+		{"collapse rule left out", replaced(t, "measure: collapse_fraction", "measure: design_cycles_used"), "no rule for measure \"collapse_fraction\""},
+		{"proof overshoot rule left out", replaced(t, "measure: proof_overshoot", "measure: data_quality_findings"), "no rule for measure \"proof_overshoot\""},
+		{"proof overshoot without hold", replaced(t, "    hold: {when: above, at: 1.03}\n", ""), "needs a hold"},
 		{"operator source labelled published", replaced(t, "    source: operator's choice\n    label: operator's choice\n\n  - id: felicity", "    source: operator's choice\n    label: published\n\n  - id: felicity"), "operator's choice"},
 	}
 	for _, c := range cases {

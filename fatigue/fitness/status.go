@@ -41,6 +41,9 @@ type Inspection struct {
 	Actor string
 	// DiveCount is the hull's dive count when it was inspected.
 	DiveCount int
+	// RecordedAt is when the ledger recorded the inspection; zero means
+	// not known, and At stands in for it.
+	RecordedAt time.Time
 }
 
 // ProofTest is a recorded proof test of the hull.
@@ -55,6 +58,9 @@ type ProofTest struct {
 	Actor string
 	// DiveCount is the hull's dive count when it was tested.
 	DiveCount int
+	// RecordedAt is when the ledger recorded the proof test; zero means
+	// not known, and At stands in for it.
+	RecordedAt time.Time
 }
 
 // Records are a hull's inspections and proof tests.
@@ -89,6 +95,9 @@ type Decision struct {
 	Actor string
 	// Reason is why, in their words.
 	Reason string
+	// RecordedAt is when the ledger recorded the decision; zero means not
+	// known, and At stands in for it.
+	RecordedAt time.Time
 }
 
 // State is a hull's fitness status.
@@ -144,6 +153,16 @@ func (v Verdict) String() string {
 	return b.String()
 }
 
+// stamp is when something happened and when the ledger learned of it.
+type stamp struct{ at, rec time.Time }
+
+func stampOf(at, rec time.Time) stamp { return stamp{at, recorded(at, rec)} }
+
+// after reports whether s is later than o both in time and in recording:
+// a record backdated before a flag, or a flag whose clock is behind but
+// that was recorded later, is not "after".
+func (s stamp) after(o stamp) bool { return s.at.After(o.at) && s.rec.After(o.rec) }
+
 // Status gives the hull's state from its flags (every flag raised since the
 // last clearing event: the output of Evaluate, plus flags stored earlier),
 // its recorded decisions, inspections and proof tests, at time now:
@@ -160,33 +179,39 @@ func (v Verdict) String() string {
 //   - withdrawn holds from a decision to withdraw until a later decision to
 //     return to service; open flags are listed with it.
 //
+// "Later" is in both orders: by the time of the event (At) and by the
+// time the ledger recorded it (RecordedAt, or At when not known). A dive
+// whose logger clock is behind but that the ledger recorded after an
+// inspection is not cleared by it; an inspection backdated before a dive
+// already recorded does not clear the dive either.
+//
 // Then: withdrawn if withdrawn, else hold if any hold is open, else watch
-// if any watch is open, else fit. Records and decisions dated after now,
-// or without a time, clear nothing; a flag without a time is never
-// cleared. A return-to-service decision without a named person or a
+// if any watch is open, else fit. Records and decisions dated or recorded
+// after now, or without a time, clear nothing; a flag without a time is
+// never cleared. A return-to-service decision without a named person or a
 // reason is ignored (and said so).
 func Status(flags []Flag, decisions []Decision, records Records, now time.Time) Verdict {
 	var withdrawals, holds, watches, info []Reason
 
-	// Passing records that may clear, and the latest valid return to
-	// service.
-	var passes []time.Time
-	add := func(kind string, at time.Time, res Result, text string) {
+	// Passing records that may clear, and the valid returns to service.
+	var passes []stamp
+	add := func(kind string, at, rec time.Time, res Result, text string) {
+		st := stampOf(at, rec)
 		switch {
-		case res == ResultPass && !at.IsZero() && !at.After(now):
-			passes = append(passes, at)
+		case res == ResultPass && !at.IsZero() && !at.After(now) && !st.rec.After(now):
+			passes = append(passes, st)
 		case res == ResultPass:
 			info = append(info, Reason{Kind: kind, State: Fit, At: at,
-				Text: fmt.Sprintf("%s ignored for clearing: dated %s, not before now", text, when(at))})
+				Text: fmt.Sprintf("%s ignored for clearing: dated %s, recorded %s, not before now", text, when(at), when(st.rec))})
 		}
 	}
 	for _, in := range records.Inspections {
-		add("inspection", in.At, in.Result, "passing inspection by "+nameOr(in.Actor))
+		add("inspection", in.At, in.RecordedAt, in.Result, "passing inspection by "+nameOr(in.Actor))
 	}
 	for _, p := range records.ProofTests {
-		add("proof test", p.At, p.Result, "passing proof test by "+nameOr(p.Actor))
+		add("proof test", p.At, p.RecordedAt, p.Result, "passing proof test by "+nameOr(p.Actor))
 	}
-	sort.Slice(passes, func(i, j int) bool { return passes[i].Before(passes[j]) })
+	sort.Slice(passes, func(i, j int) bool { return passes[i].at.Before(passes[j].at) })
 
 	var rts []Decision
 	ds := append([]Decision(nil), decisions...)
@@ -206,43 +231,41 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 				Text: fmt.Sprintf("decision %q on %s by %s ignored: unknown kind", d.Kind, when(d.At), nameOr(d.Actor))})
 		}
 	}
-	var latestRTS time.Time
-	if len(rts) > 0 {
-		latestRTS = rts[len(rts)-1].At
-	}
-
-	// passAfter returns the first passing record later than t, and for a
-	// hold the first one followed by a return to service.
-	passAfter := func(t time.Time, needDecision bool) (time.Time, bool) {
-		if t.IsZero() {
-			return time.Time{}, false
-		}
-		for _, p := range passes {
-			if !p.After(t) {
-				continue
-			}
-			if !needDecision || latestRTS.After(p) {
-				return p, true
-			}
-		}
-		return time.Time{}, false
-	}
-	rtsAfter := func(t time.Time) (Decision, bool) {
+	rtsAfter := func(s stamp) (Decision, bool) {
 		for _, d := range rts {
-			if d.At.After(t) {
+			if stampOf(d.At, d.RecordedAt).after(s) {
 				return d, true
 			}
 		}
 		return Decision{}, false
 	}
+	// passAfter returns the first passing record later than s, and for a
+	// hold the first one followed by a return to service, with that
+	// decision.
+	passAfter := func(s stamp, needDecision bool) (stamp, Decision, bool) {
+		if s.at.IsZero() {
+			return stamp{}, Decision{}, false
+		}
+		for _, p := range passes {
+			if !p.after(s) {
+				continue
+			}
+			if !needDecision {
+				return p, Decision{}, true
+			}
+			if d, ok := rtsAfter(p); ok {
+				return p, d, true
+			}
+		}
+		return stamp{}, Decision{}, false
+	}
 
 	for _, f := range flags {
 		hold := f.Level != LevelWatch // an unknown level counts as hold
 		text := f.String()
-		if p, ok := passAfter(f.At, hold); ok {
-			closed := fmt.Sprintf("closed by the passing record of %s", when(p))
+		if p, d, ok := passAfter(stampOf(f.At, f.RecordedAt), hold); ok {
+			closed := fmt.Sprintf("closed by the passing record of %s", when(p.at))
 			if hold {
-				d, _ := rtsAfter(p)
 				closed += fmt.Sprintf(" and the return to service by %s on %s (%s)", d.Actor, when(d.At), d.Reason)
 			}
 			info = append(info, Reason{Kind: "flag", Code: f.Rule, State: Fit, At: f.At, Text: closed + ": " + text})
@@ -261,7 +284,7 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 	}
 
 	// Records that did not pass.
-	notPassed := func(kind string, at time.Time, res Result, actor, what string) {
+	notPassed := func(kind string, at, rec time.Time, res Result, actor, what string) {
 		if res == ResultPass {
 			return
 		}
@@ -269,9 +292,9 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 		if res == ResultIncomplete {
 			level = Watch
 		}
-		if p, ok := passAfter(at, level == Hold); ok {
+		if p, _, ok := passAfter(stampOf(at, rec), level == Hold); ok {
 			info = append(info, Reason{Kind: kind, State: Fit, At: at,
-				Text: fmt.Sprintf("closed by the passing record of %s: %s", when(p), text)})
+				Text: fmt.Sprintf("closed by the passing record of %s: %s", when(p.at), text)})
 			return
 		}
 		if what != "" {
@@ -285,27 +308,27 @@ func Status(flags []Flag, decisions []Decision, records Records, now time.Time) 
 		}
 	}
 	for _, in := range records.Inspections {
-		notPassed("inspection", in.At, in.Result, in.Actor, in.Findings)
+		notPassed("inspection", in.At, in.RecordedAt, in.Result, in.Actor, in.Findings)
 	}
 	for _, p := range records.ProofTests {
-		notPassed("proof test", p.At, p.Result, p.Actor, fmt.Sprintf("at %g MPa", p.PressureMPa))
+		notPassed("proof test", p.At, p.RecordedAt, p.Result, p.Actor, fmt.Sprintf("at %g MPa", p.PressureMPa))
 	}
 
-	// Withdrawal: the latest decision to withdraw, unless a valid return to
-	// service is later.
+	// Withdrawal: every decision to withdraw stands unless a valid return
+	// to service is later in both orders (a withdrawal backdated before a
+	// return already recorded still stands).
 	for i := len(ds) - 1; i >= 0; i-- {
 		d := ds[i]
 		if d.Kind != Withdraw {
 			continue
 		}
 		text := fmt.Sprintf("withdrawn from service on %s by %s: %s", when(d.At), nameOr(d.Actor), orNone(d.Reason))
-		if back, ok := rtsAfter(d.At); ok {
+		if back, ok := rtsAfter(stampOf(d.At, d.RecordedAt)); ok {
 			info = append(info, Reason{Kind: "decision", State: Fit, At: d.At,
 				Text: fmt.Sprintf("%s; returned to service on %s by %s: %s", text, when(back.At), back.Actor, back.Reason)})
 		} else {
 			withdrawals = append(withdrawals, Reason{Kind: "decision", State: Withdrawn, At: d.At, Text: text})
 		}
-		break
 	}
 	for _, d := range rts {
 		info = append(info, Reason{Kind: "decision", State: Fit, At: d.At,
@@ -337,6 +360,8 @@ func rtsProblem(d Decision, now time.Time) string {
 		return "no time"
 	case d.At.After(now):
 		return "dated after now"
+	case d.RecordedAt.After(now):
+		return "recorded after now"
 	}
 	return ""
 }
@@ -374,34 +399,34 @@ func orNone(s string) string {
 	return s
 }
 
-// lastPassingInspection returns the time and dive count of the latest
-// passing inspection dated no later than now.
-func lastPassingInspection(ins []Inspection, now time.Time) (time.Time, int, bool) {
-	var at time.Time
-	count, found := 0, false
+// lastPassingInspection returns the latest passing inspection dated and
+// recorded no later than now.
+func lastPassingInspection(ins []Inspection, now time.Time) (Inspection, bool) {
+	var best Inspection
+	found := false
 	for _, in := range ins {
-		if in.Result != ResultPass || in.At.IsZero() || in.At.After(now) {
+		if in.Result != ResultPass || in.At.IsZero() || in.At.After(now) || in.RecordedAt.After(now) {
 			continue
 		}
-		if !found || in.At.After(at) {
-			at, count, found = in.At, in.DiveCount, true
+		if !found || in.At.After(best.At) {
+			best, found = in, true
 		}
 	}
-	return at, count, found
+	return best, found
 }
 
-// lastPassingProofTest returns the time and dive count of the latest
-// passing proof test dated no later than now.
-func lastPassingProofTest(ps []ProofTest, now time.Time) (time.Time, int, bool) {
-	var at time.Time
-	count, found := 0, false
+// lastPassingProofTest returns the latest passing proof test dated and
+// recorded no later than now.
+func lastPassingProofTest(ps []ProofTest, now time.Time) (ProofTest, bool) {
+	var best ProofTest
+	found := false
 	for _, p := range ps {
-		if p.Result != ResultPass || p.At.IsZero() || p.At.After(now) {
+		if p.Result != ResultPass || p.At.IsZero() || p.At.After(now) || p.RecordedAt.After(now) {
 			continue
 		}
-		if !found || p.At.After(at) {
-			at, count, found = p.At, p.DiveCount, true
+		if !found || p.At.After(best.At) {
+			best, found = p, true
 		}
 	}
-	return at, count, found
+	return best, found
 }
