@@ -11,6 +11,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strings"
 
 	"hulltally/fatigue/damage"
 	"hulltally/fatigue/load"
@@ -42,6 +43,13 @@ type ComponentSpec struct {
 	// Calibration is the gauge calibration from the latest proof test, if
 	// one is recorded.
 	Calibration *load.Transfer
+	// MeanStress is the component's own mean-stress correction from the
+	// hull spec (none or goodman); empty means the global setting.
+	MeanStress sn.MeanStress
+	// DFF is the component's own design fatigue factor from the hull
+	// spec (≥ 1); zero means the global setting. It can raise the global
+	// factor, never lower it (EffectiveSettings).
+	DFF float64
 }
 
 // Component is a component ready for assessment.
@@ -50,6 +58,11 @@ type Component struct {
 	Transfer load.Choice
 	Curve    sn.Curve
 	Rupture  *sn.Rupture
+	// Own are the component's own settings from the hull spec; a zero
+	// field (DFF 0, MeanStress "") means the global setting applies. The
+	// assessor combines them with the global settings by
+	// EffectiveSettings.
+	Own Settings
 }
 
 // Resolve chooses each component's transfer and looks up its curves.
@@ -66,7 +79,7 @@ func Resolve(g Geometry, specs []ComponentSpec, lib *sn.Library) ([]Component, e
 }
 
 func resolve(g Geometry, s ComponentSpec, lib *sn.Library) (Component, error) {
-	c := Component{Name: s.Name}
+	c := Component{Name: s.Name, Own: Settings{DFF: s.DFF, MeanStress: s.MeanStress}}
 	curve, err := lib.Curve(s.Curve)
 	if err != nil {
 		return c, err
@@ -112,13 +125,154 @@ func resolve(g Geometry, s ComponentSpec, lib *sn.Library) (Component, error) {
 		ch.Reason += "; the shell's Lamé stress is used for a " + s.Kind + ", which has its own stress concentration: give the designer's factor"
 	}
 	c.Transfer = ch
+	if err := CheckMode(s.Name, ch.Transfer.Factor, c.Curve, c.Rupture); err != nil {
+		return c, err
+	}
 	return c, nil
+}
+
+// CheckMode checks that a component's curves fit the sign of its stress
+// under external pressure, given by the sign of its transfer factor
+// (MPa per MPa): negative (Lamé always; a designer's or a gauge factor
+// usually) is compression, positive is tension. The S-N curve's loading
+// mode must be range (metallic detail curves, any sign) or the mode of
+// that sign (compression-compression, tension-tension); the
+// stress-rupture curve, if any, must be on that side. Otherwise a tensile
+// component would be read on a compressive curve (the wrong strength), and
+// its stress-rupture damage would be zero because the curve counts only
+// the other sign. The error names the component. A zero or non-finite
+// factor is refused.
+func CheckMode(component string, factor float64, curve sn.Curve, rupture *sn.Rupture) error {
+	if factor == 0 || math.IsNaN(factor) || math.IsInf(factor, 0) {
+		return fmt.Errorf("component %s: transfer factor %v MPa/MPa: the sign of its stress is unknown", component, factor)
+	}
+	sign, mode, side := "compressive", sn.ModeCompression, sn.SideCompression
+	if factor > 0 {
+		sign, mode, side = "tensile", sn.ModeTension, sn.SideTension
+	}
+	var errs []string
+	if curve.Mode != sn.ModeRange && curve.Mode != mode {
+		errs = append(errs, fmt.Sprintf("S-N curve %s is %s; use a %s or range curve", curve.Name, curve.Mode, mode))
+	}
+	if rupture != nil && rupture.Side != side {
+		errs = append(errs, fmt.Sprintf("stress-rupture curve %s counts %s stress only and would give this component no sustained-load damage; use a %s curve", rupture.Name, rupture.Side, side))
+	}
+	if len(errs) > 0 {
+		return fmt.Errorf("component %s: its stress under external pressure is %s (transfer factor %.6g MPa/MPa), but %s",
+			component, sign, factor, strings.Join(errs, "; and "))
+	}
+	return nil
 }
 
 // Settings are the assessment's operator choices.
 type Settings struct {
-	DFF        float64
+	// DFF is the design fatigue factor, ≥ 1.
+	DFF float64
+	// MeanStress is the mean-stress correction (none or goodman).
 	MeanStress sn.MeanStress
+}
+
+// Effective are the settings an assessor uses for one component, with
+// the reason, for the report.
+type Effective struct {
+	Settings
+	// Reason says where each setting comes from (the hull spec or the
+	// global configuration) and any override.
+	Reason string
+}
+
+// EffectiveSettings combines the global settings with a component's own
+// (from the hull spec; zero fields mean "not given"):
+//
+//   - design fatigue factor: the component's own if given and at least
+//     the global one; a component's factor below the global one is
+//     overridden by the global one, and the reason says so. A component
+//     can raise the factor, never lower it: never looser than the global
+//     configuration.
+//   - mean-stress correction: the component's own if given, else the
+//     global one. Which of none and goodman is the more conservative
+//     depends on the curve's form and the cycle, so a component's choice
+//     is used as given and the reason names it beside the global one.
+//
+// Invalid global or own values are errors.
+func EffectiveSettings(global, own Settings) (Effective, error) {
+	if err := sn.CheckDFF(global.DFF); err != nil {
+		return Effective{}, fmt.Errorf("global settings: %w", err)
+	}
+	if _, err := sn.ParseMeanStress(string(global.MeanStress)); err != nil {
+		return Effective{}, fmt.Errorf("global settings: %w", err)
+	}
+	e := Effective{Settings: global}
+	var why []string
+	switch {
+	case own.DFF == 0:
+		why = append(why, fmt.Sprintf("design fatigue factor %.6g (global)", global.DFF))
+	case sn.CheckDFF(own.DFF) != nil:
+		return Effective{}, fmt.Errorf("component settings: %w", sn.CheckDFF(own.DFF))
+	case own.DFF < global.DFF:
+		why = append(why, fmt.Sprintf("design fatigue factor %.6g (global; the hull spec's %.6g is lower and a component may raise the factor, never lower it)", global.DFF, own.DFF))
+	default:
+		e.DFF = own.DFF
+		why = append(why, fmt.Sprintf("design fatigue factor %.6g (hull spec; global %.6g)", own.DFF, global.DFF))
+	}
+	if own.MeanStress == "" {
+		why = append(why, fmt.Sprintf("mean stress %s (global)", global.MeanStress))
+	} else {
+		ms, err := sn.ParseMeanStress(string(own.MeanStress))
+		if err != nil {
+			return Effective{}, fmt.Errorf("component settings: %w", err)
+		}
+		e.MeanStress = ms
+		why = append(why, fmt.Sprintf("mean stress %s (hull spec; global %s)", ms, global.MeanStress))
+	}
+	e.Reason = strings.Join(why, "; ")
+	return e, nil
+}
+
+// Check resolves the components of a hull spec against the library and
+// the global settings, as the ledger must before it accepts a hull: the
+// curves exist, their loading modes fit the sign of each component's
+// stress (CheckMode), the component's own settings are valid and goodman
+// has the strengths it needs. Every problem is reported, each naming its
+// component.
+func Check(g Geometry, specs []ComponentSpec, lib *sn.Library, global Settings) error {
+	var errs []error
+	for _, s := range specs {
+		c, err := resolve(g, s, lib)
+		if err != nil {
+			errs = append(errs, fmt.Errorf("component %s: %w", s.Name, err))
+			continue
+		}
+		if _, err := newComponentSum(c, global); err != nil {
+			errs = append(errs, err)
+		}
+	}
+	return errors.Join(errs...)
+}
+
+// newComponentSum checks one component for assessment and returns its
+// effective settings and Miner sum.
+func newComponentSum(c Component, global Settings) (*damage.MinerSum, error) {
+	if err := CheckMode(c.Name, c.Transfer.Transfer.Factor, c.Curve, c.Rupture); err != nil {
+		return nil, err
+	}
+	eff, err := EffectiveSettings(global, c.Own)
+	if err != nil {
+		return nil, fmt.Errorf("component %s: %w", c.Name, err)
+	}
+	if eff.MeanStress == sn.MeanStressGoodman && !c.Curve.Strengths.Present() {
+		return nil, fmt.Errorf("component %s: goodman mean-stress correction needs the strengths of curve %s, which the library does not give", c.Name, c.Curve.Name)
+	}
+	m, err := damage.NewMinerSum(c.Curve, eff.MeanStress, eff.DFF)
+	if err != nil {
+		return nil, fmt.Errorf("component %s: %w", c.Name, err)
+	}
+	if c.Rupture != nil {
+		if err := c.Rupture.Validate(); err != nil {
+			return nil, fmt.Errorf("component %s: %w", c.Name, err)
+		}
+	}
+	return m, nil
 }
 
 // Hold is time spent at (or below) a pressure level.
@@ -142,6 +296,9 @@ type Result struct {
 	// Factor is the transfer factor used, MPa per MPa.
 	Factor float64
 	Basis  load.Basis
+	// Settings are the design fatigue factor and mean-stress correction
+	// used for this component, with where they come from.
+	Settings Effective
 }
 
 // ErrNoComponents is returned for a hull without components.
@@ -151,30 +308,36 @@ var ErrNoComponents = errors.New("no components to assess")
 // settings; its curves are checked once, when it is made.
 type Assessor struct {
 	comps  []Component
+	eff    []Effective
 	miners []*damage.MinerSum
 	buf    []damage.Cycle
 	holds  []damage.Hold
 }
 
-// NewAssessor checks the components' curves with the settings.
+// NewAssessor checks the components' curves with the global settings s
+// and each component's own (EffectiveSettings), and each curve's loading
+// mode against the sign of the component's stress (CheckMode).
 func NewAssessor(comps []Component, s Settings) (*Assessor, error) {
 	if len(comps) == 0 {
 		return nil, ErrNoComponents
 	}
 	a := &Assessor{comps: comps}
 	for _, c := range comps {
-		m, err := damage.NewMinerSum(c.Curve, s.MeanStress, s.DFF)
+		m, err := newComponentSum(c, s)
 		if err != nil {
-			return nil, fmt.Errorf("component %s: %w", c.Name, err)
+			return nil, err
 		}
+		eff, _ := EffectiveSettings(s, c.Own) // checked by newComponentSum
 		a.miners = append(a.miners, m)
-		if c.Rupture != nil {
-			if err := c.Rupture.Validate(); err != nil {
-				return nil, fmt.Errorf("component %s: %w", c.Name, err)
-			}
-		}
+		a.eff = append(a.eff, eff)
 	}
 	return a, nil
+}
+
+// Settings returns the effective settings of each component, in the
+// components' order.
+func (a *Assessor) Settings() []Effective {
+	return append([]Effective(nil), a.eff...)
 }
 
 // DiveDamage assesses one dive on every component (a convenience for a
@@ -201,7 +364,7 @@ func (a *Assessor) Dive(d Dive) ([]Result, error) {
 		if err != nil {
 			return nil, fmt.Errorf("component %s: %w", c.Name, err)
 		}
-		r := Result{Component: c.Name, Cyclic: cy, Factor: f, Basis: c.Transfer.Transfer.Basis}
+		r := Result{Component: c.Name, Cyclic: cy, Factor: f, Basis: c.Transfer.Transfer.Basis, Settings: a.eff[ci]}
 		r.Damage.Cyclic = cy.Damage
 		if c.Rupture != nil {
 			holds := a.holds[:0]

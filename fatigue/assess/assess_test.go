@@ -168,3 +168,185 @@ func TestDiveDamageScalesPressureCycles(t *testing.T) {
 		t.Fatalf("sustained %g without a rupture curve", res[0].Damage.Sustained)
 	}
 }
+
+func TestCheckModeRefuses(t *testing.T) {
+	lib := library(t)
+	cc, _ := lib.Curve("carbon-epoxy-cc-illustrative")
+	d, _ := lib.Curve("dnv-rp-c203-d-air")
+	rc, _ := lib.Rupture("carbon-epoxy-rupture-compression-illustrative")
+	tt := cc
+	tt.Name, tt.Mode = "carbon-epoxy-tt", sn.ModeTension
+	rt := rc
+	rt.Name, rt.Side = "carbon-epoxy-rupture-tension", sn.SideTension
+	tests := []struct {
+		name    string
+		factor  float64
+		curve   sn.Curve
+		rupture *sn.Rupture
+		want    string // "" means accepted
+	}{
+		// Adversarial first: a tensile part on a compressive curve, and a
+		// tensile part whose rupture curve counts only compression (zero
+		// sustained damage, silently).
+		{"tension on a compression curve", 4.2, cc, nil, "is compression-compression"},
+		{"tension with a compression rupture curve", 4.2, tt, &rc, "no sustained-load damage"},
+		{"compression on a tension curve", -6.5, tt, nil, "is tension-tension"},
+		{"compression with a tension rupture curve", -6.5, cc, &rt, "counts tension stress only"},
+		{"zero factor", 0, d, nil, "sign of its stress is unknown"},
+		{"NaN factor", math.NaN(), d, nil, "sign of its stress is unknown"},
+		{"infinite factor", math.Inf(-1), d, nil, "sign of its stress is unknown"},
+		{"compression, cc and compression rupture", -6.5, cc, &rc, ""},
+		{"tension, tt and tension rupture", 4.2, tt, &rt, ""},
+		{"metal range curve, either sign", 4.2, d, nil, ""},
+		{"metal range curve, compression", -9.5, d, nil, ""},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			err := CheckMode("end-ring-fwd", tc.factor, tc.curve, tc.rupture)
+			if tc.want == "" {
+				if err != nil {
+					t.Fatal(err)
+				}
+				return
+			}
+			if err == nil || !strings.Contains(err.Error(), tc.want) || !strings.Contains(err.Error(), "component end-ring-fwd") {
+				t.Fatalf("error %v, want one naming the component and containing %q", err, tc.want)
+			}
+		})
+	}
+	// Resolve refuses a designer's tensile factor on a compression curve,
+	// and a gauge calibration that turns out tensile.
+	g := Geometry{Shape: "cylinder", InnerRadiusM: 0.5, WallM: 0.1}
+	plus := 3.0
+	if _, err := Resolve(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "designer", Factor: &plus, Source: "FE",
+		Curve: "carbon-epoxy-cc-illustrative"}}, lib); err == nil || !strings.Contains(err.Error(), "laminate") {
+		t.Fatalf("tensile designer factor on a compression curve: %v", err)
+	}
+	cal, _ := load.NewGauge(60000, 50, "proof test, gauge reads tension")
+	if _, err := Resolve(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Curve: "carbon-epoxy-cc-illustrative",
+		RuptureCurve: "carbon-epoxy-rupture-compression-illustrative", Calibration: &cal}}, lib); err == nil || !strings.Contains(err.Error(), "tensile") {
+		t.Fatalf("tensile gauge calibration on compression curves: %v", err)
+	}
+	if err := Check(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "designer", Factor: &plus, Source: "FE",
+		Curve: "carbon-epoxy-cc-illustrative"}, {Name: "ring", Kind: "end_ring", Basis: "lame", Curve: "nope"}}, lib, Settings{DFF: 1, MeanStress: sn.MeanStressNone}); err == nil ||
+		!strings.Contains(err.Error(), "component laminate") || !strings.Contains(err.Error(), "component ring") {
+		t.Fatalf("Check must report both components: %v", err)
+	}
+}
+
+// TestTensileRupture: a tensile component with a tension-side rupture
+// curve gets its sustained damage from the stress magnitude, never zero.
+func TestTensileRupture(t *testing.T) {
+	lib := library(t)
+	cc, _ := lib.Curve("carbon-epoxy-cc-illustrative")
+	tt := cc
+	tt.Name, tt.Mode = "carbon-epoxy-tt", sn.ModeTension
+	rt, _ := lib.Rupture("glass-epoxy-rupture-compression-illustrative")
+	rt.Name, rt.Side = "glass-epoxy-rupture-tension", sn.SideTension
+	tr, err := load.NewDesigner(5, "FE, tensile inner ply at the closure")
+	if err != nil {
+		t.Fatal(err)
+	}
+	comps := []Component{{Name: "closure", Transfer: load.Choice{Transfer: tr}, Curve: tt, Rupture: &rt}}
+	res, err := DiveDamage(Dive{Holds: []Hold{{LevelMPa: 40, Seconds: 3600}}}, comps, Settings{DFF: 1, MeanStress: sn.MeanStressNone})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// σ = +200 MPa; t_r = 10^(12 − 14·200/600) h = 10^7.3333 h; one hour
+	// gives D = 10^−7.3333 = 4.642e-8.
+	want := math.Pow(10, -(12 - 14*200.0/600))
+	if d := res[0].Damage.Sustained; !(d > 0) || math.Abs(d-want) > 1e-9*want {
+		t.Fatalf("sustained damage %g, want %g", d, want)
+	}
+}
+
+func TestEffectiveSettings(t *testing.T) {
+	global := Settings{DFF: 3, MeanStress: sn.MeanStressNone}
+	tests := []struct {
+		name    string
+		own     Settings
+		dff     float64
+		ms      sn.MeanStress
+		reason  string
+		wantErr string
+	}{
+		// Adversarial first: a component cannot lower the global factor.
+		{"lower DFF overridden", Settings{DFF: 1}, 3, sn.MeanStressNone, "never lower", ""},
+		{"DFF below 1", Settings{DFF: 0.5}, 0, "", "", "≥ 1"},
+		{"NaN DFF", Settings{DFF: math.NaN()}, 0, "", "", "≥ 1"},
+		{"infinite DFF", Settings{DFF: math.Inf(1)}, 0, "", "", "≥ 1"},
+		{"negative DFF", Settings{DFF: -3}, 0, "", "", "≥ 1"},
+		{"unknown mean stress", Settings{MeanStress: "gerber"}, 0, "", "", "gerber"},
+		{"nothing given", Settings{}, 3, sn.MeanStressNone, "design fatigue factor 3 (global); mean stress none (global)", ""},
+		{"higher DFF used", Settings{DFF: 10}, 10, sn.MeanStressNone, "design fatigue factor 10 (hull spec; global 3)", ""},
+		{"own goodman", Settings{MeanStress: sn.MeanStressGoodman}, 3, sn.MeanStressGoodman, "mean stress goodman (hull spec; global none)", ""},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			e, err := EffectiveSettings(global, tc.own)
+			if tc.wantErr != "" {
+				if err == nil || !strings.Contains(err.Error(), tc.wantErr) {
+					t.Fatalf("error %v, want %q", err, tc.wantErr)
+				}
+				return
+			}
+			if err != nil {
+				t.Fatal(err)
+			}
+			if e.DFF != tc.dff || e.MeanStress != tc.ms || !strings.Contains(e.Reason, tc.reason) {
+				t.Fatalf("%+v, want DFF %v, %s, reason with %q", e, tc.dff, tc.ms, tc.reason)
+			}
+		})
+	}
+	if _, err := EffectiveSettings(Settings{DFF: 0.9, MeanStress: sn.MeanStressNone}, Settings{}); err == nil {
+		t.Fatal("global DFF below 1 accepted")
+	}
+}
+
+func TestPerComponentSettingsInAssessment(t *testing.T) {
+	lib := library(t)
+	f := -10.0
+	ring := func(name string, dff float64, ms sn.MeanStress) ComponentSpec {
+		return ComponentSpec{Name: name, Kind: "hatch_seat", Basis: "designer", Factor: &f, Source: "FE", Curve: "dnv-rp-c203-d-air", DFF: dff, MeanStress: ms}
+	}
+	cs, err := Resolve(Geometry{Shape: "sphere", InnerRadiusM: 0.8, WallM: 0.07},
+		[]ComponentSpec{ring("global", 0, ""), ring("strict", 4, ""), ring("lax", 1, ""), ring("goodman", 0, sn.MeanStressGoodman)}, lib)
+	if err != nil {
+		t.Fatal(err)
+	}
+	a, err := NewAssessor(cs, Settings{DFF: 2, MeanStress: sn.MeanStressNone})
+	if err != nil {
+		t.Fatal(err)
+	}
+	res, err := a.Dive(Dive{PressureCycles: []rainflow.Cycle{{Range: 10, Mean: 5, Count: 1}}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Range 100 MPa on curve D in air, N = 1.459e6 (DNV-RP-C203 (2016)
+	// Table 2-1): damage DFF/1.459e6 with no mean-stress correction.
+	base := 1 / math.Pow(10, 12.164-6)
+	for i, want := range []float64{2 * base, 4 * base, 2 * base} {
+		if d := res[i].Damage.Cyclic; math.Abs(d-want) > 1e-12*want {
+			t.Errorf("%s: damage %g, want %g", res[i].Component, d, want)
+		}
+	}
+	if res[2].Settings.DFF != 2 || !strings.Contains(res[2].Settings.Reason, "never lower") {
+		t.Errorf("lax component settings %+v", res[2].Settings)
+	}
+	// Goodman with a compressive mean of −50 MPa raises the range to
+	// 100/(1 − 50/470) (strengths of the shipped curve D, illustrative).
+	wantG := 2 / math.Pow(10, 12.164-3*math.Log10(100/(1-50.0/470)))
+	if d := res[3].Damage.Cyclic; math.Abs(d-wantG) > 1e-9*wantG || res[3].Cyclic.MeanStress != sn.MeanStressGoodman {
+		t.Errorf("goodman component: damage %g (%s), want %g", d, res[3].Cyclic.MeanStress, wantG)
+	}
+	if got := a.Settings(); len(got) != 4 || got[1].DFF != 4 {
+		t.Errorf("settings %+v", got)
+	}
+	// Goodman on a curve without strengths is refused when the assessor is
+	// made, not at the first dive.
+	cs[0].Curve.Strengths = sn.Strengths{}
+	cs[0].Own.MeanStress = sn.MeanStressGoodman
+	if _, err := NewAssessor(cs[:1], Settings{DFF: 2, MeanStress: sn.MeanStressNone}); err == nil || !strings.Contains(err.Error(), "strengths") {
+		t.Fatalf("goodman without strengths: %v", err)
+	}
+}

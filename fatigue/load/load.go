@@ -10,7 +10,9 @@
 // human-readable description of its basis for reports:
 //
 //   - gauge: calibrated from strain gauges at the proof test, factor =
-//     E × measured compliance (modulus in MPa × µε per MPa × 10⁻⁶);
+//     E × measured compliance (modulus in MPa × µε per MPa × 10⁻⁶), or,
+//     with a hoop and an axial gauge, the biaxial plane-stress law
+//     E/(1−ν²)·(c + ν·c_cross) (GaugeFactor, NewBiaxialGauge);
 //   - designer: the factor from the designer's analysis in the hull spec;
 //   - lame: the Lamé thick-wall closed forms for an isotropic cylinder or
 //     sphere, the default only — a laminate is not isotropic;
@@ -100,6 +102,13 @@ type Transfer struct {
 	// ComplianceUEPerMPa is the measured compliance in microstrain per
 	// MPa of gauge pressure (gauge basis only), negative for compression.
 	ComplianceUEPerMPa float64
+	// CrossComplianceUEPerMPa is the measured compliance in the
+	// orthogonal in-plane direction (µε per MPa), for a biaxial gauge
+	// calibration (NewBiaxialGauge); zero for a uniaxial one.
+	CrossComplianceUEPerMPa float64
+	// PoissonRatio is ν of the biaxial plane-stress calibration; zero for
+	// a uniaxial one.
+	PoissonRatio float64
 	// Description states the basis in words, for reports.
 	Description string
 }
@@ -114,9 +123,15 @@ func (t Transfer) Validate() error {
 		if err := nonZero("compliance", t.ComplianceUEPerMPa); err != nil {
 			return fmt.Errorf("gauge transfer: %w", err)
 		}
-		want := t.ModulusMPa * t.ComplianceUEPerMPa * 1e-6
-		if !(math.Abs(t.Factor-want) <= 1e-12*math.Abs(want)) {
-			return fmt.Errorf("gauge transfer: factor %v MPa/MPa is not E × compliance = %v MPa/MPa", t.Factor, want)
+		if !(t.PoissonRatio >= 0 && t.PoissonRatio < 0.5) {
+			return fmt.Errorf("gauge transfer: Poisson ratio must lie in [0, 0.5), got %v", t.PoissonRatio)
+		}
+		if math.IsNaN(t.CrossComplianceUEPerMPa) || math.IsInf(t.CrossComplianceUEPerMPa, 0) {
+			return fmt.Errorf("gauge transfer: cross compliance must be finite, got %v", t.CrossComplianceUEPerMPa)
+		}
+		want := planeStress(t.ModulusMPa, t.PoissonRatio, t.ComplianceUEPerMPa, t.CrossComplianceUEPerMPa)
+		if !(math.Abs(t.Factor-want) <= 1e-12*math.Abs(want)) || want == 0 {
+			return fmt.Errorf("gauge transfer: factor %v MPa/MPa is not E/(1−ν²) × (c + ν·c_cross) = %v MPa/MPa", t.Factor, want)
 		}
 	case BasisDesigner, BasisLame:
 		if err := nonZero("factor", t.Factor); err != nil {
@@ -191,6 +206,92 @@ func NewGauge(modulusMPa, complianceUEPerMPa float64, description string) (Trans
 		Factor: modulusMPa * complianceUEPerMPa * 1e-6}
 	t.Description = fmt.Sprintf("gauge calibration %.6g MPa/MPa = E %.6g MPa × %.6g µε/MPa (%s)",
 		t.Factor, modulusMPa, complianceUEPerMPa, description)
+	if err := t.Validate(); err != nil {
+		return Transfer{}, err
+	}
+	return t, nil
+}
+
+// planeStress is the stress per MPa of pressure in the direction of
+// compliance c from the biaxial plane-stress Hooke's law of an isotropic
+// layer: σ = E/(1−ν²)·(ε + ν·ε_cross), with E in MPa and compliances in
+// µε per MPa. With ν = 0 it is E·c·10⁻⁶, the uniaxial calibration.
+func planeStress(eMPa, nu, c, cross float64) float64 {
+	if nu == 0 && cross == 0 {
+		return eMPa * c * 1e-6
+	}
+	return eMPa / (1 - nu*nu) * (c + nu*cross) * 1e-6
+}
+
+// Bounds of the elastic constants GaugeFactor accepts.
+const (
+	// MaxModulusGPa is the largest modulus accepted, 1000 GPa (above
+	// diamond's ~1050 GPa is no engineering material; carbon laminates
+	// are below 200 GPa, titanium about 110 GPa, steel about 210 GPa).
+	MaxModulusGPa = 1000
+	// MaxPoissonRatio bounds ν from above, exclusive: 0.5 is an
+	// incompressible material, where 1/(1−ν²) is finite but the
+	// plane-stress inversion loses meaning for a laminate.
+	MaxPoissonRatio = 0.5
+)
+
+// GaugeFactor returns the hoop and axial stress factors (MPa of stress
+// per MPa of external gauge pressure, negative for compression) from the
+// hoop and axial compliances measured at a proof test (µε per MPa of
+// pressure, negative in compression), by the biaxial plane-stress Hooke's
+// law of an isotropic wall of modulus eGPa (GPa) and Poisson ratio nu:
+//
+//	σθ/p = E/(1−ν²)·(c_θ + ν·c_z)·10⁻⁶
+//	σz/p = E/(1−ν²)·(c_z + ν·c_θ)·10⁻⁶
+//
+// with E = eGPa·10³ MPa. A laminate is orthotropic: E and ν here are the
+// effective in-plane values the operator states for the gauge location,
+// an approximation the report must name. eGPa must lie in (0, 1000], nu
+// in [0, 0.5), the compliances must be finite, and neither factor may be
+// zero (a gauge that reads nothing calibrates nothing).
+func GaugeFactor(eGPa, nu, hoopUEPerMPa, axialUEPerMPa float64) (hoop, axial float64, err error) {
+	if !(eGPa > 0 && eGPa <= MaxModulusGPa) {
+		return 0, 0, fmt.Errorf("gauge factor: modulus %v GPa must lie in (0, %v]", eGPa, float64(MaxModulusGPa))
+	}
+	if !(nu >= 0 && nu < MaxPoissonRatio) {
+		return 0, 0, fmt.Errorf("gauge factor: Poisson ratio %v must lie in [0, 0.5)", nu)
+	}
+	for _, c := range []struct {
+		name string
+		v    float64
+	}{{"hoop", hoopUEPerMPa}, {"axial", axialUEPerMPa}} {
+		if math.IsNaN(c.v) || math.IsInf(c.v, 0) || math.Abs(c.v) > 1e9 {
+			return 0, 0, fmt.Errorf("gauge factor: %s compliance %v µε/MPa is not a plausible finite number", c.name, c.v)
+		}
+	}
+	e := eGPa * 1e3
+	hoop = planeStress(e, nu, hoopUEPerMPa, axialUEPerMPa)
+	axial = planeStress(e, nu, axialUEPerMPa, hoopUEPerMPa)
+	if hoop == 0 || axial == 0 {
+		return 0, 0, fmt.Errorf("gauge factor: zero stress factor (hoop %v, axial %v MPa/MPa) from compliances %v and %v µε/MPa", hoop, axial, hoopUEPerMPa, axialUEPerMPa)
+	}
+	return hoop, axial, nil
+}
+
+// NewBiaxialGauge returns the gauge-calibrated transfer of a component in
+// the direction of compliance c (µε/MPa), with cross the compliance
+// measured in the orthogonal in-plane direction, modulus eGPa (GPa) and
+// Poisson ratio nu, by the plane-stress law of GaugeFactor:
+// Factor = E/(1−ν²)·(c + ν·cross)·10⁻⁶. For the hoop factor pass the hoop
+// compliance as c and the axial as cross. The description names the
+// calibration, for example "proof test 2026-03-02, gauges hoop1/axial1".
+func NewBiaxialGauge(eGPa, nu, c, cross float64, description string) (Transfer, error) {
+	f, _, err := GaugeFactor(eGPa, nu, c, cross)
+	if err != nil {
+		return Transfer{}, err
+	}
+	if strings.TrimSpace(description) == "" {
+		description = "biaxial strain-gauge calibration at proof test"
+	}
+	t := Transfer{Basis: BasisGauge, ModulusMPa: eGPa * 1e3, ComplianceUEPerMPa: c,
+		CrossComplianceUEPerMPa: cross, PoissonRatio: nu, Factor: f}
+	t.Description = fmt.Sprintf("gauge calibration %.6g MPa/MPa = E %.6g MPa/(1−ν²) × (%.6g + ν·%.6g) µε/MPa, ν = %.3g, plane stress, isotropic approximation (%s)",
+		f, t.ModulusMPa, c, cross, nu, description)
 	if err := t.Validate(); err != nil {
 		return Transfer{}, err
 	}

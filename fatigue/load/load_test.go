@@ -316,3 +316,98 @@ func TestParseBasis(t *testing.T) {
 		t.Error("unknown basis accepted")
 	}
 }
+
+func TestGaugeFactorRefuses(t *testing.T) {
+	// Adversarial first: every input that could make a calibration pass
+	// with a meaningless or vanishing factor is refused.
+	tests := []struct {
+		name                 string
+		e, nu, cHoop, cAxial float64
+		want                 string
+	}{
+		{"zero modulus", 0, 0.3, -170, -40, "modulus"},
+		{"negative modulus", -50, 0.3, -170, -40, "modulus"},
+		{"modulus beyond 1000 GPa", 1000.0001, 0.3, -170, -40, "modulus"},
+		{"NaN modulus", math.NaN(), 0.3, -170, -40, "modulus"},
+		{"infinite modulus", math.Inf(1), 0.3, -170, -40, "modulus"},
+		{"Poisson 0.5", 50, 0.5, -170, -40, "Poisson"},
+		{"negative Poisson", 50, -0.1, -170, -40, "Poisson"},
+		{"NaN Poisson", 50, math.NaN(), -170, -40, "Poisson"},
+		{"NaN hoop", 50, 0.3, math.NaN(), -40, "hoop compliance"},
+		{"infinite axial", 50, 0.3, -170, math.Inf(-1), "axial compliance"},
+		{"gauges read nothing", 50, 0.3, 0, 0, "zero stress factor"},
+		// c_θ + ν·c_z = 0: the hoop factor vanishes.
+		{"hoop cancels", 50, 0.25, -10, 40, "zero stress factor"},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			h, a, err := GaugeFactor(tc.e, tc.nu, tc.cHoop, tc.cAxial)
+			if err == nil || !strings.Contains(err.Error(), tc.want) {
+				t.Fatalf("GaugeFactor = %v, %v, %v; want an error with %q", h, a, err, tc.want)
+			}
+			if _, err := NewBiaxialGauge(tc.e, tc.nu, tc.cHoop, tc.cAxial, "x"); err == nil {
+				t.Fatal("NewBiaxialGauge accepted it")
+			}
+		})
+	}
+}
+
+// TestGaugeFactorThinCylinder feeds back the strains of the closed form:
+// a thin isotropic cylinder under external pressure p has σθ = −p·r/t and
+// σz = −p·r/(2t); Hooke's law in plane stress gives εθ = (σθ − ν·σz)/E and
+// εz = (σz − ν·σθ)/E. GaugeFactor must return the stresses exactly.
+func TestGaugeFactorThinCylinder(t *testing.T) {
+	tests := []struct{ rOverT, eGPa, nu float64 }{
+		{10, 50, 0.3},   // carbon laminate order of magnitude
+		{25, 210, 0.3},  // steel
+		{5, 110, 0.34},  // titanium
+		{40, 20, 0},     // no Poisson coupling
+		{8, 1000, 0.49}, // range limits
+	}
+	for _, tc := range tests {
+		sh, sz := -tc.rOverT, -tc.rOverT/2 // per MPa of pressure
+		e := tc.eGPa * 1e3
+		cH := (sh - tc.nu*sz) / e * 1e6 // µε per MPa
+		cZ := (sz - tc.nu*sh) / e * 1e6
+		h, a, err := GaugeFactor(tc.eGPa, tc.nu, cH, cZ)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if math.Abs(h-sh) > 1e-12*math.Abs(sh) || math.Abs(a-sz) > 1e-12*math.Abs(sz) {
+			t.Errorf("%+v: hoop %v axial %v, want %v %v", tc, h, a, sh, sz)
+		}
+		tr, err := NewBiaxialGauge(tc.eGPa, tc.nu, cH, cZ, "proof test, gauges hoop1/axial1")
+		if err != nil {
+			t.Fatal(err)
+		}
+		if tr.Basis != BasisGauge || tr.Factor != h || tr.ModulusMPa != e || tr.PoissonRatio != tc.nu || !strings.Contains(tr.Description, "plane stress") {
+			t.Errorf("transfer %+v", tr)
+		}
+		if err := tr.Validate(); err != nil {
+			t.Error(err)
+		}
+	}
+	// The worked case in numbers: r/t = 10, E = 50 GPa, ν = 0.3:
+	// εθ = (−10 + 0.3·5)/50 000 = −170 µε/MPa, εz = (−5 + 0.3·10)/50 000
+	// = −40 µε/MPa; E/(1−ν²)·(−170 − 0.3·40)·10⁻⁶ = −10 MPa/MPa. A
+	// uniaxial calibration E·εθ = −8.5 MPa/MPa would understate the hoop
+	// stress by 15 %: the biaxial factor must be the larger magnitude.
+	h, a, err := GaugeFactor(50, 0.3, -170, -40)
+	if err != nil || math.Abs(h+10) > 1e-12 || math.Abs(a+5) > 1e-12 {
+		t.Fatalf("hoop %v axial %v err %v, want −10 and −5", h, a, err)
+	}
+	uni, _ := NewGauge(50e3, -170, "uniaxial")
+	if !(math.Abs(h) > math.Abs(uni.Factor)) {
+		t.Errorf("biaxial %v not larger in magnitude than uniaxial %v", h, uni.Factor)
+	}
+	// A transfer whose factor is not the plane-stress value is refused.
+	tr, _ := NewBiaxialGauge(50, 0.3, -170, -40, "x")
+	tr.Factor = -8.5
+	if err := tr.Validate(); err == nil {
+		t.Error("tampered biaxial factor validated")
+	}
+	tr.Factor, tr.PoissonRatio = h, 0.5
+	if err := tr.Validate(); err == nil {
+		t.Error("Poisson 0.5 validated")
+	}
+}

@@ -34,6 +34,7 @@ type curveFile struct {
 	Material     string         `yaml:"material"`
 	Application  string         `yaml:"application"`
 	Mode         string         `yaml:"mode"`
+	Environment  string         `yaml:"environment"`
 	Basis        string         `yaml:"basis"`
 	Illustrative *bool          `yaml:"illustrative"`
 	Units        string         `yaml:"units"`
@@ -89,6 +90,7 @@ type ruptureFile struct {
 //	    material: …
 //	    application: …
 //	    mode: range                # compression-compression, tension-tension
+//	    environment: air           # seawater_cp, free_corrosion, n/a (required)
 //	    basis: characteristic      # or mean
 //	    illustrative: false        # must be stated
 //	    units: MPa
@@ -150,9 +152,16 @@ func (cf curveFile) curve() (Curve, error) {
 	if cf.Illustrative == nil {
 		return Curve{}, errors.New("illustrative: must be stated (true or false)")
 	}
+	if cf.Environment == "" {
+		return Curve{}, errors.New("environment: must be stated (air, seawater_cp, free_corrosion or n/a)")
+	}
+	env, err := ParseEnvironment(cf.Environment)
+	if err != nil {
+		return Curve{}, fmt.Errorf("environment: %w", err)
+	}
 	c := Curve{
 		Name: cf.Name, Form: Form(cf.Form), Material: cf.Material, Application: cf.Application,
-		Mode: Mode(cf.Mode), Basis: Basis(cf.Basis), Illustrative: *cf.Illustrative,
+		Mode: Mode(cf.Mode), Environment: env, Basis: Basis(cf.Basis), Illustrative: *cf.Illustrative,
 		Units: cf.Units, Source: cf.Source, Note: cf.Note,
 	}
 	switch c.Form {

@@ -14,6 +14,7 @@ curves:
     form: power_law
     material: steel
     mode: range
+    environment: air
     basis: characteristic
     illustrative: false
     units: MPa
@@ -23,6 +24,7 @@ curves:
     form: log_linear
     material: carbon/epoxy
     mode: compression-compression
+    environment: n/a
     basis: mean
     illustrative: true
     units: MPa
@@ -82,6 +84,12 @@ func TestParseLibraryErrors(t *testing.T) {
 		wantErr string
 	}{
 		{"unknown field", "units: MPa\n    source: DNV", "units: MPa\n    colour: red\n    source: DNV", "colour"},
+		// Adversarial first: a metallic curve that does not say whether it
+		// is in air or in seawater could put an immersed part on the
+		// in-air curve, which gives about 2.5 times the life at 100 MPa.
+		{"missing environment", "    environment: air\n", "", "environment: must be stated"},
+		{"unknown environment", "environment: air", "environment: seawater", "environment"},
+		{"metal curve n/a", "environment: air", "environment: n/a", "range (metallic detail) curve must state"},
 		{"missing illustrative", "    illustrative: false\n", "", "illustrative: must be stated"},
 		{"units ksi", "units: MPa\n    source: DNV", "units: ksi\n    source: DNV", `"d": units`},
 		{"no source", "source: DNV-RP-C203 (2016) Table 2-1, curve D in air", "source: ''", `"d": source`},
@@ -132,7 +140,7 @@ func TestShippedLibrary(t *testing.T) {
 	}
 	curves, ruptures := lib.Names()
 	t.Logf("shipped S-N curves %v, stress-rupture curves %v", curves, ruptures)
-	wantCurves := []string{"dnv-rp-c203-d-air", "ti-6al-4v-machined-illustrative",
+	wantCurves := []string{"dnv-rp-c203-d-air", "dnv-rp-c203-d-seawater-cp", "dnv-rp-c203-d-free-corrosion", "ti-6al-4v-machined-illustrative",
 		"carbon-epoxy-cc-illustrative", "glass-epoxy-cc-illustrative"}
 	for _, n := range wantCurves {
 		if _, err := lib.Curve(n); err != nil {
@@ -158,10 +166,13 @@ func TestShippedLibrary(t *testing.T) {
 	if s, _ := d.KneeStress(); math.Abs(s-52.63) > 0.02 {
 		t.Errorf("shipped curve D: fatigue limit %v MPa, want 52.63", s)
 	}
-	// Every curve other than D is illustrative and says the user must load
-	// qualified data.
+	// Every curve other than the DNV curves D is illustrative and says the
+	// user must load qualified data; every curve states its environment.
 	for _, c := range lib.Curves {
-		if c.Name != d.Name && (!c.Illustrative || !strings.Contains(c.Note, "qualified")) {
+		if c.Environment == "" {
+			t.Errorf("curve %q: environment not stated", c.Name)
+		}
+		if !strings.HasPrefix(c.Name, "dnv-rp-c203-d-") && (!c.Illustrative || !strings.Contains(c.Note, "qualified")) {
 			t.Errorf("curve %q: illustrative %v, note %q", c.Name, c.Illustrative, c.Note)
 		}
 		if !c.Strengths.Present() {
@@ -196,5 +207,95 @@ func TestShippedLibrary(t *testing.T) {
 		if c.Mode != ModeCompression || c.LogLinear.B < band[0] || c.LogLinear.B > band[1] {
 			t.Errorf("%s: mode %v, b %v outside %v", name, c.Mode, c.LogLinear.B, band)
 		}
+	}
+}
+
+// TestShippedSeawaterCurves checks the DNV-RP-C203 (2016) seawater curves D
+// at their check points. The parameters are from memory (Table 2-2: curve
+// D with cathodic protection, m1 = 3, log a1 = 11.764 for N ≤ 10⁶, m2 = 5,
+// log a2 = 15.606 for N > 10⁶, fatigue limit 52.63 MPa at 10⁷; Table 2-4:
+// curve D in free corrosion, m = 3, log a = 11.687, no fatigue limit).
+func TestShippedSeawaterCurves(t *testing.T) {
+	data, err := os.ReadFile("../../configs/curves.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	lib, err := ParseLibrary(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	air, _ := lib.Curve("dnv-rp-c203-d-air")
+	cp, err := lib.Curve("dnv-rp-c203-d-seawater-cp")
+	if err != nil {
+		t.Fatal(err)
+	}
+	fc, err := lib.Curve("dnv-rp-c203-d-free-corrosion")
+	if err != nil {
+		t.Fatal(err)
+	}
+	// Adversarial first: at no stress range may a seawater curve give more
+	// life than the curve in air, nor free corrosion more than cathodic
+	// protection; and free corrosion has no fatigue limit.
+	for i := -20; i <= 60; i++ {
+		s := 10 * math.Pow(10, float64(i)/20) // 1 MPa to 10 GPa
+		na, nc, nf := air.N(s), cp.N(s), fc.N(s)
+		if !(nc <= na*(1+1e-12)) || !(nf <= nc*(1+1e-12)) {
+			t.Fatalf("S = %.4g MPa: N air %.6g, cathodic protection %.6g, free corrosion %.6g: seawater must not outlive air", s, na, nc, nf)
+		}
+		if math.IsInf(nf, 1) {
+			t.Fatalf("free corrosion: no damage at %.4g MPa, but the curve has no fatigue limit", s)
+		}
+	}
+	if cp.Environment != EnvSeawaterCP || fc.Environment != EnvFreeCorrosion || air.Environment != EnvAir {
+		t.Errorf("environments %q %q %q", air.Environment, cp.Environment, fc.Environment)
+	}
+	for _, c := range []Curve{cp, fc} {
+		if c.Illustrative || c.Basis != BasisCharacteristic || !strings.Contains(c.Source, "from memory") {
+			t.Errorf("%s: illustrative %v, basis %v, source %q must say from memory", c.Name, c.Illustrative, c.Basis, c.Source)
+		}
+	}
+	tests := []struct {
+		name string
+		c    Curve
+		s    float64
+		want float64
+	}{
+		// Cathodic protection, branch 1: N(100) = 10^(11.764 − 3·2) = 5.808·10⁵.
+		{"cp at 100 MPa", cp, 100, math.Pow(10, 5.764)},
+		// Branch 2 below the knee stress 83.4 MPa: N(70) = 10^(15.606 − 5·log 70) = 2.401·10⁶.
+		{"cp at 70 MPa", cp, 70, math.Pow(10, 15.606-5*math.Log10(70))},
+		// Free corrosion: N(100) = 10^(11.687 − 6) = 4.864·10⁵; N(10) = 10^8.687.
+		{"free corrosion at 100 MPa", fc, 100, math.Pow(10, 5.687)},
+		{"free corrosion at 10 MPa", fc, 10, math.Pow(10, 8.687)},
+	}
+	for _, tc := range tests {
+		if n := tc.c.N(tc.s); rel(n, tc.want) > 1e-9 {
+			t.Errorf("%s: N = %.6g, want %.6g", tc.name, n, tc.want)
+		}
+	}
+	if n := cp.N(100); rel(n, 5.808e5) > 5e-4 {
+		t.Errorf("cp: N(100) = %v, want 5.808e5", n)
+	}
+	if n := fc.N(100); rel(n, 4.864e5) > 5e-4 {
+		t.Errorf("free corrosion: N(100) = %v, want 4.864e5", n)
+	}
+	// Knee continuity at 10⁶: 10^(5.764/3) = 83.43 MPa and 10^(9.606/5) = 83.41 MPa (within 0.05 %).
+	p := cp.PowerLaw
+	if p.KneeCycles != 1e6 {
+		t.Fatalf("cp knee at %v cycles, want 1e6", p.KneeCycles)
+	}
+	s1, s2 := p.kneeStresses()
+	if math.Abs(s1-83.43) > 0.01 || math.Abs(s2-83.41) > 0.01 || math.Abs(s1/s2-1) > 5e-4 {
+		t.Errorf("cp knee stresses %v and %v MPa, want 83.43 and 83.41", s1, s2)
+	}
+	// Fatigue limit at 10⁷ cycles: 52.63 MPa, as in air.
+	if s, err := cp.StressAt(1e7); err != nil || math.Abs(s-52.63) > 0.02 {
+		t.Errorf("cp stress at 1e7 = %v (%v), want 52.63", s, err)
+	}
+	if s, err := air.StressAt(1e7); err != nil || math.Abs(s-52.63) > 0.02 {
+		t.Errorf("air stress at 1e7 = %v (%v), want 52.63", s, err)
+	}
+	if _, ok := fc.KneeStress(); ok {
+		t.Error("free corrosion curve has a knee")
 	}
 }

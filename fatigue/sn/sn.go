@@ -107,6 +107,54 @@ const (
 	ModeTension Mode = "tension-tension"
 )
 
+// Environment is the environment a curve was derived for. For metallic
+// detail curves it matters: DNV-RP-C203 (2016) gives separate curves in
+// air (Table 2-1), in seawater with cathodic protection (Table 2-2) and
+// for free corrosion (Table 2-4). A part immersed in seawater must not be
+// assessed on an in-air curve.
+type Environment string
+
+// The environments of a curve.
+const (
+	// EnvAir is a curve in air (or a part kept dry).
+	EnvAir Environment = "air"
+	// EnvSeawaterCP is a curve in seawater with cathodic protection.
+	EnvSeawaterCP Environment = "seawater_cp"
+	// EnvFreeCorrosion is a curve in seawater without corrosion
+	// protection (free corrosion).
+	EnvFreeCorrosion Environment = "free_corrosion"
+	// EnvNotApplicable is for curves whose environment is not one of the
+	// metallic corrosion cases, as the laminate curves: their data must
+	// already be for the service conditions (wet, temperature).
+	EnvNotApplicable Environment = "n/a"
+)
+
+// ParseEnvironment returns the Environment named by s.
+func ParseEnvironment(s string) (Environment, error) {
+	switch e := Environment(s); e {
+	case EnvAir, EnvSeawaterCP, EnvFreeCorrosion, EnvNotApplicable:
+		return e, nil
+	}
+	return "", fmt.Errorf("environment %q: want air, seawater_cp, free_corrosion or n/a", s)
+}
+
+// Describe is the environment in words, for reports.
+func (e Environment) Describe() string {
+	switch e {
+	case EnvAir:
+		return "in air"
+	case EnvSeawaterCP:
+		return "in seawater with cathodic protection"
+	case EnvFreeCorrosion:
+		return "in seawater, free corrosion"
+	case EnvNotApplicable:
+		return "environment not applicable (non-metallic)"
+	case "":
+		return "environment not stated"
+	}
+	return "unknown environment " + string(e)
+}
+
 // UnitsMPa is the only stress unit the library accepts.
 const UnitsMPa = "MPa"
 
@@ -183,6 +231,11 @@ type Curve struct {
 	Application string
 	// Mode is the loading mode the curve was derived for.
 	Mode Mode
+	// Environment is the environment the curve was derived for (air,
+	// seawater_cp, free_corrosion, n/a). ParseLibrary requires it; a curve
+	// built in code may leave it empty ("not stated"), which Validate
+	// accepts for backward compatibility but reports must show as such.
+	Environment Environment
 	// Basis is mean or characteristic.
 	Basis Basis
 	// Illustrative marks placeholder data: the user must load qualified
@@ -220,6 +273,17 @@ func (c Curve) validate() error {
 	}
 	if err := metadata(c.Material, c.Source, c.Units, c.Basis, c.Illustrative, c.Note); err != nil {
 		return err
+	}
+	switch c.Environment {
+	case "", EnvAir, EnvSeawaterCP, EnvFreeCorrosion:
+	case EnvNotApplicable:
+		if c.Mode == ModeRange {
+			// A stress-range curve is a metallic detail curve: its
+			// environment changes its life and must be stated.
+			return errors.New("environment: a range (metallic detail) curve must state air, seawater_cp or free_corrosion, not n/a")
+		}
+	default:
+		return fmt.Errorf("environment: %q is not air, seawater_cp, free_corrosion or n/a", c.Environment)
 	}
 	switch c.Form {
 	case FormPowerLaw:
