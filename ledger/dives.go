@@ -192,20 +192,12 @@ func hitBytes(dst []byte, seq int32, h *logfile.Hit) []byte {
 	c.i64(h.Counts)
 	c.f64(h.DurationUS)
 	c.f64(h.RiseUS)
-	if e := hitEvent(h); e != logfile.EventHit {
+	if h.Event != logfile.EventHit {
 		// A sensor check; hits keep the bytes they had before checks
 		// were recorded.
-		c.str(string(e))
+		c.str(h.Event.String())
 	}
 	return c.b
-}
-
-// hitEvent is a hit's event, "hit" when the file had no event column.
-func hitEvent(h *logfile.Hit) logfile.Event {
-	if h.Event == "" {
-		return logfile.EventHit
-	}
-	return h.Event
 }
 
 // InputError wraps a problem with the user's input (as opposed to the
@@ -507,7 +499,11 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	defer f.Close()
 	tee := sha256.New()
 	name := filepath.Base(req.Samples)
-	sr, err := logfile.NewSampleReader(io.TeeReader(f, tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples})
+	minT, maxT, err := l.timeWindow()
+	if err != nil {
+		return nil, nil, err
+	}
+	sr, err := logfile.NewSampleReader(io.TeeReader(f, tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples, MinTime: minT, MaxTime: maxT})
 	if err != nil {
 		return nil, nil, inputErr(err)
 	}
@@ -562,7 +558,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		}
 	}()
 	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress,
-		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat)}
+		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat), fp: logfile.NewFingerprint(hdr)}
 	src.maxLoad = math.Inf(-1)
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)
 	if src.perr != nil {
@@ -576,6 +572,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	}
 	row.Samples = src.rows
 	row.Blocks = src.blockNo
+	row.fingerprint = src.fp.Sum()
 	row.Start = time.Unix(0, src.firstNS).UTC().Truncate(time.Microsecond)
 	row.End = time.Unix(0, src.lastNS).UTC().Truncate(time.Microsecond)
 	row.Duration = float64(src.lastNS-src.firstNS) / 1e9
@@ -699,6 +696,18 @@ type blockSource struct {
 
 	// Counting while storing.
 	counter *diveCounter
+	// fp fingerprints the normalised samples.
+	fp *logfile.Fingerprint
+}
+
+// timeWindow is the span of time stamps a record may carry: from the
+// configured earliest time to now plus the clock tolerance.
+func (l *Ledger) timeWindow() (time.Time, time.Time, error) {
+	minT, err := l.cfg.Ingest.Earliest()
+	if err != nil {
+		return time.Time{}, time.Time{}, err
+	}
+	return minT, now().Add(time.Duration(l.cfg.Ingest.ClockToleranceS * float64(time.Second))), nil
 }
 
 func (s *blockSource) Next() bool {
@@ -720,6 +729,7 @@ func (s *blockSource) Next() bool {
 	}
 	s.lastNS = b.TimeNS[n-1]
 	s.counter.add(b.TimeNS, func(c int) []float64 { return b.Cols[c].Value })
+	s.fp.AddBlock(b)
 	for _, v := range b.Cols[s.loadIdx].Value {
 		if v > s.maxLoad {
 			s.maxLoad = v
@@ -757,7 +767,11 @@ func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 	}
 	defer f.Close()
 	tee := sha256.New()
-	hr, err := logfile.NewHitReader(io.TeeReader(f, tee), req.AE, req.Start)
+	minT, maxT, err := l.timeWindow()
+	if err != nil {
+		return 0, nil, nil, err
+	}
+	hr, err := logfile.NewHitReaderOptions(io.TeeReader(f, tee), req.AE, logfile.HitOptions{Start: req.Start, MinTime: minT, MaxTime: maxT})
 	if err != nil {
 		return 0, nil, nil, inputErr(err)
 	}
@@ -817,7 +831,7 @@ func (s *hitSource) Next() bool {
 
 func (s *hitSource) Values() ([]any, error) {
 	h := &s.hit
-	return []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS, string(hitEvent(h))}, nil
+	return []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.seq - 1, h.TimeNS, int32(h.Channel), h.AmplitudeDB, h.Energy, h.Counts, h.DurationUS, h.RiseUS, h.Event.String()}, nil
 }
 
 func (s *hitSource) Err() error { return s.perr }

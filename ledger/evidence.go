@@ -302,12 +302,11 @@ func (l *Ledger) aeEvidence(p evidence.Profile, ph evidence.Phase, hits []eviden
 	for _, r := range evidence.Channels(hits, channels, checks, cc) {
 		c := ChannelEv{Channel: r.Channel, Hits: r.Hits, HighAmplitudeHits: r.HighAmplitudeHits, TotalCounts: r.TotalCounts,
 			Present: r.Present, Checked: r.Checked, Notes: r.Reason}
-		if r.HistoricIndex.Computed {
-			c.HistoricIndex = ptr(r.HistoricIndex.Value)
-		}
-		if r.Severity.Computed {
-			c.Severity = ptr(r.Severity.Value)
-		}
+		c.HistoricIndex, c.Severity = r.HistoricIndex, r.Severity
+		// Too few hits for the figure is no sign of damage; anything
+		// else that left it out is missing.
+		c.HistoricIndexTooFew = r.HistoricIndex == nil && evidence.DefaultK(r.Hits) < 0
+		c.SeverityTooFew = r.Severity == nil && r.Hits < evidence.DefaultSeverityJ
 		out = append(out, c)
 	}
 	return ae, out
@@ -459,8 +458,8 @@ func hitsForEvidence(hs []logfile.Hit, firstNS int64) ([]evidence.Hit, []evidenc
 	var checks []evidence.SensorCheck
 	for _, h := range hs {
 		t := float64(h.TimeNS-firstNS) / 1e9
-		if h.Event != "" && h.Event != logfile.EventHit {
-			checks = append(checks, evidence.SensorCheck{Channel: h.Channel, TimeS: t, Kind: string(h.Event), AmplitudeDB: h.AmplitudeDB})
+		if h.Event != logfile.EventHit {
+			checks = append(checks, evidence.SensorCheck{Channel: h.Channel, TimeS: t, Kind: h.Event.String(), AmplitudeDB: h.AmplitudeDB})
 			continue
 		}
 		out = append(out, evidence.Hit{TimeS: t, Channel: h.Channel, AmplitudeDB: h.AmplitudeDB,

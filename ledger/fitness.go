@@ -15,6 +15,7 @@ import (
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/damage"
 	"hulltally/fatigue/fitness"
+	"hulltally/fatigue/implosion"
 	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger/spec"
@@ -31,9 +32,12 @@ type Fitness struct {
 	LastDive *time.Time `json:"last_dive"`
 	// RulesSource names the rule set.
 	RulesSource string `json:"rules_source"`
-	facts       fitness.HullFacts
-	verdict     fitness.Verdict
-	hull        *Hull
+	// MaxPressureMPa is the highest pressure the hull was ever recorded
+	// at, proof tests included.
+	MaxPressureMPa float64 `json:"max_pressure_ever_mpa"`
+	facts          fitness.HullFacts
+	verdict        fitness.Verdict
+	hull           *Hull
 }
 
 func (l *Ledger) loadRules() error {
@@ -83,7 +87,7 @@ func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note boo
 	v := fitness.Status(flags, decisions, fitness.Records{Inspections: facts.Inspections, ProofTests: facts.ProofTests}, now)
 	voidLife(dmg, v, r)
 	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: reasonViews(v.Reasons), Flags: flagViews(flags), Damage: dmg, RulesSource: src,
-		facts: facts, verdict: v, hull: h}
+		facts: facts, verdict: v, hull: h, MaxPressureMPa: facts.MaxPressureMPa}
 	if n := len(dmg.PerDive); n > 0 {
 		t := dmg.PerDive[n-1].Start
 		f.LastDive = &t
@@ -291,14 +295,17 @@ func (l *Ledger) StatusHistory(ctx context.Context, h *Hull) ([]StatusChange, er
 
 // Clearance is a pre-dive go or no-go.
 type Clearance struct {
-	Hull                 string   `json:"hull"`
-	Go                   bool     `json:"go"`
-	Status               string   `json:"status"`
-	DepthM               float64  `json:"planned_depth_m"`
-	BottomTimeMin        float64  `json:"planned_bottom_time_min"`
-	PredictedDamageRatio Num      `json:"predicted_damage_ratio"`
-	PredictionBasis      string   `json:"prediction_basis"`
-	Reasons              []Reason `json:"reasons"`
+	Hull                 string     `json:"hull"`
+	Go                   bool       `json:"go"`
+	Status               string     `json:"status"`
+	DepthM               float64    `json:"planned_depth_m"`
+	PressureMPa          float64    `json:"planned_pressure_mpa"`
+	CollapsePressureMPa  float64    `json:"collapse_pressure_mpa"`
+	Implosion            *Implosion `json:"implosion"`
+	BottomTimeMin        float64    `json:"planned_bottom_time_min"`
+	PredictedDamageRatio Num        `json:"predicted_damage_ratio"`
+	PredictionBasis      string     `json:"prediction_basis"`
+	Reasons              []Reason   `json:"reasons"`
 }
 
 // Clear answers whether the hull is cleared for a planned dive.
@@ -319,9 +326,58 @@ func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin flo
 	if err != nil {
 		return nil, err
 	}
-	c := fitness.Clear(f.verdict, f.facts, fitness.Plan{DepthM: depthM, BottomTimeMin: bottomMin, PredictedDamageRatio: pred}, r)
-	return &Clearance{Hull: serial, Go: c.Go, Status: f.Status, DepthM: depthM, BottomTimeMin: bottomMin,
-		PredictedDamageRatio: Num(pred), PredictionBasis: basis, Reasons: reasonViews(c.Reasons)}, nil
+	pMPa := seawater.DepthToMPa(depthM, 90) // the most pressure per metre: the safe side
+	c := fitness.Clear(f.verdict, f.facts, fitness.Plan{DepthM: depthM, PressureMPa: pMPa, BottomTimeMin: bottomMin, PredictedDamageRatio: pred}, r)
+	imp, err := ImplosionOf(h, pMPa)
+	if err != nil {
+		return nil, err
+	}
+	return &Clearance{Hull: serial, Go: c.Go, Status: f.Status, DepthM: depthM, PressureMPa: pMPa, BottomTimeMin: bottomMin,
+		CollapsePressureMPa: h.Spec.CollapsePressureMPa, PredictedDamageRatio: Num(pred), PredictionBasis: basis,
+		Reasons: reasonViews(c.Reasons), Implosion: imp}, nil
+}
+
+// Implosion is the implosion hazard of a hull at a pressure: order of
+// magnitude figures for planning safety distances, with their
+// assumptions.
+type Implosion struct {
+	InternalVolumeM3        float64  `json:"internal_volume_m3"`
+	PressureMPa             float64  `json:"pressure_mpa"`
+	DepthM                  float64  `json:"depth_m,omitempty"`
+	EnergyMJ                float64  `json:"energy_mj"`
+	PVEnergyMJ              float64  `json:"pv_energy_mj"`
+	WaterElasticMJ          float64  `json:"water_elastic_energy_mj"`
+	TNTEquivalentKg         float64  `json:"tnt_equivalent_kg"`
+	CollapseTimeMS          float64  `json:"collapse_time_ms"`
+	EquivalentSphereRadiusM float64  `json:"equivalent_sphere_radius_m"`
+	BulkModulusGPa          float64  `json:"bulk_modulus_gpa"`
+	EndClosure              string   `json:"end_closure,omitempty"`
+	Assumptions             []string `json:"assumptions"`
+}
+
+// ImplosionOf states the implosion hazard of hull h at gauge pressure
+// pMPa. A cylinder whose spec names no end closure is taken with
+// hemispherical heads beyond its length: the larger volume, the safe
+// side for planning.
+func ImplosionOf(h *Hull, pMPa float64) (*Implosion, error) {
+	g := implosion.Geometry{Shape: implosion.Shape(h.Spec.Shape), InnerRadiusM: h.Spec.InnerRadiusM}
+	var extra []string
+	if h.Spec.Shape == "cylinder" {
+		g.LengthM = h.Spec.LengthM
+		g.EndClosure = implosion.EndClosure(h.Spec.EndClosure)
+		if g.EndClosure == "" {
+			g.EndClosure = implosion.EndHemispherical
+			extra = append(extra, "end closures not specified in the hull spec: hemispherical heads beyond the length assumed (the larger volume, the safe side for planning); state end_closure in the spec")
+		}
+	}
+	r, err := implosion.Estimate(g, pMPa)
+	if err != nil {
+		return nil, fmt.Errorf("implosion hazard of %s: %w", h.Serial, err)
+	}
+	return &Implosion{InternalVolumeM3: r.InternalVolumeM3, PressureMPa: r.PressureMPa, DepthM: seawater.MPaToDepth(pMPa, 90),
+		EnergyMJ: r.EnergyMJ, PVEnergyMJ: r.PVEnergyMJ, WaterElasticMJ: r.WaterElasticMJ, TNTEquivalentKg: r.TNTEquivalentKg,
+		CollapseTimeMS: r.CollapseTimeMS, EquivalentSphereRadiusM: r.EquivalentSphereRadiusM, BulkModulusGPa: r.BulkModulusGPa,
+		EndClosure: string(g.EndClosure), Assumptions: append(extra, r.Assumptions...)}, nil
 }
 
 // predict estimates the damage of a planned dive as a ratio of the

@@ -273,7 +273,11 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS, &ev); err != nil {
 				return nil, 0, "", err
 			}
-			h.Channel, h.Event = int(ch), logfile.Event(ev)
+			e, ok := logfile.ParseEvent(ev)
+			if !ok {
+				return nil, 0, fmt.Sprintf("hit %d has an unknown event %q", seq, ev), nil
+			}
+			h.Channel, h.Event = int(ch), e
 			buf = hitBytes(buf[:0], seq, &h)
 			digest.Write(buf)
 			n++

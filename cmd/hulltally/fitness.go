@@ -74,6 +74,8 @@ func (a *app) clearCmd() *cobra.Command {
 				}
 			}
 			a.printf("predicted damage of the planned dive: %s of the allowable (%s)\n", pct(float64(c.PredictedDamageRatio)), c.PredictionBasis)
+			a.printf("planned pressure %.3f MPa against the collapse pressure %.3f MPa (%.0f %%)\n", c.PressureMPa, c.CollapsePressureMPa, 100*c.PressureMPa/c.CollapsePressureMPa)
+			a.printImplosion(c.Implosion, fmt.Sprintf("at the planned depth %.0f m", c.DepthM))
 			a.printf("\n%s\n", cautionText())
 			return nil
 		},

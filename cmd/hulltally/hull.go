@@ -12,6 +12,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"hulltally/fatigue/seawater"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
 )
@@ -164,6 +165,10 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			imp, err := ledger.ImplosionOf(rec, seawater.DepthToMPa(rec.Spec.RatedDepthM, 90))
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
 				return a.printJSON(map[string]any{
 					"serial": rec.Serial, "id": rec.ID, "revision": rec.Revision, "name": rec.Spec.Name,
@@ -172,6 +177,10 @@ func (a *app) hullCmd() *cobra.Command {
 					"dives_beyond_rated": sum.BeyondRated, "last_dive": sum.LastDive,
 					"components": dmg.Components, "governing_component": dmg.Governing, "governing_ratio": dmg.GoverningRatio,
 					"remaining_dives": dmg.RemainingDives, "remaining_status": dmg.RemainingStatus, "remaining_reason": dmg.RemainingReason,
+					"remaining_more_than": dmg.RemainingMoreThan, "remaining_basis": dmg.RemainingBasis,
+					"remaining_at_recent_mean": dmg.RemainingAtRecentMean, "remaining_at_design_dive": dmg.RemainingAtDesignDive,
+					"remaining_limit_ratio": dmg.LimitRatio, "design_dive": dmg.DesignDive,
+					"max_pressure_ever_mpa": fit.MaxPressureMPa, "implosion": imp,
 					"assessment": map[string]any{"config_hash": dmg.ConfigHash, "assessments_on_record": dmg.Assessments,
 						"design_fatigue_factor": dmg.DesignFatigueFactor, "mean_stress": dmg.MeanStress, "combine": dmg.Combine},
 					"status": fit.Status, "status_reasons": fit.Reasons, "flags": fit.Flags, "rules_source": fit.RulesSource,
@@ -203,6 +212,7 @@ func (a *app) hullCmd() *cobra.Command {
 			}
 			w.Flush()
 			a.printDamage(dmg)
+			a.printImplosion(imp, "at the rated depth")
 			a.printf("\nstatus: %s\n", strings.ToUpper(fit.Status))
 			seen := map[string]int{}
 			for _, x := range fit.Reasons {
@@ -268,8 +278,12 @@ func pct(r float64) string {
 
 func remaining(d *ledger.Damages) string {
 	switch {
+	case d.RemainingDives != nil && d.RemainingMoreThan:
+		return fmt.Sprintf("more than %d", *d.RemainingDives)
 	case d.RemainingDives != nil:
 		return fmt.Sprint(*d.RemainingDives)
+	case d.RemainingStatus == "void_evidence_open":
+		return "void"
 	case d.RemainingStatus == "not_limited_by_damage":
 		return "not limited"
 	case d.RemainingStatus == "too_few_dives":
@@ -308,9 +322,23 @@ func (a *app) damages(ctx context.Context, l *ledger.Ledger) (map[string]*ledger
 		if err != nil {
 			return nil, err
 		}
-		if out[s.Serial], err = l.HullDamage(ctx, h); err != nil {
+		// The damage as the status leaves it: no remaining life where
+		// it is void (a read: nothing is recorded).
+		f, err := l.FitnessAt(ctx, h, time.Now().UTC())
+		if err != nil {
 			return nil, err
 		}
+		out[s.Serial] = f.Damage
 	}
 	return out, nil
+}
+
+// printImplosion states the implosion hazard with its assumptions.
+func (a *app) printImplosion(imp *ledger.Implosion, where string) {
+	a.printf("\nimplosion hazard %s (%.2f MPa; order of magnitude, for planning safety distances):\n", where, imp.PressureMPa)
+	a.printf("  internal volume %.3f m³; energy released about %.3g MJ (p·V %.3g MJ + water %.3g MJ), about %.3g kg TNT; collapse in about %.2g ms\n",
+		imp.InternalVolumeM3, imp.EnergyMJ, imp.PVEnergyMJ, imp.WaterElasticMJ, imp.TNTEquivalentKg, imp.CollapseTimeMS)
+	for _, x := range imp.Assumptions {
+		a.printf("  - %s\n", x)
+	}
 }
