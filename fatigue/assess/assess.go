@@ -63,6 +63,10 @@ type Component struct {
 	// assessor combines them with the global settings by
 	// EffectiveSettings.
 	Own Settings
+	// Warnings are remarks for the report that do not stop the
+	// assessment, for example a metallic curve in air on a hull part that
+	// is usually immersed.
+	Warnings []string
 }
 
 // Resolve chooses each component's transfer and looks up its curves.
@@ -127,6 +131,12 @@ func resolve(g Geometry, s ComponentSpec, lib *sn.Library) (Component, error) {
 	c.Transfer = ch
 	if err := CheckMode(s.Name, ch.Transfer.Factor, c.Curve, c.Rupture); err != nil {
 		return c, err
+	}
+	switch c.Curve.Environment {
+	case sn.EnvAir:
+		c.Warnings = append(c.Warnings, fmt.Sprintf("S-N curve %s is a curve in air: a part wetted by seawater needs a seawater curve (cathodic protection or free corrosion), which gives fewer cycles", c.Curve.Name))
+	case "":
+		c.Warnings = append(c.Warnings, fmt.Sprintf("S-N curve %s does not state its environment", c.Curve.Name))
 	}
 	return c, nil
 }

@@ -167,6 +167,9 @@ func TestDiveDamageScalesPressureCycles(t *testing.T) {
 	if res[0].Damage.Sustained != 0 {
 		t.Fatalf("sustained %g without a rupture curve", res[0].Damage.Sustained)
 	}
+	if len(cs[0].Warnings) != 1 || !strings.Contains(cs[0].Warnings[0], "curve in air") {
+		t.Fatalf("warnings %v: a curve in air must be flagged", cs[0].Warnings)
+	}
 }
 
 func TestCheckModeRefuses(t *testing.T) {
