@@ -40,14 +40,14 @@ func TestEvidenceAgainstProofTest(t *testing.T) {
 		DepthNoiseM: 0.02, Gauges: gauges, AEChannels: []int{1, 2}, AEBottomRate: 1, AEOnsetFrac: 1, AmplitudeMean: 50}
 	proof := base
 	proof.Start = time.Date(2026, 4, 1, 8, 0, 0, 0, time.UTC)
-	proof.MaxDepthM = seawater.MPaToDepth(30, lat) // 30 MPa: beyond the 4000 m rating on purpose
+	proof.MaxDepthM = seawater.MPaToDepth(50, lat) // the spec's 50 MPa proof pressure: beyond the 4000 m rating on purpose
 	s, h := synthDive(t, proof, 1)
 	pt, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass", Actor: "yard"},
 		ledger.LogRequest{Hull: serial, Samples: s, AE: h, Latitude: &lat})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if pt.DiveID == nil || math.Abs(pt.PressureMPa-30) > 0.05 {
+	if pt.DiveID == nil || math.Abs(pt.PressureMPa-50) > 0.05 {
 		t.Fatalf("proof test %+v", pt)
 	}
 	for g, want := range map[string]float64{"hoop1": -100, "axial1": -40} {
@@ -55,12 +55,12 @@ func TestEvidenceAgainstProofTest(t *testing.T) {
 			t.Errorf("baseline %s = %v, want %v", g, got, want)
 		}
 	}
-	// A later dive to 25 MPa, softened by 5 %, emitting from 60 % of its
-	// depth at 300 hits an hour: the onset lies near 15 MPa, far below the
-	// 30 MPa reference.
+	// A later dive to 35 MPa, softened by 5 %, emitting from 60 % of its
+	// depth at 300 hits an hour: the onset lies near 21 MPa, far below the
+	// 50 MPa reference (Felicity about 0.42).
 	dive := base
 	dive.Start = time.Date(2026, 4, 3, 8, 0, 0, 0, time.UTC)
-	dive.MaxDepthM = seawater.MPaToDepth(25, lat)
+	dive.MaxDepthM = seawater.MPaToDepth(35, lat)
 	dive.Gauges = []synth.Gauge{{Name: "hoop1", ComplianceUEPerMPa: -105, NoiseUE: 0.5}, {Name: "axial1", ComplianceUEPerMPa: -42, NoiseUE: 0.5}}
 	dive.AEOnsetFrac, dive.AEOnsetRate = 0.6, 300
 	s, h = synthDive(t, dive, 2)
@@ -72,8 +72,8 @@ func TestEvidenceAgainstProofTest(t *testing.T) {
 	if err != nil || ev == nil {
 		t.Fatalf("evidence %v %v", ev, err)
 	}
-	if math.Abs(ev.PreviousMaxMPa-30) > 0.05 {
-		t.Errorf("previous maximum %v MPa, want the proof test's 30", ev.PreviousMaxMPa)
+	if math.Abs(ev.PreviousMaxMPa-50) > 0.05 {
+		t.Errorf("previous maximum %v MPa, want the proof test's 50", ev.PreviousMaxMPa)
 	}
 	if ev.AE == nil || ev.AE.FelicityRatio == nil || *ev.AE.FelicityRatio > 0.7 || *ev.AE.FelicityRatio < 0.3 {
 		t.Fatalf("Felicity %+v", ev.AE)
