@@ -43,6 +43,15 @@ func TestClear(t *testing.T) {
 		{"inspection overdue by dives", Fit, func(f *HullFacts, _ *Plan) { f.DiveCount = 150 }, rs, false, "inspection-due-by-dives"},
 		{"inspection overdue by days", Fit, func(f *HullFacts, _ *Plan) { f.Inspections[0].At = t0.Add(-day(400)) }, rs, false, "inspection-due-by-days"},
 		{"no rules", Fit, func(*HullFacts, *Plan) {}, nil, false, "rules"},
+		// Collapse: 900 m at latitude 90° is about 9.1 MPa.
+		{"well below the collapse fraction", Fit, func(f *HullFacts, _ *Plan) { f.CollapsePressureMPa = 11 }, rs, true, ""},
+		{"depth at the collapse fraction", Fit, func(f *HullFacts, _ *Plan) { f.CollapsePressureMPa = 10 }, rs, false, "collapse"},
+		{"given pressure beyond the depth's", Fit, func(_ *HullFacts, p *Plan) { p.PressureMPa = 18.5 }, rs, false, "collapse"},
+		{"given pressure just below the hold fraction", Fit, func(_ *HullFacts, p *Plan) { p.PressureMPa = 17.99 }, rs, true, ""},
+		{"a smaller given pressure does not beat the depth's", Fit, func(f *HullFacts, p *Plan) { f.CollapsePressureMPa, p.PressureMPa = 10, 1 }, rs, false, "collapse"},
+		{"collapse pressure not known", Fit, func(f *HullFacts, _ *Plan) { f.CollapsePressureMPa = 0 }, rs, false, "collapse"},
+		{"planned pressure negative", Fit, func(_ *HullFacts, p *Plan) { p.PressureMPa = -1 }, rs, false, "plan"},
+		{"collapse rule without a hold", Fit, func(*HullFacts, *Plan) {}, &Rules{Rules: withoutCollapseHold(rs)}, false, "collapse"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -88,7 +97,7 @@ func TestClearListsPassedChecks(t *testing.T) {
 	for _, r := range got.Reasons {
 		codes = append(codes, r.Code)
 	}
-	for _, want := range []string{"status", "plan", "depth", "damage", "inspection-due-by-dives", "inspection-due-by-days", "proof-test-due"} {
+	for _, want := range []string{"status", "plan", "depth", "damage", "collapse", "inspection-due-by-dives", "inspection-due-by-days", "proof-test-due"} {
 		if !contains(codes, want) {
 			t.Errorf("check %s not listed: %v", want, codes)
 		}
@@ -115,5 +124,58 @@ func TestClearFromStatus(t *testing.T) {
 	}
 	if !found {
 		t.Fatalf("the flag is not among the no-go reasons: %+v", c.Reasons)
+	}
+}
+
+func withoutCollapseHold(rs *Rules) []Rule {
+	out := append([]Rule(nil), rs.Rules...)
+	for i := range out {
+		if out[i].Measure == MeasureCollapseFraction {
+			out[i].Hold = nil
+		}
+	}
+	return out
+}
+
+// TestClearNamesCollapsePressure: the no-go names the collapse pressure and
+// the fraction.
+func TestClearNamesCollapsePressure(t *testing.T) {
+	f := goodHull()
+	c := Clear(Verdict{State: Fit}, f, Plan{DepthM: 500, PressureMPa: 19, PredictedDamageRatio: 0.001}, shipped(t))
+	if c.Go || c.Reasons[0].Code != "collapse" {
+		t.Fatalf("%+v", c.Reasons)
+	}
+	for _, want := range []string{"19.000 MPa", "0.95 of the collapse pressure 20.000 MPa", "collapse-fraction"} {
+		if !strings.Contains(c.Reasons[0].Text, want) {
+			t.Errorf("%q lacks %q", c.Reasons[0].Text, want)
+		}
+	}
+}
+
+// TestClearPredictedDamageInReason: the plan's predicted damage is the
+// figure the damage check speaks of, passed or not.
+func TestClearPredictedDamageInReason(t *testing.T) {
+	rs := shipped(t)
+	for _, c := range []struct {
+		pred float64
+		want string
+		nogo bool
+	}{
+		{0.0123, "predicted damage 0.0123 within what is left of the allowable, 0.8", false},
+		{0.8123, "predicted damage 0.8123 exceeds what is left of the allowable, 0.8", true},
+	} {
+		got := Clear(Verdict{State: Fit}, goodHull(), Plan{DepthM: 500, PredictedDamageRatio: c.pred}, rs)
+		found := false
+		for _, r := range got.Reasons {
+			if r.Code == "damage" {
+				found = true
+				if !strings.Contains(r.Text, c.want) || r.NoGo != c.nogo {
+					t.Errorf("damage reason %q (no-go %v), want %q (no-go %v)", r.Text, r.NoGo, c.want, c.nogo)
+				}
+			}
+		}
+		if !found || got.Go == c.nogo {
+			t.Errorf("prediction %v: go %v, reasons %+v", c.pred, got.Go, got.Reasons)
+		}
 	}
 }

@@ -15,7 +15,15 @@
 //     return to service by a named person with a reason; withdrawn is set
 //     and lifted only by recorded decisions.
 //   - Clear answers the operator's question before a dive: go or no-go for
-//     the planned depth and predicted damage, with every check listed.
+//     the planned depth, pressure (against the collapse pressure) and
+//     predicted damage, with every check listed.
+//
+// Every fact carries two times: when it happened (At, Start) and when the
+// ledger recorded it (RecordedAt). "Later" means later in both: a dive
+// whose logger clock is behind but that the ledger recorded after an
+// inspection is not cleared by it, and an inspection backdated before a
+// dive already recorded is not either. Flags are ordered by recording
+// time, then by event time. A zero RecordedAt falls back to the event time.
 //
 // The package leans to the safe side throughout: a value that is missing,
 // not a number or otherwise doubtful never makes a hull look better; it

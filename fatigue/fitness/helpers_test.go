@@ -63,7 +63,7 @@ func goodHull() HullFacts {
 		RatedDepthM:    1000,
 		MaxPressureMPa: 12.5, CollapsePressureMPa: 20,
 		QualifiedCycles: fp(10000), CyclesUsed: 110,
-		Dives:           []DiveFacts{goodDive("d1", t0.Add(-day(1)))},
+		Dives:       []DiveFacts{goodDive("d1", t0.Add(-day(1)))},
 		DiveCount:   110,
 		Inspections: []Inspection{{At: t0.Add(-day(10)), Method: "visual", Result: ResultPass, Actor: "A. Inspector", DiveCount: 100}},
 		ProofTests:  []ProofTest{{At: t0.Add(-day(200)), PressureMPa: 12.5, Result: ResultPass, Actor: "B. Tester", DiveCount: 0}},
