@@ -198,4 +198,3 @@ func TestPressureAtProperties(t *testing.T) {
 		}
 	})
 }
-

@@ -2,9 +2,16 @@
 // a composite pressure hull: acoustic emission (the onset of significant
 // emission, the Felicity ratio against the highest pressure the hull has
 // already seen, emission during the hold at depth, the historic index and
-// the severity) and strain (compliance against a baseline, residual strain
-// after surfacing, hysteresis between descent and ascent, creep during the
-// hold).
+// the severity, pooled and per channel, with sensor checks that tell a
+// quiet sensor from a dead one) and strain (a data-quality check per
+// gauge, compliance against a baseline, residual strain after surfacing
+// at matching temperature, hysteresis between descent and ascent, creep
+// during the hold).
+//
+// The judgements lean to the safe side: windows slide (a burst is never
+// split between fixed bins), a relative test is paired with an absolute
+// limit, and a figure that cannot be judged is reported as not computed
+// with its reason, never as a passing value.
 //
 // The inputs are a dive's decimated Profile (time, gauge pressure in MPa
 // and strain per gauge in microstrain, negative in compression) and its

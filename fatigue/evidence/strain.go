@@ -38,6 +38,9 @@ type StrainCriterion struct {
 	// Quality is the data-quality check every gauge must pass before its
 	// measures are computed (see GaugeQuality).
 	Quality GaugeCriterion
+	// QualityByGauge overrides Quality for the gauges it names (e.g. Sign
+	// +1 for a gauge the design places in tension); nil for none.
+	QualityByGauge map[string]GaugeCriterion
 }
 
 // DefaultStrainCriterion returns the strain constants, all common practice
@@ -81,7 +84,22 @@ func (c StrainCriterion) Validate() error {
 	if err := c.Quality.Validate(); err != nil {
 		return err
 	}
+	for _, g := range sortedKeys(c.QualityByGauge) {
+		if err := c.QualityByGauge[g].Validate(); err != nil {
+			return fmt.Errorf("gauge %q: %w", g, err)
+		}
+	}
 	return nil
+}
+
+// sortedKeys returns the map's keys in lexical order.
+func sortedKeys[V any](m map[string]V) []string {
+	out := make([]string, 0, len(m))
+	for k := range m {
+		out = append(out, k)
+	}
+	sort.Strings(out)
+	return out
 }
 
 // Compliance is the least-squares slope of strain on pressure over the
@@ -216,7 +234,11 @@ func Strain(p Profile, ph Phase, baseline map[string]float64, c StrainCriterion)
 func gauge(p Profile, ph Phase, name string, c0 float64, haveBaseline bool, c StrainCriterion) StrainResult {
 	s := p.Strain[name]
 	r := StrainResult{Gauge: name}
-	r.QualityOK, r.QualityReason = GaugeQuality(p, name, c.Quality)
+	q, ok := c.QualityByGauge[name]
+	if !ok {
+		q = c.Quality
+	}
+	r.QualityOK, r.QualityReason = GaugeQuality(p, name, q)
 	if !r.QualityOK {
 		why := "not computed: gauge doubtful: " + r.QualityReason
 		r.Compliance.Reason = "compliance " + why

@@ -261,7 +261,7 @@ func TestHysteresisNotComputed(t *testing.T) {
 	cut := 600 + 1810 + 3600 + 900 // half the ascent: down to 20 MPa
 	p.TimeS, p.Pressure = p.TimeS[:cut], p.Pressure[:cut]
 	p.Strain["hoop"] = p.Strain["hoop"][:cut]
-	// A gauge that reads 0 throughout: area 0, strain at peak 0.
+	// A gauge that reads 0 throughout: doubtful, nothing computed.
 	p.Strain["dead"] = make([]float64, cut)
 	ph, err := Phases(p, 0)
 	if err != nil {
@@ -271,30 +271,220 @@ func TestHysteresisNotComputed(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if res[0].Gauge != "dead" || res[1].Gauge != "hoop" {
+		t.Fatalf("gauges %s, %s: want name order", res[0].Gauge, res[1].Gauge)
+	}
+	if h := res[1].Hysteresis; h.Computed || !strings.Contains(h.Reason, "does not span") {
+		t.Errorf("hoop: hysteresis %+v, want not computed", h)
+	}
+	if h := res[0].Hysteresis; h.Computed || !strings.Contains(h.Reason, "doubtful") {
+		t.Errorf("dead: hysteresis %+v, want not computed, doubtful", h)
+	}
 	for _, r := range res {
-		if r.Hysteresis.Computed || !strings.Contains(r.Hysteresis.Reason, "does not span") {
-			t.Errorf("gauge %s: hysteresis %+v, want not computed", r.Gauge, r.Hysteresis)
-		}
 		if r.Residual.Computed {
 			t.Errorf("gauge %s: residual computed without surface samples after the dive", r.Gauge)
 		}
 	}
-	if res[0].Gauge != "dead" || res[1].Gauge != "hoop" {
-		t.Fatalf("gauges %s, %s: want name order", res[0].Gauge, res[1].Gauge)
-	}
+}
 
-	// Full dive, dead gauge: computed area 0, not normalised.
-	p = deepDive().profile()
-	ph, err = Phases(p, 0)
+func TestDoubtfulGaugeComputesNothing(t *testing.T) {
+	// Adversarial: a dead gauge (0 µε throughout) would show compliance
+	// 0, a compliance change of −100 % (stiffer than baseline), no
+	// residual strain, no hysteresis and no creep: a hull that looks
+	// perfect. Every measure must be not computed, with the reason.
+	p := deepDive().profile() // C = 0: the gauge reads 0
+	ph, err := Phases(p, 0)
 	if err != nil {
 		t.Fatal(err)
 	}
-	res, err = Strain(p, ph, nil, DefaultStrainCriterion())
+	res, err := Strain(p, ph, map[string]float64{"hoop": -150}, DefaultStrainCriterion())
 	if err != nil {
 		t.Fatal(err)
 	}
-	if h := res[0].Hysteresis; !h.Computed || h.AreaUEMPa != 0 || !strings.Contains(h.Reason, "not normalised") {
-		t.Fatalf("dead gauge hysteresis %+v, want area 0, not normalised", h)
+	r := res[0]
+	if r.QualityOK || !strings.Contains(r.QualityReason, "constant") {
+		t.Fatalf("quality %v %q, want doubtful: constant", r.QualityOK, r.QualityReason)
+	}
+	for _, m := range []struct {
+		name     string
+		computed bool
+		reason   string
+	}{
+		{"compliance", r.Compliance.Computed, r.Compliance.Reason},
+		{"change", r.Change.Computed, r.Change.Reason},
+		{"residual", r.Residual.Computed, r.Residual.Reason},
+		{"hysteresis", r.Hysteresis.Computed, r.Hysteresis.Reason},
+		{"creep", r.Creep.Computed, r.Creep.Reason},
+	} {
+		if m.computed || !strings.Contains(m.reason, "not computed: gauge doubtful") {
+			t.Errorf("%s computed %v, reason %q: want not computed, doubtful", m.name, m.computed, m.reason)
+		}
+	}
+}
+
+func TestGaugeQuality(t *testing.T) {
+	good := func() Profile { d := deepDive(); d.C, d.NoiseUE = -150, 0.5; return d.profile() }
+	with := func(f func(s []float64)) Profile {
+		p := good()
+		f(p.Strain["hoop"])
+		return p
+	}
+	tensile := func() Profile { d := deepDive(); d.C = 40; return d.profile() }
+	tests := []struct {
+		name   string
+		p      Profile
+		gauge  string
+		c      GaugeCriterion
+		wantOK bool
+		reason string
+	}{
+		// Adversarial first: inputs that would make the hull look sound.
+		{"constant gauge", with(func(s []float64) {
+			for i := range s {
+				s[i] = -512
+			}
+		}), "hoop", DefaultGaugeCriterion(), false, "constant"},
+		// ±0.3 µε of noise about a fixed value: standard deviation about
+		// 0.21 µε, below 1 µε.
+		{"flat with noise", with(func(s []float64) {
+			for i := range s {
+				s[i] = -512 + 0.3*math.Sin(1.3*float64(i))
+			}
+		}), "hoop", DefaultGaugeCriterion(), false, "constant"},
+		// Noise of ±200 µε that does not follow the pressure.
+		{"noise, not strain", with(func(s []float64) {
+			for i := range s {
+				s[i] = 200 * math.Sin(1.3*float64(i))
+			}
+		}), "hoop", DefaultGaugeCriterion(), false, "does not follow"},
+		// The same hull read with the gauge's sign reversed (+150 µε/MPa).
+		{"wrong sign", with(func(s []float64) {
+			for i := range s {
+				s[i] = -s[i]
+			}
+		}), "hoop", DefaultGaugeCriterion(), false, "wrong sign"},
+		// One sample at −25 000 µε, beyond ±20 000.
+		{"over range", with(func(s []float64) { s[3000] = -25000 }), "hoop", DefaultGaugeCriterion(), false, "beyond"},
+		{"NaN sample", with(func(s []float64) { s[10] = math.NaN() }), "hoop", DefaultGaugeCriterion(), false, "NaN"},
+		{"absent gauge", good(), "axial", DefaultGaugeCriterion(), false, "no column"},
+		{"invalid criterion", good(), "hoop", GaugeCriterion{MinStdevUE: -1}, false, "not judged"},
+		{"sound gauge", good(), "hoop", DefaultGaugeCriterion(), true, "follows"},
+		// A gauge the design puts in tension, declared so.
+		{"tensile gauge declared", tensile(), "hoop", GaugeCriterion{MinStdevUE: 1, MaxAbsUE: 20000, Sign: 1, MinCorrelation: 0.8}, true, "follows"},
+		{"tensile gauge, either sign", tensile(), "hoop", GaugeCriterion{MinStdevUE: 1, MaxAbsUE: 20000, MinCorrelation: 0.8}, true, "follows"},
+		{"tensile gauge undeclared", tensile(), "hoop", DefaultGaugeCriterion(), false, "wrong sign"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			ok, reason := GaugeQuality(tt.p, tt.gauge, tt.c)
+			if ok != tt.wantOK || !strings.Contains(reason, tt.reason) {
+				t.Fatalf("GaugeQuality = %v %q, want %v with %q", ok, reason, tt.wantOK, tt.reason)
+			}
+		})
+	}
+	// A column shorter than the pressure series.
+	p := good()
+	p.Strain["hoop"] = p.Strain["hoop"][:100]
+	if ok, reason := GaugeQuality(p, "hoop", DefaultGaugeCriterion()); ok || !strings.Contains(reason, "samples for") {
+		t.Fatalf("short column: %v %q", ok, reason)
+	}
+}
+
+func TestResidualTemperature(t *testing.T) {
+	// deepDive with C = −150 and a residual of −25 µε. Temperature 20 °C
+	// before the dive; after it, the surface samples read 20 + dT.
+	mk := func(dT float64, nan bool) Profile {
+		d := deepDive()
+		d.C, d.ResidualUE = -150, -25
+		p := d.profile()
+		p.Temp = make([]float64, len(p.TimeS))
+		for i := range p.Temp {
+			p.Temp[i] = 20
+			if i > 600+1810+3600 {
+				p.Temp[i] = 20 + dT
+			}
+		}
+		if nan {
+			p.Temp[len(p.Temp)-1] = math.NaN()
+		}
+		return p
+	}
+	tests := []struct {
+		name     string
+		p        Profile
+		computed bool
+		diff     *float64
+		reason   string
+	}{
+		// Adversarial: the surface after the dive is 3 °C warmer; the strain
+		// difference mixes temperature and damage: not comparable.
+		{"3 °C warmer after", mk(3, false), false, ptrF(3), "temperature differs by 3 °C"},
+		{"3 °C colder after", mk(-3, false), false, ptrF(-3), "temperature differs by -3 °C"},
+		{"temperature unknown", mk(0, true), false, nil, "temperature unknown"},
+		// 1.5 °C is within 2 °C: computed, −25 µε.
+		{"1.5 °C warmer after", mk(1.5, false), true, ptrF(1.5), ""},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			ph, err := Phases(tt.p, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			res, err := Strain(tt.p, ph, nil, DefaultStrainCriterion())
+			if err != nil {
+				t.Fatal(err)
+			}
+			r := res[0].Residual
+			if r.Computed != tt.computed || !sameFloatPtr(r.TempDiffC, tt.diff, 1e-9) || !strings.Contains(r.Reason, tt.reason) {
+				t.Fatalf("residual %+v (diff %v), want computed %v diff %v reason %q", r, fp(r.TempDiffC), tt.computed, fp(tt.diff), tt.reason)
+			}
+			if r.Computed && math.Abs(r.PressureCorrectedUE+25) > 0.05 {
+				t.Fatalf("residual %g µε, want −25", r.PressureCorrectedUE)
+			}
+			if !r.Computed && r.UE != 0 {
+				t.Fatalf("residual not computed but carries %g µε", r.UE)
+			}
+			// Creep and hysteresis keep their figures.
+			if !res[0].Creep.Computed || !res[0].Hysteresis.Computed {
+				t.Fatalf("creep %+v hysteresis %+v", res[0].Creep, res[0].Hysteresis)
+			}
+		})
+	}
+	// A temperature column of the wrong length is an invalid profile.
+	p := mk(0, false)
+	p.Temp = p.Temp[:10]
+	if err := p.Validate(); err == nil || !strings.Contains(err.Error(), "temperatures") {
+		t.Fatalf("Validate = %v, want a temperature length error", err)
+	}
+}
+
+func ptrF(v float64) *float64 { return &v }
+
+func TestQualityByGauge(t *testing.T) {
+	// A gauge in tension (+40 µε/MPa) fails the default check but passes
+	// when declared so for that gauge alone.
+	d := deepDive()
+	d.C = 40
+	p := d.profile()
+	ph, err := Phases(p, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := DefaultStrainCriterion()
+	res, err := Strain(p, ph, nil, c)
+	if err != nil || res[0].QualityOK {
+		t.Fatalf("default: %v %+v, want doubtful", err, res)
+	}
+	tension := DefaultGaugeCriterion()
+	tension.Sign = 1
+	c.QualityByGauge = map[string]GaugeCriterion{"hoop": tension}
+	res, err = Strain(p, ph, nil, c)
+	if err != nil || !res[0].QualityOK || !res[0].Compliance.Computed || math.Abs(res[0].Compliance.UEPerMPa-40) > 0.04 {
+		t.Fatalf("declared tensile: %v %+v, want compliance 40 µε/MPa", err, res)
+	}
+	c.QualityByGauge["hoop"] = GaugeCriterion{}
+	if _, err := Strain(p, ph, nil, c); err == nil || !strings.Contains(err.Error(), "hoop") {
+		t.Fatalf("invalid override: %v", err)
 	}
 }
 
@@ -316,6 +506,10 @@ func TestStrainCriterionValidate(t *testing.T) {
 		{"no surface points", mod(func(c *StrainCriterion) { c.MinSurfacePoints = 0 }), "surface points"},
 		{"negative hold", mod(func(c *StrainCriterion) { c.MinHoldS = -1 }), "minimum hold"},
 		{"creep edge 0.6", mod(func(c *StrainCriterion) { c.CreepEdgeFrac = 0.6 }), "creep edge"},
+		{"negative temperature tolerance", mod(func(c *StrainCriterion) { c.MaxTempDiffC = -1 }), "temperature"},
+		{"zero gauge criterion", mod(func(c *StrainCriterion) { c.Quality = GaugeCriterion{} }), "strain limit"},
+		{"gauge sign 2", mod(func(c *StrainCriterion) { c.Quality.Sign = 2 }), "sign"},
+		{"gauge correlation 1.5", mod(func(c *StrainCriterion) { c.Quality.MinCorrelation = 1.5 }), "correlation"},
 	}
 	for _, tt := range tests {
 		t.Run(tt.name, func(t *testing.T) {
