@@ -204,9 +204,11 @@ func TestLogJSONAndDuplicate(t *testing.T) {
 			t.Errorf("hull show lacks %s", k)
 		}
 	}
-	// One dive is too few to project a remaining life: no number is given.
-	if show["remaining_dives"] != nil || show["remaining_status"] != "too_few_dives" {
-		t.Errorf("remaining with one dive: %v %v", show["remaining_dives"], show["remaining_status"])
+	// The hull has no inspection or proof test on record, so it is on
+	// hold: a remaining life would be a figure shown where it is void.
+	if show["status"] != "hold" || show["remaining_dives"] != nil || show["remaining_status"] != "void_evidence_open" ||
+		!strings.Contains(show["remaining_reason"].(string), "on hold") {
+		t.Errorf("remaining on a hull on hold: %v %v %v (%v)", show["status"], show["remaining_dives"], show["remaining_status"], show["remaining_reason"])
 	}
 }
 
@@ -214,6 +216,10 @@ func TestLogJSONAndDuplicate(t *testing.T) {
 // factor; hulltally assess appends a new assessment and the old stays.
 func TestAssessAfterCurveChange(t *testing.T) {
 	e := newEnv(t)
+	// An inspection and a proof test on record, so that the hull is not
+	// on hold and its remaining life is shown.
+	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "insp")
+	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--actor", "yard")
 	for i, depth := range []int{500, 800, 650} {
 		p := filepath.Join(t.TempDir(), fmt.Sprintf("d%d.csv", i))
 		os.WriteFile(p, []byte(fmt.Sprintf("time,depth_m\n2026-05-0%dT08:00:00Z,0\n2026-05-0%dT08:10:00Z,%d\n2026-05-0%dT08:20:00Z,0\n", i+1, i+1, depth, i+1)), 0o644)
