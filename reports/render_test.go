@@ -51,7 +51,7 @@ func fixture(t *testing.T) *Model {
 	onset := 29.0
 	m := &Model{Kind: KindHull, Subject: sp.Serial, GeneratedAt: at, Chains: map[string]Chain{sp.Serial: {Head: "ab", Records: 9}}}
 	hp := HullPart{Spec: sp, Revision: 1, Status: "watch", Damage: dmg,
-		Reasons: []ledger.Reason{{Kind: "flag", Code: "compliance-change", State: "watch", Text: finding + " [rule compliance-change]"}},
+		Reasons:  []ledger.Reason{{Kind: "flag", Code: "compliance-change", State: "watch", Text: finding + " [rule compliance-change]"}},
 		CumRatio: []float64{0.05, 0.08, 0.12}, Dives: dives, Felicity: []*float64{nil, &fr1, &fr2},
 		Compliance: map[string][]*float64{"hoop1": {&cw, &cw, &cw}}, Baseline: map[string]float64{"hoop1": 118},
 		Maintenance: &ledger.Maintenance{
