@@ -193,9 +193,12 @@ func (ts *typeset) shape(s string, style int) []glyph {
 			continue
 		}
 		g := glyph{text: string(r), face: k, width: ts.adv(k, style, r)}
-		if unicode.IsSpace(r) {
+		switch {
+		case unicode.IsSpace(r):
 			g.space, g.breakAfter = true, true
-		} else if wide(r) {
+		case wide(r), r == '-', r == '/':
+			// A line may break after a hyphen or slash, as in a long
+			// curve name, before it breaks inside a word.
 			g.breakAfter = true
 		}
 		out = append(out, g)

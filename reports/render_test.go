@@ -316,3 +316,38 @@ func TestOptionalSectionsOmitted(t *testing.T) {
 		}
 	}
 }
+
+// TestDiveSheetOptional: the per-channel table and the hits-against-
+// pressure chart print when their fields are filled, an absent channel
+// is said to be absent, and a missing figure prints "-", never a number.
+func TestDiveSheetOptional(t *testing.T) {
+	hm := fixture(t)
+	dv := hm.Hulls[0].Dives[2]
+	fr, onset, hi := 0.93, 29.0, 0.4
+	m := &Model{Kind: KindDive, Subject: dv.ID.String(), GeneratedAt: hm.GeneratedAt, Chains: hm.Chains, Basis: hm.Basis,
+		Hulls: []HullPart{{Spec: hm.Hulls[0].Spec, Status: "watch", Damage: hm.Hulls[0].Damage}},
+		Dive: &DivePart{Dive: &dv, Load: &ledger.DiveLoad{Damage: map[string]ledger.DiveComponentDamage{"cylinder-wall": {Cyclic: 1e-4, Basis: "lame", Curve: "cfrp-illustrative"}}},
+			Evidence: &ledger.Evidence{Evaluated: true, PeakMPa: 32.2, PreviousMaxMPa: 31.2,
+				AE: &ledger.AEEvidence{Hits: 44, OnsetMPa: &onset, FelicityRatio: &fr, FelicityReason: "onset below the previous maximum"}},
+			Channels: []ChannelView{{Channel: 1, Hits: 44, HistoricIndex: &hi, HighAmplitudeHits: 3, TotalCounts: 1200, Present: true},
+				{Channel: 2, Present: false, Reason: "no hits recorded"}},
+			FelicityHits: []HitPoint{{PressureMPa: 20, Cumulative: 2}, {PressureMPa: 29, Cumulative: 8}, {PressureMPa: 32, Cumulative: 44}}}}
+	r, err := RenderDiveReport(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := flat(pdfText(t, r.PDF))
+	for _, want := range []string{"Acoustic emission per channel", "ABSENT: no hits recorded", "0.400", "of 2026-03-06: Felicity ratio 0.930"} {
+		if !strings.Contains(text, want) {
+			t.Errorf("dive sheet lacks %q", want)
+		}
+	}
+	m.Dive.Channels, m.Dive.FelicityHits = nil, nil
+	r, err = RenderDiveReport(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if text := flat(pdfText(t, r.PDF)); strings.Contains(text, "per channel") || strings.Contains(text, "of 2026-03-06: Felicity ratio") {
+		t.Error("optional dive sections printed without their data")
+	}
+}
