@@ -6,9 +6,15 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"os"
 	"sort"
+	"strconv"
+	"strings"
 	"time"
 
+	"hulltally/configs"
+	"hulltally/fatigue/fitness"
+	"hulltally/fatigue/sn"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
 )
@@ -58,8 +64,104 @@ type HullPart struct {
 	CycleRanges []float64 `json:"cycle_ranges,omitempty"`
 	CycleCounts []float64 `json:"cycle_counts,omitempty"`
 	// Deepest is the deepest of the last 10 dives, whose profile is drawn.
-	Deepest *ledger.Dive    `json:"deepest_recent,omitempty"`
-	profile *ledger.Profile // drawn, covered by the chain head
+	Deepest *ledger.Dive `json:"deepest_recent,omitempty"`
+	// Highest is the highest pressure the hull ever saw, dives and proof
+	// tests alike; nil with no record.
+	Highest *HighestPressure `json:"highest_pressure,omitempty"`
+	// Transfer is the load-transfer basis of each component, with the
+	// caveat that applies to it.
+	Transfer []TransferView `json:"transfer,omitempty"`
+	// Implosion is the implosion-energy statement. Optional: nil omits
+	// the section (the ledger does not compute it yet).
+	Implosion *ImplosionView `json:"implosion,omitempty"`
+	// FelicityDives are the dives that raised a Felicity flag, each with
+	// its cumulative acoustic-emission hits against pressure, drawn one
+	// chart per dive. Optional: empty omits the charts (the ledger does
+	// not expose hits against pressure yet).
+	FelicityDives []FelicityDive  `json:"felicity_dives,omitempty"`
+	profile       *ledger.Profile // drawn, covered by the chain head
+}
+
+// HighestPressure is the highest pressure on record and what reached it.
+type HighestPressure struct {
+	PressureMPa float64 `json:"pressure_mpa"`
+	// DepthM is the depth of a dive; nil for a proof test in a chamber.
+	DepthM *float64 `json:"depth_m,omitempty"`
+	// Source is "dive" or "proof test".
+	Source string    `json:"source"`
+	At     time.Time `json:"at"`
+	// Dive is the dive's ID (also for a proof test logged as a dive).
+	Dive string `json:"dive,omitempty"`
+}
+
+// TransferView is one component's load-transfer basis.
+type TransferView struct {
+	Component string `json:"component"`
+	// Preferred is the basis the specification asks for (lame, designer,
+	// gauge); Used is the one the assessment in force used.
+	Preferred string `json:"preferred"`
+	Used      string `json:"used"`
+	// FactorMPaPerMPa is the stress per unit gauge pressure used.
+	FactorMPaPerMPa float64 `json:"factor_mpa_per_mpa"`
+	// Source is where a designer's factor comes from.
+	Source string `json:"source,omitempty"`
+	// Caveat is printed beside the basis: the isotropic default, or a
+	// preferred basis that fell back. Empty when none applies.
+	Caveat string `json:"caveat,omitempty"`
+}
+
+// ImplosionView is the implosion-energy statement of a hull: the energy
+// the sea releases on the hull's collapse at the stated pressure.
+type ImplosionView struct {
+	// InternalVolumeM3 is the hull's internal (air) volume, m³.
+	InternalVolumeM3 float64 `json:"internal_volume_m3"`
+	// PressureMPa is the ambient pressure taken for the collapse, MPa.
+	PressureMPa float64 `json:"pressure_mpa"`
+	// EnergyMJ is the energy released, MJ.
+	EnergyMJ float64 `json:"energy_mj"`
+	// TNTEquivalentKg is the energy as kilograms of TNT.
+	TNTEquivalentKg float64 `json:"tnt_equivalent_kg"`
+	// CollapseTimeMS is the estimated collapse time, ms; nil when not
+	// estimated.
+	CollapseTimeMS *float64 `json:"collapse_time_ms,omitempty"`
+	// Assumptions are stated under the figures, one a line.
+	Assumptions []string `json:"assumptions"`
+}
+
+// FelicityDive is a dive that raised a Felicity flag, with its
+// cumulative hits against pressure.
+type FelicityDive struct {
+	Dive  string    `json:"dive"`
+	Start time.Time `json:"start"`
+	// Ratio is the Felicity ratio; nil when not evaluated.
+	Ratio *float64 `json:"ratio,omitempty"`
+	// PreviousMaxMPa is the highest pressure before the dive; OnsetMPa the
+	// pressure at the onset of significant emission (nil: none).
+	PreviousMaxMPa float64    `json:"previous_max_mpa"`
+	OnsetMPa       *float64   `json:"onset_mpa,omitempty"`
+	Hits           []HitPoint `json:"hits"`
+}
+
+// HitPoint is the cumulative number of acoustic-emission hits at a
+// pressure, on the way down.
+type HitPoint struct {
+	PressureMPa float64 `json:"pressure_mpa"`
+	Cumulative  float64 `json:"cumulative"`
+}
+
+// ChannelView is one acoustic-emission channel's figures for a dive.
+type ChannelView struct {
+	Channel int `json:"channel"`
+	Hits    int `json:"hits"`
+	// HistoricIndex and Severity are nil when not evaluated (Reason says
+	// why).
+	HistoricIndex     *float64 `json:"historic_index,omitempty"`
+	Severity          *float64 `json:"severity,omitempty"`
+	HighAmplitudeHits int      `json:"high_amplitude_hits"`
+	TotalCounts       float64  `json:"total_counts"`
+	// Present is false when the channel recorded nothing on the dive.
+	Present bool   `json:"present"`
+	Reason  string `json:"reason,omitempty"`
 }
 
 // DivePart is the content of a dive sheet.
@@ -68,7 +170,13 @@ type DivePart struct {
 	Load     *ledger.DiveLoad `json:"load"`
 	Evidence *ledger.Evidence `json:"evidence"`
 	Flags    []ledger.Flag    `json:"flags"`
-	profile  *ledger.Profile
+	// Channels are the per-channel acoustic-emission figures. Optional:
+	// empty omits the table (the ledger does not expose them yet).
+	Channels []ChannelView `json:"channels,omitempty"`
+	// FelicityHits are the dive's cumulative hits against pressure, drawn
+	// when present. Optional (not exposed by the ledger yet).
+	FelicityHits []HitPoint `json:"felicity_hits,omitempty"`
+	profile      *ledger.Profile
 }
 
 // Basis is what the figures rest on.
@@ -79,12 +187,39 @@ type Basis struct {
 	Curves     []CurveInfo `json:"curves"`
 	Rules      []RuleInfo  `json:"rules"`
 	RulesFrom  string      `json:"rules_source"`
+	// Limits are the thresholds of the rules the charts draw.
+	Limits RuleLimits `json:"limits"`
+}
+
+// RuleLimits are the thresholds, from the rule set in force, of the rules
+// whose limits the charts draw. A nil member was not identified: the
+// chart then draws no rule line and the report says so.
+type RuleLimits struct {
+	// Damage is the rule on the damage ratio (measure damage_ratio).
+	Damage *RuleLimit `json:"damage,omitempty"`
+	// Felicity is the rule on the Felicity ratio (measure felicity_ratio).
+	Felicity *RuleLimit `json:"felicity,omitempty"`
+}
+
+// RuleLimit is a rule's watch and hold thresholds.
+type RuleLimit struct {
+	Rule  string             `json:"rule"`
+	Watch *fitness.Threshold `json:"watch,omitempty"`
+	Hold  *fitness.Threshold `json:"hold,omitempty"`
 }
 
 // CurveInfo names a curve and its source.
 type CurveInfo struct {
 	Name, Source, Basis string
 	Illustrative        bool
+	// Kind is "S-N" or "stress-rupture"; Material, Mode (S-N loading
+	// mode) and Application describe the curve when known. Environment
+	// (air, seawater, ...) is empty until the curve library states it.
+	Kind        string `json:",omitempty"`
+	Material    string `json:",omitempty"`
+	Mode        string `json:",omitempty"`
+	Application string `json:",omitempty"`
+	Environment string `json:",omitempty"`
 }
 
 // RuleInfo is a rule with its thresholds and source.
@@ -265,6 +400,8 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	if hp.Maintenance, err = l.MaintenanceOf(ctx, h); err != nil {
 		return nil, err
 	}
+	hp.Highest = highest(hp.Dives, hp.Maintenance)
+	hp.Transfer = transferViews(h.Spec, f.Damage)
 	if hp.CycleRanges, hp.CycleCounts, err = l.HullCycles(ctx, h.ID); err != nil {
 		return nil, err
 	}
@@ -283,19 +420,204 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	return hp, nil
 }
 
+// highest returns the highest pressure of the dives and proof tests; a
+// proof test wins a tie, and a dive logged as a proof test is named as
+// one.
+func highest(dives []ledger.Dive, m *ledger.Maintenance) *HighestPressure {
+	proofOf := map[string]ledger.ProofTest{}
+	if m != nil {
+		for _, p := range m.ProofTests {
+			if p.DiveID != nil {
+				proofOf[p.DiveID.String()] = p
+			}
+		}
+	}
+	var h *HighestPressure
+	for _, d := range dives {
+		if h == nil || d.MaxPressureMPa > h.PressureMPa {
+			z := d.MaxDepthM
+			h = &HighestPressure{PressureMPa: d.MaxPressureMPa, DepthM: &z, Source: "dive", At: d.Start, Dive: d.ID.String()}
+			if p, ok := proofOf[h.Dive]; ok {
+				h.Source, h.At = "proof test", p.At
+			}
+		}
+	}
+	if m != nil {
+		for _, p := range m.ProofTests {
+			if h == nil || p.PressureMPa >= h.PressureMPa {
+				hv := &HighestPressure{PressureMPa: p.PressureMPa, Source: "proof test", At: p.At}
+				if p.DiveID != nil {
+					hv.Dive = p.DiveID.String()
+					for _, d := range dives {
+						if d.ID == *p.DiveID {
+							z := d.MaxDepthM
+							hv.DepthM = &z
+						}
+					}
+				}
+				h = hv
+			}
+		}
+	}
+	return h
+}
+
+// Caveats of the load-transfer basis.
+const (
+	caveatLame = "Lamé isotropic default: a laminate is not isotropic, so this factor is a first estimate only; " +
+		"the designer's factor from the laminate analysis, or a strain-gauge calibration at a proof test, takes precedence and should be entered."
+	caveatFellBack = "The preferred basis %q is not available yet (a gauge calibration needs a proof test with strain gauges recorded); the assessment fell back to %q."
+)
+
+// transferViews states each component's load-transfer basis with its
+// caveat.
+func transferViews(s *spec.Hull, d *ledger.Damages) []TransferView {
+	var out []TransferView
+	for _, c := range d.Components {
+		tv := TransferView{Component: c.Name, Used: c.Basis, FactorMPaPerMPa: c.Factor}
+		for _, sc := range s.Components {
+			if sc.Name == c.Name {
+				tv.Preferred, tv.Source = sc.Transfer.Basis, sc.Transfer.Source
+			}
+		}
+		var cav []string
+		switch {
+		case tv.Used == "":
+			cav = append(cav, "Not assessed yet: no transfer in force.")
+		case tv.Preferred != "" && tv.Preferred != tv.Used:
+			cav = append(cav, fmt.Sprintf(caveatFellBack, tv.Preferred, tv.Used))
+		}
+		if tv.Used == "lame" {
+			cav = append(cav, caveatLame)
+		}
+		tv.Caveat = strings.Join(cav, " ")
+		out = append(out, tv)
+	}
+	return out
+}
+
 func fillBasis(l *ledger.Ledger, m *Model, specs []*spec.Hull) error {
 	b, err := l.ReportBasis(specs)
 	if err != nil {
 		return err
 	}
 	m.Basis = Basis{DFF: b.DFF, MeanStress: b.MeanStress, Combine: b.Combine, RulesFrom: b.RulesSource}
+	shipped := shippedCurves()
 	for _, c := range b.Curves {
-		m.Basis.Curves = append(m.Basis.Curves, CurveInfo{Name: c.Name, Source: c.Source, Basis: c.Basis, Illustrative: c.Illustrative})
+		ci := CurveInfo{Name: c.Name, Source: c.Source, Basis: c.Basis, Illustrative: c.Illustrative}
+		if sc, ok := shipped[c.Name]; ok && sc.Source == c.Source && sc.Basis == c.Basis && sc.Illustrative == c.Illustrative {
+			ci.Kind, ci.Material, ci.Mode, ci.Application = sc.Kind, sc.Material, sc.Mode, sc.Application
+		}
+		m.Basis.Curves = append(m.Basis.Curves, ci)
 	}
 	for _, r := range b.Rules {
 		m.Basis.Rules = append(m.Basis.Rules, RuleInfo{ID: r.ID, Title: r.Title, Thresholds: r.Thresholds, Source: r.Source})
 	}
+	m.Basis.Limits = ruleLimits(b)
 	return nil
+}
+
+// shippedCurves describes the curves of the shipped library by name.
+// The ledger's basis names a curve with its source but not its material
+// or loading mode; a curve that matches a shipped one in name, source,
+// basis and the illustrative flag is that curve.
+func shippedCurves() map[string]CurveInfo {
+	out := map[string]CurveInfo{}
+	lib, err := sn.ParseLibrary(configs.CurvesYAML)
+	if err != nil {
+		return out
+	}
+	for _, c := range lib.Curves {
+		out[c.Name] = CurveInfo{Name: c.Name, Source: c.Source, Basis: string(c.Basis), Illustrative: c.Illustrative,
+			Kind: "S-N", Material: c.Material, Mode: string(c.Mode), Application: c.Application}
+	}
+	for _, r := range lib.Ruptures {
+		out[r.Name] = CurveInfo{Name: r.Name, Source: r.Source, Basis: string(r.Basis), Illustrative: r.Illustrative,
+			Kind: "stress-rupture", Material: r.Material, Application: r.Application}
+	}
+	return out
+}
+
+// The shipped identifiers of the rules whose lines the charts draw, used
+// when the rule set's file cannot be read to find them by measure.
+const (
+	shippedDamageRule   = "damage-against-allowable"
+	shippedFelicityRule = "felicity-below-limit"
+)
+
+// ruleLimits finds the damage and Felicity rules of the rule set in force
+// and reads their thresholds as the ledger states them.
+func ruleLimits(b *ledger.BasisInfo) RuleLimits {
+	measure := map[string]fitness.Measure{shippedDamageRule: fitness.MeasureDamageRatio, shippedFelicityRule: fitness.MeasureFelicityRatio}
+	if data, err := rulesBytes(b.RulesSource); err == nil {
+		if rs, err := fitness.ParseRules(data); err == nil {
+			measure = map[string]fitness.Measure{}
+			for _, r := range rs.Rules {
+				measure[r.ID] = r.Measure
+			}
+		}
+	}
+	var out RuleLimits
+	for _, r := range b.Rules {
+		var dst **RuleLimit
+		switch measure[r.ID] {
+		case fitness.MeasureDamageRatio:
+			dst = &out.Damage
+		case fitness.MeasureFelicityRatio:
+			dst = &out.Felicity
+		default:
+			continue
+		}
+		if *dst != nil {
+			continue // the first rule on the measure
+		}
+		if rl, ok := parseThresholds(r.ID, r.Thresholds); ok {
+			*dst = rl
+		}
+	}
+	return out
+}
+
+// rulesBytes reads the rule set named by the ledger's rules source.
+func rulesBytes(src string) ([]byte, error) {
+	if strings.HasSuffix(src, "(shipped)") {
+		return configs.RulesYAML, nil
+	}
+	return os.ReadFile(src)
+}
+
+// parseThresholds reads "watch ≥ 0.5; hold ≥ 1" (the ledger's statement
+// of a rule's thresholds).
+func parseThresholds(id, s string) (*RuleLimit, bool) {
+	rl := &RuleLimit{Rule: id}
+	cmp := map[string]fitness.Comparison{"≥": fitness.AtOrAbove, ">": fitness.Above, "≤": fitness.AtOrBelow, "<": fitness.Below}
+	for _, part := range strings.Split(s, ";") {
+		f := strings.Fields(part)
+		if len(f) != 3 {
+			return nil, false
+		}
+		when, ok := cmp[f[1]]
+		if !ok {
+			return nil, false
+		}
+		at, err := strconv.ParseFloat(f[2], 64)
+		if err != nil || math.IsNaN(at) || math.IsInf(at, 0) {
+			return nil, false
+		}
+		t := &fitness.Threshold{When: when, At: at}
+		switch f[0] {
+		case "watch":
+			rl.Watch = t
+		case "hold":
+			rl.Hold = t
+		default:
+			return nil, false
+		}
+	}
+	if rl.Watch == nil && rl.Hold == nil {
+		return nil, false
+	}
+	return rl, true
 }
 
 func urgency(s string) int {

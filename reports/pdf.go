@@ -1,191 +1,15 @@
 package reports
 
 import (
-	"bytes"
 	"fmt"
 	"math"
 	"sort"
 	"strings"
 	"time"
 
-	"github.com/jung-kurt/gofpdf"
-
 	"hulltally/ledger"
 	"hulltally/reports/charts"
 )
-
-// doc wraps gofpdf with the report's page furniture.
-type doc struct {
-	pdf   *gofpdf.Fpdf
-	tr    func(string) string
-	fp    string
-	title string
-}
-
-const (
-	pageW   = 210.0
-	marginL = 15.0
-	marginR = 15.0
-	bodyW   = pageW - marginL - marginR
-)
-
-// ascii replaces the characters the PDF's built-in fonts (cp1252) lack.
-var ascii = strings.NewReplacer("µε", "ue", "ε", "e", "≥", ">=", "≤", "<=", "≠", "!=", "→", "->", "−", "-", "·", "x", "‖", "||", "²", "2", "³", "3", "√", "sqrt")
-
-func newDoc(m *Model, title string) (*doc, error) {
-	fp, err := m.Fingerprint()
-	if err != nil {
-		return nil, err
-	}
-	pdf := gofpdf.New("P", "mm", "A4", "")
-	pdf.SetCompression(true)
-	pdf.SetCatalogSort(true)
-	pdf.SetCreationDate(m.GeneratedAt)
-	pdf.SetModificationDate(m.GeneratedAt)
-	pdf.SetMargins(marginL, 15, marginR)
-	pdf.SetAutoPageBreak(true, 18)
-	pdf.AliasNbPages("{nb}")
-	d := &doc{pdf: pdf, tr: pdf.UnicodeTranslatorFromDescriptor(""), fp: fp, title: title}
-	pdf.SetTitle(d.t(title), false)
-	pdf.SetAuthor("hulltally", false)
-	pdf.SetCreator("hulltally", false)
-	pdf.SetSubject(m.Kind+" "+m.Subject, false)
-	pdf.SetKeywords(keywords(m, fp), false)
-	pdf.SetFooterFunc(func() {
-		pdf.SetY(-13)
-		pdf.SetFont("Helvetica", "", 7)
-		pdf.SetTextColor(90, 90, 90)
-		pdf.CellFormat(bodyW, 4, d.t(fmt.Sprintf("hulltally %s report  |  fingerprint %s  |  generated %s  |  page %d of {nb}",
-			m.Kind, fp, m.GeneratedAt.UTC().Format("2006-01-02 15:04:05 UTC"), pdf.PageNo())), "T", 0, "C", false, 0, "")
-		pdf.SetTextColor(0, 0, 0)
-	})
-	return d, nil
-}
-
-// keywords carries what verification needs, in the PDF's metadata.
-func keywords(m *Model, fp string) string {
-	return fmt.Sprintf("hulltally-report kind=%s subject=%s generated=%s records=%d fingerprint=%s", m.Kind, m.Subject, m.GeneratedAt.UTC().Format(time.RFC3339Nano), m.records(), fp)
-}
-
-// records is the number of audit-chain records the report draws on.
-func (m *Model) records() int64 {
-	var n int64
-	for _, c := range m.Chains {
-		n += c.Records
-	}
-	return n
-}
-
-func (d *doc) t(s string) string { return d.tr(ascii.Replace(s)) }
-
-func (d *doc) h1(s string) {
-	d.pdf.SetFont("Helvetica", "B", 15)
-	d.pdf.MultiCell(bodyW, 7, d.t(s), "", "L", false)
-	d.pdf.Ln(1)
-}
-
-func (d *doc) h2(s string) {
-	if d.pdf.GetY() > 255 {
-		d.pdf.AddPage()
-	}
-	d.pdf.Ln(2)
-	d.pdf.SetFont("Helvetica", "B", 11)
-	d.pdf.CellFormat(bodyW, 6, d.t(s), "B", 1, "L", false, 0, "")
-	d.pdf.Ln(1)
-}
-
-func (d *doc) para(s string, size float64) {
-	d.pdf.SetFont("Helvetica", "", size)
-	d.pdf.MultiCell(bodyW, size*0.45, d.t(s), "", "L", false)
-}
-
-// kv prints label: value lines.
-func (d *doc) kv(rows [][2]string) {
-	for _, r := range rows {
-		d.pdf.SetFont("Helvetica", "B", 9)
-		d.pdf.CellFormat(45, 5, d.t(r[0]), "", 0, "L", false, 0, "")
-		d.pdf.SetFont("Helvetica", "", 9)
-		d.pdf.MultiCell(bodyW-45, 5, d.t(r[1]), "", "L", false)
-	}
-}
-
-// table prints a table with a header repeated on every page.
-func (d *doc) table(header []string, widths []float64, rows [][]string) {
-	head := func() {
-		d.pdf.SetFont("Helvetica", "B", 8)
-		d.pdf.SetFillColor(225, 228, 235)
-		for i, h := range header {
-			d.pdf.CellFormat(widths[i], 5.5, d.t(h), "1", 0, "L", true, 0, "")
-		}
-		d.pdf.Ln(-1)
-		d.pdf.SetFont("Helvetica", "", 8)
-	}
-	head()
-	for _, r := range rows {
-		// Row height from the tallest cell.
-		lines := 1
-		for i, c := range r {
-			n := len(d.pdf.SplitLines([]byte(d.t(c)), widths[i]-1.5))
-			lines = max(lines, n)
-		}
-		h := 4.2 * float64(lines)
-		if d.pdf.GetY()+h > 279 {
-			d.pdf.AddPage()
-			head()
-		}
-		x, y := d.pdf.GetXY()
-		for i, c := range r {
-			d.pdf.Rect(x, y, widths[i], h, "D")
-			d.pdf.SetXY(x+0.5, y+0.2)
-			d.pdf.MultiCell(widths[i]-1, 4.2, d.t(c), "", "L", false)
-			x += widths[i]
-			d.pdf.SetXY(x, y)
-		}
-		d.pdf.SetXY(marginL, y+h)
-	}
-}
-
-// image places a PNG chart across the body width.
-func (d *doc) image(name string, png []byte, hMM float64) {
-	if d.pdf.GetY()+hMM > 279 {
-		d.pdf.AddPage()
-	}
-	opt := gofpdf.ImageOptions{ImageType: "PNG"}
-	d.pdf.RegisterImageOptionsReader(name, opt, bytes.NewReader(png))
-	d.pdf.ImageOptions(name, marginL, d.pdf.GetY(), bodyW, hMM, false, opt, 0, "")
-	d.pdf.SetY(d.pdf.GetY() + hMM + 2)
-}
-
-func (d *doc) bytes() ([]byte, error) {
-	var b bytes.Buffer
-	if err := d.pdf.Output(&b); err != nil {
-		return nil, fmt.Errorf("writing the PDF: %w", err)
-	}
-	return b.Bytes(), nil
-}
-
-func (d *doc) statusBox(status string) {
-	r, g, b := 40, 130, 60
-	switch status {
-	case "watch":
-		r, g, b = 200, 140, 0
-	case "hold":
-		r, g, b = 190, 30, 30
-	case "withdrawn":
-		r, g, b = 90, 90, 90
-	}
-	d.pdf.SetFillColor(r, g, b)
-	d.pdf.SetTextColor(255, 255, 255)
-	d.pdf.SetFont("Helvetica", "B", 14)
-	d.pdf.CellFormat(bodyW, 10, d.t("STATUS: "+strings.ToUpper(status)), "", 1, "C", true, 0, "")
-	d.pdf.SetTextColor(0, 0, 0)
-	d.pdf.Ln(1)
-}
-
-func (d *doc) caution() {
-	d.h2("Caution")
-	d.para(Caution, 8.5)
-}
 
 // shortReason cuts a reason before its rule, basis and source (stated in
 // the basis section).
@@ -262,12 +86,23 @@ var chartSize = charts.Size{WidthMM: 180, HeightMM: 78, DPI: 200}
 
 // RenderHull writes a hull's fitness-for-service summary.
 func RenderHull(m *Model) ([]byte, error) {
-	hp := m.Hulls[0]
-	s := hp.Spec
-	d, err := newDoc(m, "Fitness-for-service summary, hull "+s.Serial)
+	r, err := RenderHullReport(m)
 	if err != nil {
 		return nil, err
 	}
+	return r.PDF, nil
+}
+
+// RenderHullReport writes a hull's fitness-for-service summary and says
+// which characters could not be printed.
+func RenderHullReport(m *Model) (*Rendered, error) {
+	s := m.Hulls[0].Spec
+	return renderDoc(m, "Fitness-for-service summary, hull "+s.Serial, func(d *doc) error { return hullBody(d, m) })
+}
+
+func hullBody(d *doc, m *Model) error {
+	hp := m.Hulls[0]
+	s := hp.Spec
 	p := d.pdf
 	p.AddPage()
 	d.h1(fmt.Sprintf("Fitness-for-service summary: hull %s (%s)", s.Serial, s.Name))
@@ -290,25 +125,37 @@ func RenderHull(m *Model) ([]byte, error) {
 		{"Pressures", fmt.Sprintf("design %.2f MPa, proof %.2f MPa, collapse %.2f MPa", s.DesignPressureMPa, s.ProofPressureMPa, s.CollapsePressureMPa)},
 	})
 	d.h2("Key figures")
-	maxP, maxZ := 0.0, 0.0
-	for _, dv := range hp.Dives {
-		maxP, maxZ = math.Max(maxP, dv.MaxPressureMPa), math.Max(maxZ, dv.MaxDepthM)
-	}
 	d.kv([][2]string{
 		{"Dives on record", fmt.Sprintf("%d", hp.Damage.DiveCount)},
-		{"Highest pressure ever", fmt.Sprintf("%.3f MPa (%.1f m)", maxP, maxZ)},
+		{"Highest pressure ever", highestText(hp.Highest)},
 		{"Governing component", fmt.Sprintf("%s at %s of its allowable", hp.Damage.Governing, pct(float64(hp.Damage.GoverningRatio)))},
 		{"Remaining", remainingText(hp.Damage)},
 	})
 	var rows [][]string
+	anyPrior := false
 	for _, c := range hp.Damage.Components {
-		rows = append(rows, []string{c.Name, sci(float64(c.CyclicDamage)), sci(float64(c.SustainedDamage)), fmt.Sprintf("%g", c.Allowable), pct(float64(c.Ratio))})
+		note := ""
+		if c.Prior != nil {
+			anyPrior = true
+			note = "includes damage carried over"
+		}
+		rows = append(rows, []string{c.Name, sci(float64(c.CyclicDamage)), sci(float64(c.SustainedDamage)), fmt.Sprintf("%g", c.Allowable), pct(float64(c.Ratio)), note})
 	}
 	p.Ln(1)
-	d.table([]string{"component", "cyclic damage", "sustained damage", "allowable", "of allowable"}, []float64{50, 35, 35, 25, 35}, rows)
+	d.table([]string{"component", "cyclic damage", "sustained damage", "allowable", "of allowable", "note"}, []float64{38, 27, 27, 20, 24, bodyW - 136}, rows)
+	if anyPrior {
+		d.h2("Damage carried over from before the ledger")
+		rows = nil
+		for _, c := range hp.Damage.Components {
+			if pr := c.Prior; pr != nil {
+				rows = append(rows, []string{c.Name, sci(float64(pr.Cyclic)), sci(float64(pr.Sustained)), pr.Source})
+			}
+		}
+		d.table([]string{"component", "cyclic", "sustained", "source (the earlier record)"}, []float64{38, 27, 27, bodyW - 92}, rows)
+		d.para("The totals above include this damage; it was not counted from logged dives.", 8)
+	}
 	p.Ln(2)
-	p.SetFont("Helvetica", "", 7.5)
-	p.MultiCell(bodyW, 3.6, d.t("Fingerprint (SHA-256 of this report's ledger content and audit-chain head): "+d.fp+". Check it with: hulltally report verify FILE.pdf"), "", "L", false)
+	d.para("Fingerprint (SHA-256 of this report's ledger content and audit-chain head): "+d.fp+". Check it with: hulltally report verify FILE.pdf", 7.5)
 	d.caution()
 
 	// Basis.
@@ -323,14 +170,20 @@ func RenderHull(m *Model) ([]byte, error) {
 	})
 	d.h2("Load transfer per component")
 	rows = nil
-	for i, c := range hp.Damage.Components {
-		src := ""
-		if i < len(s.Components) {
-			src = s.Components[i].Transfer.Source
+	for _, tv := range hp.Transfer {
+		basis := tv.Used
+		if tv.Preferred != "" && tv.Preferred != tv.Used {
+			basis = fmt.Sprintf("%s (preferred: %s)", tv.Used, tv.Preferred)
 		}
-		rows = append(rows, []string{c.Name, c.Basis, fmt.Sprintf("%.4g MPa/MPa", c.Factor), c.Curve, src})
+		curve := ""
+		for _, c := range hp.Damage.Components {
+			if c.Name == tv.Component {
+				curve = c.Curve
+			}
+		}
+		rows = append(rows, []string{tv.Component, basis, fmt.Sprintf("%.4g MPa/MPa", tv.FactorMPaPerMPa), curve, strings.TrimSpace(tv.Source + " " + tv.Caveat)})
 	}
-	d.table([]string{"component", "basis", "factor", "S-N curve", "source of the factor"}, []float64{30, 20, 28, 52, 50}, rows)
+	d.table([]string{"component", "basis", "factor", "S-N curve", "source and caveat"}, []float64{28, 24, 24, 40, bodyW - 116}, rows)
 	d.h2("Curves")
 	rows = nil
 	for _, c := range m.Basis.Curves {
@@ -338,21 +191,24 @@ func RenderHull(m *Model) ([]byte, error) {
 		if c.Illustrative {
 			ill = "ILLUSTRATIVE: load qualified data"
 		}
-		rows = append(rows, []string{c.Name, c.Basis, ill, c.Source})
+		rows = append(rows, []string{c.Name, curveDescription(c), c.Basis, ill, c.Source})
 	}
-	d.table([]string{"curve", "basis", "note", "source"}, []float64{42, 24, 28, bodyW - 94}, rows)
+	d.table([]string{"curve", "material, mode, environment", "basis", "note", "source"}, []float64{34, 40, 20, 24, bodyW - 118}, rows)
 	d.h2("Rules (" + m.Basis.RulesFrom + ")")
 	rows = nil
 	for _, r := range m.Basis.Rules {
 		rows = append(rows, []string{r.ID, r.Thresholds, r.Source})
 	}
 	d.table([]string{"rule", "thresholds", "source"}, []float64{45, 40, bodyW - 85}, rows)
+	if hp.Implosion != nil {
+		implosion(d, hp.Implosion)
+	}
 
 	// Charts.
 	p.AddPage()
 	d.h1("History")
-	if err := hullCharts(d, &hp); err != nil {
-		return nil, err
+	if err := hullCharts(d, m, &hp); err != nil {
+		return err
 	}
 
 	// Tables.
@@ -392,7 +248,65 @@ func RenderHull(m *Model) ([]byte, error) {
 	d.h2("Flags, open and closed")
 	d.table([]string{"state", "from", "reason"}, []float64{16, 22, bodyW - 38}, reasonRows(hp.Reasons, true))
 	d.caution()
-	return d.bytes()
+	return nil
+}
+
+// highestText states the highest pressure and what reached it.
+func highestText(h *HighestPressure) string {
+	if h == nil {
+		return "no dive or proof test on record"
+	}
+	s := fmt.Sprintf("%.3f MPa", h.PressureMPa)
+	if h.DepthM != nil {
+		s += fmt.Sprintf(" (%.1f m)", *h.DepthM)
+	}
+	if h.Source == "proof test" {
+		return s + ", proof test of " + h.At.UTC().Format("2006-01-02")
+	}
+	return s + ", dive of " + h.At.UTC().Format("2006-01-02")
+}
+
+// curveDescription states a curve's kind, material, loading mode and
+// environment, saying what is not known.
+func curveDescription(c CurveInfo) string {
+	var parts []string
+	if c.Kind != "" {
+		parts = append(parts, c.Kind)
+	}
+	if c.Material != "" {
+		parts = append(parts, c.Material)
+	}
+	if c.Mode != "" {
+		parts = append(parts, "mode "+c.Mode)
+	}
+	if c.Environment != "" {
+		parts = append(parts, "environment: "+c.Environment)
+	} else {
+		parts = append(parts, "environment not stated by the curve library")
+	}
+	if c.Material == "" {
+		parts = append(parts, "material not stated in the ledger's basis")
+	}
+	return strings.Join(parts, "; ")
+}
+
+// implosion prints the implosion-energy statement.
+func implosion(d *doc, iv *ImplosionView) {
+	d.h2("Implosion energy")
+	rows := [][2]string{
+		{"Internal volume", fmt.Sprintf("%.4g m³", iv.InternalVolumeM3)},
+		{"At pressure", fmt.Sprintf("%.4g MPa", iv.PressureMPa)},
+		{"Energy released", fmt.Sprintf("%.4g MJ (%.4g kg TNT equivalent)", iv.EnergyMJ, iv.TNTEquivalentKg)},
+	}
+	if iv.CollapseTimeMS != nil {
+		rows = append(rows, [2]string{"Collapse time", fmt.Sprintf("%.3g ms", *iv.CollapseTimeMS)})
+	} else {
+		rows = append(rows, [2]string{"Collapse time", "not estimated"})
+	}
+	d.kv(rows)
+	for _, a := range iv.Assumptions {
+		d.para("• "+a, 8)
+	}
 }
 
 func nanOr(p *float64) float64 {
@@ -402,7 +316,22 @@ func nanOr(p *float64) float64 {
 	return *p
 }
 
-func hullCharts(d *doc, hp *HullPart) error {
+// chartLimits turns a rule's thresholds into chart lines.
+func chartLimits(rl *RuleLimit) []charts.Limit {
+	if rl == nil {
+		return nil
+	}
+	var out []charts.Limit
+	if t := rl.Watch; t != nil {
+		out = append(out, charts.Limit{At: t.At, When: string(t.When), Label: "watch " + t.String()})
+	}
+	if t := rl.Hold; t != nil {
+		out = append(out, charts.Limit{At: t.At, When: string(t.When), Label: "hold " + t.String(), Hold: true})
+	}
+	return out
+}
+
+func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	n := len(hp.CumRatio)
 	xs := make([]float64, n)
 	for i := range xs {
@@ -415,11 +344,16 @@ func hullCharts(d *doc, hp *HullPart) error {
 		until := float64(n) + math.Min(float64(*hp.Damage.RemainingDives), 5*float64(n)+50)
 		proj = &charts.Projection{FromDive: float64(n), RatePerDive: rate, UntilDive: until}
 	}
-	png, err := charts.DamageHistory(xs, hp.CumRatio, proj, 1, 0.5, chartSize)
+	png, err := charts.DamageHistoryLimits(xs, hp.CumRatio, proj, 1, chartLimits(m.Basis.Limits.Damage), chartSize)
 	if err != nil {
 		return fmt.Errorf("damage chart: %w", err)
 	}
 	d.image("damage", png, chartSize.HeightMM)
+	if rl := m.Basis.Limits.Damage; rl != nil {
+		d.para(fmt.Sprintf("Limit lines: the watch and hold levels of rule %s in force.", rl.Rule), 8)
+	} else {
+		d.para("The damage rule's thresholds could not be identified in the rule set: no watch or hold line is drawn; see the rules table.", 8)
+	}
 	png, err = charts.CycleHistogram(hp.CycleRanges, hp.CycleCounts, chartSize)
 	if err != nil {
 		return fmt.Errorf("cycle histogram: %w", err)
@@ -430,11 +364,24 @@ func hullCharts(d *doc, hp *HullPart) error {
 	for i, f := range hp.Felicity {
 		fx[i], fy[i] = float64(i+1), nanOr(f)
 	}
-	png, err = charts.FelicityHistory(fx, fy, 0.95, chartSize)
+	png, err = charts.FelicityHistoryLimits(fx, fy, chartLimits(m.Basis.Limits.Felicity), chartSize)
 	if err != nil {
 		return fmt.Errorf("Felicity chart: %w", err)
 	}
 	d.image("felicity", png, chartSize.HeightMM)
+	if rl := m.Basis.Limits.Felicity; rl != nil {
+		d.para(fmt.Sprintf("Limit lines: the watch and hold levels of rule %s in force.", rl.Rule), 8)
+	} else {
+		d.para("The Felicity rule's thresholds could not be identified in the rule set: no limit line is drawn; see the rules table.", 8)
+	}
+	for i, fd := range hp.FelicityDives {
+		if len(fd.Hits) == 0 {
+			continue
+		}
+		if err := hitsChart(d, fmt.Sprintf("felicity-hits-%d", i), fd.Dive, fd.Start, fd.Ratio, fd.PreviousMaxMPa, fd.OnsetMPa, fd.Hits); err != nil {
+			return err
+		}
+	}
 	series := map[string][]float64{}
 	for g, v := range hp.Compliance {
 		ys := make([]float64, len(v))
@@ -461,20 +408,56 @@ func hullCharts(d *doc, hp *HullPart) error {
 		if err != nil {
 			return fmt.Errorf("profile chart: %w", err)
 		}
+		if d.pdf.GetY()+6+chartSize.HeightMM > bottom {
+			d.pdf.AddPage() // the caption stays with its chart
+		}
 		d.para(fmt.Sprintf("Deepest of the last 10 dives: %s, %s, %.1f m", hp.Deepest.ID.String()[:8], hp.Deepest.Start.UTC().Format("2006-01-02"), hp.Deepest.MaxDepthM), 9)
 		d.image("profile", png, chartSize.HeightMM)
 	}
 	return nil
 }
 
+// hitsChart draws a dive's cumulative hits against pressure with a line
+// that names the dive.
+func hitsChart(d *doc, name, dive string, start time.Time, ratio *float64, prevMax float64, onset *float64, hits []HitPoint) error {
+	ps := make([]float64, len(hits))
+	cs := make([]float64, len(hits))
+	for i, h := range hits {
+		ps[i], cs[i] = h.PressureMPa, h.Cumulative
+	}
+	png, err := charts.CumulativeHits(ps, cs, prevMax, onset, chartSize)
+	if err != nil {
+		return fmt.Errorf("cumulative hits chart: %w", err)
+	}
+	if len(dive) > 8 {
+		dive = dive[:8]
+	}
+	if d.pdf.GetY()+6+chartSize.HeightMM > bottom {
+		d.pdf.AddPage() // the caption stays with its chart
+	}
+	d.para(fmt.Sprintf("Dive %s of %s: Felicity ratio %s", dive, start.UTC().Format("2006-01-02"), opt(ratio, "%.3f")), 9)
+	d.image(name, png, chartSize.HeightMM)
+	return nil
+}
+
 // RenderDive writes a dive sheet.
 func RenderDive(m *Model) ([]byte, error) {
-	dp := m.Dive
-	dv := dp.Dive
-	d, err := newDoc(m, "Dive sheet "+dv.ID.String())
+	r, err := RenderDiveReport(m)
 	if err != nil {
 		return nil, err
 	}
+	return r.PDF, nil
+}
+
+// RenderDiveReport writes a dive sheet and says which characters could
+// not be printed.
+func RenderDiveReport(m *Model) (*Rendered, error) {
+	return renderDoc(m, "Dive sheet "+m.Dive.Dive.ID.String(), func(d *doc) error { return diveBody(d, m) })
+}
+
+func diveBody(d *doc, m *Model) error {
+	dp := m.Dive
+	dv := dp.Dive
 	d.pdf.AddPage()
 	d.h1(fmt.Sprintf("Dive sheet: hull %s, dive %s", dv.Hull, dv.ID.String()[:8]))
 	note := ""
@@ -496,7 +479,7 @@ func RenderDive(m *Model) ([]byte, error) {
 		}
 		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, rated, chartSize)
 		if err != nil {
-			return nil, err
+			return err
 		}
 		d.image("profile", png, chartSize.HeightMM)
 	}
@@ -538,7 +521,32 @@ func RenderDive(m *Model) ([]byte, error) {
 		for _, s := range ev.Strain {
 			rows = append(rows, []string{s.Gauge, opt(s.ComplianceUEPerMPa, "%.2f"), opt(s.ComplianceChange, "%+.4f"), opt(s.ResidualUE, "%.1f"), opt(s.Hysteresis, "%.4f"), opt(s.CreepUE, "%.1f")})
 		}
-		d.table([]string{"gauge", "compliance ue/MPa", "change", "residual ue", "hysteresis", "creep ue"}, []float64{25, 35, 25, 30, 30, 35}, rows)
+		if len(dp.Channels) > 0 {
+			d.h2("Acoustic emission per channel")
+			var cr [][]string
+			for _, c := range dp.Channels {
+				state := "present"
+				if !c.Present {
+					state = "ABSENT"
+				}
+				if c.Reason != "" {
+					state += ": " + c.Reason
+				}
+				cr = append(cr, []string{fmt.Sprint(c.Channel), fmt.Sprint(c.Hits), opt(c.HistoricIndex, "%.3f"), opt(c.Severity, "%.4g"),
+					fmt.Sprint(c.HighAmplitudeHits), fmt.Sprintf("%.0f", c.TotalCounts), state})
+			}
+			d.table([]string{"channel", "hits", "historic index", "severity", "high-amplitude hits", "total counts", "state"}, []float64{16, 16, 24, 22, 28, 24, bodyW - 130}, cr)
+		}
+		if len(dp.FelicityHits) > 0 && ev.AE != nil {
+			if err := hitsChart(d, "felicity-hits", dv.ID.String(), dv.Start, ev.AE.FelicityRatio, ev.PreviousMaxMPa, ev.AE.OnsetMPa, dp.FelicityHits); err != nil {
+				return err
+			}
+		}
+		rows = nil
+		for _, s := range ev.Strain {
+			rows = append(rows, []string{s.Gauge, opt(s.ComplianceUEPerMPa, "%.2f"), opt(s.ComplianceChange, "%+.4f"), opt(s.ResidualUE, "%.1f"), opt(s.Hysteresis, "%.4f"), opt(s.CreepUE, "%.1f")})
+		}
+		d.table([]string{"gauge", "compliance µε/MPa", "change", "residual µε", "hysteresis", "creep µε"}, []float64{25, 35, 25, 30, 30, 35}, rows)
 		d.para("Strain baseline: "+ev.BaselineSource, 8)
 	} else {
 		d.para("No evidence on record for this dive.", 9)
@@ -554,7 +562,7 @@ func RenderDive(m *Model) ([]byte, error) {
 		d.table([]string{"level", "rule", "detail"}, []float64{16, 45, bodyW - 61}, rows)
 	}
 	d.caution()
-	return d.bytes()
+	return nil
 }
 
 func opt(p *float64, f string) string {
@@ -566,10 +574,20 @@ func opt(p *float64, f string) string {
 
 // RenderFleet writes the fleet summary.
 func RenderFleet(m *Model) ([]byte, error) {
-	d, err := newDoc(m, "Fleet summary")
+	r, err := RenderFleetReport(m)
 	if err != nil {
 		return nil, err
 	}
+	return r.PDF, nil
+}
+
+// RenderFleetReport writes the fleet summary and says which characters
+// could not be printed.
+func RenderFleetReport(m *Model) (*Rendered, error) {
+	return renderDoc(m, "Fleet summary", func(d *doc) error { return fleetBody(d, m) })
+}
+
+func fleetBody(d *doc, m *Model) error {
 	d.pdf.AddPage()
 	d.h1(fmt.Sprintf("Fleet summary: %d hulls, most urgent first", len(m.Hulls)))
 	var rows [][]string
@@ -598,18 +616,28 @@ func RenderFleet(m *Model) ([]byte, error) {
 		d.table([]string{"level", "from", "reason"}, []float64{16, 22, bodyW - 38}, rr)
 	}
 	d.caution()
-	return d.bytes()
+	return nil
 }
 
 // Render writes a model as its kind of report.
 func Render(m *Model) ([]byte, error) {
+	r, err := RenderReport(m)
+	if err != nil {
+		return nil, err
+	}
+	return r.PDF, nil
+}
+
+// RenderReport writes a model as its kind of report and says which
+// characters could not be printed.
+func RenderReport(m *Model) (*Rendered, error) {
 	switch m.Kind {
 	case KindHull:
-		return RenderHull(m)
+		return RenderHullReport(m)
 	case KindDive:
-		return RenderDive(m)
+		return RenderDiveReport(m)
 	case KindFleet:
-		return RenderFleet(m)
+		return RenderFleetReport(m)
 	}
 	return nil, fmt.Errorf("unknown report kind %q", m.Kind)
 }

@@ -49,13 +49,25 @@ func TestHullReport(t *testing.T) {
 			t.Fatal(err)
 		}
 		text := pdftotext(t, path)
+		if dir := os.Getenv("HULLTALLY_REPORT_DUMP"); dir != "" {
+			b, _ := os.ReadFile(path)
+			_ = os.WriteFile(filepath.Join(dir, serial+".pdf"), b, 0o644)
+		}
+		if len(w.Unprintable) != 0 || w.Warning != "" {
+			t.Errorf("%s: unprintable characters %v: %s", serial, w.Unprintable, w.Warning)
+		}
 		h, _ := l.Hull(ctx, serial)
 		f, err := l.FitnessAt(ctx, h, w.GeneratedAt)
 		if err != nil {
 			t.Fatal(err)
 		}
 		flat := squash(text)
-		for _, want := range []string{serial, "STATUS: " + strings.ToUpper(f.Status), squash(reports.Caution), "page 1 of", w.Fingerprint} {
+		for _, want := range []string{serial, "STATUS: " + strings.ToUpper(f.Status), squash(reports.Caution), "page 1 of", w.Fingerprint,
+			// Limit lines from the shipped rules, found by measure.
+			"watch and hold levels of rule damage-against-allowable in force",
+			"watch and hold levels of rule felicity-below-limit in force",
+			// Symbols print as written, not spelled out.
+			"ASTM E1049-85 §5.4.4", "watch ≥ 0.5; hold ≥ 1"} {
 			if !strings.Contains(flat, squash(want)) {
 				t.Errorf("%s: report lacks %q", serial, want)
 			}
@@ -147,6 +159,10 @@ func TestDiveSheet(t *testing.T) {
 	w, err := reports.Write(ctx, l, reports.KindDive, ds[1].ID.String(), path, time.Now())
 	if err != nil {
 		t.Fatal(err)
+	}
+	if dir := os.Getenv("HULLTALLY_REPORT_DUMP"); dir != "" {
+		b, _ := os.ReadFile(path)
+		_ = os.WriteFile(filepath.Join(dir, "dive.pdf"), b, 0o644)
 	}
 	text := squash(pdftotext(t, path))
 	for _, want := range []string{ds[1].ID.String(), "Damage added", "Pressure cycles", "Evidence", squash(reports.Caution)} {

@@ -33,6 +33,13 @@ type Written struct {
 	GeneratedAt time.Time `json:"generated_at"`
 	Pages       int       `json:"pages"`
 	Bytes       int       `json:"bytes"`
+	// Unprintable lists, as "U+E000", the characters no available font
+	// could print; each is printed as its code point in brackets and
+	// listed on the report's first page. Empty when all printed.
+	Unprintable []string `json:"unprintable,omitempty"`
+	// Warning says the same in a sentence for the CLI to print; empty when
+	// every character printed.
+	Warning string `json:"warning,omitempty"`
 }
 
 // Write builds and renders a report and writes it to path.
@@ -42,16 +49,20 @@ func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at
 	if err != nil {
 		return nil, err
 	}
-	b, err := Render(m)
+	r, err := RenderReport(m)
 	if err != nil {
 		return nil, err
 	}
+	b := r.PDF
 	if err := os.WriteFile(path, b, 0o644); err != nil {
 		return nil, fmt.Errorf("writing %s: %w", path, err)
 	}
 	fp, _ := m.Fingerprint()
 	sum := sha256.Sum256(b)
-	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: pages(b), Bytes: len(b)}
+	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: pages(b), Bytes: len(b), Warning: r.Warning()}
+	for _, c := range r.Unprintable {
+		w.Unprintable = append(w.Unprintable, fmt.Sprintf("U+%04X", c))
+	}
 	if err := l.RegisterReport(ctx, ledger.IssuedReport{FileSHA256: sum[:], Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: w.Pages}); err != nil {
 		return nil, err
 	}

@@ -2,10 +2,12 @@ package charts
 
 import (
 	"fmt"
+	"image/color"
 	"math"
 	"sort"
 	"strconv"
 
+	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/plotter"
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
@@ -39,6 +41,67 @@ type Projection struct {
 //
 // allowable is 1.0 in ratio units; 0 means 1.0. A NaN ratio leaves a gap.
 func DamageHistory(dives, ratio []float64, projection *Projection, allowable, watch float64, size Size) ([]byte, error) {
+	if math.IsNaN(watch) || math.IsInf(watch, 0) || watch < 0 {
+		return nil, fmt.Errorf("charts: damage history: watch level %g must be 0 or positive: %w", watch, ErrInput)
+	}
+	var limits []Limit
+	if watch > 0 {
+		limits = []Limit{{At: watch, When: "at_or_above", Label: fmt.Sprintf("watch (%s)", fmtNum(watch))}}
+	}
+	return DamageHistoryLimits(dives, ratio, projection, allowable, limits, size)
+}
+
+// Limit is a horizontal limit line from a rule: a threshold, the side of
+// it that trips the rule, and its level.
+type Limit struct {
+	// At is the threshold, in the chart's units.
+	At float64
+	// When is the rule's comparison: "at_or_above", "above",
+	// "at_or_below" or "below".
+	When string
+	// Label names the line in the legend.
+	Label string
+	// Hold draws a solid red hold line; otherwise a dashed amber watch
+	// line.
+	Hold bool
+}
+
+// trips reports whether v is on the tripping side of the limit.
+func (l Limit) trips(v float64) bool {
+	switch l.When {
+	case "at_or_above":
+		return v >= l.At
+	case "above":
+		return v > l.At
+	case "at_or_below":
+		return v <= l.At
+	case "below":
+		return v < l.At
+	}
+	return false
+}
+
+func checkLimits(what string, limits []Limit) error {
+	for _, l := range limits {
+		if math.IsNaN(l.At) || math.IsInf(l.At, 0) || l.At < 0 {
+			return fmt.Errorf("charts: %s: limit %g must be 0 or more: %w", what, l.At, ErrInput)
+		}
+		switch l.When {
+		case "at_or_above", "above", "at_or_below", "below":
+		default:
+			return fmt.Errorf("charts: %s: limit comparison %q: %w", what, l.When, ErrInput)
+		}
+	}
+	return nil
+}
+
+// DamageHistoryLimits is DamageHistory with the limit lines of the rules
+// in force: each limit is drawn and labelled, and the allowable line is
+// drawn as well unless a limit lies on it.
+func DamageHistoryLimits(dives, ratio []float64, projection *Projection, allowable float64, limits []Limit, size Size) ([]byte, error) {
+	if err := checkLimits("damage history", limits); err != nil {
+		return nil, err
+	}
 	if err := checkLen("damage history: dives and ratios", len(dives), len(ratio)); err != nil {
 		return nil, err
 	}
@@ -50,9 +113,6 @@ func DamageHistory(dives, ratio []float64, projection *Projection, allowable, wa
 	}
 	if math.IsNaN(allowable) || math.IsInf(allowable, 0) || allowable < 0 {
 		return nil, fmt.Errorf("charts: damage history: allowable %g must be positive: %w", allowable, ErrInput)
-	}
-	if math.IsNaN(watch) || math.IsInf(watch, 0) || watch < 0 {
-		return nil, fmt.Errorf("charts: damage history: watch level %g must be 0 or positive: %w", watch, ErrInput)
 	}
 	if projection != nil {
 		if err := checkFinite("damage history: projection",
@@ -124,17 +184,27 @@ func DamageHistory(dives, ratio []float64, projection *Projection, allowable, wa
 		p.Add(l)
 		g.add(projLabel, l)
 	}
-	al, err := hline(p, allowable, xlo, xhi, limitColor(), nil)
-	if err != nil {
-		return nil, err
+	onAllowable, anyHold := false, false
+	for _, l := range limits {
+		onAllowable = onAllowable || l.At == allowable
+		anyHold = anyHold || l.Hold
 	}
-	g.add(fmt.Sprintf("allowable (%s)", fmtNum(allowable)), al)
-	if watch > 0 {
-		wl, err := hline(p, watch, xlo, xhi, watchColor(), dashed())
+	if !onAllowable {
+		var c color.Color = limitColor()
+		if anyHold {
+			c = color.Gray{Y: 60}
+		}
+		al, err := hline(p, allowable, xlo, xhi, c, nil)
 		if err != nil {
 			return nil, err
 		}
-		g.add(fmt.Sprintf("watch (%s)", fmtNum(watch)), wl)
+		g.add(fmt.Sprintf("allowable (%s)", fmtNum(allowable)), al)
+	}
+	if err := limitLines(p, g, limits, xlo, xhi); err != nil {
+		return nil, err
+	}
+	for _, l := range limits {
+		ytop = math.Max(ytop, l.At*1.1)
 	}
 
 	p.X.Min, p.X.Max = xlo, xhi
@@ -145,6 +215,23 @@ func DamageHistory(dives, ratio []float64, projection *Projection, allowable, wa
 		note = noData
 	}
 	return render(p, g, note, size)
+}
+
+// limitLines draws the limits, hold lines solid red, watch lines dashed
+// amber.
+func limitLines(p *plot.Plot, g *legend, limits []Limit, xlo, xhi float64) error {
+	for _, l := range limits {
+		c, dash := watchColor(), dashed()
+		if l.Hold {
+			c, dash = limitColor(), nil
+		}
+		ln, err := hline(p, l.At, xlo, xhi, c, dash)
+		if err != nil {
+			return err
+		}
+		g.add(l.Label, ln)
+	}
+	return nil
 }
 
 // valueAt returns the value of ys at x, interpolated linearly between the
@@ -276,23 +363,48 @@ func niceStep(x float64) float64 {
 // marked apart, with the limit line labelled. The ratio axis runs from 0
 // to the larger of 1.2 and the largest ratio.
 func FelicityHistory(dives, ratio []float64, limit float64, size Size) ([]byte, error) {
+	return FelicityHistoryLimits(dives, ratio, []Limit{{At: limit, When: "below", Label: fmt.Sprintf("Felicity limit (%s)", fmtNum(limit)), Hold: true}}, size)
+}
+
+// FelicityHistoryLimits is FelicityHistory with the limits of the rules
+// in force: a point that trips a hold limit is a red triangle, one that
+// trips only a watch limit an amber square, the others blue circles.
+func FelicityHistoryLimits(dives, ratio []float64, limits []Limit, size Size) ([]byte, error) {
+	if err := checkLimits("Felicity history", limits); err != nil {
+		return nil, err
+	}
 	if err := checkLen("Felicity history: dives and ratios", len(dives), len(ratio)); err != nil {
 		return nil, err
 	}
 	if err := checkFinite("Felicity history: dives", dives); err != nil {
 		return nil, err
 	}
-	if math.IsNaN(limit) || math.IsInf(limit, 0) || limit < 0 {
-		return nil, fmt.Errorf("charts: Felicity history: limit %g must be 0 or more: %w", limit, ErrInput)
-	}
-	var ok, low plotter.XYs
+	var ok, low, watch plotter.XYs
 	skipped := 0
+	limit := 0.0
+	for _, l := range limits {
+		limit = math.Max(limit, l.At)
+	}
 	for i, r := range ratio {
-		switch {
-		case math.IsNaN(r) || math.IsInf(r, 0):
+		if math.IsNaN(r) || math.IsInf(r, 0) {
 			skipped++
-		case r < limit:
+			continue
+		}
+		hold, w := false, false
+		for _, l := range limits {
+			if l.trips(r) {
+				if l.Hold {
+					hold = true
+				} else {
+					w = true
+				}
+			}
+		}
+		switch {
+		case hold:
 			low = append(low, plotter.XY{X: dives[i], Y: r})
+		case w:
+			watch = append(watch, plotter.XY{X: dives[i], Y: r})
 		default:
 			ok = append(ok, plotter.XY{X: dives[i], Y: r})
 		}
@@ -321,7 +433,16 @@ func FelicityHistory(dives, ratio []float64, limit float64, size Size) ([]byte, 
 		}
 		s.GlyphStyle = draw.GlyphStyle{Color: palette(0), Radius: vg.Points(2.2), Shape: draw.CircleGlyph{}}
 		p.Add(s)
-		g.add(fmt.Sprintf("at or above limit (%d)", len(ok)), s)
+		g.add(fmt.Sprintf("clear of the limits (%d)", len(ok)), s)
+	}
+	if len(watch) > 0 {
+		s, err := plotter.NewScatter(watch)
+		if err != nil {
+			return nil, fmt.Errorf("charts: Felicity points: %w", err)
+		}
+		s.GlyphStyle = draw.GlyphStyle{Color: watchColor(), Radius: vg.Points(2.5), Shape: draw.SquareGlyph{}}
+		p.Add(s)
+		g.add(fmt.Sprintf("at the watch level (%d)", len(watch)), s)
 	}
 	if len(low) > 0 {
 		s, err := plotter.NewScatter(low)
@@ -330,13 +451,11 @@ func FelicityHistory(dives, ratio []float64, limit float64, size Size) ([]byte, 
 		}
 		s.GlyphStyle = draw.GlyphStyle{Color: limitColor(), Radius: vg.Points(2.8), Shape: draw.TriangleGlyph{}}
 		p.Add(s)
-		g.add(fmt.Sprintf("below limit (%d)", len(low)), s)
+		g.add(fmt.Sprintf("at the hold level (%d)", len(low)), s)
 	}
-	ll, err := hline(p, limit, xlo, xhi, limitColor(), dashed())
-	if err != nil {
+	if err := limitLines(p, g, limits, xlo, xhi); err != nil {
 		return nil, err
 	}
-	g.add(fmt.Sprintf("Felicity limit (%s)", fmtNum(limit)), ll)
 	p.X.Min, p.X.Max = xlo, xhi
 	p.X.Tick.Marker = niceTicks{Whole: true}
 	p.Y.Min, p.Y.Max = 0, ytop
@@ -344,7 +463,7 @@ func FelicityHistory(dives, ratio []float64, limit float64, size Size) ([]byte, 
 	switch {
 	case len(ratio) == 0:
 		note = noData
-	case len(ok)+len(low) == 0:
+	case len(ok)+len(low)+len(watch) == 0:
 		note = "no dive evaluated"
 	}
 	return render(p, g, note, size)
@@ -502,4 +621,74 @@ func fmtCount(v float64) string {
 		return strconv.FormatFloat(v, 'f', 0, 64)
 	}
 	return strconv.FormatFloat(v, 'f', 1, 64)
+}
+
+// CumulativeHits draws one dive's cumulative acoustic-emission hits
+// against gauge pressure (MPa), with the highest pressure the hull had
+// reached before the dive and, when not nil, the pressure at the onset of
+// significant emission as vertical lines. This is the picture behind a
+// Felicity ratio: emission that starts below the previous maximum.
+func CumulativeHits(pressureMPa, cumulative []float64, previousMaxMPa float64, onsetMPa *float64, size Size) ([]byte, error) {
+	if err := checkLen("cumulative hits: pressures and counts", len(pressureMPa), len(cumulative)); err != nil {
+		return nil, err
+	}
+	if err := checkFinite("cumulative hits: pressures", pressureMPa); err != nil {
+		return nil, err
+	}
+	if math.IsNaN(previousMaxMPa) || math.IsInf(previousMaxMPa, 0) || previousMaxMPa < 0 {
+		return nil, fmt.Errorf("charts: cumulative hits: previous maximum %g MPa must be 0 or more: %w", previousMaxMPa, ErrInput)
+	}
+	if onsetMPa != nil && (math.IsNaN(*onsetMPa) || math.IsInf(*onsetMPa, 0)) {
+		return nil, fmt.Errorf("charts: cumulative hits: onset %g MPa: %w", *onsetMPa, ErrInput)
+	}
+	p := newPlot("Cumulative acoustic-emission hits against pressure", "gauge pressure (MPa)", "cumulative hits")
+	g := newLegend()
+	xlo, xhi, hasX := extent(pressureMPa)
+	_, yhi, hasY := extent(cumulative)
+	if !hasX || !hasY {
+		xlo, xhi, yhi = 0, 1, 1
+	}
+	xlo = math.Min(xlo, 0)
+	xhi = math.Max(xhi, previousMaxMPa)
+	if onsetMPa != nil {
+		xhi = math.Max(xhi, *onsetMPa)
+	}
+	xlo, xhi = widen(xlo, xhi*1.05)
+	yhi = math.Max(yhi*1.1, 1)
+	lines, alone := runs(pressureMPa, cumulative, nil)
+	thumb, err := addRuns(p, lines, alone, draw.LineStyle{Color: palette(0), Width: vg.Points(1.4)},
+		draw.GlyphStyle{Color: palette(0), Radius: vg.Points(2), Shape: draw.CircleGlyph{}})
+	if err != nil {
+		return nil, err
+	}
+	if thumb != nil {
+		g.add("cumulative hits", thumb)
+	}
+	vline := func(x float64, c color.Color, dash []vg.Length, label string) error {
+		l, err := plotter.NewLine(plotter.XYs{{X: x, Y: 0}, {X: x, Y: yhi}})
+		if err != nil {
+			return fmt.Errorf("charts: cumulative hits: %w", err)
+		}
+		l.LineStyle = draw.LineStyle{Color: c, Width: vg.Points(1.2), Dashes: dash}
+		p.Add(l)
+		g.add(label, l)
+		return nil
+	}
+	if previousMaxMPa > 0 {
+		if err := vline(previousMaxMPa, palette(6), dashed(), fmt.Sprintf("previous maximum (%s MPa)", fmtNum(previousMaxMPa))); err != nil {
+			return nil, err
+		}
+	}
+	if onsetMPa != nil {
+		if err := vline(*onsetMPa, limitColor(), nil, fmt.Sprintf("onset of emission (%s MPa)", fmtNum(*onsetMPa))); err != nil {
+			return nil, err
+		}
+	}
+	p.X.Min, p.X.Max = xlo, xhi
+	p.Y.Min, p.Y.Max = 0, yhi
+	note := ""
+	if !hasX || !hasY {
+		note = noData
+	}
+	return render(p, g, note, size)
 }
