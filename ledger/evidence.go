@@ -217,11 +217,11 @@ func (l *Ledger) diveEvidence(ctx context.Context, q querier, h *Hull, in eviden
 	}
 	for _, r := range res {
 		s := StrainEv{Gauge: r.Gauge}
-		if ok, why := evidence.GaugeQuality(p, r.Gauge, evidence.DefaultGaugeCriterion()); !ok {
+		if !r.QualityOK {
 			if ev.GaugeProblems == nil {
 				ev.GaugeProblems = map[string]string{}
 			}
-			ev.GaugeProblems[r.Gauge] = why
+			ev.GaugeProblems[r.Gauge] = r.QualityReason
 		}
 		if r.Compliance.Computed {
 			s.ComplianceUEPerMPa, s.R2 = ptr(r.Compliance.UEPerMPa), r.Compliance.R2
@@ -263,6 +263,7 @@ func (l *Ledger) diveEvidence(ctx context.Context, q querier, h *Hull, in eviden
 // the sensors that said nothing.
 func (l *Ledger) aeEvidence(p evidence.Profile, ph evidence.Phase, hits []evidence.Hit, checks []evidence.SensorCheck, channels []int, ref float64) (*AEEvidence, []ChannelEv) {
 	cfg := l.cfg.Evidence
+	hits = checksAtDepthAsHits(p, hits, checks, l.cfg.Ingest.SurfaceToleranceMPa)
 	ae := &AEEvidence{Hits: len(hits), SensorChecks: len(checks)}
 	pr := evidence.PressureAt(p, hits)
 	crit := evidence.DefaultOnsetCriterion(ref)
@@ -276,7 +277,7 @@ func (l *Ledger) aeEvidence(p evidence.Profile, ph evidence.Phase, hits []eviden
 		ae.OnsetCriterion += fmt.Sprintf(" (not evaluated: %v)", err)
 	}
 	if onsetOK {
-		f := evidence.Felicity(ae.OnsetMPa, ref, ph.PeakMPa)
+		f := evidence.FelicityWindow(ae.OnsetMPa, ref, ph, crit.IncrementMPa)
 		ae.FelicityRatio, ae.FelicityLowerBound, ae.FelicityEval, ae.FelicityReason, ae.BeyondPrevious = f.Ratio, f.LowerBound, f.Evaluated, f.Reason, f.BeyondPrevious
 	} else {
 		ae.FelicityReason = "Felicity ratio not evaluated: the onset of significant emission could not be judged (no reference pressure)"
@@ -537,4 +538,35 @@ func (e *Evidence) View() *EvidenceView {
 		v.FelicityReason = "no acoustic-emission data for this dive: Felicity ratio not evaluated"
 	}
 	return v
+}
+
+// checksAtDepthAsHits returns the hits with every sensor check made below
+// the surface added as a hit too: a check shows its channel alive, but a
+// row labelled a check while the hull is under load could as well be
+// emission from the hull, and must not hide it (the safe side: a test
+// pulse counted as emission can only make the hull look worse).
+func checksAtDepthAsHits(p evidence.Profile, hits []evidence.Hit, checks []evidence.SensorCheck, surfaceMPa float64) []evidence.Hit {
+	if len(checks) == 0 {
+		return hits
+	}
+	as := make([]evidence.Hit, len(checks))
+	for i, c := range checks {
+		as[i] = evidence.Hit{TimeS: c.TimeS, Channel: c.Channel, AmplitudeDB: c.AmplitudeDB}
+	}
+	pr := evidence.PressureAt(p, as)
+	out := hits
+	added := false
+	for i, h := range as {
+		if i < len(pr) && pr[i] > surfaceMPa {
+			if !added {
+				out = append([]evidence.Hit(nil), hits...)
+				added = true
+			}
+			out = append(out, h)
+		}
+	}
+	if added {
+		sort.SliceStable(out, func(i, j int) bool { return out[i].TimeS < out[j].TimeS })
+	}
+	return out
 }
