@@ -117,7 +117,7 @@ func fleet() []hullPlan {
 				DesignPressureMPa: 11, ProofPressureMPa: 12.5, CollapsePressureMPa: 24,
 				Components: []spec.Component{
 					{Name: "laminate", Kind: "laminate_sphere", Transfer: spec.Transfer{Basis: "lame"}, Curve: "glass-epoxy-cc-illustrative", RuptureCurve: "glass-epoxy-rupture-compression-illustrative"},
-					{Name: "hatch-ring", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-11.0), Source: "demo design analysis QUI-FE-02 (invented)"}, Curve: "dnv-rp-c203-d-air"},
+					{Name: "hatch-ring", Kind: "hatch_seat", Transfer: spec.Transfer{Basis: "designer", FactorMPaPerMPa: f(-11.0), Source: "demo design analysis QUI-FE-02 (invented)"}, Curve: "dnv-rp-c203-d-seawater-cp"},
 				},
 				Gauges: []spec.Gauge{
 					{Name: "merid1", Kind: "strain", Component: "laminate", Position: "equator 0 deg", Direction: "meridional"},
@@ -191,6 +191,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 				BottomS: 3600 * (1 + 2*plan.Float64()), SurfaceS: 300, Stops: 1 + plan.IntN(2), StopS: 120 + 180*plan.Float64(),
 				WanderM: 5 + 15*plan.Float64(), DepthNoiseM: 0.05, Gauges: hp.compliance, TempC: true,
 				AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: hp.aeOnsetFrac, AEOnsetRate: hp.aeOnset, AmplitudeMean: hp.ampl,
+				AEHoldDecayS: 40, SensorChecks: true,
 			}
 			if hp.degrade > 0 && float64(i) >= hp.degrade*float64(o.DivesPerHull) {
 				// Damage develops: the laminate softens a little more each
@@ -203,6 +204,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 					d.Gauges[g] = gg
 				}
 				d.AEOnsetFrac, d.AEOnsetRate = 0.6, 150
+				d.AEHoldDecayS = 0 // and the emission at depth goes on
 			}
 			base := filepath.Join(hdir, fmt.Sprintf("dive-%03d", i+1))
 			samples, hits := base+".csv", base+"-ae.csv"
@@ -248,7 +250,7 @@ func proofTest(ctx context.Context, l *ledger.Ledger, hp hullPlan, dir string, a
 		depth := seawater.MPaToDepth(hp.spec.ProofPressureMPa, hp.lat)
 		d := synth.Dive{Start: at, SampleHz: hz, Latitude: hp.lat, MaxDepthM: depth, DescentMPS: 0.5, AscentMPS: 0.5,
 			BottomS: 1800, SurfaceS: 300, Stops: 1, StopS: 300, DepthNoiseM: 0.05, Gauges: hp.compliance, TempC: true,
-			AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: 1, AmplitudeMean: hp.ampl}
+			AEChannels: hp.spec.AEChannels(), AEBottomRate: hp.aeRate, AEOnsetFrac: 1, AmplitudeMean: hp.ampl, AEHoldDecayS: 40, SensorChecks: true}
 		samples, hits := filepath.Join(dir, "proof-test.csv"), filepath.Join(dir, "proof-test-ae.csv")
 		if !exists(samples) || !exists(hits) {
 			if err := writeDive(&d, samples, hits, 999); err != nil {

@@ -55,6 +55,14 @@ type Dive struct {
 	AEOnsetFrac   float64 // emission starts at this fraction of the peak depth on descent (1: none before)
 	AEOnsetRate   float64 // hits per hour on descent above the onset
 	AmplitudeMean float64
+	// AEHoldDecayS, when positive, makes the emission at the bottom die
+	// away with this time constant from the start of the hold (a sound
+	// hull settling); zero keeps the slow decay over the whole bottom
+	// time (emission that goes on).
+	AEHoldDecayS float64
+	// SensorChecks writes a pencil-lead break on every channel at the
+	// surface before the descent (the event column of the hits file).
+	SensorChecks bool
 }
 
 // Result summarises a generated dive.
@@ -107,8 +115,17 @@ func (d *Dive) Write(w io.Writer, hits io.Writer, seed uint64) (Result, error) {
 	var hw *bufio.Writer
 	if hits != nil {
 		hw = bufio.NewWriterSize(hits, 1<<14)
-		hw.WriteString("time,channel,amplitude_db,energy,counts,duration_us,rise_us\n")
+		if d.SensorChecks {
+			hw.WriteString("time,channel,amplitude_db,energy,counts,duration_us,rise_us,event\n")
+		} else {
+			hw.WriteString("time,channel,amplitude_db,energy,counts,duration_us,rise_us\n")
+		}
 	}
+	ev := ""
+	if d.SensorChecks {
+		ev = ",hit"
+	}
+	checked := false
 	fmt.Fprintf(bw, "# synthetic dive (invented data), %.0f m, %.3g Hz\n", d.MaxDepthM, d.SampleHz)
 	bw.WriteString("time,depth_m")
 	for _, g := range d.Gauges {
@@ -185,11 +202,23 @@ func (d *Dive) Write(w io.Writer, hits io.Writer, seed uint64) (Result, error) {
 		if _, err := bw.Write(buf); err != nil {
 			return res, err
 		}
+		if hw != nil && d.SensorChecks && !checked && t >= math.Min(10, d.SurfaceS/2) {
+			// A pencil-lead break on each channel at the surface, before
+			// the dive (one a second).
+			checked = true
+			for k, ch := range d.AEChannels {
+				ct := d.Start.Add(time.Duration((t + float64(k)) * float64(time.Second)))
+				fmt.Fprintf(hw, "%s,%d,%.1f,%.2f,%d,%.0f,%.0f,lead_break\n", ct.UTC().Format("2006-01-02T15:04:05.000Z07:00"), ch, 94+rng.Float64()*4, 800+rng.Float64()*200, 400+rng.IntN(100), 2000.0, 5.0)
+			}
+		}
 		if hw != nil && len(d.AEChannels) > 0 {
 			rate := 0.0 // hits per hour
 			switch {
+			case s.bottom && d.AEHoldDecayS > 0:
+				// Emission at the start of the hold that dies away.
+				rate = d.AEBottomRate * math.Exp(-(t-segStart)/d.AEHoldDecayS)
 			case s.bottom:
-				// Emission during the hold that decays.
+				// Emission during the hold that decays slowly.
 				rate = d.AEBottomRate * math.Exp(-3*frac)
 			case s.descending && z >= d.AEOnsetFrac*d.MaxDepthM:
 				rate = d.AEOnsetRate
@@ -201,7 +230,7 @@ func (d *Dive) Write(w io.Writer, hits io.Writer, seed uint64) (Result, error) {
 				rise := dur * (0.05 + 0.2*rng.Float64())
 				energy := math.Pow(10, (amp-40)/20) * dur / 50
 				counts := int(dur / 20 * (0.5 + rng.Float64()))
-				fmt.Fprintf(hw, "%s,%d,%.1f,%.2f,%d,%.0f,%.0f\n", ts.UTC().Format("2006-01-02T15:04:05.000Z07:00"), ch, amp, energy, counts, dur, rise)
+				fmt.Fprintf(hw, "%s,%d,%.1f,%.2f,%d,%.0f,%.0f%s\n", ts.UTC().Format("2006-01-02T15:04:05.000Z07:00"), ch, amp, energy, counts, dur, rise, ev)
 				res.Hits++
 			}
 		}
