@@ -267,3 +267,9 @@ func loadHits(ctx context.Context, q querier, dive uuid.UUID) ([]evidence.Hit, [
 	}
 	return hits, checks, rows.Err()
 }
+
+// HitsOf returns a dive's stored acoustic-emission hits and sensor checks
+// (times in seconds from the dive's first sample), for reports.
+func (l *Ledger) HitsOf(ctx context.Context, dive uuid.UUID) ([]evidence.Hit, []evidence.SensorCheck, error) {
+	return loadHits(ctx, l.pool, dive)
+}
