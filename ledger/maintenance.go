@@ -56,16 +56,21 @@ const (
 )
 
 // stamp gives a new record its id and recording time, defaults its event
-// time to now, and refuses an event time in the future.
-func stamp(at *time.Time) (uuid.UUID, time.Time, []string) {
+// time to now, and refuses an event time ahead of the clock by more than
+// the configured tolerance, or before the earliest time accepted.
+func (l *Ledger) stamp(at *time.Time) (uuid.UUID, time.Time, []string) {
 	rec := now()
 	if at.IsZero() {
 		*at = rec
 	}
 	*at = at.UTC().Truncate(time.Microsecond)
 	var errs []string
-	if at.After(rec.Add(time.Minute)) {
-		errs = append(errs, fmt.Sprintf("the time %s is in the future", at.Format(time.RFC3339)))
+	tol := time.Duration(l.cfg.Ingest.ClockToleranceS * float64(time.Second))
+	if at.After(rec.Add(tol)) {
+		errs = append(errs, fmt.Sprintf("the time %s is in the future (more than %s ahead of the clock)", at.Format(time.RFC3339), tol))
+	}
+	if earliest, err := l.cfg.Ingest.Earliest(); err == nil && at.Before(earliest) {
+		errs = append(errs, fmt.Sprintf("the time %s is before the earliest time accepted, %s", at.Format(time.RFC3339), earliest.Format(time.RFC3339)))
 	}
 	return uuid.New(), rec, errs
 }
@@ -150,7 +155,7 @@ func (l *Ledger) record(ctx context.Context, serial string, insert func(tx pgx.T
 // RecordInspection records an inspection of a hull.
 func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspection) (*Inspection, error) {
 	var errs []string
-	in.ID, in.RecordedAt, errs = stamp(&in.At)
+	in.ID, in.RecordedAt, errs = l.stamp(&in.At)
 	if strings.TrimSpace(in.Method) == "" {
 		errs = append(errs, "the method is required (e.g. visual, ultrasonic, shearography)")
 	}
@@ -208,7 +213,7 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 // reference). It returns the chain records to append.
 func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTest, row *diveRow) ([]chainRec, error) {
 	var errs []string
-	p.ID, p.RecordedAt, errs = stamp(&p.At)
+	p.ID, p.RecordedAt, errs = l.stamp(&p.At)
 	tol := l.cfg.Proof.Tolerance
 	spec := h.Spec.ProofPressureMPa
 	if !(p.PressureMPa > 0) || math.IsInf(p.PressureMPa, 0) {
@@ -223,6 +228,14 @@ func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTe
 	if p.Result == "pass" && p.PressureMPa < spec*(1-tol) {
 		errs = append(errs, fmt.Sprintf("a passing proof test at %.4g MPa is below the spec's proof pressure %.4g MPa less the tolerance of %.3g %% (%.4g MPa): it cannot pass as a proof test; record it as failed, or test to the proof pressure",
 			p.PressureMPa, spec, 100*tol, spec*(1-tol)))
+	}
+	if row != nil {
+		// A test with samples is recorded as learned with them, so that
+		// it can never clear the flags its own samples raise.
+		p.RecordedAt = row.RecordedAt
+		if p.At.Before(row.Start) || p.At.After(row.End) {
+			errs = append(errs, fmt.Sprintf("the test time %s lies outside its own samples (%s to %s)", p.At.Format(time.RFC3339), row.Start.Format(time.RFC3339), row.End.Format(time.RFC3339)))
+		}
 	}
 	if row != nil && math.Abs(p.PressureMPa-row.MaxPres) > tol*math.Max(p.PressureMPa, row.MaxPres) {
 		errs = append(errs, fmt.Sprintf("the recorded test pressure %.4g MPa does not agree with the peak of its samples, %.4g MPa, within the tolerance of %.3g %%: the record contradicts its own data",
@@ -251,7 +264,7 @@ func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTe
 // withdraw it, by a named person with a reason.
 func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) (*Decision, error) {
 	var errs []string
-	d.ID, d.RecordedAt, errs = stamp(&d.At)
+	d.ID, d.RecordedAt, errs = l.stamp(&d.At)
 	if d.Kind != DecisionReturn && d.Kind != DecisionWithdraw {
 		errs = append(errs, fmt.Sprintf("the decision must be %s or %s, got %q", DecisionReturn, DecisionWithdraw, d.Kind))
 	}
