@@ -493,7 +493,11 @@ type Flag struct {
 	Basis     string     `json:"basis"`
 	Source    string     `json:"source"`
 	Dive      string     `json:"dive,omitempty"`
-	At        *time.Time `json:"at,omitempty"`
+	// At is when the event happened (the logger's clock for a dive);
+	// RecordedAt when the ledger learned of it. Only a record later in
+	// both clears the flag.
+	At         *time.Time `json:"at,omitempty"`
+	RecordedAt *time.Time `json:"recorded_at,omitempty"`
 }
 
 func when(t time.Time) *time.Time {
@@ -515,7 +519,7 @@ func flagViews(fs []fitness.Flag) []Flag {
 	out := make([]Flag, len(fs))
 	for i, f := range fs {
 		out[i] = Flag{Rule: f.Rule, Title: f.Title, Level: string(f.Level), Value: Num(f.Value), Threshold: f.Threshold, When: string(f.When),
-			Unit: f.Unit, Missing: f.Missing, Detail: f.Detail, Basis: f.Basis, Source: f.Source, Dive: f.Dive, At: when(f.At)}
+			Unit: f.Unit, Missing: f.Missing, Detail: f.Detail, Basis: f.Basis, Source: f.Source, Dive: f.Dive, At: when(f.At), RecordedAt: when(f.RecordedAt)}
 	}
 	return out
 }

@@ -124,16 +124,20 @@ func (a *app) fleetCmd() *cobra.Command {
 
 // fleetRow is one hull of the fleet view.
 type fleetRow struct {
-	Serial         string          `json:"serial"`
-	Name           string          `json:"name"`
-	Status         string          `json:"status"`
-	DamagePercent  ledger.Num      `json:"damage_percent_of_allowable"`
-	Governing      string          `json:"governing_component"`
-	RemainingDives *int64          `json:"remaining_dives"`
-	Remaining      string          `json:"remaining"`
-	LastDive       *time.Time      `json:"last_dive"`
-	OpenFlags      []ledger.Reason `json:"open_flags"`
-	Reasons        []ledger.Reason `json:"reasons"`
+	Serial         string     `json:"serial"`
+	Name           string     `json:"name"`
+	Status         string     `json:"status"`
+	DamagePercent  ledger.Num `json:"damage_percent_of_allowable"`
+	Governing      string     `json:"governing_component"`
+	RemainingDives *int64     `json:"remaining_dives"`
+	Remaining      string     `json:"remaining"`
+	// RemainingMoreThan: the figure is the horizon; RemainingReason says
+	// how the figure was reached, or why there is none.
+	RemainingMoreThan bool            `json:"remaining_more_than"`
+	RemainingReason   string          `json:"remaining_reason"`
+	LastDive          *time.Time      `json:"last_dive"`
+	OpenFlags         []ledger.Reason `json:"open_flags"`
+	Reasons           []ledger.Reason `json:"reasons"`
 }
 
 func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
@@ -154,6 +158,7 @@ func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
 		}
 		r := fleetRow{Serial: s.Serial, Name: s.Name, Status: f.Status, DamagePercent: 100 * f.Damage.GoverningRatio,
 			Governing: f.Damage.Governing, RemainingDives: f.Damage.RemainingDives, Remaining: remaining(f.Damage), LastDive: f.LastDive,
+			RemainingMoreThan: f.Damage.RemainingMoreThan, RemainingReason: f.Damage.RemainingReason,
 			OpenFlags: []ledger.Reason{}, Reasons: f.Reasons}
 		for _, x := range f.Reasons {
 			if x.Kind == "flag" && x.State != string(fitness.Fit) {
