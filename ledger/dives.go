@@ -270,7 +270,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		return nil, err
 	}
 	if row.fingerprint != nil {
-		d, err := l.sameSamples(ctx, tx, h, row.fingerprint)
+		d, err := l.sameSamples(ctx, tx, h, row.fingerprint, aeSHA)
 		if d != nil || err != nil {
 			return d, err
 		}
@@ -360,7 +360,7 @@ func (l *Ledger) checkPlace(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 
 // sameSamples finds a dive of the hull recorded from the same normalised
 // samples under another file: the same dive.
-func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp []byte) (*Dive, error) {
+func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp, aeSHA []byte) (*Dive, error) {
 	var r diveRow
 	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+" FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 AND "+notVoided+" LIMIT 1", h.ID, fp).Scan(r.scanArgs()...)
 	if err == pgx.ErrNoRows {
@@ -368,6 +368,9 @@ func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp []byte)
 	}
 	if err != nil {
 		return nil, fmt.Errorf("looking for the same samples under another file: %w", err)
+	}
+	if !equalBytes(r.AESHA, aeSHA) {
+		return nil, inputErr(fmt.Errorf("dive %s was already recorded from the same samples (file %s) with other acoustic-emission data; nothing was added (a correction is recorded separately, never by re-logging)", r.ID, r.SourceName))
 	}
 	return diveFromRow(&r, h.Serial, h.Spec.RatedDepthM, true), nil
 }
