@@ -134,6 +134,7 @@ type fleetRow struct {
 	// RemainingMoreThan: the figure is the horizon; RemainingReason says
 	// how the figure was reached, or why there is none.
 	RemainingMoreThan bool            `json:"remaining_more_than"`
+	RemainingStatus   string          `json:"remaining_status"`
 	RemainingReason   string          `json:"remaining_reason"`
 	LastDive          *time.Time      `json:"last_dive"`
 	OpenFlags         []ledger.Reason `json:"open_flags"`
@@ -158,7 +159,7 @@ func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
 		}
 		r := fleetRow{Serial: s.Serial, Name: s.Name, Status: f.Status, DamagePercent: 100 * f.Damage.GoverningRatio,
 			Governing: f.Damage.Governing, RemainingDives: f.Damage.RemainingDives, Remaining: remaining(f.Damage), LastDive: f.LastDive,
-			RemainingMoreThan: f.Damage.RemainingMoreThan, RemainingReason: f.Damage.RemainingReason,
+			RemainingMoreThan: f.Damage.RemainingMoreThan, RemainingStatus: f.Damage.RemainingStatus, RemainingReason: f.Damage.RemainingReason,
 			OpenFlags: []ledger.Reason{}, Reasons: f.Reasons}
 		for _, x := range f.Reasons {
 			if x.Kind == "flag" && x.State != string(fitness.Fit) {
