@@ -75,6 +75,12 @@ type Component struct {
 }
 
 // Resolve chooses each component's transfer and looks up its curves.
+// A gauge calibration (ComponentSpec.Calibration) takes precedence over
+// the designer's factor and Lamé, except when its sign contradicts the
+// designer's factor or, on a laminate shell, Lamé: then it is not used,
+// the fallback's reason says why and the component carries a warning. A
+// calibration of the right sign outside half to twice that reference is
+// used with a warning.
 func Resolve(g Geometry, specs []ComponentSpec, lib *sn.Library) ([]Component, error) {
 	out := make([]Component, 0, len(specs))
 	for _, s := range specs {

@@ -238,6 +238,17 @@ func TestCheckModeRefuses(t *testing.T) {
 		!strings.Contains(cs[0].Transfer.Reason, "sign contradicts") || len(cs[0].Warnings) == 0 {
 		t.Fatalf("tensile gauge calibration of a laminate: %+v %v", cs, err)
 	}
+	// A calibration of the right sign but a third of the designer's
+	// factor is used (it is the measurement) and warned about: a gauge
+	// off the hot spot or a wrong modulus would make the part look
+	// better than it is.
+	f := -9.5
+	low, _ := load.NewGauge(60000, -50, "proof test, gauge hoop1")
+	cs, err = Resolve(g, []ComponentSpec{{Name: "ring", Kind: "end_ring", Basis: "gauge", Factor: &f, Source: "FE", Curve: "dnv-rp-c203-d-seawater-cp",
+		Calibration: &low}}, lib)
+	if err != nil || cs[0].Transfer.Transfer.Basis != load.BasisGauge || len(cs[0].Warnings) != 1 || !strings.Contains(cs[0].Warnings[0], "0.316 times the designer factor -9.5") {
+		t.Fatalf("low gauge calibration: %+v %v", cs, err)
+	}
 	// On a part with no sign of reference (no designer's factor, not the
 	// shell) a tensile calibration is used, and the compression curve
 	// refuses it, naming the component.
