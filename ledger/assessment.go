@@ -17,6 +17,7 @@ import (
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/damage"
 	"hulltally/fatigue/fitness"
+	"hulltally/fatigue/load"
 	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
 	"hulltally/fatigue/sn"
@@ -105,13 +106,110 @@ func (l *Ledger) checkCurves(h *spec.Hull) error {
 	return nil
 }
 
+// componentSpecs turns a hull spec's components into the assessment's:
+// each with its own mean-stress correction and design fatigue factor (the
+// global ones apply where the spec gives none), and a component with
+// transfer basis gauge with its calibration from the proof test the
+// spec carries (spec.Hull.Proof), or the reason it has none.
 func componentSpecs(h *spec.Hull) []assess.ComponentSpec {
 	out := make([]assess.ComponentSpec, 0, len(h.Components))
 	for _, c := range h.Components {
-		out = append(out, assess.ComponentSpec{Name: c.Name, Kind: c.Kind, Basis: c.Transfer.Basis, Factor: c.Transfer.FactorMPaPerMPa,
-			Source: c.Transfer.Source, Curve: c.Curve, RuptureCurve: c.RuptureCurve})
+		cs := assess.ComponentSpec{Name: c.Name, Kind: c.Kind, Basis: c.Transfer.Basis, Factor: c.Transfer.FactorMPaPerMPa,
+			Source: c.Transfer.Source, Curve: c.Curve, RuptureCurve: c.RuptureCurve, MeanStress: sn.MeanStress(c.MeanStress)}
+		if c.DesignFatigueFactor != nil {
+			cs.DFF = *c.DesignFatigueFactor
+		}
+		if c.Transfer.Basis == "gauge" {
+			cs.Calibration, cs.NoCalibration = gaugeCalibration(h, c)
+		}
+		out = append(out, cs)
 	}
 	return out
+}
+
+// gaugeCalibration is the load transfer of component c calibrated from
+// the strain gauges on it at the proof test h.Proof, by the biaxial
+// plane-stress law of an isotropic wall (load.NewBiaxialGauge) with the
+// component's modulus_gpa and poisson_ratio: on a cylinder its hoop and
+// axial gauges, on a sphere its hoop and meridional gauges (one
+// direction alone stands for both: the membrane stress of a sphere is
+// equal in every direction). The gauges of one direction are averaged.
+// Of the two in-plane factors the larger in magnitude is used, never the
+// smaller. Without a calibration it returns the reason ("" when no proof
+// test with strain is recorded).
+func gaugeCalibration(h *spec.Hull, c spec.Component) (*load.Transfer, string) {
+	if c.ModulusGPa == nil || c.PoissonRatio == nil {
+		return nil, "the hull spec gives no modulus_gpa and poisson_ratio for the component"
+	}
+	p := h.Proof
+	if p == nil {
+		return nil, ""
+	}
+	// mean averages the compliances of the component's gauges in one
+	// direction that the test measured.
+	var notes []string
+	mean := func(dir string) (float64, bool) {
+		gs := h.StrainGaugesOn(c.Name, dir)
+		var sum float64
+		var used, missing []string
+		for _, g := range gs {
+			if v, ok := p.ComplianceUEPerMPa[g]; ok && !math.IsNaN(v) && !math.IsInf(v, 0) {
+				sum += v
+				used = append(used, g)
+			} else {
+				missing = append(missing, g)
+			}
+		}
+		if len(missing) > 0 && len(used) > 0 {
+			notes = append(notes, fmt.Sprintf("%s gauge %s has no compliance at that test and is left out", dir, strings.Join(missing, ", ")))
+		}
+		if len(used) == 0 {
+			if len(gs) > 0 {
+				notes = append(notes, fmt.Sprintf("the test measured no compliance on the %s gauge %s", dir, strings.Join(gs, ", ")))
+			}
+			return 0, false
+		}
+		m := sum / float64(len(used))
+		notes = append(notes, fmt.Sprintf("%s %s %.6g µε/MPa", dir, strings.Join(used, "+"), m))
+		return m, true
+	}
+	var c1, c2 float64
+	var d1, d2 string
+	if h.Shape == "sphere" {
+		hoop, okH := mean("hoop")
+		mer, okM := mean("meridional")
+		switch {
+		case okH && okM:
+			c1, c2, d1, d2 = hoop, mer, "hoop", "meridional"
+		case okH:
+			c1, c2, d1, d2 = hoop, hoop, "hoop", "meridional (taken equal to hoop on a sphere)"
+		case okM:
+			c1, c2, d1, d2 = mer, mer, "meridional", "hoop (taken equal to meridional on a sphere)"
+		default:
+			return nil, fmt.Sprintf("%s: no hoop or meridional compliance of the component (%s)", p.Source, strings.Join(notes, "; "))
+		}
+	} else {
+		hoop, okH := mean("hoop")
+		axial, okA := mean("axial")
+		if !okH || !okA {
+			return nil, fmt.Sprintf("%s: a biaxial calibration needs a hoop and an axial compliance of the component (%s)", p.Source, strings.Join(notes, "; "))
+		}
+		c1, c2, d1, d2 = hoop, axial, "hoop", "axial"
+	}
+	e, nu := *c.ModulusGPa, *c.PoissonRatio
+	desc := p.Source + ", " + strings.Join(notes, ", ")
+	a, err := load.NewBiaxialGauge(e, nu, c1, c2, desc+"; "+d1+" direction governs")
+	if err != nil {
+		return nil, fmt.Sprintf("%s: %v", p.Source, err)
+	}
+	b, err := load.NewBiaxialGauge(e, nu, c2, c1, desc+"; "+d2+" direction governs")
+	if err != nil {
+		return nil, fmt.Sprintf("%s: %v", p.Source, err)
+	}
+	if math.Abs(b.Factor) > math.Abs(a.Factor) {
+		return &b, ""
+	}
+	return &a, ""
 }
 
 func (l *Ledger) resolve(h *spec.Hull) ([]assess.Component, error) {
@@ -209,6 +307,71 @@ type compDamage struct {
 	curve, ruptureCurve string
 	dives               []uuid.UUID
 	cyclic, sustained   []float64
+	// rec is what the assessment records of the component beside its
+	// damage (in the assessment's config_json).
+	rec componentRecord
+}
+
+// componentRecord is one component's settings as an assessment used them,
+// kept in the "components" list of the assessment's config_json: the
+// effective design fatigue factor and mean-stress correction with where
+// they come from, the load transfer with why it was chosen, and the
+// warnings on the component.
+type componentRecord struct {
+	Name                string   `json:"name"`
+	Basis               string   `json:"transfer_basis"`
+	Factor              float64  `json:"transfer_factor_mpa_per_mpa"`
+	TransferDescription string   `json:"transfer_description"`
+	TransferReason      string   `json:"transfer_reason"`
+	DesignFatigueFactor float64  `json:"design_fatigue_factor"`
+	MeanStress          string   `json:"mean_stress"`
+	SettingsReason      string   `json:"settings_reason"`
+	Warnings            []string `json:"warnings"`
+}
+
+// setSettings records a component's effective settings.
+func (r *componentRecord) setSettings(e assess.Effective) {
+	r.DesignFatigueFactor, r.MeanStress, r.SettingsReason = e.DFF, string(e.MeanStress), e.Reason
+}
+
+// withComponents returns the configuration JSON cfg with the components'
+// records added as "components" (keys sorted: canonical). Records without
+// settings (no dive assessed and none set) are written as they are.
+func withComponents(cfg string, cols []compDamage) string {
+	doc := map[string]any{}
+	if err := json.Unmarshal([]byte(cfg), &doc); err != nil {
+		return cfg
+	}
+	recs := make([]componentRecord, len(cols))
+	for i := range cols {
+		recs[i] = cols[i].rec
+		if recs[i].Warnings == nil {
+			recs[i].Warnings = []string{}
+		}
+	}
+	doc["components"] = recs
+	b, err := json.Marshal(doc)
+	if err != nil {
+		return cfg
+	}
+	return string(b)
+}
+
+// componentRecords reads the "components" list of an assessment's
+// config_json, by name (empty for assessments recorded before it was
+// kept).
+func componentRecords(cfg string) map[string]componentRecord {
+	var doc struct {
+		Components []componentRecord `json:"components"`
+	}
+	out := map[string]componentRecord{}
+	if json.Unmarshal([]byte(cfg), &doc) != nil {
+		return out
+	}
+	for _, r := range doc.Components {
+		out[r.Name] = r
+	}
+	return out
 }
 
 func compDamageBytes(c *canon, d *compDamage) {
@@ -235,7 +398,10 @@ func newColumns(comps []assess.Component, capacity int) []compDamage {
 		}
 		cols[i] = compDamage{component: c.Name, basis: string(c.Transfer.Transfer.Basis), factor: c.Transfer.Transfer.Factor,
 			curve: c.Curve.Name, ruptureCurve: rup, dives: make([]uuid.UUID, 0, capacity),
-			cyclic: make([]float64, 0, capacity), sustained: make([]float64, 0, capacity)}
+			cyclic: make([]float64, 0, capacity), sustained: make([]float64, 0, capacity),
+			rec: componentRecord{Name: c.Name, Basis: string(c.Transfer.Transfer.Basis), Factor: c.Transfer.Transfer.Factor,
+				TransferDescription: c.Transfer.Transfer.Description, TransferReason: c.Transfer.Reason,
+				Warnings: append([]string{}, c.Warnings...)}}
 	}
 	return cols
 }
@@ -244,6 +410,7 @@ func newColumns(comps []assess.Component, capacity int) []compDamage {
 func addDive(cols []compDamage, dive uuid.UUID, res []assess.Result) {
 	for i, r := range res {
 		c := &cols[i]
+		c.rec.setSettings(r.Settings)
 		c.dives = append(c.dives, dive)
 		c.cyclic = append(c.cyclic, r.Damage.Cyclic)
 		c.sustained = append(c.sustained, r.Damage.Sustained)
@@ -284,6 +451,7 @@ func assessmentCanon(a *assessmentHead, cols []compDamage) []byte {
 // component, the order verify reads them in) and returns its chain record.
 func storeAssessment(ctx context.Context, tx pgx.Tx, a *assessmentHead, cols []compDamage) (chainRec, error) {
 	sort.Slice(cols, func(i, j int) bool { return cols[i].component < cols[j].component })
+	a.configJSON = withComponents(a.configJSON, cols)
 	if _, err := tx.Exec(ctx, `INSERT INTO assessments (id, hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at)
 		VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9)`, a.id, a.hull, a.revision, a.kind, a.configHash, a.configJSON, a.reason, a.actor, a.at); err != nil {
 		return chainRec{}, fmt.Errorf("storing assessment: %w", err)
@@ -386,6 +554,9 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 	dmg := make([][]compDamage, len(hulls))
 	for i := range hulls {
 		dmg[i] = newColumns(comps[i], 1024)
+		for k, e := range asr[i].Settings() {
+			dmg[i][k].rec.setSettings(e)
+		}
 	}
 	perDive := make([][]DiveDamage, len(hulls))
 	// One goroutine reads and decodes the stored cycles, this one computes.
@@ -498,6 +669,12 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			if c.Rupture != nil {
 				m.RuptureCurve = c.Rupture.Name
 			}
+			// dmg[i] is sorted by component now; find this one's record.
+			for k := range dmg[i] {
+				if dmg[i][k].component == c.Name {
+					m.setRecord(dmg[i][k].rec)
+				}
+			}
 		}
 		cur.Assessments = prev[i].Assessments + 1
 		cur.ConfigHash = fmt.Sprintf("%x", l.fat.hash)
@@ -558,7 +735,16 @@ func (l *Ledger) allHulls(ctx context.Context) ([]*Hull, error) {
 		}
 		out = append(out, h)
 	}
-	return out, rows.Err()
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	rows.Close()
+	for _, h := range out {
+		if err := attachProof(ctx, l.pool, h); err != nil {
+			return nil, err
+		}
+	}
+	return out, nil
 }
 
 // Num is a damage figure that prints +Inf (a static overload) as the
@@ -590,10 +776,42 @@ type ComponentDamage struct {
 	Factor       float64 `json:"transfer_factor_mpa_per_mpa"`
 	Curve        string  `json:"curve"`
 	RuptureCurve string  `json:"rupture_curve,omitempty"`
+	// TransferDescription states the load transfer's basis in words (for
+	// a gauge calibration: the proof test, the gauges, E and ν), and
+	// TransferReason why that basis was used (for a fallback from gauge:
+	// why no calibration was available).
+	TransferDescription string `json:"transfer_description,omitempty"`
+	TransferReason      string `json:"transfer_reason,omitempty"`
+	// DesignFatigueFactor and MeanStress are the effective design fatigue
+	// factor and mean-stress correction of this component in the newest
+	// assessment used (the component's own from the hull spec, or the
+	// global one), SettingsReason where each comes from; the factor is
+	// null when that assessment did not record it (recorded before the
+	// settings were kept per component), and SettingsReason says so.
+	DesignFatigueFactor *float64 `json:"design_fatigue_factor"`
+	MeanStress          string   `json:"mean_stress"`
+	SettingsReason      string   `json:"settings_reason"`
+	// Warnings are remarks on the component that do not stop the
+	// assessment (a curve in air for an immersed part, a gauge
+	// calibration far from the designer's factor).
+	Warnings []string `json:"warnings"`
 	// Unassessed counts dives with no damage for this component.
 	Unassessed int `json:"unassessed_dives"`
 	// Prior is damage carried over from an earlier record (in the totals).
 	Prior *PriorDamage `json:"prior_damage,omitempty"`
+}
+
+// setRecord shows the settings an assessment recorded for the component.
+func (c *ComponentDamage) setRecord(r componentRecord) {
+	c.TransferDescription, c.TransferReason = r.TransferDescription, r.TransferReason
+	c.Warnings = append([]string{}, r.Warnings...)
+	if r.SettingsReason == "" {
+		c.DesignFatigueFactor, c.MeanStress = nil, ""
+		c.SettingsReason = "not recorded: the assessment in force predates per-component settings (run hulltally assess)"
+		return
+	}
+	f := r.DesignFatigueFactor
+	c.DesignFatigueFactor, c.MeanStress, c.SettingsReason = &f, r.MeanStress, r.SettingsReason
 }
 
 // PriorDamage is damage carried over from an earlier record.
@@ -689,7 +907,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	}
 	// Newest assessment first: a dive takes its damage from the newest
 	// assessment that covers it.
-	rows, err = l.pool.Query(ctx, `SELECT a.hull_id, a.seq, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
+	rows, err = l.pool.Query(ctx, `SELECT a.hull_id, a.seq, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
 		FROM assessments a JOIN assessment_damage ad ON ad.assessment_id = a.id
 		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, a.seq DESC, ad.component`, ids)
 	if err != nil {
@@ -701,6 +919,9 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	}
 	var group []compDamage
 	groupHull, groupSeq := -1, int64(-1)
+	var groupID uuid.UUID
+	// recFrom is the assessment each shown component's settings come from.
+	var recFrom []recRef
 	flush := func() {
 		if groupHull < 0 {
 			return
@@ -734,6 +955,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 			if used && o.Components[k].Basis == "" {
 				c := &o.Components[k]
 				c.Basis, c.Factor, c.Curve, c.RuptureCurve = g.basis, g.factor, g.curve, g.ruptureCurve
+				recFrom = append(recFrom, recRef{groupHull, k, groupID})
 			}
 		}
 		for p := range fresh {
@@ -742,18 +964,18 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		group = group[:0]
 	}
 	for rows.Next() {
-		var hullID uuid.UUID
+		var hullID, aID uuid.UUID
 		var seq int64
 		var g compDamage
 		var dives [][16]byte
-		if err := rows.Scan(&hullID, &seq, &g.component, &g.basis, &g.factor, &g.curve, &g.ruptureCurve, &dives, &g.cyclic, &g.sustained); err != nil {
+		if err := rows.Scan(&hullID, &seq, &aID, &g.component, &g.basis, &g.factor, &g.curve, &g.ruptureCurve, &dives, &g.cyclic, &g.sustained); err != nil {
 			rows.Close()
 			return nil, err
 		}
 		i := byID[hullID]
 		if i != groupHull || seq != groupSeq {
 			flush()
-			groupHull, groupSeq = i, seq
+			groupHull, groupSeq, groupID = i, seq, aID
 		}
 		g.dives = make([]uuid.UUID, len(dives))
 		for k, d := range dives {
@@ -764,6 +986,9 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	flush()
 	rows.Close()
 	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	if err := l.showRecords(ctx, out, recFrom); err != nil {
 		return nil, err
 	}
 	rows, err = l.pool.Query(ctx, `SELECT DISTINCT ON (hull_id) hull_id, count(*) OVER (PARTITION BY hull_id), config_hash
@@ -794,10 +1019,68 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	return out, nil
 }
 
+// recRef names the assessment a shown component's figures come from:
+// out[hull].Components[comp] from assessment id.
+type recRef struct {
+	hull, comp int
+	id         uuid.UUID
+}
+
+// showRecords sets each referenced component's settings from the records
+// of the assessment it was shown from (one query for all of them).
+func (l *Ledger) showRecords(ctx context.Context, out []*Damages, refs []recRef) error {
+	var ids [][16]byte
+	seen := map[uuid.UUID]bool{}
+	for _, r := range refs {
+		if !seen[r.id] {
+			seen[r.id] = true
+			ids = append(ids, r.id)
+		}
+	}
+	if len(ids) == 0 {
+		return nil
+	}
+	rows, err := l.pool.Query(ctx, "SELECT id, config_json FROM assessments WHERE id = ANY($1)", ids)
+	if err != nil {
+		return fmt.Errorf("reading assessment settings: %w", err)
+	}
+	recs := map[uuid.UUID]map[string]componentRecord{}
+	for rows.Next() {
+		var id uuid.UUID
+		var js string
+		if err := rows.Scan(&id, &js); err != nil {
+			rows.Close()
+			return err
+		}
+		recs[id] = componentRecords(js)
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	for _, r := range refs {
+		c := &out[r.hull].Components[r.comp]
+		c.setRecord(recs[r.id][c.Name])
+	}
+	return nil
+}
+
 func (l *Ledger) newDamages(h *Hull) *Damages {
 	d := &Damages{Combine: string(l.fat.limits.Combination()), DesignFatigueFactor: l.fat.settings.DFF, MeanStress: string(l.fat.settings.MeanStress)}
 	for _, c := range h.Spec.Components {
-		d.Components = append(d.Components, ComponentDamage{Name: c.Name, Allowable: l.fat.limits.Allowable, Curve: c.Curve, RuptureCurve: c.RuptureCurve})
+		cd := ComponentDamage{Name: c.Name, Allowable: l.fat.limits.Allowable, Curve: c.Curve, RuptureCurve: c.RuptureCurve, Warnings: []string{}}
+		// Until an assessment is shown, the settings that would apply.
+		own := assess.Settings{MeanStress: sn.MeanStress(c.MeanStress)}
+		if c.DesignFatigueFactor != nil {
+			own.DFF = *c.DesignFatigueFactor
+		}
+		if e, err := assess.EffectiveSettings(l.fat.settings, own); err == nil {
+			f := e.DFF
+			cd.DesignFatigueFactor, cd.MeanStress, cd.SettingsReason = &f, string(e.MeanStress), e.Reason+" (no assessment yet: the settings that apply)"
+		} else {
+			cd.SettingsReason = "not evaluated: " + err.Error()
+		}
+		d.Components = append(d.Components, cd)
 	}
 	return d
 }
@@ -905,13 +1188,23 @@ type DiveComponentDamage struct {
 	Sustained Num    `json:"sustained"`
 	Basis     string `json:"transfer_basis"`
 	Curve     string `json:"curve"`
+	// Factor is the load transfer factor used, MPa of stress per MPa of
+	// gauge pressure (negative in compression).
+	Factor float64 `json:"transfer_factor_mpa_per_mpa"`
+	// TransferReason says why that basis was used.
+	TransferReason string `json:"transfer_reason,omitempty"`
+	// DesignFatigueFactor and MeanStress are the effective settings of
+	// the component in that assessment (null and empty when it did not
+	// record them).
+	DesignFatigueFactor *float64 `json:"design_fatigue_factor"`
+	MeanStress          string   `json:"mean_stress,omitempty"`
 }
 
 // DiveDamageOf returns the dive's damage per component in the assessment
 // in force (the newest that covers the dive).
 func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]DiveComponentDamage, error) {
 	rows, err := l.pool.Query(ctx, `
-		SELECT a.seq, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve
+		SELECT a.seq, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve, ad.factor, a.config_json
 		FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
 		WHERE ad.hull_id = (SELECT hull_id FROM dives WHERE id = $1) AND $1 = ANY(ad.dive_ids)
 		ORDER BY a.seq DESC`, dive)
@@ -926,7 +1219,8 @@ func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]D
 		var name string
 		var d DiveComponentDamage
 		var cy, su float64
-		if err := rows.Scan(&seq, &name, &cy, &su, &d.Basis, &d.Curve); err != nil {
+		var cfg string
+		if err := rows.Scan(&seq, &name, &cy, &su, &d.Basis, &d.Curve, &d.Factor, &cfg); err != nil {
 			return nil, err
 		}
 		if newest >= 0 && seq != newest {
@@ -934,6 +1228,13 @@ func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]D
 		}
 		newest = seq
 		d.Cyclic, d.Sustained = Num(cy), Num(su)
+		if r, ok := componentRecords(cfg)[name]; ok {
+			d.TransferReason = r.TransferReason
+			if r.SettingsReason != "" {
+				f := r.DesignFatigueFactor
+				d.DesignFatigueFactor, d.MeanStress = &f, r.MeanStress
+			}
+		}
 		out[name] = d
 	}
 	return out, rows.Err()

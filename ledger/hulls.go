@@ -12,6 +12,7 @@ import (
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
+	"hulltally/fatigue/assess"
 	"hulltally/ledger/spec"
 )
 
@@ -126,7 +127,16 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 		return nil, err
 	}
 	if err := l.checkCurves(h); err != nil {
-		return nil, err
+		return nil, inputErr(err)
+	}
+	// The curves fit each component's stress (a tensile part is not read
+	// on a compression curve, nor its sustained load on the other side's
+	// rupture curve) and its own settings are valid. A hull being added
+	// has no proof test yet: the check is on the designer's factor, else
+	// Lamé; a later gauge calibration of the other sign is not used.
+	g := assess.Geometry{Shape: h.Shape, InnerRadiusM: h.InnerRadiusM, WallM: h.WallThicknessM}
+	if err := assess.Check(g, componentSpecs(h), l.fat.lib, l.fat.settings); err != nil {
+		return nil, inputErr(fmt.Errorf("hull spec %s: %w", h.Serial, err))
 	}
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, errors.New("adding a hull: the actor (who records it) is required")
@@ -288,7 +298,35 @@ func hullBySerial(ctx context.Context, q querier, serial string) (*Hull, error) 
 	if err := json.Unmarshal([]byte(js), h.Spec); err != nil {
 		return nil, fmt.Errorf("hull %s: stored spec: %w", serial, err)
 	}
+	if err := attachProof(ctx, q, h); err != nil {
+		return nil, err
+	}
 	return h, nil
+}
+
+// attachProof attaches to the hull's spec (spec.Hull.Proof) the strain
+// compliance of its latest passing proof test with samples that are not
+// void: the gauge calibration of its components with transfer basis
+// gauge. A hull without one keeps Proof nil.
+func attachProof(ctx context.Context, q querier, h *Hull) error {
+	var at time.Time
+	var dive uuid.UUID
+	var bj string
+	err := q.QueryRow(ctx, `SELECT p.at, p.dive_id, p.baseline_json FROM proof_tests p JOIN dives d ON d.id = p.dive_id
+		WHERE p.hull_id = $1 AND p.result = 'pass' AND p.baseline_json <> '{}' AND `+notVoided+`
+		ORDER BY p.at DESC, p.recorded_at DESC LIMIT 1`, h.ID).Scan(&at, &dive, &bj)
+	if err == pgx.ErrNoRows {
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("hull %s: latest proof test with strain: %w", h.Serial, err)
+	}
+	m := map[string]float64{}
+	if err := json.Unmarshal([]byte(bj), &m); err != nil {
+		return fmt.Errorf("hull %s: proof test of %s: compliance: %w", h.Serial, at.UTC().Format(time.RFC3339), err)
+	}
+	h.Spec.Proof = &spec.ProofStrain{Source: fmt.Sprintf("proof test of %s (dive %s)", at.UTC().Format(time.RFC3339), dive), ComplianceUEPerMPa: m}
+	return nil
 }
 
 // HullSummary is one line of the hull list.

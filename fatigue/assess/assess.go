@@ -43,6 +43,11 @@ type ComponentSpec struct {
 	// Calibration is the gauge calibration from the latest proof test, if
 	// one is recorded.
 	Calibration *load.Transfer
+	// NoCalibration says why a component with basis gauge has no
+	// Calibration (for example "the proof test of 2026-04-01 measured no
+	// compliance on gauge axial1"), for the reason of the fallback; empty
+	// means no proof test with strain is recorded yet.
+	NoCalibration string
 	// MeanStress is the component's own mean-stress correction from the
 	// hull spec (none or goodman); empty means the global setting.
 	MeanStress sn.MeanStress
@@ -70,6 +75,12 @@ type Component struct {
 }
 
 // Resolve chooses each component's transfer and looks up its curves.
+// A gauge calibration (ComponentSpec.Calibration) takes precedence over
+// the designer's factor and Lamé, except when its sign contradicts the
+// designer's factor or, on a laminate shell, Lamé: then it is not used,
+// the fallback's reason says why and the component carries a warning. A
+// calibration of the right sign outside half to twice that reference is
+// used with a warning.
 func Resolve(g Geometry, specs []ComponentSpec, lib *sn.Library) ([]Component, error) {
 	out := make([]Component, 0, len(specs))
 	for _, s := range specs {
@@ -112,14 +123,36 @@ func resolve(g Geometry, s ComponentSpec, lib *sn.Library) (Component, error) {
 		}
 		cands = append(cands, d)
 	}
-	if s.Calibration != nil {
-		cands = append(cands, *s.Calibration)
-	}
-	ch, err := load.Choose(cands...)
+	fallback, err := load.Choose(cands...)
 	if err != nil {
 		return c, err
 	}
+	ch := fallback
+	refused := ""
+	if s.Calibration != nil {
+		cal := *s.Calibration
+		ch, err = load.Choose(append(cands, cal)...)
+		if err != nil {
+			return c, err
+		}
+		// A calibration whose sign contradicts the designer's factor (or,
+		// on a laminate shell, Lamé) is a gauge wired or labelled the
+		// wrong way round, not a measurement of this part: it is not used.
+		ref := fallback.Transfer
+		signed := ref.Basis == load.BasisDesigner || s.Kind == "laminate_cylinder" || s.Kind == "laminate_sphere"
+		if signed && (cal.Factor > 0) != (ref.Factor > 0) {
+			refused = fmt.Sprintf("the gauge calibration %.6g MPa/MPa is not used: its sign contradicts the %s factor %.6g MPa/MPa (a gauge reversed or on the wrong direction?)", cal.Factor, ref.Basis, ref.Factor)
+			ch = fallback
+			c.Warnings = append(c.Warnings, refused)
+		} else if r := math.Abs(cal.Factor / ref.Factor); signed && (r < 0.5 || r > 2) {
+			c.Warnings = append(c.Warnings, fmt.Sprintf("the gauge calibration %.6g MPa/MPa is %.3g times the %s factor %.6g MPa/MPa: check the gauges, the modulus and the Poisson ratio", cal.Factor, r, ref.Basis, ref.Factor))
+		}
+	}
 	switch {
+	case refused != "":
+		ch.Reason = refused + "; " + ch.Reason
+	case s.Basis == "gauge" && s.Calibration == nil && s.NoCalibration != "":
+		ch.Reason = "gauge calibration asked for but not available: " + s.NoCalibration + "; " + ch.Reason
 	case s.Basis == "gauge" && s.Calibration == nil:
 		ch.Reason = "gauge calibration asked for but no proof test with strain is recorded yet; " + ch.Reason
 	case s.Basis == "lame" && ch.Transfer.Basis != load.BasisLame:

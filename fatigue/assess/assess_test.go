@@ -45,6 +45,8 @@ func TestResolvePrecedence(t *testing.T) {
 		{"lame default", ComponentSpec{Name: "laminate", Kind: "laminate_cylinder", Basis: "lame", Curve: "carbon-epoxy-cc-illustrative"}, load.BasisLame, -2 * 0.36 / 0.11, "isotropic"},
 		{"designer over lame", ComponentSpec{Name: "ring", Kind: "end_ring", Basis: "designer", Factor: &f, Source: "FE", Curve: "dnv-rp-c203-d-air"}, load.BasisDesigner, -9.5, "passed over: lame"},
 		{"gauge without a proof test", ComponentSpec{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Curve: "carbon-epoxy-cc-illustrative"}, load.BasisLame, -2 * 0.36 / 0.11, "no proof test"},
+		{"gauge with a test that measured nothing", ComponentSpec{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Factor: &f, Source: "FE", Curve: "carbon-epoxy-cc-illustrative",
+			NoCalibration: "the test measured no compliance on the axial gauge axial1"}, load.BasisDesigner, -9.5, "not available: the test measured no compliance on the axial gauge axial1; designer basis used"},
 		// E × compliance = 60 000 MPa × −150 µε/MPa = −9 MPa/MPa.
 		{"gauge calibration wins", ComponentSpec{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Factor: &f, Source: "FE", Curve: "carbon-epoxy-cc-illustrative", Calibration: &cal}, load.BasisGauge, -9, "gauge basis used"},
 		{"lame on an end ring is flagged", ComponentSpec{Name: "ring", Kind: "end_ring", Basis: "lame", Curve: "dnv-rp-c203-d-air"}, load.BasisLame, -2 * 0.36 / 0.11, "give the designer's factor"},
@@ -225,10 +227,34 @@ func TestCheckModeRefuses(t *testing.T) {
 		Curve: "carbon-epoxy-cc-illustrative"}}, lib); err == nil || !strings.Contains(err.Error(), "laminate") {
 		t.Fatalf("tensile designer factor on a compression curve: %v", err)
 	}
+	// A laminate shell under external pressure is in compression: a
+	// gauge calibration that reads tension contradicts Lamé (a gauge
+	// reversed), is not used, and the component keeps the compressive
+	// Lamé factor with a warning, so the dive is still assessed.
 	cal, _ := load.NewGauge(60000, 50, "proof test, gauge reads tension")
-	if _, err := Resolve(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Curve: "carbon-epoxy-cc-illustrative",
-		RuptureCurve: "carbon-epoxy-rupture-compression-illustrative", Calibration: &cal}}, lib); err == nil || !strings.Contains(err.Error(), "tensile") {
-		t.Fatalf("tensile gauge calibration on compression curves: %v", err)
+	cs, err := Resolve(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "gauge", Curve: "carbon-epoxy-cc-illustrative",
+		RuptureCurve: "carbon-epoxy-rupture-compression-illustrative", Calibration: &cal}}, lib)
+	if err != nil || cs[0].Transfer.Transfer.Basis != load.BasisLame || !(cs[0].Transfer.Transfer.Factor < 0) ||
+		!strings.Contains(cs[0].Transfer.Reason, "sign contradicts") || len(cs[0].Warnings) == 0 {
+		t.Fatalf("tensile gauge calibration of a laminate: %+v %v", cs, err)
+	}
+	// A calibration of the right sign but a third of the designer's
+	// factor is used (it is the measurement) and warned about: a gauge
+	// off the hot spot or a wrong modulus would make the part look
+	// better than it is.
+	f := -9.5
+	low, _ := load.NewGauge(60000, -50, "proof test, gauge hoop1")
+	cs, err = Resolve(g, []ComponentSpec{{Name: "ring", Kind: "end_ring", Basis: "gauge", Factor: &f, Source: "FE", Curve: "dnv-rp-c203-d-seawater-cp",
+		Calibration: &low}}, lib)
+	if err != nil || cs[0].Transfer.Transfer.Basis != load.BasisGauge || len(cs[0].Warnings) != 1 || !strings.Contains(cs[0].Warnings[0], "0.316 times the designer factor -9.5") {
+		t.Fatalf("low gauge calibration: %+v %v", cs, err)
+	}
+	// On a part with no sign of reference (no designer's factor, not the
+	// shell) a tensile calibration is used, and the compression curve
+	// refuses it, naming the component.
+	if _, err := Resolve(g, []ComponentSpec{{Name: "seat", Kind: "hatch_seat", Basis: "gauge", Curve: "carbon-epoxy-cc-illustrative",
+		Calibration: &cal}}, lib); err == nil || !strings.Contains(err.Error(), "tensile") || !strings.Contains(err.Error(), "seat") {
+		t.Fatalf("tensile gauge calibration on a compression curve: %v", err)
 	}
 	if err := Check(g, []ComponentSpec{{Name: "laminate", Kind: "laminate_cylinder", Basis: "designer", Factor: &plus, Source: "FE",
 		Curve: "carbon-epoxy-cc-illustrative"}, {Name: "ring", Kind: "end_ring", Basis: "lame", Curve: "nope"}}, lib, Settings{DFF: 1, MeanStress: sn.MeanStressNone}); err == nil ||

@@ -59,6 +59,24 @@ type Hull struct {
 	QualifiedPressureCycles *float64    `yaml:"qualified_pressure_cycles,omitempty" json:"qualified_pressure_cycles,omitempty"`
 	Components              []Component `yaml:"components" json:"components"`
 	Gauges                  []Gauge     `yaml:"gauges,omitempty" json:"gauges"`
+	// Proof is the strain compliance measured at the hull's latest
+	// passing proof test with samples, which the ledger attaches when it
+	// reads a recorded hull (the gauge calibration of components with
+	// transfer basis gauge). It is not part of the specification's text:
+	// never read from YAML nor written to its JSON; nil when no such test
+	// is recorded.
+	Proof *ProofStrain `yaml:"-" json:"-"`
+}
+
+// ProofStrain is the strain compliance measured at a proof test.
+type ProofStrain struct {
+	// Source names the test, for reports, for example
+	// "proof test of 2026-04-01 (dive 6f1c…)".
+	Source string
+	// ComplianceUEPerMPa is each strain gauge's compliance in microstrain
+	// per MPa of gauge pressure (negative in compression), by gauge name;
+	// a gauge without a usable compliance at the test is absent.
+	ComplianceUEPerMPa map[string]float64
 }
 
 // Component is a part of the hull with its own stress history and curve.

@@ -210,3 +210,29 @@ func FuzzParse(f *testing.F) {
 		}
 	})
 }
+
+// TestProofIsNotSpecText: the proof-test compliance the ledger attaches is
+// not part of the spec: a YAML key cannot set it (a hand-written
+// "calibration" would pass for a measurement), and the spec's JSON, which
+// is stored and chained, does not carry it.
+func TestProofIsNotSpecText(t *testing.T) {
+	data, err := os.ReadFile("../../testdata/hulls/example-cylinder.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, key := range []string{"proof", "Proof"} {
+		extra := string(data) + "\n" + key + ":\n  source: invented\n  complianceuepermpa: {hoop1: -1}\n"
+		if h, err := Parse([]byte(extra)); err == nil {
+			t.Errorf("key %s accepted: %+v", key, h.Proof)
+		}
+	}
+	h, err := Parse(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	before := h.JSON()
+	h.Proof = &ProofStrain{Source: "proof test", ComplianceUEPerMPa: map[string]float64{"hoop1": -93.6}}
+	if after := h.JSON(); after != before || strings.Contains(after, "93.6") {
+		t.Errorf("the spec's JSON carries the proof-test compliance: %s", after)
+	}
+}
