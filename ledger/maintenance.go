@@ -360,6 +360,14 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 	if err != nil {
 		return nil, err
 	}
+	if !d.Duplicate && l.hasGaugeBasis(ctx, serial) {
+		// The test calibrates the load transfer of a gauge-basis part:
+		// assess every dive of the hull again on it, so that no earlier
+		// dive keeps a fallback that may show less damage.
+		if _, err := l.Assess(ctx, AssessOptions{Hull: serial, Reason: fmt.Sprintf("proof test of %s with strain: gauge calibration of the load transfer", p.At.Format(time.DateOnly)), Actor: p.Actor}); err != nil {
+			return nil, fmt.Errorf("proof test recorded; re-assessing the hull on its calibration failed (run hulltally assess --hull %s): %w", serial, err)
+		}
+	}
 	if d.Duplicate {
 		var n int
 		if err := l.pool.QueryRow(ctx, "SELECT count(*) FROM proof_tests WHERE dive_id = $1", d.ID).Scan(&n); err != nil {
@@ -371,4 +379,19 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 		return nil, inputErr(fmt.Errorf("these samples are already recorded as dive %s, not as a proof test; a dive is not turned into a proof test afterwards", d.ID))
 	}
 	return &p, nil
+}
+
+// hasGaugeBasis reports whether a hull has a part whose load transfer is
+// calibrated from the strain gauges of a proof test.
+func (l *Ledger) hasGaugeBasis(ctx context.Context, serial string) bool {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return false
+	}
+	for _, c := range h.Spec.Components {
+		if c.Transfer.Basis == "gauge" {
+			return true
+		}
+	}
+	return false
 }
