@@ -71,6 +71,9 @@ type Ingest struct {
 	// MaxIntervalS is the coarsest sample interval below the surface that
 	// the hysteresis gate and the hold criteria can work with, seconds.
 	MaxIntervalS float64
+	// CutLegMPaPerS is the slow rate of travel at which the unrecorded leg
+	// of a cut-off record is charged, at its cut-off pressure, MPa/s.
+	CutLegMPaPerS float64
 }
 
 // Proof configures the checks of a recorded proof test.
@@ -188,7 +191,7 @@ var defaults = map[string]any{
 	"home": "", "database.url": "", "database.max_conns": 4,
 	"ingest.default_latitude": "", "ingest.block_samples": 8192,
 	"ingest.clock_tolerance_s": 600, "ingest.earliest_time": "1990-01-01T00:00:00Z", "ingest.surface_tolerance_mpa": 0.1,
-	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "proof.tolerance": 0.02,
+	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "ingest.cut_leg_mpa_per_s": 0.005, "proof.tolerance": 0.02,
 	"fatigue.design_bottom_time_min": 60, "fatigue.life_horizon": 100000,
 	"evidence.hold_settle_s": 60, "evidence.hold_max_hits_after_settle": 5, "evidence.sensor_check_min_db": 80,
 	"evidence.high_amplitude_db": 80, "evidence.residual_temp_tolerance_c": 2,
@@ -259,12 +262,14 @@ func Load(o Options) (*Config, error) {
 	in := &c.Ingest
 	in.ClockToleranceS, in.EarliestTime = v.GetFloat64("ingest.clock_tolerance_s"), v.GetString("ingest.earliest_time")
 	in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS = v.GetFloat64("ingest.surface_tolerance_mpa"), v.GetFloat64("ingest.max_gap_s"), v.GetFloat64("ingest.max_interval_s")
+	in.CutLegMPaPerS = v.GetFloat64("ingest.cut_leg_mpa_per_s")
 	if _, err := in.Earliest(); err != nil {
 		return nil, err
 	}
 	if !(in.ClockToleranceS >= 0 && in.ClockToleranceS <= 86400) || !(in.SurfaceToleranceMPa > 0 && in.SurfaceToleranceMPa <= 5) ||
-		!(in.MaxGapS > 0 && in.MaxGapS < 1e9) || !(in.MaxIntervalS > 0 && in.MaxIntervalS <= in.MaxGapS) {
-		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 5], max_gap_s > 0, 0 < max_interval_s <= max_gap_s): %+v", *in)
+		!(in.MaxGapS > 0 && in.MaxGapS < 1e9) || !(in.MaxIntervalS > 0 && in.MaxIntervalS <= in.MaxGapS) ||
+		!(in.CutLegMPaPerS > 0 && in.CutLegMPaPerS <= 1) {
+		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 5], max_gap_s > 0, 0 < max_interval_s <= max_gap_s, 0 < cut_leg_mpa_per_s <= 1): %+v", *in)
 	}
 	c.Proof.Tolerance = v.GetFloat64("proof.tolerance")
 	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance < 0.2) {

@@ -3,6 +3,7 @@ package ledger
 import (
 	"context"
 	"fmt"
+	"math"
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
@@ -34,7 +35,14 @@ type diveCounter struct {
 	sbuf     [][]float64
 	quality  *quality
 	tempIdx  int
+	// cutRate is the rate of travel, MPa/s, at which the unrecorded leg of
+	// a cut-off record is charged.
+	cutRate float64
 }
+
+// cutLegS is the time charged for the unrecorded leg of a cut-off record
+// from pressure p to the surface.
+func (c *diveCounter) cutLegS(p float64) float64 { return math.Max(p, 0) / c.cutRate }
 
 type strainCounter struct {
 	col     int
@@ -65,6 +73,7 @@ func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64)
 	}
 	in := l.cfg.Ingest
 	c.quality = newQuality(in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS, c.tempIdx)
+	c.cutRate = in.CutLegMPaPerS
 	return c
 }
 
@@ -120,10 +129,26 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 // the time at pressure; the decimated profile is in c.profile.
 func (c *diveCounter) finish() ([]series, []assess.Hold) {
 	c.profile.finish()
-	if c.quality.endsCut() {
+	q := c.quality
+	if q.endsCut() {
 		// The record ends below the surface: close the cycle to the
 		// surface so it is counted whole, not as a half.
 		c.pressure.Add([]float64{0})
+	}
+	// The unrecorded legs of a cut-off record (from the surface to its
+	// first pressure, from its last pressure to the surface) are charged
+	// at the highest pressure recorded, for the time they take at the
+	// configured slow rate: what happened there is unknown, so never in
+	// the hull's favour.
+	leg := 0.0
+	if q.startsCut() {
+		leg += c.cutLegS(q.firstP)
+	}
+	if q.endsCut() {
+		leg += c.cutLegS(q.lastP)
+	}
+	if leg > 0 {
+		c.holds.Add([]float64{q.prevT + leg}, []float64{q.maxP})
 	}
 	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: c.pressure.Finish()}}
 	for _, sc := range c.strains {

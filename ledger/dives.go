@@ -266,9 +266,6 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err != nil {
 		return nil, err
 	}
-	if err := l.checkPlace(ctx, tx, h, row); err != nil {
-		return nil, err
-	}
 	if row.fingerprint != nil {
 		d, err := l.sameSamples(ctx, tx, h, row.fingerprint, aeSHA)
 		if d != nil || err != nil {
@@ -285,6 +282,11 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 			return nil, fmt.Errorf("logging dive: storing the samples' fingerprint: %w", err)
 		}
 		recs = append(recs, chainRec{"dive_fingerprint", row.ID.String(), fingerprintCanon(row.ID, row.fingerprint)})
+	}
+	// After the fingerprint: the same samples under another file are the
+	// same dive (a duplicate), not an overlapping one.
+	if err := l.checkPlace(ctx, tx, h, row); err != nil {
+		return nil, err
 	}
 	tag, err := tx.Exec(ctx, "INSERT INTO dives ("+diveColumns+") VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25) ON CONFLICT (hull_id, source_sha256) DO NOTHING", row.values()...)
 	if err != nil {

@@ -222,7 +222,7 @@ func diveFacts(d *fitness.DiveFacts, ev *Evidence) {
 			name := strconv.Itoa(c.Channel)
 			d.ChannelFacts[name] = fitness.ChannelFacts{Present: c.Present, Checked: c.Checked, HistoricIndex: c.HistoricIndex,
 				HistoricIndexTooFewHits: c.HistoricIndexTooFew, Severity: c.Severity, SeverityTooFewHits: c.SeverityTooFew,
-				HighAmplitudeHits: c.HighAmplitudeHits, TotalCounts: c.TotalCounts, Reason: c.Notes}
+				HighAmplitudeHits: c.HighAmplitudeHits, TotalCounts: c.TotalCounts, Reason: c.Notes, Hits: c.Hits}
 			if c.Present {
 				d.ChannelsPresent = append(d.ChannelsPresent, name)
 			}
@@ -481,18 +481,18 @@ type Reason struct {
 
 // Flag is a raised rule, for output (a missing value prints as "nan").
 type Flag struct {
-	Rule      string     `json:"rule"`
-	Title     string     `json:"title"`
-	Level     string     `json:"level"`
-	Value     Num        `json:"value"`
-	Threshold float64    `json:"threshold"`
-	When      string     `json:"comparison"`
-	Unit      string     `json:"unit,omitempty"`
-	Missing   bool       `json:"missing"`
-	Detail    string     `json:"detail,omitempty"`
-	Basis     string     `json:"basis"`
-	Source    string     `json:"source"`
-	Dive      string     `json:"dive,omitempty"`
+	Rule      string  `json:"rule"`
+	Title     string  `json:"title"`
+	Level     string  `json:"level"`
+	Value     Num     `json:"value"`
+	Threshold float64 `json:"threshold"`
+	When      string  `json:"comparison"`
+	Unit      string  `json:"unit,omitempty"`
+	Missing   bool    `json:"missing"`
+	Detail    string  `json:"detail,omitempty"`
+	Basis     string  `json:"basis"`
+	Source    string  `json:"source"`
+	Dive      string  `json:"dive,omitempty"`
 	// At is when the event happened (the logger's clock for a dive);
 	// RecordedAt when the ledger learned of it. Only a record later in
 	// both clears the flag.

@@ -331,17 +331,19 @@ func attachProof(ctx context.Context, q querier, h *Hull) error {
 
 // HullSummary is one line of the hull list.
 type HullSummary struct {
-	Serial         string     `json:"serial"`
-	Name           string     `json:"name"`
-	MaterialSystem string     `json:"material_system"`
-	Shape          string     `json:"shape"`
-	RatedDepthM    float64    `json:"rated_depth_m"`
-	Revision       int32      `json:"revision"`
-	DiveCount      int64      `json:"dive_count"`
-	MaxPressureMPa float64    `json:"max_pressure_mpa"`
-	MaxDepthM      float64    `json:"max_depth_m"`
-	BeyondRated    int64      `json:"dives_beyond_rated"`
-	LastDive       *time.Time `json:"last_dive,omitempty"`
+	Serial         string  `json:"serial"`
+	Name           string  `json:"name"`
+	MaterialSystem string  `json:"material_system"`
+	Shape          string  `json:"shape"`
+	RatedDepthM    float64 `json:"rated_depth_m"`
+	Revision       int32   `json:"revision"`
+	DiveCount      int64   `json:"dive_count"`
+	MaxPressureMPa float64 `json:"max_pressure_mpa"`
+	MaxDepthM      float64 `json:"max_depth_m"`
+	// BeyondRated counts the dives beyond the rated depth, proof tests
+	// not included; void dives count nowhere in the summary.
+	BeyondRated int64      `json:"dives_beyond_rated"`
+	LastDive    *time.Time `json:"last_dive,omitempty"`
 }
 
 // Hulls lists every hull with its dive totals, by serial.
@@ -365,10 +367,10 @@ func (l *Ledger) hullSummaries(ctx context.Context, id *uuid.UUID) ([]HullSummar
 	rows, err := l.pool.Query(ctx, `
 		SELECT h.serial, r.name, r.material_system, r.shape, r.rated_depth_m, r.revision,
 		       count(d.id), coalesce(max(d.max_pressure_mpa), 0), coalesce(max(d.max_depth_m), 0),
-		       count(d.id) FILTER (WHERE d.beyond_rated), max(d.start_time)
+		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id)), max(d.start_time)
 		FROM hulls h
 		JOIN LATERAL (SELECT * FROM hull_revisions r WHERE r.hull_id = h.id ORDER BY revision DESC LIMIT 1) r ON true
-		LEFT JOIN dives d ON d.hull_id = h.id
+		LEFT JOIN dives d ON d.hull_id = h.id AND `+notVoided+`
 		WHERE $1::uuid IS NULL OR h.id = $1
 		GROUP BY h.serial, r.name, r.material_system, r.shape, r.rated_depth_m, r.revision
 		ORDER BY h.serial COLLATE "C"`, id)

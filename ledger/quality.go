@@ -40,6 +40,7 @@ type quality struct {
 
 	have           bool
 	firstP, lastP  float64
+	maxP           float64
 	prevT, prevP   float64
 	gaps           int
 	gapList        []string
@@ -88,6 +89,7 @@ func (q *quality) add(t, p, temp []float64) {
 			}
 		}
 		q.prevT, q.prevP, q.lastP = t[i], p[i], p[i]
+		q.maxP = math.Max(q.maxP, p[i])
 		if temp != nil {
 			q.tempsPresent = true
 			if p[i] > q.surfTol {
@@ -115,10 +117,10 @@ func (q *quality) endsCut() bool   { return q.have && q.lastP > q.surfTol }
 func (q *quality) findings() []Finding {
 	out := []Finding{}
 	if q.startsCut() {
-		out = append(out, Finding{FindingCutStart, fmt.Sprintf("the record starts at %.3g MPa, not within %.3g MPa of the surface: the dive's first part is missing; its pressure cycle is closed to the surface and counted whole", q.firstP, q.surfTol)})
+		out = append(out, Finding{FindingCutStart, fmt.Sprintf("the record starts at %.3g MPa, not within %.3g MPa of the surface: the dive's first part is missing; its pressure cycle is closed to the surface and counted whole, and the unrecorded descent is charged at the dive's highest recorded pressure %.3g MPa", q.firstP, q.surfTol, q.maxP)})
 	}
 	if q.endsCut() {
-		out = append(out, Finding{FindingCutEnd, fmt.Sprintf("the record ends at %.3g MPa, not within %.3g MPa of the surface: the dive's last part is missing; its pressure cycle is closed to the surface and counted whole", q.lastP, q.surfTol)})
+		out = append(out, Finding{FindingCutEnd, fmt.Sprintf("the record ends at %.3g MPa, not within %.3g MPa of the surface: the dive's last part is missing; its pressure cycle is closed to the surface and counted whole, and the unrecorded ascent is charged at the dive's highest recorded pressure %.3g MPa", q.lastP, q.surfTol, q.maxP)})
 	}
 	if q.gaps > 0 {
 		d := fmt.Sprintf("%d gap(s) between samples below the surface longer than %.0f s (longest %.0f s): %s", q.gaps, q.maxGap, q.longestGapS, strings.Join(q.gapList, "; "))

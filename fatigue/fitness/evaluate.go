@@ -196,6 +196,10 @@ type ChannelFacts struct {
 	// the channel had too few hits for it (no flag). A nil severity
 	// without it is missing.
 	SeverityTooFewHits bool
+	// Hits is the number of counted hits (at or above the amplitude
+	// floor) the channel recorded in the dive, whatever its sensor check
+	// said: hits are evidence.
+	Hits int
 	// HighAmplitudeHits is the number of hits above the reference
 	// amplitude.
 	HighAmplitudeHits int
@@ -662,6 +666,14 @@ func anyChannelPresent(d DiveFacts) bool {
 			return true
 		}
 	}
+	// A channel that recorded hits gave evidence even when its sensor
+	// check failed (the check makes it missing evidence besides): the
+	// emission it recorded is never switched off.
+	for _, cf := range d.ChannelFacts {
+		if cf.Hits > 0 {
+			return true
+		}
+	}
 	return false
 }
 
@@ -687,8 +699,8 @@ func channelValues(m Measure, d DiveFacts) []measured {
 	var miss []string
 	for _, c := range names {
 		cf := d.ChannelFacts[c]
-		if !cf.Present {
-			continue
+		if !cf.Present && cf.Hits == 0 {
+			continue // no evidence from it: the missing-evidence rule says so
 		}
 		var x float64
 		switch m {
