@@ -321,7 +321,10 @@ func hullBody(d *doc, m *Model) error {
 // proof tests.
 func divesOnRecord(hp *HullPart) string {
 	s := fmt.Sprintf("%d counted", hp.Damage.DiveCount)
-	if hp.ProofTestDives > 0 {
+	switch {
+	case hp.ProofTestDives == 1:
+		s += ", of which 1 proof test logged with its samples"
+	case hp.ProofTestDives > 1:
 		s += fmt.Sprintf(", of which %d proof tests logged with their samples", hp.ProofTestDives)
 	}
 	if hp.VoidDives > 0 {
