@@ -200,3 +200,31 @@ func TestDiveSheet(t *testing.T) {
 		t.Fatalf("dive sheet: %v %+v", err, v)
 	}
 }
+
+// TestReportSeesRecordJustMade: a report written in the same second as a
+// record (an inspection just entered) is built at a moment after it, so
+// the record counts; cut to the second, the moment fell before it and the
+// hull's status ignored the inspection.
+func TestReportSeesRecordJustMade(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: t.TempDir(), DivesPerHull: 2, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 3; i++ {
+		in, err := l.RecordInspection(ctx, "CSC-QUI-03", ledger.Inspection{At: time.Now().Add(-time.Hour), Method: "visual", Findings: "none", Result: "pass", Actor: "tester"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		w, err := reports.Write(ctx, l, reports.KindHull, "CSC-QUI-03", filepath.Join(t.TempDir(), "q.pdf"), time.Now())
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w.GeneratedAt.Before(in.RecordedAt) {
+			t.Fatalf("report moment %s is before the inspection recorded at %s", w.GeneratedAt.Format(time.RFC3339Nano), in.RecordedAt.Format(time.RFC3339Nano))
+		}
+		if v, err := reports.Verify(ctx, l, w.Path); err != nil || !v.OK {
+			t.Fatalf("report does not verify: %v %+v", err, v)
+		}
+	}
+}
