@@ -12,6 +12,8 @@ import (
 	"strings"
 	"time"
 
+	"github.com/google/uuid"
+
 	"hulltally/configs"
 	"hulltally/fatigue/fitness"
 	"hulltally/fatigue/sn"
@@ -71,15 +73,26 @@ type HullPart struct {
 	// Transfer is the load-transfer basis of each component, with the
 	// caveat that applies to it.
 	Transfer []TransferView `json:"transfer,omitempty"`
-	// Implosion is the implosion-energy statement. Optional: nil omits
-	// the section (the ledger does not compute it yet).
-	Implosion *ImplosionView `json:"implosion,omitempty"`
-	// FelicityDives are the dives that raised a Felicity flag, each with
-	// its cumulative acoustic-emission hits against pressure, drawn one
-	// chart per dive. Optional: empty omits the charts (the ledger does
-	// not expose hits against pressure yet).
-	FelicityDives []FelicityDive  `json:"felicity_dives,omitempty"`
-	profile       *ledger.Profile // drawn, covered by the chain head
+	// Implosion is the implosion-energy statement at the rated depth.
+	// Nil omits the figures; ImplosionReason then says why they are not
+	// stated (empty when the section was not asked for, as in the fleet
+	// summary).
+	Implosion       *ImplosionView `json:"implosion,omitempty"`
+	ImplosionReason string         `json:"implosion_reason,omitempty"`
+	// FelicityDives are the dives (not void) that raised a flag of the
+	// Felicity rule or whose Felicity ratio is below 1, newest last, each
+	// with its cumulative acoustic-emission hits against pressure, drawn
+	// one chart per dive; at most maxFelicityCharts, the older ones
+	// counted in FelicityDivesOmitted.
+	FelicityDives        []FelicityDive `json:"felicity_dives,omitempty"`
+	FelicityDivesOmitted int            `json:"felicity_dives_omitted,omitempty"`
+	// VoidDives and ProofTestDives count the dives on record that are
+	// void (left out of every figure) and that record a proof test.
+	VoidDives      int             `json:"void_dives,omitempty"`
+	ProofTestDives int             `json:"proof_test_dives,omitempty"`
+	profile        *ledger.Profile // drawn, covered by the chain head
+	flags          []ledger.Flag   // the open flags, to find the Felicity dives
+	evs            map[uuid.UUID]*ledger.Evidence
 }
 
 // HighestPressure is the highest pressure on record and what reached it.
@@ -111,14 +124,28 @@ type TransferView struct {
 }
 
 // ImplosionView is the implosion-energy statement of a hull: the energy
-// the sea releases on the hull's collapse at the stated pressure.
+// the sea releases on the hull's collapse at the stated pressure. The
+// figures are orders of magnitude for planning safety distances
+// (ImplosionCaution).
 type ImplosionView struct {
 	// InternalVolumeM3 is the hull's internal (air) volume, m³.
 	InternalVolumeM3 float64 `json:"internal_volume_m3"`
-	// PressureMPa is the ambient pressure taken for the collapse, MPa.
+	// PressureMPa is the ambient (gauge) pressure taken for the collapse,
+	// MPa; DepthM the depth it stands for, m (0 when not stated).
 	PressureMPa float64 `json:"pressure_mpa"`
-	// EnergyMJ is the energy released, MJ.
-	EnergyMJ float64 `json:"energy_mj"`
+	DepthM      float64 `json:"depth_m,omitempty"`
+	// EnergyMJ is the energy released, MJ: PVEnergyMJ (pressure times
+	// volume) plus WaterElasticMJ (the elastic energy of the compressed
+	// water that rushes in), each MJ.
+	EnergyMJ       float64 `json:"energy_mj"`
+	PVEnergyMJ     float64 `json:"pv_energy_mj,omitempty"`
+	WaterElasticMJ float64 `json:"water_elastic_energy_mj,omitempty"`
+	// EquivalentSphereRadiusM is the radius of the sphere of the same
+	// volume, m; BulkModulusGPa the water's bulk modulus taken, GPa;
+	// EndClosure the end closure of a cylinder taken for the volume.
+	EquivalentSphereRadiusM float64 `json:"equivalent_sphere_radius_m,omitempty"`
+	BulkModulusGPa          float64 `json:"bulk_modulus_gpa,omitempty"`
+	EndClosure              string  `json:"end_closure,omitempty"`
 	// TNTEquivalentKg is the energy as kilograms of TNT.
 	TNTEquivalentKg float64 `json:"tnt_equivalent_kg"`
 	// CollapseTimeMS is the estimated collapse time, ms; nil when not
@@ -133,13 +160,21 @@ type ImplosionView struct {
 type FelicityDive struct {
 	Dive  string    `json:"dive"`
 	Start time.Time `json:"start"`
-	// Ratio is the Felicity ratio; nil when not evaluated.
-	Ratio *float64 `json:"ratio,omitempty"`
-	// PreviousMaxMPa is the highest pressure before the dive; OnsetMPa the
-	// pressure at the onset of significant emission (nil: none).
-	PreviousMaxMPa float64    `json:"previous_max_mpa"`
-	OnsetMPa       *float64   `json:"onset_mpa,omitempty"`
-	Hits           []HitPoint `json:"hits"`
+	// Ratio is the Felicity ratio; nil when not evaluated (Reason says
+	// why).
+	Ratio  *float64 `json:"ratio,omitempty"`
+	Reason string   `json:"reason,omitempty"`
+	// Level is the level of the Felicity rule's flag the dive raised
+	// (watch, hold); empty when it raised none (a ratio below 1 only).
+	Level string `json:"level,omitempty"`
+	// PreviousMaxMPa is the highest pressure before the dive (the
+	// reference of the ratio) and ReferenceSource the record that set it;
+	// OnsetMPa the pressure at the onset of significant emission (nil:
+	// none).
+	PreviousMaxMPa  float64    `json:"previous_max_mpa"`
+	ReferenceSource string     `json:"reference_source,omitempty"`
+	OnsetMPa        *float64   `json:"onset_mpa,omitempty"`
+	Hits            []HitPoint `json:"hits"`
 }
 
 // HitPoint is the cumulative number of acoustic-emission hits at a
@@ -159,8 +194,15 @@ type ChannelView struct {
 	Severity          *float64 `json:"severity,omitempty"`
 	HighAmplitudeHits int      `json:"high_amplitude_hits"`
 	TotalCounts       float64  `json:"total_counts"`
-	// Present is false when the channel recorded nothing on the dive.
+	// HistoricIndexTooFew and SeverityTooFew say a missing figure was
+	// left out because the channel had too few hits (no sign of damage);
+	// a missing figure without it was not evaluated.
+	HistoricIndexTooFew bool `json:"historic_index_too_few_hits,omitempty"`
+	SeverityTooFew      bool `json:"severity_too_few_hits,omitempty"`
+	// Present is false when the channel recorded nothing on the dive;
+	// Checked is true when it passed a sensor check.
 	Present bool   `json:"present"`
+	Checked bool   `json:"checked,omitempty"`
 	Reason  string `json:"reason,omitempty"`
 }
 
@@ -170,11 +212,11 @@ type DivePart struct {
 	Load     *ledger.DiveLoad `json:"load"`
 	Evidence *ledger.Evidence `json:"evidence"`
 	Flags    []ledger.Flag    `json:"flags"`
-	// Channels are the per-channel acoustic-emission figures. Optional:
-	// empty omits the table (the ledger does not expose them yet).
+	// Channels are the per-channel acoustic-emission figures; empty omits
+	// the table (a dive without acoustic-emission data).
 	Channels []ChannelView `json:"channels,omitempty"`
-	// FelicityHits are the dive's cumulative hits against pressure, drawn
-	// when present. Optional (not exposed by the ledger yet).
+	// FelicityHits are the dive's cumulative hits against pressure on the
+	// way down, drawn when present.
 	FelicityHits []HitPoint `json:"felicity_hits,omitempty"`
 	profile      *ledger.Profile
 }
@@ -188,7 +230,8 @@ type Basis struct {
 	Rules      []RuleInfo  `json:"rules"`
 	RulesFrom  string      `json:"rules_source"`
 	// Limits are the thresholds of the rules the charts draw.
-	Limits RuleLimits `json:"limits"`
+	Limits        RuleLimits `json:"limits"`
+	felicityRules map[string]bool
 }
 
 // RuleLimits are the thresholds, from the rule set in force, of the rules
@@ -213,8 +256,9 @@ type CurveInfo struct {
 	Name, Source, Basis string
 	Illustrative        bool
 	// Kind is "S-N" or "stress-rupture"; Material, Mode (S-N loading
-	// mode) and Application describe the curve when known. Environment
-	// (air, seawater, ...) is empty until the curve library states it.
+	// mode), Application and Environment (in words: "in air", "in
+	// seawater with cathodic protection", ...) describe the curve when it
+	// is a curve of the shipped library; empty when not known.
 	Kind        string `json:",omitempty"`
 	Material    string `json:",omitempty"`
 	Mode        string `json:",omitempty"`
@@ -248,7 +292,13 @@ func BuildHull(ctx context.Context, l *ledger.Ledger, serial string, at time.Tim
 		return nil, err
 	}
 	m.Hulls = []HullPart{*hp}
-	return m, fillBasis(l, m, []*spec.Hull{hp.Spec})
+	if err := fillBasis(l, m, []*spec.Hull{hp.Spec}); err != nil {
+		return nil, err
+	}
+	if err := felicityDives(ctx, l, &m.Hulls[0], felicityRuleIDs(m.Basis)); err != nil {
+		return nil, err
+	}
+	return m, nil
 }
 
 // BuildFleet gathers a fleet summary's content.
@@ -312,6 +362,17 @@ func BuildDive(ctx context.Context, l *ledger.Ledger, id string, at time.Time) (
 	if dp.profile, err = l.ProfileOf(ctx, d.ID); err != nil {
 		return nil, err
 	}
+	if ev != nil {
+		dp.Channels = channelViews(ev.Channels)
+		if ev.AE != nil {
+			if dp.FelicityHits, err = diveHits(ctx, l, *d); err != nil {
+				return nil, err
+			}
+			if len(dp.FelicityHits) == 0 {
+				dp.FelicityHits = nil
+			}
+		}
+	}
 	m.Dive = dp
 	m.Hulls = []HullPart{{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: f.Damage}}
 	return m, fillBasis(l, m, []*spec.Hull{h.Spec})
@@ -338,10 +399,11 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	if err != nil {
 		return nil, err
 	}
-	hp := &HullPart{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: f.Damage}
+	hp := &HullPart{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: f.Damage, flags: f.Flags}
 	if !full {
 		return hp, nil
 	}
+	hp.Implosion, hp.ImplosionReason = implosionAtRated(h)
 	// Cumulative damage of the governing component, dive by dive.
 	gov := f.Damage.Governing
 	var prior float64
@@ -375,8 +437,18 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	if err != nil {
 		return nil, err
 	}
+	hp.evs = evs
 	for i, d := range hp.Dives {
+		if d.Voided {
+			hp.VoidDives++
+		}
+		if d.ProofTest {
+			hp.ProofTestDives++
+		}
 		ev := evs[d.ID]
+		if d.Voided {
+			ev = nil // a void dive is left out of every figure
+		}
 		var fr *float64
 		if ev != nil {
 			if ev.AE != nil {
@@ -406,7 +478,11 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 		return nil, err
 	}
 	// The deepest of the last 10 dives.
-	for i := len(hp.Dives) - 1; i >= 0 && i >= len(hp.Dives)-10; i-- {
+	for i, n := len(hp.Dives)-1, 0; i >= 0 && n < 10; i-- {
+		if hp.Dives[i].Voided {
+			continue
+		}
+		n++
 		if hp.Deepest == nil || hp.Dives[i].MaxPressureMPa > hp.Deepest.MaxPressureMPa {
 			d := hp.Dives[i]
 			hp.Deepest = &d
@@ -434,6 +510,9 @@ func highest(dives []ledger.Dive, m *ledger.Maintenance) *HighestPressure {
 	}
 	var h *HighestPressure
 	for _, d := range dives {
+		if d.Voided {
+			continue // left out of every figure, as the ledger does
+		}
 		if h == nil || d.MaxPressureMPa > h.PressureMPa {
 			z := d.MaxDepthM
 			h = &HighestPressure{PressureMPa: d.MaxPressureMPa, DepthM: &z, Source: "dive", At: d.Start, Dive: d.ID.String()}
@@ -506,7 +585,7 @@ func fillBasis(l *ledger.Ledger, m *Model, specs []*spec.Hull) error {
 	for _, c := range b.Curves {
 		ci := CurveInfo{Name: c.Name, Source: c.Source, Basis: c.Basis, Illustrative: c.Illustrative}
 		if sc, ok := shipped[c.Name]; ok && sc.Source == c.Source && sc.Basis == c.Basis && sc.Illustrative == c.Illustrative {
-			ci.Kind, ci.Material, ci.Mode, ci.Application = sc.Kind, sc.Material, sc.Mode, sc.Application
+			ci.Kind, ci.Material, ci.Mode, ci.Application, ci.Environment = sc.Kind, sc.Material, sc.Mode, sc.Application, sc.Environment
 		}
 		m.Basis.Curves = append(m.Basis.Curves, ci)
 	}
@@ -514,7 +593,21 @@ func fillBasis(l *ledger.Ledger, m *Model, specs []*spec.Hull) error {
 		m.Basis.Rules = append(m.Basis.Rules, RuleInfo{ID: r.ID, Title: r.Title, Thresholds: r.Thresholds, Source: r.Source})
 	}
 	m.Basis.Limits = ruleLimits(b)
+	m.Basis.felicityRules = map[string]bool{}
+	for id, ms := range ruleMeasures(b) {
+		if ms == fitness.MeasureFelicityRatio {
+			m.Basis.felicityRules[id] = true
+		}
+	}
 	return nil
+}
+
+// felicityRuleIDs are the rules on the Felicity ratio in force.
+func felicityRuleIDs(b Basis) map[string]bool {
+	if len(b.felicityRules) == 0 {
+		return map[string]bool{shippedFelicityRule: true}
+	}
+	return b.felicityRules
 }
 
 // shippedCurves describes the curves of the shipped library by name.
@@ -529,7 +622,7 @@ func shippedCurves() map[string]CurveInfo {
 	}
 	for _, c := range lib.Curves {
 		out[c.Name] = CurveInfo{Name: c.Name, Source: c.Source, Basis: string(c.Basis), Illustrative: c.Illustrative,
-			Kind: "S-N", Material: c.Material, Mode: string(c.Mode), Application: c.Application}
+			Kind: "S-N", Material: c.Material, Mode: string(c.Mode), Application: c.Application, Environment: c.Environment.Describe()}
 	}
 	for _, r := range lib.Ruptures {
 		out[r.Name] = CurveInfo{Name: r.Name, Source: r.Source, Basis: string(r.Basis), Illustrative: r.Illustrative,
@@ -548,15 +641,7 @@ const (
 // ruleLimits finds the damage and Felicity rules of the rule set in force
 // and reads their thresholds as the ledger states them.
 func ruleLimits(b *ledger.BasisInfo) RuleLimits {
-	measure := map[string]fitness.Measure{shippedDamageRule: fitness.MeasureDamageRatio, shippedFelicityRule: fitness.MeasureFelicityRatio}
-	if data, err := rulesBytes(b.RulesSource); err == nil {
-		if rs, err := fitness.ParseRules(data); err == nil {
-			measure = map[string]fitness.Measure{}
-			for _, r := range rs.Rules {
-				measure[r.ID] = r.Measure
-			}
-		}
-	}
+	measure := ruleMeasures(b)
 	var out RuleLimits
 	for _, r := range b.Rules {
 		var dst **RuleLimit
@@ -576,6 +661,22 @@ func ruleLimits(b *ledger.BasisInfo) RuleLimits {
 		}
 	}
 	return out
+}
+
+// ruleMeasures maps each rule of the set in force to its measure, read
+// from the rule set's file; the shipped identifiers when it cannot be
+// read.
+func ruleMeasures(b *ledger.BasisInfo) map[string]fitness.Measure {
+	measure := map[string]fitness.Measure{shippedDamageRule: fitness.MeasureDamageRatio, shippedFelicityRule: fitness.MeasureFelicityRatio}
+	if data, err := rulesBytes(b.RulesSource); err == nil {
+		if rs, err := fitness.ParseRules(data); err == nil {
+			measure = map[string]fitness.Measure{}
+			for _, r := range rs.Rules {
+				measure[r.ID] = r.Measure
+			}
+		}
+	}
+	return measure
 }
 
 // rulesBytes reads the rule set named by the ledger's rules source.

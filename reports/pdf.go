@@ -75,14 +75,86 @@ func sci(v float64) string {
 	return fmt.Sprintf("%.3e", v)
 }
 
-func remainingText(d *ledger.Damages) string {
+// lifeVoid reports whether the remaining life must not be shown as a
+// figure: the ledger voided it, or the hull is on hold or withdrawn
+// (checked here too, so that no figure can slip through).
+func lifeVoid(status string, d *ledger.Damages) bool {
+	return d.RemainingStatus == statusLifeVoid || status == "hold" || status == "withdrawn"
+}
+
+// statusLifeVoid is the ledger's remaining-life status of a void life.
+const statusLifeVoid = "void_evidence_open"
+
+// basisWords names what governs the remaining life.
+func basisWords(b string) string {
+	switch b {
+	case "recent_mean":
+		return "the mean damage per dive of the recent dives"
+	case "design_dive":
+		return "the damage of the design dive"
+	case "qualified_cycles":
+		return "the pressure cycles the design was qualified for"
+	case "current_damage":
+		return "the damage already done"
+	case "":
+		return "not stated"
+	}
+	return strings.ReplaceAll(b, "_", " ")
+}
+
+// divesText states a number of dives left, "more than N" at the horizon.
+func divesText(n int64, moreThan bool) string {
+	if moreThan {
+		return fmt.Sprintf("more than %d dives", n)
+	}
+	return fmt.Sprintf("%d dives", n)
+}
+
+// remainingText states the remaining life in one line: VOID with its
+// reason on a hull on hold (never a figure), "more than N" beyond the
+// horizon, else the figure and what governs it.
+func remainingText(status string, d *ledger.Damages) string {
+	if lifeVoid(status, d) {
+		why := d.RemainingReason
+		if d.RemainingStatus != statusLifeVoid || why == "" {
+			why = "fatigue projection void while the hull is " + status
+		}
+		return "VOID: " + why
+	}
 	if d.RemainingDives != nil {
-		return fmt.Sprintf("%d dives (%s)", *d.RemainingDives, d.RemainingReason)
+		return fmt.Sprintf("%s (governed by %s)", divesText(*d.RemainingDives, d.RemainingMoreThan), basisWords(d.RemainingBasis))
 	}
 	return fmt.Sprintf("%s: %s", strings.ReplaceAll(d.RemainingStatus, "_", " "), d.RemainingReason)
 }
 
+// remainingRows states the remaining life with both projections and the
+// limit they run to; only the void statement when it is void.
+func remainingRows(status string, d *ledger.Damages) [][2]string {
+	rows := [][2]string{{"Remaining life", remainingText(status, d)}}
+	if lifeVoid(status, d) || d.RemainingDives == nil {
+		return rows
+	}
+	proj := func(v *int64) string {
+		if v == nil {
+			return "not evaluated"
+		}
+		return divesText(*v, d.RemainingMoreThan && *v >= *d.RemainingDives)
+	}
+	dd := proj(d.RemainingAtDesignDive)
+	if d.DesignDive != "" {
+		dd += " (" + d.DesignDive + ")"
+	}
+	rows = append(rows,
+		[2]string{"At the recent mean", proj(d.RemainingAtRecentMean)},
+		[2]string{"At the design dive", dd},
+		[2]string{"Projected to", fmt.Sprintf("%s of the allowable (the damage rule's hold level); the smaller projection is shown. %s", pct(d.LimitRatio), d.RemainingReason)})
+	return rows
+}
+
 var chartSize = charts.Size{WidthMM: 180, HeightMM: 78, DPI: 200}
+
+// sheetChart is the smaller chart of a dive sheet.
+var sheetChart = charts.Size{WidthMM: 180, HeightMM: 62, DPI: 200}
 
 // RenderHull writes a hull's fitness-for-service summary.
 func RenderHull(m *Model) ([]byte, error) {
@@ -125,12 +197,11 @@ func hullBody(d *doc, m *Model) error {
 		{"Pressures", fmt.Sprintf("design %.2f MPa, proof %.2f MPa, collapse %.2f MPa", s.DesignPressureMPa, s.ProofPressureMPa, s.CollapsePressureMPa)},
 	})
 	d.h2("Key figures")
-	d.kv([][2]string{
-		{"Dives on record", fmt.Sprintf("%d", hp.Damage.DiveCount)},
+	d.kv(append([][2]string{
+		{"Dives on record", divesOnRecord(&hp)},
 		{"Highest pressure ever", highestText(hp.Highest)},
 		{"Governing component", fmt.Sprintf("%s at %s of its allowable", hp.Damage.Governing, pct(float64(hp.Damage.GoverningRatio)))},
-		{"Remaining", remainingText(hp.Damage)},
-	})
+	}, remainingRows(hp.Status, hp.Damage)...))
 	var rows [][]string
 	anyPrior := false
 	for _, c := range hp.Damage.Components {
@@ -154,6 +225,7 @@ func hullBody(d *doc, m *Model) error {
 		d.table([]string{"component", "cyclic", "sustained", "source (the earlier record)"}, []float64{38, 27, 27, bodyW - 92}, rows)
 		d.para("The totals above include this damage; it was not counted from logged dives.", 8)
 	}
+	implosion(d, hp.Implosion, hp.ImplosionReason, s.RatedDepthM)
 	p.Ln(2)
 	d.para("Fingerprint (SHA-256 of this report's ledger content and audit-chain head): "+d.fp+". Check it with: hulltally report verify FILE.pdf", 7.5)
 	d.caution()
@@ -200,9 +272,6 @@ func hullBody(d *doc, m *Model) error {
 		rows = append(rows, []string{r.ID, r.Thresholds, r.Source})
 	}
 	d.table([]string{"rule", "thresholds", "source"}, []float64{45, 40, bodyW - 85}, rows)
-	if hp.Implosion != nil {
-		implosion(d, hp.Implosion)
-	}
 
 	// Charts.
 	p.AddPage()
@@ -220,10 +289,7 @@ func hullBody(d *doc, m *Model) error {
 		if i < len(hp.Felicity) && hp.Felicity[i] != nil {
 			fel = fmt.Sprintf("%.2f", *hp.Felicity[i])
 		}
-		note := ""
-		if dv.BeyondRated {
-			note = "beyond rated depth"
-		}
+		note := diveNote(dv)
 		rows = append(rows, []string{fmt.Sprint(i + 1), dv.ID.String()[:8], dv.Start.UTC().Format("2006-01-02 15:04"), fmt.Sprintf("%.2f", dv.DurationS/3600),
 			fmt.Sprintf("%.1f", dv.MaxDepthM), fmt.Sprintf("%.3f", dv.MaxPressureMPa), fmt.Sprint(dv.AEHits), fel, note})
 	}
@@ -249,6 +315,38 @@ func hullBody(d *doc, m *Model) error {
 	d.table([]string{"state", "from", "reason"}, []float64{16, 22, bodyW - 38}, reasonRows(hp.Reasons, true))
 	d.caution()
 	return nil
+}
+
+// divesOnRecord counts the dives, saying which are void and which are
+// proof tests.
+func divesOnRecord(hp *HullPart) string {
+	s := fmt.Sprintf("%d counted", hp.Damage.DiveCount)
+	switch {
+	case hp.ProofTestDives == 1:
+		s += ", of which 1 proof test logged with its samples"
+	case hp.ProofTestDives > 1:
+		s += fmt.Sprintf(", of which %d proof tests logged with their samples", hp.ProofTestDives)
+	}
+	if hp.VoidDives > 0 {
+		s += fmt.Sprintf("; %d VOID, left out of the damage, the evidence and the status", hp.VoidDives)
+	}
+	return s
+}
+
+// diveNote marks a void dive and a proof test; a proof test is never a
+// dive beyond the rated depth.
+func diveNote(dv ledger.Dive) string {
+	var parts []string
+	if dv.Voided {
+		parts = append(parts, "VOID: not counted")
+	}
+	switch {
+	case dv.ProofTest:
+		parts = append(parts, "proof test")
+	case dv.BeyondRated:
+		parts = append(parts, "beyond rated depth")
+	}
+	return strings.Join(parts, "; ")
 }
 
 // highestText states the highest pressure and what reached it.
@@ -279,33 +377,57 @@ func curveDescription(c CurveInfo) string {
 	if c.Mode != "" {
 		parts = append(parts, "mode "+c.Mode)
 	}
-	if c.Environment != "" {
-		parts = append(parts, "environment: "+c.Environment)
-	} else {
+	switch {
+	case c.Environment != "":
+		parts = append(parts, c.Environment)
+	case c.Kind == "stress-rupture":
+		parts = append(parts, "environment: the data must be for the service conditions")
+	case c.Kind == "":
+		parts = append(parts, "not a curve of the shipped library: material, mode and environment not stated in the ledger's basis")
+	default:
 		parts = append(parts, "environment not stated by the curve library")
-	}
-	if c.Material == "" {
-		parts = append(parts, "material not stated in the ledger's basis")
 	}
 	return strings.Join(parts, "; ")
 }
 
-// implosion prints the implosion-energy statement.
-func implosion(d *doc, iv *ImplosionView) {
-	d.h2("Implosion energy")
-	rows := [][2]string{
-		{"Internal volume", fmt.Sprintf("%.4g m³", iv.InternalVolumeM3)},
-		{"At pressure", fmt.Sprintf("%.4g MPa", iv.PressureMPa)},
-		{"Energy released", fmt.Sprintf("%.4g MJ (%.4g kg TNT equivalent)", iv.EnergyMJ, iv.TNTEquivalentKg)},
+// implosion prints the implosion hazard at the rated depth with its
+// assumptions and caution, or why it is not stated.
+func implosion(d *doc, iv *ImplosionView, reason string, ratedM float64) {
+	if iv == nil && reason == "" {
+		return
 	}
+	d.h2("Implosion hazard at the rated depth")
+	if iv == nil {
+		d.para("Implosion energy "+reason, 9)
+		return
+	}
+	at := fmt.Sprintf("%.4g MPa", iv.PressureMPa)
+	if ratedM > 0 {
+		at += fmt.Sprintf(" (rated depth %.0f m, taken at latitude 90°: the most pressure per metre)", ratedM)
+	}
+	vol := fmt.Sprintf("%.4g m³ (sphere of the same volume: radius %.3g m)", iv.InternalVolumeM3, iv.EquivalentSphereRadiusM)
+	if iv.EndClosure != "" {
+		vol = fmt.Sprintf("%.4g m³ with %s end closures (sphere of the same volume: radius %.3g m)", iv.InternalVolumeM3, iv.EndClosure, iv.EquivalentSphereRadiusM)
+	}
+	energy := fmt.Sprintf("%.3g MJ, about %.3g kg of TNT", iv.EnergyMJ, iv.TNTEquivalentKg)
+	if iv.PVEnergyMJ > 0 || iv.WaterElasticMJ > 0 {
+		energy += fmt.Sprintf(" (pressure × volume %.3g MJ + elastic energy of the water %.3g MJ", iv.PVEnergyMJ, iv.WaterElasticMJ)
+		if iv.BulkModulusGPa > 0 {
+			energy += fmt.Sprintf(", bulk modulus %.3g GPa", iv.BulkModulusGPa)
+		}
+		energy += ")"
+	}
+	ct := "not estimated"
 	if iv.CollapseTimeMS != nil {
-		rows = append(rows, [2]string{"Collapse time", fmt.Sprintf("%.3g ms", *iv.CollapseTimeMS)})
-	} else {
-		rows = append(rows, [2]string{"Collapse time", "not estimated"})
+		ct = fmt.Sprintf("about %.2g ms", *iv.CollapseTimeMS)
 	}
-	d.kv(rows)
+	d.kv([][2]string{{"Collapse at", at}, {"Internal volume", vol}, {"Energy released", energy}, {"Collapse time", ct}})
+	d.pdf.Ln(0.5)
+	d.block(marginL, bodyW, 3.6, ImplosionCaution, styleBold, 8, "L", true)
+	d.pdf.Ln(0.5)
+	d.block(marginL, bodyW, 3.4, "Assumptions:", styleBold, 7.5, "L", true)
 	for _, a := range iv.Assumptions {
-		d.para("• "+a, 8)
+		d.bullet(a, 7.5, 3.3)
 	}
 }
 
@@ -338,7 +460,7 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 		xs[i] = float64(i + 1)
 	}
 	var proj *charts.Projection
-	if hp.Damage.RemainingDives != nil && n > 0 && *hp.Damage.RemainingDives > 0 {
+	if !lifeVoid(hp.Status, hp.Damage) && hp.Damage.RemainingDives != nil && n > 0 && *hp.Damage.RemainingDives > 0 {
 		left := 1 - hp.CumRatio[n-1]
 		rate := left / float64(*hp.Damage.RemainingDives)
 		until := float64(n) + math.Min(float64(*hp.Damage.RemainingDives), 5*float64(n)+50)
@@ -374,13 +496,25 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	} else {
 		d.para("The Felicity rule's thresholds could not be identified in the rule set: no limit line is drawn; see the rules table.", 8)
 	}
+	if len(hp.FelicityDives) > 0 {
+		d.h2("Felicity dives: cumulative hits against pressure")
+		intro := "Each dive that raised a flag of the Felicity rule, or whose Felicity ratio is below 1: its acoustic-emission hits counted from the surface to the peak " +
+			"(sensor checks made under load counted as hits), against the gauge pressure, with the reference (the highest pressure before the dive) and the onset of significant emission."
+		if hp.FelicityDivesOmitted > 0 {
+			intro += fmt.Sprintf(" The %d older such dives are not drawn: their dive sheets show them.", hp.FelicityDivesOmitted)
+		}
+		d.para(intro, 8)
+	}
 	for i, fd := range hp.FelicityDives {
 		if len(fd.Hits) == 0 {
+			d.para(fmt.Sprintf("Dive %s of %s: Felicity ratio %s; no hits on record to draw. %s", short(fd.Dive), fd.Start.UTC().Format("2006-01-02"), opt(fd.Ratio, "%.3f"), fd.Reason), 8.5)
 			continue
 		}
-		if err := hitsChart(d, fmt.Sprintf("felicity-hits-%d", i), fd.Dive, fd.Start, fd.Ratio, fd.PreviousMaxMPa, fd.OnsetMPa, fd.Hits); err != nil {
+		if err := hitsChart(d, fmt.Sprintf("felicity-hits-%d", i), fd.Dive, fd.Start, fd.Ratio, fd.PreviousMaxMPa, fd.OnsetMPa, fd.Hits, chartSize); err != nil {
 			return err
 		}
+		d.para(felicityCaption(fd.Level, fd.PreviousMaxMPa, fd.ReferenceSource, fd.Reason), 7.5)
+		d.pdf.Ln(2)
 	}
 	series := map[string][]float64{}
 	for g, v := range hp.Compliance {
@@ -417,26 +551,49 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	return nil
 }
 
+// short is the first 8 characters of an ID.
+func short(id string) string {
+	if len(id) > 8 {
+		return id[:8]
+	}
+	return id
+}
+
+// felicityCaption says what a cumulative-hits chart's lines are.
+func felicityCaption(level string, ref float64, src, reason string) string {
+	s := fmt.Sprintf("Reference line: %.4g MPa, %s.", ref, src)
+	if level != "" {
+		s = "Flag raised: " + level + ". " + s
+	}
+	if reason != "" {
+		s += " " + reason
+	}
+	return s
+}
+
 // hitsChart draws a dive's cumulative hits against pressure with a line
 // that names the dive.
-func hitsChart(d *doc, name, dive string, start time.Time, ratio *float64, prevMax float64, onset *float64, hits []HitPoint) error {
+func hitsChart(d *doc, name, dive string, start time.Time, ratio *float64, prevMax float64, onset *float64, hits []HitPoint, size charts.Size) error {
 	ps := make([]float64, len(hits))
 	cs := make([]float64, len(hits))
 	for i, h := range hits {
 		ps[i], cs[i] = h.PressureMPa, h.Cumulative
 	}
-	png, err := charts.CumulativeHits(ps, cs, prevMax, onset, chartSize)
+	png, err := charts.CumulativeHits(ps, cs, prevMax, onset, size)
 	if err != nil {
 		return fmt.Errorf("cumulative hits chart: %w", err)
 	}
 	if len(dive) > 8 {
 		dive = dive[:8]
 	}
-	if d.pdf.GetY()+6+chartSize.HeightMM > bottom {
+	if d.pdf.GetY()+16+size.HeightMM > bottom {
 		d.pdf.AddPage() // the caption stays with its chart
+	} else {
+		d.pdf.Ln(1.5)
 	}
 	d.para(fmt.Sprintf("Dive %s of %s: Felicity ratio %s", dive, start.UTC().Format("2006-01-02"), opt(ratio, "%.3f")), 9)
-	d.image(name, png, chartSize.HeightMM)
+	d.image(name, png, size.HeightMM)
+	d.pdf.SetY(d.pdf.GetY() - 1)
 	return nil
 }
 
@@ -459,13 +616,40 @@ func diveBody(d *doc, m *Model) error {
 	dp := m.Dive
 	dv := dp.Dive
 	d.pdf.AddPage()
-	d.h1(fmt.Sprintf("Dive sheet: hull %s, dive %s", dv.Hull, dv.ID.String()[:8]))
+	what := "Dive sheet"
+	if dv.ProofTest {
+		what = "Proof-test sheet"
+	}
+	d.h1(fmt.Sprintf("%s: hull %s, dive %s", what, dv.Hull, dv.ID.String()[:8]))
+	if dv.Voided {
+		why := "a void record takes it out"
+		if v := dv.Void; v != nil {
+			why = fmt.Sprintf("%s (decided by %s, recorded %s)", v.Reason, v.Actor, v.RecordedAt.UTC().Format("2006-01-02"))
+		}
+		d.pdf.SetTextColor(190, 30, 30)
+		d.block(marginL, bodyW, 5, "VOID: this dive is left out of the damage, the evidence and the status. Reason: "+why, styleBold, 10, "L", true)
+		d.pdf.SetTextColor(0, 0, 0)
+		d.pdf.Ln(1)
+	}
 	note := ""
-	if dv.BeyondRated {
+	switch {
+	case dv.ProofTest:
+		note = " - a proof test, judged as one (not a dive beyond the rated depth)"
+	case dv.BeyondRated:
 		note = " - BEYOND THE RATED DEPTH"
+	}
+	record := "dive"
+	switch {
+	case dv.ProofTest && dv.Voided:
+		record = "proof test logged with its samples; VOID"
+	case dv.ProofTest:
+		record = "proof test logged with its samples"
+	case dv.Voided:
+		record = "dive; VOID"
 	}
 	d.kv([][2]string{
 		{"Dive", dv.ID.String()},
+		{"Record", record},
 		{"Time (UTC)", fmt.Sprintf("%s to %s (%.2f h)", dv.Start.UTC().Format("2006-01-02 15:04:05"), dv.End.UTC().Format("15:04:05"), dv.DurationS/3600)},
 		{"Deepest", fmt.Sprintf("%.1f m, %.3f MPa (rated %.0f m)%s", dv.MaxDepthM, dv.MaxPressureMPa, dv.RatedDepthM, note)},
 		{"Site / operator", dv.Site + " / " + dv.Operator},
@@ -477,13 +661,17 @@ func diveBody(d *doc, m *Model) error {
 		if dv.MaxDepthM > 0 {
 			rated = dv.MaxPressureMPa * dv.RatedDepthM / dv.MaxDepthM // this dive's pressure per metre
 		}
-		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, rated, chartSize)
+		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, rated, sheetChart)
 		if err != nil {
 			return err
 		}
-		d.image("profile", png, chartSize.HeightMM)
+		d.image("profile", png, sheetChart.HeightMM)
 	}
-	d.h2("Damage added")
+	if dv.Voided {
+		d.h2("Damage computed (NOT counted: the dive is void)")
+	} else {
+		d.h2("Damage added")
+	}
 	var rows [][]string
 	names := make([]string, 0, len(dp.Load.Damage))
 	for n := range dp.Load.Damage {
@@ -509,45 +697,9 @@ func diveBody(d *doc, m *Model) error {
 	d.table([]string{"range MPa", "mean MPa", "count"}, []float64{40, 40, 30}, rows)
 	d.h2("Evidence")
 	if ev := dp.Evidence; ev != nil {
-		if ae := ev.AE; ae != nil {
-			fr := "not evaluated"
-			if ae.FelicityRatio != nil {
-				fr = fmt.Sprintf("%.3f", *ae.FelicityRatio)
-			}
-			d.kv([][2]string{{"Acoustic emission", fmt.Sprintf("%d hits; Felicity ratio %s: %s", ae.Hits, fr, ae.FelicityReason)},
-				{"Hold emission", fmt.Sprintf("%d hits, energy %.4g: %s", ae.HoldHits, ae.HoldEnergy, ae.HoldReason)}})
+		if err := evidenceBody(d, dp, ev); err != nil {
+			return err
 		}
-		rows = nil
-		for _, s := range ev.Strain {
-			rows = append(rows, []string{s.Gauge, opt(s.ComplianceUEPerMPa, "%.2f"), opt(s.ComplianceChange, "%+.4f"), opt(s.ResidualUE, "%.1f"), opt(s.Hysteresis, "%.4f"), opt(s.CreepUE, "%.1f")})
-		}
-		if len(dp.Channels) > 0 {
-			d.h2("Acoustic emission per channel")
-			var cr [][]string
-			for _, c := range dp.Channels {
-				state := "present"
-				if !c.Present {
-					state = "ABSENT"
-				}
-				if c.Reason != "" {
-					state += ": " + c.Reason
-				}
-				cr = append(cr, []string{fmt.Sprint(c.Channel), fmt.Sprint(c.Hits), opt(c.HistoricIndex, "%.3f"), opt(c.Severity, "%.4g"),
-					fmt.Sprint(c.HighAmplitudeHits), fmt.Sprintf("%.0f", c.TotalCounts), state})
-			}
-			d.table([]string{"channel", "hits", "historic index", "severity", "high-amplitude hits", "total counts", "state"}, []float64{16, 16, 24, 22, 28, 24, bodyW - 130}, cr)
-		}
-		if len(dp.FelicityHits) > 0 && ev.AE != nil {
-			if err := hitsChart(d, "felicity-hits", dv.ID.String(), dv.Start, ev.AE.FelicityRatio, ev.PreviousMaxMPa, ev.AE.OnsetMPa, dp.FelicityHits); err != nil {
-				return err
-			}
-		}
-		rows = nil
-		for _, s := range ev.Strain {
-			rows = append(rows, []string{s.Gauge, opt(s.ComplianceUEPerMPa, "%.2f"), opt(s.ComplianceChange, "%+.4f"), opt(s.ResidualUE, "%.1f"), opt(s.Hysteresis, "%.4f"), opt(s.CreepUE, "%.1f")})
-		}
-		d.table([]string{"gauge", "compliance µε/MPa", "change", "residual µε", "hysteresis", "creep µε"}, []float64{25, 35, 25, 30, 30, 35}, rows)
-		d.para("Strain baseline: "+ev.BaselineSource, 8)
 	} else {
 		d.para("No evidence on record for this dive.", 9)
 	}
@@ -563,6 +715,119 @@ func diveBody(d *doc, m *Model) error {
 	}
 	d.caution()
 	return nil
+}
+
+// evidenceBody prints a dive's evidence: the reference pressure and its
+// source, the acoustic emission overall and per channel with the hits
+// against pressure, the strain per gauge, the gauge problems and the
+// data-quality findings.
+func evidenceBody(d *doc, dp *DivePart, ev *ledger.Evidence) error {
+	dv := dp.Dive
+	kv := [][2]string{}
+	if !ev.Evaluated {
+		kv = append(kv, [2]string{"Not evaluated", ev.Reason})
+	}
+	kv = append(kv, [2]string{"Reference pressure", fmt.Sprintf("%.4g MPa: %s (the highest pressure before this dive, dives not void and proof tests)", ev.PreviousMaxMPa, ev.ReferenceSource)})
+	if ae := ev.AE; ae != nil {
+		fr := "not evaluated"
+		if ae.FelicityRatio != nil {
+			fr = fmt.Sprintf("%.3f", *ae.FelicityRatio)
+		}
+		kv = append(kv,
+			[2]string{"Acoustic emission", fmt.Sprintf("%d hits (%d sensor checks); Felicity ratio %s: %s", ae.Hits, ae.SensorChecks, fr, ae.FelicityReason)},
+			[2]string{"Onset of emission", fmt.Sprintf("%s; criterion: %s", opt(ae.OnsetMPa, "%.4g MPa"), ae.OnsetCriterion)},
+			[2]string{"Hold emission", fmt.Sprintf("%d hits, %d after settling, energy %.4g: %s", ae.HoldHits, ae.HoldHitsAfterSettle, ae.HoldEnergy, ae.HoldReason)})
+	} else if ev.MissingAE {
+		kv = append(kv, [2]string{"Acoustic emission", "MISSING: the hull has acoustic-emission channels but this dive has no hits file"})
+	} else {
+		kv = append(kv, [2]string{"Acoustic emission", "no acoustic-emission data for this dive"})
+	}
+	d.kv(kv)
+	if len(dp.Channels) > 0 {
+		d.h2("Acoustic emission per channel")
+		var cr [][]string
+		for _, c := range dp.Channels {
+			state := "present"
+			if c.Checked {
+				state += ", sensor check passed"
+			}
+			if c.Reason != "" {
+				state = c.Reason
+			}
+			if !c.Present {
+				state = "ABSENT: " + strings.TrimPrefix(state, "present")
+				if c.Reason == "" {
+					state = "ABSENT: nothing recorded on this dive"
+				}
+			}
+			cr = append(cr, []string{fmt.Sprint(c.Channel), fmt.Sprint(c.Hits), figure(c.HistoricIndex, c.HistoricIndexTooFew, "%.3f"), figure(c.Severity, c.SeverityTooFew, "%.4g"),
+				fmt.Sprint(c.HighAmplitudeHits), fmt.Sprintf("%.0f", c.TotalCounts), state})
+		}
+		d.table([]string{"channel", "hits", "historic index", "severity", "high-amplitude hits", "total counts", "state"}, []float64{16, 14, 26, 26, 26, 22, bodyW - 130}, cr)
+		d.para("A figure left out for too few hits is no sign of damage; \"not evaluated\" is missing evidence.", 7.5)
+	}
+	if len(dp.FelicityHits) > 0 && ev.AE != nil {
+		if err := hitsChart(d, "felicity-hits", dv.ID.String(), dv.Start, ev.AE.FelicityRatio, ev.PreviousMaxMPa, ev.AE.OnsetMPa, dp.FelicityHits, sheetChart); err != nil {
+			return err
+		}
+		d.para(felicityCaption("", ev.PreviousMaxMPa, ev.ReferenceSource, ""), 7.5)
+	}
+	if len(ev.Strain) > 0 {
+		d.h2("Strain per gauge")
+		var rows [][]string
+		for _, s := range ev.Strain {
+			res := opt(s.ResidualUE, "%.1f")
+			if s.ResidualNotComparable != "" {
+				res = "not comparable"
+			}
+			rows = append(rows, []string{s.Gauge, opt(s.ComplianceUEPerMPa, "%.2f"), opt(s.ComplianceChange, "%+.4f"), res, opt(s.Hysteresis, "%.4f"), opt(s.CreepUE, "%.1f"), strings.Join(s.Notes, "; ")})
+		}
+		d.table([]string{"gauge", "compliance µε/MPa", "change", "residual µε", "hysteresis", "creep µε", "notes"}, []float64{18, 30, 16, 20, 18, 16, bodyW - 118}, rows)
+	}
+	d.para("Strain baseline: "+ev.BaselineSource, 8)
+	d.h2("Gauge problems and missing evidence")
+	var rows [][]string
+	gs := make([]string, 0, len(ev.GaugeProblems))
+	for g := range ev.GaugeProblems {
+		gs = append(gs, g)
+	}
+	sort.Strings(gs)
+	for _, g := range gs {
+		rows = append(rows, []string{g, "doubtful data: " + ev.GaugeProblems[g]})
+	}
+	for _, g := range ev.MissingGauges {
+		rows = append(rows, []string{g, "MISSING: no column in this dive's file"})
+	}
+	if ev.MissingAE {
+		rows = append(rows, []string{"acoustic emission", "MISSING: no hits file for this dive"})
+	}
+	if len(rows) == 0 {
+		d.para("None: every configured gauge and channel gave data judged sound.", 9)
+	} else {
+		d.table([]string{"gauge or sensor", "problem"}, []float64{35, bodyW - 35}, rows)
+	}
+	d.h2("Data quality of the record")
+	rows = nil
+	for _, f := range ev.DataQuality {
+		rows = append(rows, []string{strings.ReplaceAll(f.Code, "_", " "), f.Detail})
+	}
+	if len(rows) == 0 {
+		d.para("No finding: the record starts and ends at the surface, without gaps at depth or coarse sampling.", 9)
+	} else {
+		d.table([]string{"finding", "detail"}, []float64{45, bodyW - 45}, rows)
+	}
+	return nil
+}
+
+// figure prints a per-channel figure: the value, or why it is missing.
+func figure(p *float64, tooFew bool, f string) string {
+	switch {
+	case p != nil:
+		return fmt.Sprintf(f, *p)
+	case tooFew:
+		return "- (too few hits)"
+	}
+	return "not evaluated"
 }
 
 func opt(p *float64, f string) string {
@@ -598,15 +863,26 @@ func fleetBody(d *doc, m *Model) error {
 				open++
 			}
 		}
-		left := "-"
-		if h.Damage.RemainingDives != nil {
+		var left string
+		switch {
+		case lifeVoid(h.Status, h.Damage):
+			left = "VOID"
+		case h.Damage.RemainingDives != nil && h.Damage.RemainingMoreThan:
+			left = fmt.Sprintf("more than %d", *h.Damage.RemainingDives)
+		case h.Damage.RemainingDives != nil:
 			left = fmt.Sprint(*h.Damage.RemainingDives)
-		} else {
+		default:
 			left = strings.ReplaceAll(h.Damage.RemainingStatus, "_", " ")
 		}
 		rows = append(rows, []string{h.Spec.Serial, h.Spec.Name, strings.ToUpper(h.Status), pct(float64(h.Damage.GoverningRatio)), h.Damage.Governing, left, fmt.Sprint(h.Damage.DiveCount), fmt.Sprint(open)})
 	}
 	d.table([]string{"serial", "name", "status", "damage", "governing", "dives left", "dives", "open flags"}, []float64{26, 24, 18, 20, 28, 24, 14, 26}, rows)
+	for _, h := range m.Hulls {
+		if lifeVoid(h.Status, h.Damage) {
+			d.para("Dives left VOID: no figure is shown while a hull is on hold, withdrawn or has a flag of evidence of damage open (a fatigue projection means nothing then); the reasons are listed per hull below.", 8)
+			break
+		}
+	}
 	for _, h := range m.Hulls {
 		rr := reasonRows(h.Reasons, false)
 		if len(rr) == 0 {

@@ -131,7 +131,7 @@ func TestEveryCharacterPrints(t *testing.T) {
 		// Curves: material and mode, environment said to be unknown.
 		"carbon/epoxy", "mode", "compression-compression", "environment not stated",
 		// Optional sections present when filled.
-		"Implosion energy", "23 kg TNT", "m³",
+		"Implosion hazard at the rated depth", "about 23 kg of TNT", "m³",
 		// Limit lines from the rules in force.
 		"rule damage-against-allowable in force", "rule felicity-below-limit in force",
 		"watch ≥ 0.4; hold ≥ 0.9",
@@ -310,7 +310,7 @@ func TestOptionalSectionsOmitted(t *testing.T) {
 		t.Fatal(err)
 	}
 	text := flat(pdfText(t, r.PDF))
-	for _, bad := range []string{"Implosion energy", "Cumulative acoustic-emission hits"} {
+	for _, bad := range []string{"Implosion hazard", "Implosion energy", "Cumulative acoustic-emission hits", "Felicity dives"} {
 		if strings.Contains(text, bad) {
 			t.Errorf("report prints %q without its data", bad)
 		}

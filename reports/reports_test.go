@@ -80,6 +80,31 @@ func TestHullReport(t *testing.T) {
 				}
 			}
 		}
+		// The first page states the implosion at the rated depth with its
+		// caution; on hold the remaining life is void, never a figure.
+		page1 := squash(strings.SplitN(text, "\f", 2)[0])
+		for _, want := range []string{"Implosion hazard at the rated depth", "kg of TNT", squash(reports.ImplosionCaution)} {
+			if !strings.Contains(page1, want) {
+				t.Errorf("%s: page 1 lacks %q", serial, want)
+			}
+		}
+		if f.Status == "hold" && (!strings.Contains(page1, "Remaining life VOID:") || strings.Contains(page1, "dives (governed by")) {
+			t.Errorf("%s on hold: remaining life is not void on page 1", serial)
+		}
+		m, err := reports.BuildHull(ctx, l, serial, w.GeneratedAt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if fd := m.Hulls[0].FelicityDives; len(fd) > 0 {
+			if !strings.Contains(flat, "Felicity dives: cumulative hits against pressure") {
+				t.Errorf("%s: %d Felicity dives but no section", serial, len(fd))
+			}
+			for _, d := range fd {
+				if d.Level == "" && (d.Ratio == nil || *d.Ratio >= 1) {
+					t.Errorf("%s: dive %s drawn as a Felicity dive without a flag or a ratio below 1", serial, d.Dive)
+				}
+			}
+		}
 		// pdftotext separates pages with form feeds.
 		if n := strings.Count(text, "\f"); n != w.Pages || n < 4 {
 			t.Errorf("%s: %d pages in the text, %d written", serial, n, w.Pages)
@@ -165,12 +190,41 @@ func TestDiveSheet(t *testing.T) {
 		_ = os.WriteFile(filepath.Join(dir, "dive.pdf"), b, 0o644)
 	}
 	text := squash(pdftotext(t, path))
-	for _, want := range []string{ds[1].ID.String(), "Damage added", "Pressure cycles", "Evidence", squash(reports.Caution)} {
+	for _, want := range []string{ds[1].ID.String(), "Damage added", "Pressure cycles", "Evidence", "Reference pressure", "Acoustic emission per channel",
+		"Gauge problems and missing evidence", "Data quality of the record", squash(reports.Caution)} {
 		if !strings.Contains(text, want) {
 			t.Errorf("dive sheet lacks %q", want)
 		}
 	}
 	if v, err := reports.Verify(ctx, l, w.Path); err != nil || !v.OK {
 		t.Fatalf("dive sheet: %v %+v", err, v)
+	}
+}
+
+// TestReportSeesRecordJustMade: a report written in the same second as a
+// record (an inspection just entered) is built at a moment after it, so
+// the record counts; cut to the second, the moment fell before it and the
+// hull's status ignored the inspection.
+func TestReportSeesRecordJustMade(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: t.TempDir(), DivesPerHull: 2, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	for i := 0; i < 3; i++ {
+		in, err := l.RecordInspection(ctx, "CSC-QUI-03", ledger.Inspection{At: time.Now().Add(-time.Hour), Method: "visual", Findings: "none", Result: "pass", Actor: "tester"})
+		if err != nil {
+			t.Fatal(err)
+		}
+		w, err := reports.Write(ctx, l, reports.KindHull, "CSC-QUI-03", filepath.Join(t.TempDir(), "q.pdf"), time.Now())
+		if err != nil {
+			t.Fatal(err)
+		}
+		if w.GeneratedAt.Before(in.RecordedAt) {
+			t.Fatalf("report moment %s is before the inspection recorded at %s", w.GeneratedAt.Format(time.RFC3339Nano), in.RecordedAt.Format(time.RFC3339Nano))
+		}
+		if v, err := reports.Verify(ctx, l, w.Path); err != nil || !v.OK {
+			t.Fatalf("report does not verify: %v %+v", err, v)
+		}
 	}
 }

@@ -225,6 +225,23 @@ func (d *doc) para(s string, size float64) {
 	d.block(marginL, bodyW, size*0.45, s, styleRegular, size, "L", true)
 }
 
+// bullet prints s as a bulleted item with a hanging indent.
+func (d *doc) bullet(s string, size, lh float64) {
+	const indent = 4.0
+	ls := d.layout(s, styleRegular, size, bodyW-indent-1)
+	for i, l := range ls {
+		if d.pdf.GetY()+lh > bottom {
+			d.pdf.AddPage()
+		}
+		y := d.pdf.GetY()
+		if i == 0 {
+			d.writeLine(marginL+1, y, lh, d.layout("•", styleRegular, size, indent)[0], styleRegular, size)
+		}
+		d.writeLine(marginL+indent, y, lh, l, styleRegular, size)
+		d.pdf.SetXY(marginL, y+lh)
+	}
+}
+
 // kv prints label: value lines.
 func (d *doc) kv(rows [][2]string) {
 	const lw, lh = 45.0, 5.0

@@ -44,7 +44,12 @@ type Written struct {
 
 // Write builds and renders a report and writes it to path.
 func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at time.Time) (*Written, error) {
-	at = at.UTC().Truncate(time.Second)
+	// Microseconds, the ledger's precision: cut to the second, a report
+	// made within the second of a record (an inspection just entered)
+	// would be built as if that record did not exist yet. The metadata
+	// carries the time to the nanosecond, so verification rebuilds the
+	// same moment.
+	at = at.UTC().Truncate(time.Microsecond)
 	m, err := Build(ctx, l, kind, subject, at)
 	if err != nil {
 		return nil, err

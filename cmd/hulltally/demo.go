@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"os"
 	"path/filepath"
 	"time"
@@ -46,6 +47,9 @@ func (a *app) demoCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			for _, w := range written {
+				a.reportWarning(w)
+			}
 			if a.asJSON {
 				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "reports": written, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
 			}
@@ -85,6 +89,41 @@ func (a *app) demoReports(cmd *cobra.Command, l *ledger.Ledger) ([]*reports.Writ
 	}
 	for _, h := range hs {
 		w, err := reports.Write(cmd.Context(), l, reports.KindHull, h.Serial, filepath.Join(dir, h.Serial+".pdf"), now)
+		if err != nil {
+			return nil, err
+		}
+		out = append(out, w)
+	}
+	// A dive sheet of the latest dive that raised a flag, for each hull
+	// that has one: the sheet a reviewer opens first.
+	for _, h := range hs {
+		hull, err := l.Hull(cmd.Context(), h.Serial)
+		if err != nil {
+			return nil, err
+		}
+		f, err := l.FitnessAt(cmd.Context(), hull, now)
+		if err != nil {
+			return nil, err
+		}
+		ds, err := l.Dives(cmd.Context(), h.Serial)
+		if err != nil {
+			return nil, err
+		}
+		flagged := map[string]bool{}
+		for _, fl := range f.Flags {
+			flagged[fl.Dive] = true
+		}
+		dive := ""
+		for _, d := range ds {
+			if flagged[d.ID.String()] {
+				dive = d.ID.String() // oldest first: the last one wins
+			}
+		}
+		if dive == "" {
+			continue
+		}
+		name := fmt.Sprintf("%s-dive-%.8s.pdf", h.Serial, dive)
+		w, err := reports.Write(cmd.Context(), l, reports.KindDive, dive, filepath.Join(dir, name), now)
 		if err != nil {
 			return nil, err
 		}

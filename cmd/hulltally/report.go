@@ -34,6 +34,10 @@ func (a *app) reportCmd() *cobra.Command {
 				if err != nil {
 					return err
 				}
+				// The warning goes to standard error in either mode (the
+				// JSON carries it too): a report with characters that could
+				// not be printed must not pass unnoticed.
+				a.reportWarning(w)
 				if a.asJSON {
 					return a.printJSON(w)
 				}
@@ -76,4 +80,12 @@ func (a *app) reportCmd() *cobra.Command {
 		mk("dive ID -o FILE.pdf", "A one-page dive sheet", reports.KindDive, 1),
 		mk("fleet -o FILE.pdf", "The fleet summary", reports.KindFleet, 0), verify)
 	return rep
+}
+
+// reportWarning prints, on standard error, the renderer's warning of a
+// written report (characters no font could print); nothing when empty.
+func (a *app) reportWarning(w *reports.Written) {
+	if w != nil && w.Warning != "" {
+		fmt.Fprintf(a.errOut, "hulltally: warning: %s: %s\n", w.Path, w.Warning)
+	}
 }
