@@ -840,6 +840,11 @@ type Damages struct {
 	// projections (null when not evaluated); the smaller is shown.
 	RemainingAtRecentMean *int64 `json:"remaining_at_recent_mean"`
 	RemainingAtDesignDive *int64 `json:"remaining_at_design_dive"`
+	// RemainingAtRecentMeanMoreThan and RemainingAtDesignDiveMoreThan are
+	// true when that projection is the horizon and the life it gives is
+	// more than that.
+	RemainingAtRecentMeanMoreThan bool `json:"remaining_at_recent_mean_more_than"`
+	RemainingAtDesignDiveMoreThan bool `json:"remaining_at_design_dive_more_than"`
 	// LimitRatio is the ratio of the allowable the life is projected to
 	// (the damage rule's hold level).
 	LimitRatio float64 `json:"remaining_limit_ratio"`
@@ -1135,11 +1140,11 @@ func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 	out.RemainingBasis = string(life.Basis)
 	if p := life.AtRecentMean; p != nil {
 		v := p.Dives
-		out.RemainingAtRecentMean = &v
+		out.RemainingAtRecentMean, out.RemainingAtRecentMeanMoreThan = &v, p.Beyond
 	}
 	if p := life.AtDesignDive; p != nil {
 		v := p.Dives
-		out.RemainingAtDesignDive = &v
+		out.RemainingAtDesignDive, out.RemainingAtDesignDiveMoreThan = &v, p.Beyond
 	}
 	unassessed := 0
 	for _, c := range out.Components {

@@ -538,11 +538,19 @@ type BasisInfo struct {
 type CurveBasis struct {
 	Name, Source, Basis string
 	Illustrative        bool
+	// Kind is "S-N" or "stress-rupture"; Material, Mode (an S-N curve's
+	// loading mode, a rupture curve's side), Application and Environment
+	// (in words) are the library's.
+	Kind, Material, Mode, Application, Environment string
 }
 
 // RuleBasis is a rule with its thresholds and source.
 type RuleBasis struct {
 	ID, Title, Thresholds, Source string
+	// Measure and the thresholds as numbers (nil when the rule has no
+	// such level).
+	Measure     fitness.Measure
+	Watch, Hold *fitness.Threshold
 }
 
 // ReportBasis lists the settings, the curves the hulls use and the rules.
@@ -558,9 +566,11 @@ func (l *Ledger) ReportBasis(hulls []*spec.Hull) (*BasisInfo, error) {
 				}
 				seen[name] = true
 				if cv, err := l.fat.lib.Curve(name); err == nil {
-					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: cv.Source, Basis: string(cv.Basis), Illustrative: cv.Illustrative})
+					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: cv.Source, Basis: string(cv.Basis), Illustrative: cv.Illustrative,
+						Kind: "S-N", Material: cv.Material, Mode: string(cv.Mode), Application: cv.Application, Environment: cv.Environment.Describe()})
 				} else if rp, err := l.fat.lib.Rupture(name); err == nil {
-					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: rp.Source, Basis: string(rp.Basis), Illustrative: rp.Illustrative})
+					b.Curves = append(b.Curves, CurveBasis{Name: name, Source: rp.Source, Basis: string(rp.Basis), Illustrative: rp.Illustrative,
+						Kind: "stress-rupture", Material: rp.Material, Mode: string(rp.Side), Application: rp.Application})
 				}
 			}
 		}
@@ -577,7 +587,8 @@ func (l *Ledger) ReportBasis(hulls []*spec.Hull) (*BasisInfo, error) {
 			}
 			th += "hold " + rule.Hold.String()
 		}
-		b.Rules = append(b.Rules, RuleBasis{ID: rule.ID, Title: rule.Title, Thresholds: th, Source: rule.Source})
+		b.Rules = append(b.Rules, RuleBasis{ID: rule.ID, Title: rule.Title, Thresholds: th, Source: rule.Source,
+			Measure: rule.Measure, Watch: rule.Watch, Hold: rule.Hold})
 	}
 	return b, nil
 }
@@ -625,6 +636,12 @@ func voidLife(dmg *Damages, v fitness.Verdict, r *fitness.Rules) {
 		return
 	}
 	dmg.RemainingDives, dmg.RemainingAtRecentMean, dmg.RemainingAtDesignDive, dmg.RemainingMoreThan = nil, nil, nil, false
+	dmg.RemainingAtRecentMeanMoreThan, dmg.RemainingAtDesignDiveMoreThan = false, false
 	dmg.RemainingStatus = string(damage.LifeVoid)
 	dmg.RemainingReason = damage.LifeVoidReason + ": " + why
 }
+
+// SurfaceToleranceMPa is the gauge pressure below which a sample is at
+// the surface (ingest.surface_tolerance_mpa): a sensor check above it is
+// counted as emission too.
+func (l *Ledger) SurfaceToleranceMPa() float64 { return l.cfg.Ingest.SurfaceToleranceMPa }

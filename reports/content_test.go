@@ -46,7 +46,7 @@ func TestRemainingLife(t *testing.T) {
 			want: []string{"VOID: fatigue projection void while evidence of damage is open: a flag of evidence of damage is open (felicity-below-limit)"}, bad: []string{"dives ("}},
 		{name: "beyond the horizon", status: "fit",
 			dmg: ledger.Damages{RemainingDives: i64(10000), RemainingMoreThan: true, RemainingStatus: "beyond_horizon", RemainingBasis: "design_dive",
-				RemainingAtRecentMean: i64(10000), RemainingAtDesignDive: i64(10000), LimitRatio: 1, DesignDive: "4000 m, 120 min at depth"},
+				RemainingAtRecentMean: i64(10000), RemainingAtDesignDive: i64(10000), RemainingAtRecentMeanMoreThan: true, RemainingAtDesignDiveMoreThan: true, LimitRatio: 1, DesignDive: "4000 m, 120 min at depth"},
 			want: []string{"more than 10000 dives (governed by the damage of the design dive)", "At the recent mean more than 10000 dives", "At the design dive more than 10000 dives (4000 m, 120 min at depth)"},
 			bad:  []string{"VOID"}},
 		{name: "estimated", status: "watch",
@@ -201,7 +201,7 @@ func TestHitPoints(t *testing.T) {
 	prof := &ledger.Profile{TimeS: []float64{0, 100, 200, 300, 400}, PressureMPa: []float64{0, 10, 20, 10, 0}}
 	hits := []evidence.Hit{{TimeS: 150}, {TimeS: 50}, {TimeS: 250}, {TimeS: 200}}
 	checks := []evidence.SensorCheck{{TimeS: 0.5, Kind: "lead_break"}, {TimeS: 120, Kind: "pulse"}}
-	got := hitPoints(prof, hits, checks)
+	got := hitPoints(prof, hits, checks, 0.1)
 	want := []HitPoint{{5, 1}, {12, 2}, {15, 3}, {20, 4}}
 	if len(got) != len(want) {
 		t.Fatalf("got %v, want %v", got, want)
@@ -211,7 +211,7 @@ func TestHitPoints(t *testing.T) {
 			t.Errorf("point %d: got %+v, want %+v", i, got[i], want[i])
 		}
 	}
-	if n := len(hitPoints(&ledger.Profile{}, hits, nil)); n != 0 {
+	if n := len(hitPoints(&ledger.Profile{}, hits, nil, 0.1)); n != 0 {
 		t.Errorf("no profile: %d points", n)
 	}
 	// A long series is thinned, its total kept.
@@ -219,7 +219,7 @@ func TestHitPoints(t *testing.T) {
 	for i := range many {
 		many[i] = evidence.Hit{TimeS: float64(i) / 25}
 	}
-	th := hitPoints(prof, many, nil)
+	th := hitPoints(prof, many, nil, 0.1)
 	if len(th) > maxHitPoints+1 || th[len(th)-1].Cumulative != 5000 {
 		t.Errorf("thinned to %d points ending at %v", len(th), th[len(th)-1])
 	}
@@ -248,18 +248,10 @@ func TestFelicityDivesCharts(t *testing.T) {
 	}
 }
 
-// TestCurveEnvironment: a shipped curve carries its environment in
-// words; a curve not of the shipped library says what is not known.
+// TestCurveEnvironment: a curve whose details are not known says so; a
+// seawater curve says which environment. (That the ledger's basis fills
+// every curve's environment is checked in TestHullReport.)
 func TestCurveEnvironment(t *testing.T) {
-	sh := shippedCurves()
-	if len(sh) == 0 {
-		t.Fatal("no shipped curves")
-	}
-	for name, c := range sh {
-		if c.Kind == "S-N" && (c.Environment == "" || strings.Contains(c.Environment, "not stated")) {
-			t.Errorf("shipped curve %s: environment %q", name, c.Environment)
-		}
-	}
 	if s := curveDescription(CurveInfo{Name: "own"}); !strings.Contains(s, "not stated in the ledger's basis") {
 		t.Errorf("unknown curve: %q", s)
 	}

@@ -19,12 +19,6 @@ const maxFelicityCharts = 6
 // one is thinned evenly, its last point kept.
 const maxHitPoints = 1500
 
-// checkSurfaceMPa is the gauge pressure above which a sensor check is
-// taken as made under load and counted as a hit, as the ledger counts it
-// when it judges the evidence: the shipped ingest.surface_tolerance_mpa
-// (0.1 MPa, about 10 m of seawater).
-const checkSurfaceMPa = 0.1
-
 // ImplosionCaution is printed with the implosion figures.
 const ImplosionCaution = "The implosion figures are orders of magnitude for planning safety distances around the hull " +
 	"(support vessel, divers, other vehicles, the test chamber): they are not a prediction of any event, " +
@@ -118,14 +112,14 @@ func diveHits(ctx context.Context, l *ledger.Ledger, d ledger.Dive) ([]HitPoint,
 	if err != nil {
 		return nil, fmt.Errorf("hits of dive %s: %w", d.ID, err)
 	}
-	return hitPoints(prof, hits, checks), nil
+	return hitPoints(prof, hits, checks, l.SurfaceToleranceMPa()), nil
 }
 
 // hitPoints is the cumulative number of hits against pressure from the
 // first sample to the peak: every hit, and every sensor check made under
-// load (above checkSurfaceMPa), which the ledger counts as emission too
+// load (above surfaceMPa, the configured surface tolerance), which the ledger counts as emission too
 // (a test pulse counted as emission can only make the hull look worse).
-func hitPoints(prof *ledger.Profile, hits []evidence.Hit, checks []evidence.SensorCheck) []HitPoint {
+func hitPoints(prof *ledger.Profile, hits []evidence.Hit, checks []evidence.SensorCheck, surfaceMPa float64) []HitPoint {
 	n := min(len(prof.TimeS), len(prof.PressureMPa))
 	out := []HitPoint{}
 	if n == 0 {
@@ -146,7 +140,7 @@ func hitPoints(prof *ledger.Profile, hits []evidence.Hit, checks []evidence.Sens
 			as[i] = evidence.Hit{TimeS: c.TimeS, Channel: c.Channel, AmplitudeDB: c.AmplitudeDB}
 		}
 		for i, pr := range evidence.PressureAt(p, as) {
-			if pr > checkSurfaceMPa {
+			if pr > surfaceMPa {
 				all = append(all, as[i])
 			}
 		}

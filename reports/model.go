@@ -6,17 +6,13 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"os"
 	"sort"
-	"strconv"
 	"strings"
 	"time"
 
 	"github.com/google/uuid"
 
-	"hulltally/configs"
 	"hulltally/fatigue/fitness"
-	"hulltally/fatigue/sn"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
 )
@@ -581,13 +577,9 @@ func fillBasis(l *ledger.Ledger, m *Model, specs []*spec.Hull) error {
 		return err
 	}
 	m.Basis = Basis{DFF: b.DFF, MeanStress: b.MeanStress, Combine: b.Combine, RulesFrom: b.RulesSource}
-	shipped := shippedCurves()
 	for _, c := range b.Curves {
-		ci := CurveInfo{Name: c.Name, Source: c.Source, Basis: c.Basis, Illustrative: c.Illustrative}
-		if sc, ok := shipped[c.Name]; ok && sc.Source == c.Source && sc.Basis == c.Basis && sc.Illustrative == c.Illustrative {
-			ci.Kind, ci.Material, ci.Mode, ci.Application, ci.Environment = sc.Kind, sc.Material, sc.Mode, sc.Application, sc.Environment
-		}
-		m.Basis.Curves = append(m.Basis.Curves, ci)
+		m.Basis.Curves = append(m.Basis.Curves, CurveInfo{Name: c.Name, Source: c.Source, Basis: c.Basis, Illustrative: c.Illustrative,
+			Kind: c.Kind, Material: c.Material, Mode: c.Mode, Application: c.Application, Environment: c.Environment})
 	}
 	for _, r := range b.Rules {
 		m.Basis.Rules = append(m.Basis.Rules, RuleInfo{ID: r.ID, Title: r.Title, Thresholds: r.Thresholds, Source: r.Source})
@@ -608,27 +600,6 @@ func felicityRuleIDs(b Basis) map[string]bool {
 		return map[string]bool{shippedFelicityRule: true}
 	}
 	return b.felicityRules
-}
-
-// shippedCurves describes the curves of the shipped library by name.
-// The ledger's basis names a curve with its source but not its material
-// or loading mode; a curve that matches a shipped one in name, source,
-// basis and the illustrative flag is that curve.
-func shippedCurves() map[string]CurveInfo {
-	out := map[string]CurveInfo{}
-	lib, err := sn.ParseLibrary(configs.CurvesYAML)
-	if err != nil {
-		return out
-	}
-	for _, c := range lib.Curves {
-		out[c.Name] = CurveInfo{Name: c.Name, Source: c.Source, Basis: string(c.Basis), Illustrative: c.Illustrative,
-			Kind: "S-N", Material: c.Material, Mode: string(c.Mode), Application: c.Application, Environment: c.Environment.Describe()}
-	}
-	for _, r := range lib.Ruptures {
-		out[r.Name] = CurveInfo{Name: r.Name, Source: r.Source, Basis: string(r.Basis), Illustrative: r.Illustrative,
-			Kind: "stress-rupture", Material: r.Material, Application: r.Application}
-	}
-	return out
 }
 
 // The shipped identifiers of the rules whose lines the charts draw, used
@@ -656,69 +627,20 @@ func ruleLimits(b *ledger.BasisInfo) RuleLimits {
 		if *dst != nil {
 			continue // the first rule on the measure
 		}
-		if rl, ok := parseThresholds(r.ID, r.Thresholds); ok {
-			*dst = rl
+		if r.Watch != nil || r.Hold != nil {
+			*dst = &RuleLimit{Rule: r.ID, Watch: r.Watch, Hold: r.Hold}
 		}
 	}
 	return out
 }
 
-// ruleMeasures maps each rule of the set in force to its measure, read
-// from the rule set's file; the shipped identifiers when it cannot be
-// read.
+// ruleMeasures maps each rule of the set in force to its measure.
 func ruleMeasures(b *ledger.BasisInfo) map[string]fitness.Measure {
-	measure := map[string]fitness.Measure{shippedDamageRule: fitness.MeasureDamageRatio, shippedFelicityRule: fitness.MeasureFelicityRatio}
-	if data, err := rulesBytes(b.RulesSource); err == nil {
-		if rs, err := fitness.ParseRules(data); err == nil {
-			measure = map[string]fitness.Measure{}
-			for _, r := range rs.Rules {
-				measure[r.ID] = r.Measure
-			}
-		}
+	measure := map[string]fitness.Measure{}
+	for _, r := range b.Rules {
+		measure[r.ID] = r.Measure
 	}
 	return measure
-}
-
-// rulesBytes reads the rule set named by the ledger's rules source.
-func rulesBytes(src string) ([]byte, error) {
-	if strings.HasSuffix(src, "(shipped)") {
-		return configs.RulesYAML, nil
-	}
-	return os.ReadFile(src)
-}
-
-// parseThresholds reads "watch ≥ 0.5; hold ≥ 1" (the ledger's statement
-// of a rule's thresholds).
-func parseThresholds(id, s string) (*RuleLimit, bool) {
-	rl := &RuleLimit{Rule: id}
-	cmp := map[string]fitness.Comparison{"≥": fitness.AtOrAbove, ">": fitness.Above, "≤": fitness.AtOrBelow, "<": fitness.Below}
-	for _, part := range strings.Split(s, ";") {
-		f := strings.Fields(part)
-		if len(f) != 3 {
-			return nil, false
-		}
-		when, ok := cmp[f[1]]
-		if !ok {
-			return nil, false
-		}
-		at, err := strconv.ParseFloat(f[2], 64)
-		if err != nil || math.IsNaN(at) || math.IsInf(at, 0) {
-			return nil, false
-		}
-		t := &fitness.Threshold{When: when, At: at}
-		switch f[0] {
-		case "watch":
-			rl.Watch = t
-		case "hold":
-			rl.Hold = t
-		default:
-			return nil, false
-		}
-	}
-	if rl.Watch == nil && rl.Hold == nil {
-		return nil, false
-	}
-	return rl, true
 }
 
 func urgency(s string) int {

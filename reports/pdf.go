@@ -134,18 +134,18 @@ func remainingRows(status string, d *ledger.Damages) [][2]string {
 	if lifeVoid(status, d) || d.RemainingDives == nil {
 		return rows
 	}
-	proj := func(v *int64) string {
+	proj := func(v *int64, moreThan bool) string {
 		if v == nil {
 			return "not evaluated"
 		}
-		return divesText(*v, d.RemainingMoreThan && *v >= *d.RemainingDives)
+		return divesText(*v, moreThan)
 	}
-	dd := proj(d.RemainingAtDesignDive)
+	dd := proj(d.RemainingAtDesignDive, d.RemainingAtDesignDiveMoreThan)
 	if d.DesignDive != "" {
 		dd += " (" + d.DesignDive + ")"
 	}
 	rows = append(rows,
-		[2]string{"At the recent mean", proj(d.RemainingAtRecentMean)},
+		[2]string{"At the recent mean", proj(d.RemainingAtRecentMean, d.RemainingAtRecentMeanMoreThan)},
 		[2]string{"At the design dive", dd},
 		[2]string{"Projected to", fmt.Sprintf("%s of the allowable (the damage rule's hold level); the smaller projection is shown. %s", pct(d.LimitRatio), d.RemainingReason)})
 	return rows

@@ -68,11 +68,13 @@ func fixture(t *testing.T) *Model {
 	m.Hulls = []HullPart{hp}
 	b := &ledger.BasisInfo{DFF: 1, MeanStress: "goodman", Combine: "add", RulesSource: "configs/rules.yaml (shipped)",
 		Rules: []ledger.RuleBasis{
-			{ID: "damage-against-allowable", Thresholds: "watch ≥ 0.4; hold ≥ 0.9", Source: "operator's choice"},
-			{ID: "felicity-below-limit", Thresholds: "watch < 1; hold ≤ 0.95", Source: "from memory"},
+			{ID: "damage-against-allowable", Thresholds: "watch ≥ 0.4; hold ≥ 0.9", Source: "operator's choice", Measure: fitness.MeasureDamageRatio,
+				Watch: &fitness.Threshold{When: fitness.AtOrAbove, At: 0.4}, Hold: &fitness.Threshold{When: fitness.AtOrAbove, At: 0.9}},
+			{ID: "felicity-below-limit", Thresholds: "watch < 1; hold ≤ 0.95", Source: "from memory", Measure: fitness.MeasureFelicityRatio,
+				Watch: &fitness.Threshold{When: fitness.Below, At: 1}, Hold: &fitness.Threshold{When: fitness.AtOrBelow, At: 0.95}},
 		}}
 	m.Basis = Basis{DFF: b.DFF, MeanStress: b.MeanStress, Combine: b.Combine, RulesFrom: b.RulesSource, Limits: ruleLimits(b),
-		Curves: []CurveInfo{{Name: "cfrp-illustrative", Source: "illustrative", Basis: "mean", Illustrative: true, Kind: "S-N", Material: "carbon/epoxy", Mode: "compression-compression"}}}
+		Curves: []CurveInfo{{Name: "cfrp-illustrative", Source: "illustrative", Basis: "mean", Illustrative: true, Kind: "S-N", Material: "carbon/epoxy", Mode: "compression-compression", Environment: "immersed"}}}
 	for _, r := range b.Rules {
 		m.Basis.Rules = append(m.Basis.Rules, RuleInfo{ID: r.ID, Thresholds: r.Thresholds, Source: r.Source})
 	}
@@ -128,8 +130,8 @@ func TestEveryCharacterPrints(t *testing.T) {
 		"Damage carried over from before the ledger", "1.000e-02", "2.000e-03",
 		// The Lamé caveat and the fall-back from the gauge basis.
 		"a laminate is not isotropic", "lame (preferred:", "fell back to \"lame\"",
-		// Curves: material and mode, environment said to be unknown.
-		"carbon/epoxy", "mode", "compression-compression", "environment not stated",
+		// Curves: material, mode and environment.
+		"carbon/epoxy", "mode", "compression-compression", "immersed",
 		// Optional sections present when filled.
 		"Implosion hazard at the rated depth", "about 23 kg of TNT", "m³",
 		// Limit lines from the rules in force.
@@ -201,54 +203,17 @@ func TestUnprintableWithoutFallbacks(t *testing.T) {
 	}
 }
 
-// TestRuleLimits: the chart lines come from the rule set in force, not
-// fixed numbers; an unreadable statement draws no line (and the report
-// says so) rather than a made-up one.
+// TestRuleLimits: the chart lines come from the rule set in force, found
+// by measure with its thresholds as numbers; a rule set with no rule on a
+// measure draws no line for it rather than a made-up one.
 func TestRuleLimits(t *testing.T) {
-	tests := []struct {
-		th          string
-		watch, hold *fitness.Threshold
-		ok          bool
-	}{
-		{"watch ≥ 0.4; hold ≥ 0.9", &fitness.Threshold{When: fitness.AtOrAbove, At: 0.4}, &fitness.Threshold{When: fitness.AtOrAbove, At: 0.9}, true},
-		{"hold ≤ 0.95", nil, &fitness.Threshold{When: fitness.AtOrBelow, At: 0.95}, true},
-		{"watch < 1; hold ≤ 0.95", &fitness.Threshold{When: fitness.Below, At: 1}, &fitness.Threshold{When: fitness.AtOrBelow, At: 0.95}, true},
-		{"", nil, nil, false},
-		{"watch ≈ 0.5", nil, nil, false},
-		{"hold ≥ NaN", nil, nil, false},
-	}
-	for _, tc := range tests {
-		rl, ok := parseThresholds("r", tc.th)
-		if ok != tc.ok {
-			t.Errorf("%q: ok %v", tc.th, ok)
-			continue
-		}
-		if !ok {
-			continue
-		}
-		if (rl.Watch == nil) != (tc.watch == nil) || (rl.Watch != nil && *rl.Watch != *tc.watch) ||
-			(rl.Hold == nil) != (tc.hold == nil) || (rl.Hold != nil && *rl.Hold != *tc.hold) {
-			t.Errorf("%q: got watch %v hold %v", tc.th, rl.Watch, rl.Hold)
-		}
-	}
-	// The shipped rule set, found by measure.
 	rs, err := fitness.ParseRules(configs.RulesYAML)
 	if err != nil {
 		t.Fatal(err)
 	}
 	b := &ledger.BasisInfo{RulesSource: "configs/rules.yaml (shipped)"}
 	for _, r := range rs.Rules {
-		th := ""
-		if r.Watch != nil {
-			th = "watch " + r.Watch.String()
-		}
-		if r.Hold != nil {
-			if th != "" {
-				th += "; "
-			}
-			th += "hold " + r.Hold.String()
-		}
-		b.Rules = append(b.Rules, ledger.RuleBasis{ID: r.ID, Thresholds: th})
+		b.Rules = append(b.Rules, ledger.RuleBasis{ID: r.ID, Measure: r.Measure, Watch: r.Watch, Hold: r.Hold})
 	}
 	l := ruleLimits(b)
 	if l.Damage == nil || l.Damage.Hold == nil || l.Damage.Hold.At != 1.0 || l.Damage.Watch == nil || l.Damage.Watch.At != 0.5 {
@@ -257,11 +222,15 @@ func TestRuleLimits(t *testing.T) {
 	if l.Felicity == nil || l.Felicity.Hold == nil || l.Felicity.Hold.At != 0.95 || l.Felicity.Hold.When != fitness.AtOrBelow {
 		t.Errorf("Felicity limits %+v", l.Felicity)
 	}
-	// A rule set whose file cannot be read and whose ids are not the
-	// shipped ones: nothing identified, no line drawn.
-	none := ruleLimits(&ledger.BasisInfo{RulesSource: "/nonexistent/rules.yaml", Rules: []ledger.RuleBasis{{ID: "my-damage", Thresholds: "hold ≥ 0.7"}}})
-	if none.Damage != nil || none.Felicity != nil {
-		t.Errorf("unidentified rules gave limits %+v", none)
+	// An operator's own damage rule at 0.7 is drawn at 0.7, not at the
+	// shipped 1.0.
+	own := ruleLimits(&ledger.BasisInfo{Rules: []ledger.RuleBasis{{ID: "my-damage", Measure: fitness.MeasureDamageRatio,
+		Hold: &fitness.Threshold{When: fitness.AtOrAbove, At: 0.7}}}})
+	if own.Damage == nil || own.Damage.Hold == nil || own.Damage.Hold.At != 0.7 || own.Felicity != nil {
+		t.Errorf("own rule set gave limits %+v", own)
+	}
+	if none := ruleLimits(&ledger.BasisInfo{}); none.Damage != nil || none.Felicity != nil {
+		t.Errorf("no rules gave limits %+v", none)
 	}
 }
 

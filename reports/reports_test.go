@@ -95,6 +95,11 @@ func TestHullReport(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
+		for _, c := range m.Basis.Curves {
+			if c.Kind == "S-N" && (c.Environment == "" || strings.Contains(c.Environment, "not stated")) {
+				t.Errorf("%s: curve %s has no environment in the report's basis: %q", serial, c.Name, c.Environment)
+			}
+		}
 		if fd := m.Hulls[0].FelicityDives; len(fd) > 0 {
 			if !strings.Contains(flat, "Felicity dives: cumulative hits against pressure") {
 				t.Errorf("%s: %d Felicity dives but no section", serial, len(fd))
