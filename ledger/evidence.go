@@ -433,24 +433,6 @@ func (l *Ledger) HullEvidence(ctx context.Context, hull uuid.UUID) (map[uuid.UUI
 	return out, rows.Err()
 }
 
-// complianceOf returns the compliance per gauge measured on a dive (a
-// proof test's baseline).
-func (l *Ledger) complianceOf(ctx context.Context, dive uuid.UUID) (map[string]float64, error) {
-	e, err := l.EvidenceOf(ctx, dive)
-	if err != nil {
-		return nil, err
-	}
-	m := map[string]float64{}
-	if e == nil {
-		return m, nil
-	}
-	for _, s := range e.Strain {
-		if s.ComplianceUEPerMPa != nil {
-			m[s.Gauge] = *s.ComplianceUEPerMPa
-		}
-	}
-	return m, nil
-}
 
 // hitsForEvidence converts parsed hits to the evidence package's form:
 // the hits, and the sensor checks apart, in time order.

@@ -488,7 +488,7 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	}
 	png, err = charts.FelicityHistoryLimits(fx, fy, chartLimits(m.Basis.Limits.Felicity), chartSize)
 	if err != nil {
-		return fmt.Errorf("Felicity chart: %w", err)
+		return fmt.Errorf("chart of the Felicity ratio: %w", err)
 	}
 	d.image("felicity", png, chartSize.HeightMM)
 	if rl := m.Basis.Limits.Felicity; rl != nil {

@@ -585,7 +585,7 @@ func TestLifeClearCollapse(t *testing.T) {
 	}
 	// Just below the hold level, within the rating: no collapse reason
 	// holds it (3000 m ≈ 30 MPa).
-	out, _, code = e.run("clear", lifeSerial, "--depth", "3000", "--json")
+	out, _, _ = e.run("clear", lifeSerial, "--depth", "3000", "--json")
 	json.Unmarshal([]byte(out), &c)
 	for _, r := range c["reasons"].([]any) {
 		m := r.(map[string]any)
