@@ -433,7 +433,6 @@ func (l *Ledger) HullEvidence(ctx context.Context, hull uuid.UUID) (map[uuid.UUI
 	return out, rows.Err()
 }
 
-
 // hitsForEvidence converts parsed hits to the evidence package's form:
 // the hits, and the sensor checks apart, in time order.
 func hitsForEvidence(hs []logfile.Hit, firstNS int64) ([]evidence.Hit, []evidence.SensorCheck) {
