@@ -82,6 +82,9 @@ type Proof struct {
 	// passing test below the spec's proof pressure by more is refused, and
 	// the recorded pressure must agree with the samples' peak within it.
 	Tolerance float64
+	// HoldMin is the time at pressure charged for a proof test recorded
+	// without samples, minutes.
+	HoldMin float64
 }
 
 // Fatigue configures the damage assessment (see hulltally.yaml).
@@ -191,7 +194,7 @@ var defaults = map[string]any{
 	"home": "", "database.url": "", "database.max_conns": 4,
 	"ingest.default_latitude": "", "ingest.block_samples": 8192,
 	"ingest.clock_tolerance_s": 600, "ingest.earliest_time": "1990-01-01T00:00:00Z", "ingest.surface_tolerance_mpa": 0.1,
-	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "ingest.cut_leg_mpa_per_s": 0.005, "proof.tolerance": 0.02,
+	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "ingest.cut_leg_mpa_per_s": 0.005, "proof.tolerance": 0.02, "proof.hold_min": 30,
 	"fatigue.design_bottom_time_min": 60, "fatigue.life_horizon": 100000,
 	"evidence.hold_settle_s": 60, "evidence.hold_max_hits_after_settle": 5, "evidence.sensor_check_min_db": 80,
 	"evidence.high_amplitude_db": 80, "evidence.residual_temp_tolerance_c": 2,
@@ -271,7 +274,10 @@ func Load(o Options) (*Config, error) {
 		!(in.CutLegMPaPerS > 0 && in.CutLegMPaPerS <= 1) {
 		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 5], max_gap_s > 0, 0 < max_interval_s <= max_gap_s, 0 < cut_leg_mpa_per_s <= 1): %+v", *in)
 	}
-	c.Proof.Tolerance = v.GetFloat64("proof.tolerance")
+	c.Proof.Tolerance, c.Proof.HoldMin = v.GetFloat64("proof.tolerance"), v.GetFloat64("proof.hold_min")
+	if !(c.Proof.HoldMin >= 0 && c.Proof.HoldMin <= 10000) {
+		return nil, fmt.Errorf("configuration: proof.hold_min must be between 0 and 10000 minutes, got %v", c.Proof.HoldMin)
+	}
 	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance < 0.2) {
 		return nil, fmt.Errorf("configuration: proof.tolerance must be a fraction in [0, 0.2), got %v", c.Proof.Tolerance)
 	}

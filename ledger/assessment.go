@@ -771,6 +771,9 @@ type ComponentDamage struct {
 	Allowable       float64 `json:"allowable"`
 	// Ratio is the damage against the allowable (1 = allowable reached).
 	Ratio Num `json:"ratio"`
+	// ProofTests is the damage charged for proof tests recorded without
+	// samples (included in the totals), nil when there are none.
+	ProofTests *ProofDamage `json:"proof_tests,omitempty"`
 	// Basis, Factor and Curve are what the newest assessment used.
 	Basis        string  `json:"transfer_basis"`
 	Factor       float64 `json:"transfer_factor_mpa_per_mpa"`
@@ -855,6 +858,11 @@ type Damages struct {
 	Combine             string  `json:"combine"`
 	DesignFatigueFactor float64 `json:"design_fatigue_factor"`
 	MeanStress          string  `json:"mean_stress"`
+	// proofTests are the pressures of the hull's proof tests recorded
+	// without samples: each is charged as one cycle to its pressure with
+	// proof.hold_min at it (read by hullDamages, summed by
+	// finishDamages).
+	proofTests []float64
 	// PerDive is each dive's damage in dive order (for reports), by
 	// component name.
 	PerDive []DiveDamage `json:"-"`
@@ -886,6 +894,23 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		ids[i] = h.ID
 		byID[h.ID] = i
 		out[i] = l.newDamages(h)
+	}
+	prows, err := l.pool.Query(ctx, `SELECT hull_id, pressure_mpa FROM proof_tests WHERE hull_id = ANY($1) AND dive_id IS NULL ORDER BY hull_id, at`, ids)
+	if err != nil {
+		return nil, fmt.Errorf("reading proof tests: %w", err)
+	}
+	for prows.Next() {
+		var hullID uuid.UUID
+		var p float64
+		if err := prows.Scan(&hullID, &p); err != nil {
+			prows.Close()
+			return nil, err
+		}
+		out[byID[hullID]].proofTests = append(out[byID[hullID]].proofTests, p)
+	}
+	prows.Close()
+	if err := prows.Err(); err != nil {
+		return nil, err
 	}
 	rows, err := l.pool.Query(ctx, `SELECT hull_id, id, start_time FROM dives d WHERE hull_id = ANY($1) AND `+notVoided+` ORDER BY hull_id, start_time, id`, ids)
 	if err != nil {
@@ -1093,12 +1118,21 @@ func (l *Ledger) newDamages(h *Hull) *Damages {
 // finishDamages sums PerDive into the totals and the remaining life.
 func (l *Ledger) finishDamages(h *Hull, out *Damages) error {
 	out.DiveCount = len(out.PerDive)
+	proof, err := l.proofTestDamage(h, out.proofTests)
+	if err != nil {
+		return fmt.Errorf("damage of %s: %w", h.Serial, err)
+	}
 	dh := damage.Hull{}
 	for i, c := range out.Components {
 		dc := damage.Component{Name: c.Name, Limits: l.fat.limits}
 		if pd := h.Spec.Components[i].PriorDamage; pd != nil {
 			dc.Prior = damage.Damage{Cyclic: pd.Cyclic, Sustained: pd.Sustained}
 			out.Components[i].Prior = &PriorDamage{Cyclic: Num(pd.Cyclic), Sustained: Num(pd.Sustained), Source: pd.Source}
+		}
+		if pt, ok := proof[c.Name]; ok {
+			dc.Prior = dc.Prior.Add(pt)
+			out.Components[i].ProofTests = &ProofDamage{Count: len(out.proofTests), Cyclic: Num(pt.Cyclic), Sustained: Num(pt.Sustained),
+				Basis: fmt.Sprintf("%d proof test(s) recorded without samples, each charged as one cycle to its recorded pressure with %.0f min at it (proof.hold_min)", len(out.proofTests), l.cfg.Proof.HoldMin)}
 		}
 		dh.Components = append(dh.Components, dc)
 	}
@@ -1302,4 +1336,40 @@ func (l *Ledger) designDive(h *Hull) (map[string]damage.Damage, string, error) {
 		out[r.Component] = r.Damage
 	}
 	return out, fmt.Sprintf("one cycle to the rated depth %.0f m (%.3f MPa at latitude 90°) with %.0f min at it", h.Spec.RatedDepthM, p, bt), nil
+}
+
+// ProofDamage is the damage charged for proof tests recorded without
+// samples.
+type ProofDamage struct {
+	Count     int    `json:"count"`
+	Cyclic    Num    `json:"cyclic"`
+	Sustained Num    `json:"sustained"`
+	Basis     string `json:"basis"`
+}
+
+// proofTestDamage charges each proof test recorded without samples as one
+// cycle from the surface to its recorded pressure with proof.hold_min at
+// it, per component: a proof test is a load the hull carried, passed or
+// failed, and without its samples it is charged as a plain profile.
+func (l *Ledger) proofTestDamage(h *Hull, pressures []float64) (map[string]damage.Damage, error) {
+	if len(pressures) == 0 {
+		return nil, nil
+	}
+	comps, err := l.resolve(h.Spec)
+	if err != nil {
+		return nil, err
+	}
+	out := map[string]damage.Damage{}
+	for _, p := range pressures {
+		d := assess.Dive{PressureCycles: joinCycles([]float64{p}, []float64{p / 2}, []float64{1}),
+			Holds: []assess.Hold{{LevelMPa: p, Seconds: l.cfg.Proof.HoldMin * 60}}}
+		res, err := assess.DiveDamage(d, comps, l.fat.settings)
+		if err != nil {
+			return nil, err
+		}
+		for _, r := range res {
+			out[r.Component] = out[r.Component].Add(r.Damage)
+		}
+	}
+	return out, nil
 }
