@@ -20,16 +20,38 @@ func longHold() (Profile, Phase) {
 	return p, ph
 }
 
-// shortHold is a 40 MPa dive with no time at the peak: the hold Phases
-// finds runs from 480 s to 520 s, 40 s, shorter than the 60 s settling
-// time.
+// shortHold is a 40 MPa dive with no time at the peak, with a hand-made
+// hold of the samples at or above 95 % of the peak: 480 s to 520 s, 40 s,
+// shorter than the 60 s settling time. (Phases itself widens a bounce's
+// hold to 95 % of the pressure sustained for 60 s — TestPhases — so a hold
+// this short is built by hand to test HoldEmission on one.)
 func shortHold() (Profile, Phase) {
 	p := dive{SurfaceS: 100, DescentS: 400, HoldS: 0, AscentS: 400, AfterS: 100, PeakMPa: 40}.profile()
-	ph, err := Phases(p, 0)
+	return p, peakPhase(p, DefaultHoldFrac)
+}
+
+// peakPhase is the hold of the samples at or above frac × the single
+// highest sample, by hand (no sustained peak).
+func peakPhase(p Profile, frac float64) Phase {
+	if frac == 0 {
+		frac = DefaultHoldFrac
+	}
+	ph, err := Phases(p, frac)
 	if err != nil {
 		panic(err)
 	}
-	return p, ph
+	level := frac * ph.PeakMPa
+	hs, he := -1, -1
+	for i, v := range p.Pressure {
+		if v >= level {
+			if hs < 0 {
+				hs = i
+			}
+			he = i
+		}
+	}
+	ph.LevelMPa, ph.HoldStart, ph.HoldEnd, ph.HoldStartS, ph.HoldEndS = level, hs, he, p.TimeS[hs], p.TimeS[he]
+	return ph
 }
 
 // at returns one 60 dB hit at each time (s).

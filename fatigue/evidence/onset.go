@@ -254,7 +254,7 @@ func FelicityWindow(onsetMPa *float64, previousMaxMPa float64, ph Phase, windowM
 		return FelicityResult{BeyondPrevious: previousMaxMPa > 0 && ph.PeakMPa > previousMaxMPa,
 			Reason: fmt.Sprintf("onset window %g MPa is not a finite non-negative width: Felicity ratio not evaluated", windowMPa)}
 	}
-	top := ph.Frac * ph.PeakMPa
+	top := ph.HoldLevel()
 	tested := max(top-windowMPa, 0)
 	return felicity(onsetMPa, previousMaxMPa, ph.PeakMPa, tested,
 		fmt.Sprintf("the descent's top %.4g MPa less the %.4g MPa window", top, windowMPa))

@@ -92,15 +92,61 @@ type Phase struct {
 	// sample.
 	PeakMPa   float64
 	PeakIndex int
-	// HoldStart is the first sample with pressure ≥ Frac·PeakMPa.
+	// LevelMPa is the pressure at and above which the dive is at its
+	// hold: Frac × the sustained peak (the highest pressure held for
+	// SustainWindowS), so that one high sample cannot shrink the hold. Zero
+	// in a Phase built by hand means Frac·PeakMPa.
+	LevelMPa float64
+	// HoldStart is the first sample with pressure ≥ the hold level.
 	HoldStart int
-	// HoldEnd is the last sample with pressure ≥ Frac·PeakMPa.
+	// HoldEnd is the last sample with pressure ≥ the hold level.
 	HoldEnd int
 	// N is the number of samples.
 	N int
 	// StartS, HoldStartS, HoldEndS and EndS are the times of the first
 	// sample, of HoldStart, of HoldEnd and of the last sample, s.
 	StartS, HoldStartS, HoldEndS, EndS float64
+}
+
+// HoldLevel is the pressure at and above which the dive is at its hold,
+// MPa.
+func (ph Phase) HoldLevel() float64 {
+	if ph.LevelMPa > 0 {
+		return ph.LevelMPa
+	}
+	return ph.Frac * ph.PeakMPa
+}
+
+// SustainWindowS is the time a pressure must be held to count as the
+// dive's sustained peak, s (operator's choice: a spike of one sample, a
+// wave or a logger glitch is no hold, and must not move the hold away
+// from the time actually spent at depth).
+const SustainWindowS = 60
+
+// sustainedPeak is the highest pressure the profile stays at or above for
+// at least window seconds: the largest minimum over any window of that
+// length (a monotonic queue over the samples; O(n)). A record shorter than
+// the window gives its own minimum.
+func sustainedPeak(t, p []float64, window float64) float64 {
+	best := math.Inf(-1)
+	var q []int // indices of increasing pressure
+	lo := 0
+	for hi := range t {
+		for len(q) > 0 && p[q[len(q)-1]] >= p[hi] {
+			q = q[:len(q)-1]
+		}
+		q = append(q, hi)
+		for t[hi]-t[lo] > window {
+			if q[0] == lo {
+				q = q[1:]
+			}
+			lo++
+		}
+		if t[hi]-t[lo] >= window || (lo == 0 && hi == len(t)-1) {
+			best = math.Max(best, p[q[0]])
+		}
+	}
+	return best
 }
 
 // HoldDurationS is the hold's duration, s.
@@ -114,8 +160,9 @@ func (ph Phase) InHold(t float64) bool { return t >= ph.HoldStartS && t <= ph.Ho
 
 // Phases finds the dive's peak pressure and splits it into descent, hold
 // and ascent: the descent runs from the start until the first sample with
-// pressure ≥ frac·peak, the hold from that sample to the last sample with
-// pressure ≥ frac·peak, and the ascent after it. A frac of 0 means
+// pressure ≥ frac × the sustained peak (the highest pressure held for
+// SustainWindowS), the hold from that sample to the last sample at or
+// above that level, and the ascent after it. A frac of 0 means
 // DefaultHoldFrac; otherwise frac must lie in (0, 1]. The profile must be
 // valid (see Profile.Validate) and its peak pressure positive.
 func Phases(p Profile, frac float64) (Phase, error) {
@@ -138,7 +185,14 @@ func Phases(p Profile, frac float64) (Phase, error) {
 	if !(peak > 0) {
 		return Phase{}, fmt.Errorf("phases: peak gauge pressure %g MPa is not positive: no dive", peak)
 	}
-	level := frac * peak
+	// The hold is judged against the sustained peak: one high sample must
+	// not shrink the hold to nothing and push its emission into the
+	// ascent, where no hold criterion looks.
+	sustained := sustainedPeak(p.TimeS, p.Pressure, SustainWindowS)
+	if !(sustained > 0) || sustained > peak {
+		sustained = peak
+	}
+	level := frac * sustained
 	hs, he := -1, -1
 	for i, v := range p.Pressure {
 		if v >= level {
@@ -149,7 +203,7 @@ func Phases(p Profile, frac float64) (Phase, error) {
 		}
 	}
 	return Phase{
-		Frac: frac, PeakMPa: peak, PeakIndex: pi,
+		Frac: frac, PeakMPa: peak, PeakIndex: pi, LevelMPa: level,
 		HoldStart: hs, HoldEnd: he, N: n,
 		StartS: p.TimeS[0], HoldStartS: p.TimeS[hs], HoldEndS: p.TimeS[he], EndS: p.TimeS[n-1],
 	}, nil
