@@ -364,12 +364,18 @@ func (l *Ledger) checkPlace(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 // samples under another file: the same dive.
 func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp, aeSHA []byte) (*Dive, error) {
 	var r diveRow
-	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+" FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 AND "+notVoided+" LIMIT 1", h.ID, fp).Scan(r.scanArgs()...)
+	var void bool
+	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 ORDER BY 26 LIMIT 1", h.ID, fp).Scan(append(r.scanArgs(), &void)...)
 	if err == pgx.ErrNoRows {
 		return nil, nil
 	}
 	if err != nil {
 		return nil, fmt.Errorf("looking for the same samples under another file: %w", err)
+	}
+	if void {
+		// A void dive is not logged again on its own hull under another
+		// file (with other hits, say): that would escape its judgement.
+		return nil, inputErr(fmt.Errorf("these samples were recorded as dive %s of hull %s (file %s), which is void; a void dive is not logged again on the same hull", r.ID, h.Serial, r.SourceName))
 	}
 	if !equalBytes(r.AESHA, aeSHA) {
 		return nil, inputErr(fmt.Errorf("dive %s was already recorded from the same samples (file %s) with other acoustic-emission data; nothing was added (a correction is recorded separately, never by re-logging)", r.ID, r.SourceName))

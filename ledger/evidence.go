@@ -123,6 +123,15 @@ type StrainEv struct {
 
 func ptr(v float64) *float64 { return &v }
 
+// fin is v when it is a finite number, nil otherwise: a figure that came
+// out NaN or infinite (a constant gauge's fit, say) is not a figure.
+func fin(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
 // toProfile turns the decimated profile into the evidence package's form.
 func toProfile(p *profileAcc) evidence.Profile {
 	ep := evidence.Profile{TimeS: p.TimeS, Pressure: p.Press, Strain: map[string][]float64{}}
@@ -224,12 +233,15 @@ func (l *Ledger) diveEvidence(ctx context.Context, q querier, h *Hull, in eviden
 			ev.GaugeProblems[r.Gauge] = r.QualityReason
 		}
 		if r.Compliance.Computed {
-			s.ComplianceUEPerMPa, s.R2 = ptr(r.Compliance.UEPerMPa), r.Compliance.R2
+			s.ComplianceUEPerMPa = fin(r.Compliance.UEPerMPa)
+			if v := fin(r.Compliance.R2); v != nil {
+				s.R2 = *v
+			}
 		} else {
 			s.Notes = append(s.Notes, "compliance: "+r.Compliance.Reason)
 		}
 		if r.Change.Computed {
-			s.BaselineUEPerMPa, s.ComplianceChange = ptr(r.Change.BaselineUEPerMPa), ptr(r.Change.Fraction)
+			s.BaselineUEPerMPa, s.ComplianceChange = fin(r.Change.BaselineUEPerMPa), fin(r.Change.Fraction)
 		} else if r.Change.Reason != "" {
 			s.Notes = append(s.Notes, "change: "+r.Change.Reason)
 		}
@@ -238,19 +250,22 @@ func (l *Ledger) diveEvidence(ctx context.Context, q querier, h *Hull, in eviden
 			s.ResidualNotComparable = tempNote
 			s.Notes = append(s.Notes, "residual: "+tempNote)
 		case r.Residual.Computed:
-			s.ResidualUE = ptr(r.Residual.PressureCorrectedUE)
+			s.ResidualUE = fin(r.Residual.PressureCorrectedUE)
 		default:
 			s.Notes = append(s.Notes, "residual: "+r.Residual.Reason)
 		}
 		if r.Hysteresis.Computed {
-			s.Hysteresis = ptr(r.Hysteresis.Normalised)
+			s.Hysteresis = fin(r.Hysteresis.Normalised)
 		} else if r.Hysteresis.Reason != "" {
 			s.Notes = append(s.Notes, "hysteresis: "+r.Hysteresis.Reason)
 		}
 		if r.Creep.Computed {
-			s.CreepUE = ptr(r.Creep.PressureCorrectedUE)
+			s.CreepUE = fin(r.Creep.PressureCorrectedUE)
 		} else if r.Creep.Reason != "" {
 			s.Notes = append(s.Notes, "creep: "+r.Creep.Reason)
+		}
+		if !r.QualityOK {
+			s.Notes = append(s.Notes, "doubtful gauge: "+r.QualityReason+" (its figures are kept and judged; it counts as missing evidence)")
 		}
 		ev.Strain = append(ev.Strain, s)
 	}
@@ -332,7 +347,7 @@ func (l *Ledger) baseline(ctx context.Context, q querier, h *Hull, start time.Ti
 		return nil, "", fmt.Errorf("evidence: baseline: %w", err)
 	}
 	rows, err := q.Query(ctx, `SELECT e.evidence_json FROM dive_evidence e JOIN dives d ON d.id = e.dive_id
-		WHERE d.hull_id = $1 AND d.start_time < $2 AND `+notVoided+` ORDER BY d.start_time LIMIT $3`, h.ID, start, l.cfg.Evidence.BaselineDives)
+		WHERE d.hull_id = $1 AND d.start_time < $2 AND `+notVoided+` ORDER BY d.recorded_at, d.start_time LIMIT $3`, h.ID, start, l.cfg.Evidence.BaselineDives)
 	if err != nil {
 		return nil, "", fmt.Errorf("evidence: baseline dives: %w", err)
 	}

@@ -100,9 +100,17 @@ func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note boo
 	return f, nil
 }
 
-// hullFacts gathers what the rules need from the ledger. Void dives are
-// left out; each dive's evidence is the one in force (its newest
-// revision); every dive and record carries when the ledger learned of it.
+// hullFacts gathers what the rules need from the ledger. Each dive is
+// judged against the spec revision in force when it was made (a later
+// revision cannot move an old dive under a new rating, or drop a channel
+// it was missing); every dive and record carries when the ledger learned
+// of it. A dive's evidence in force is its newest revision, and every
+// earlier judgement of it is given too (Extra): a re-judgement may raise
+// flags, never close one. A void dive takes no part in damage or the
+// highest pressure, but its flags stay until the clearing procedure (a
+// passing inspection or proof test and a return to service), with a
+// finding that it was voided. A proof test recorded without samples is
+// judged as a record (Extra) for its overshoot.
 func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Maintenance, now time.Time) (fitness.HullFacts, error) {
 	f := fitness.HullFacts{Hull: h.Serial, Now: now, RatedDepthM: h.Spec.RatedDepthM, GoverningComponent: dmg.Governing, DiveCount: dmg.DiveCount,
 		CollapsePressureMPa: h.Spec.CollapsePressureMPa, QualifiedCycles: h.Spec.QualifiedPressureCycles}
@@ -114,50 +122,99 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 	for _, p := range m.ProofTests {
 		if p.DiveID != nil {
 			proofDives[*p.DiveID] = true
+			continue
 		}
 		f.MaxPressureMPa = math.Max(f.MaxPressureMPa, p.PressureMPa)
+		// A proof test without samples: judged for its overshoot on its
+		// recorded pressure.
+		f.Dives = append(f.Dives, fitness.DiveFacts{ID: "proof test " + p.ID.String(), Start: p.At, RecordedAt: p.RecordedAt,
+			ProofTest: true, PeakMPa: p.PressureMPa, SpecProofMPa: h.Spec.ProofPressureMPa, CollapseMPa: h.Spec.CollapsePressureMPa,
+			DataQualityChecked: true, NoHoldPeriod: true, Extra: true, RatedDepthM: h.Spec.RatedDepthM})
 	}
-	rows, err := l.pool.Query(ctx, `SELECT d.id, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa, `+effectiveEvidence+` FROM dives d
-		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time, d.id`, h.ID)
+	type diveRow struct {
+		id          uuid.UUID
+		rev         int32
+		start, rec  time.Time
+		depth, peak float64
+		void        *Void
+		js          string
+	}
+	rows, err := l.pool.Query(ctx, `SELECT d.id, d.hull_revision, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa,
+		v.reason, v.actor, v.recorded_at, `+effectiveEvidence+` FROM dives d LEFT JOIN dive_voids v ON v.dive_id = d.id
+		WHERE d.hull_id = $1 ORDER BY d.start_time, d.id`, h.ID)
 	if err != nil {
 		return f, fmt.Errorf("facts of %s: %w", h.Serial, err)
 	}
-	defer rows.Close()
-	var recorded []time.Time
-	var gauges, channels []string
-	gauges = h.Spec.StrainGauges()
-	for _, c := range h.Spec.AEChannels() {
-		channels = append(channels, strconv.Itoa(c))
+	ds, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (diveRow, error) {
+		var x diveRow
+		var vr, va *string
+		var vat *time.Time
+		err := r.Scan(&x.id, &x.rev, &x.start, &x.rec, &x.depth, &x.peak, &vr, &va, &vat, &x.js)
+		if vr != nil && va != nil && vat != nil {
+			x.void = &Void{Dive: x.id, Reason: *vr, Actor: *va, RecordedAt: *vat}
+		}
+		return x, err
+	})
+	if err != nil {
+		return f, fmt.Errorf("facts of %s: %w", h.Serial, err)
 	}
-	for rows.Next() {
-		var id uuid.UUID
-		var d fitness.DiveFacts
-		var js string
-		if err := rows.Scan(&id, &d.Start, &d.RecordedAt, &d.MaxDepthM, &d.PeakMPa, &js); err != nil {
-			return f, err
-		}
-		recorded = append(recorded, d.RecordedAt)
-		f.MaxPressureMPa = math.Max(f.MaxPressureMPa, d.PeakMPa)
-		d.ID, d.Gauges, d.Channels = id.String(), gauges, channels
-		d.SpecProofMPa, d.CollapseMPa = h.Spec.ProofPressureMPa, h.Spec.CollapsePressureMPa
-		d.ProofTest = proofDives[id]
-		if js == "" {
-			// Logged before evidence was kept: nothing is present, which
-			// the missing-evidence rule reports.
-			f.Dives = append(f.Dives, d)
-			continue
-		}
-		var ev Evidence
-		if err := json.Unmarshal([]byte(js), &ev); err != nil {
-			return f, fmt.Errorf("dive %s: evidence: %w", id, err)
-		}
-		diveFacts(&d, &ev)
-		f.Dives = append(f.Dives, d)
-	}
-	if err := rows.Err(); err != nil {
+	older, err := l.olderJudgements(ctx, h)
+	if err != nil {
 		return f, err
 	}
-	f.CyclesUsed = float64(len(f.Dives))
+	revs := map[int32]*spec.Hull{h.Revision: h.Spec}
+	var recorded []time.Time
+	for _, x := range ds {
+		rs, ok := revs[x.rev]
+		if !ok {
+			if rs, err = l.specOfRevision(ctx, h.ID, x.rev); err != nil {
+				return f, err
+			}
+			revs[x.rev] = rs
+		}
+		var channels []string
+		for _, c := range rs.AEChannels() {
+			channels = append(channels, strconv.Itoa(c))
+		}
+		base := fitness.DiveFacts{ID: x.id.String(), Start: x.start, RecordedAt: x.rec, MaxDepthM: x.depth, PeakMPa: x.peak,
+			RatedDepthM: rs.RatedDepthM, SpecProofMPa: rs.ProofPressureMPa, CollapseMPa: rs.CollapsePressureMPa,
+			Gauges: rs.StrainGauges(), Channels: channels, ProofTest: proofDives[x.id]}
+		if x.void != nil {
+			// Out of damage and the highest pressure; its flags stay until
+			// the clearing procedure, recorded as learned at the void.
+			base.PeakMPa = 0
+			base.RecordedAt = x.void.RecordedAt
+		} else {
+			recorded = append(recorded, x.rec)
+			f.MaxPressureMPa = math.Max(f.MaxPressureMPa, x.peak)
+		}
+		judgements := append(older[x.id], x.js)
+		for k, js := range judgements {
+			d := base
+			d.Extra = k < len(judgements)-1 || x.void != nil
+			if js != "" {
+				var ev Evidence
+				if err := json.Unmarshal([]byte(js), &ev); err != nil {
+					return f, fmt.Errorf("dive %s: evidence: %w", x.id, err)
+				}
+				diveFacts(&d, &ev)
+			}
+			// Logged before evidence was kept (js empty): nothing is
+			// present, which the missing-evidence rule reports.
+			if x.void != nil {
+				d.DataQualityChecked = true
+				d.DataQuality = append(d.DataQuality, fitness.Finding{Code: "dive_voided", Detail: fmt.Sprintf(
+					"dive voided on %s by %s (%s): it no longer counts for damage, but its flags stay until a passing inspection or proof test and a return to service",
+					x.void.RecordedAt.Format(time.DateOnly), x.void.Actor, x.void.Reason)})
+			}
+			f.Dives = append(f.Dives, d)
+		}
+	}
+	cycles, err := l.pressureCyclesUsed(ctx, h)
+	if err != nil {
+		return f, err
+	}
+	f.CyclesUsed = cycles
 	sort.Slice(recorded, func(i, j int) bool { return recorded[i].Before(recorded[j]) })
 	// A record's dive count is by recording order: the dives the ledger
 	// knew of when the record was made.
@@ -171,6 +228,63 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		f.ProofTests = append(f.ProofTests, fitness.ProofTest{At: p.At, RecordedAt: p.RecordedAt, PressureMPa: p.PressureMPa, Result: fitness.Result(p.Result), Actor: p.Actor, DiveCount: count(p.RecordedAt)})
 	}
 	return f, nil
+}
+
+// olderJudgements returns, per dive of the hull, every judgement of its
+// evidence before the one in force (the evidence stored at logging and
+// all but the newest revision), oldest first.
+func (l *Ledger) olderJudgements(ctx context.Context, h *Hull) (map[uuid.UUID][]string, error) {
+	rows, err := l.pool.Query(ctx, `SELECT e.dive_id, e.evidence_json, 0::bigint AS seq FROM dive_evidence e
+		WHERE e.hull_id = $1 AND EXISTS (SELECT 1 FROM evidence_revisions r WHERE r.dive_id = e.dive_id)
+		UNION ALL
+		SELECT r.dive_id, r.evidence_json, r.seq FROM evidence_revisions r
+		WHERE r.hull_id = $1 AND r.seq < (SELECT max(r2.seq) FROM evidence_revisions r2 WHERE r2.dive_id = r.dive_id)
+		ORDER BY 1, 3`, h.ID)
+	if err != nil {
+		return nil, fmt.Errorf("earlier judgements of %s: %w", h.Serial, err)
+	}
+	defer rows.Close()
+	out := map[uuid.UUID][]string{}
+	for rows.Next() {
+		var id uuid.UUID
+		var js string
+		var seq int64
+		if err := rows.Scan(&id, &js, &seq); err != nil {
+			return nil, err
+		}
+		out[id] = append(out[id], js)
+	}
+	return out, rows.Err()
+}
+
+// specOfRevision returns a hull's spec as recorded in one revision.
+func (l *Ledger) specOfRevision(ctx context.Context, hull uuid.UUID, rev int32) (*spec.Hull, error) {
+	r, err := loadRevision(ctx, l.pool, hull, rev)
+	if err != nil {
+		return nil, fmt.Errorf("hull revision %d: %w", rev, err)
+	}
+	var sp spec.Hull
+	if err := json.Unmarshal([]byte(r.SpecJSON), &sp); err != nil {
+		return nil, fmt.Errorf("hull revision %d: spec: %w", rev, err)
+	}
+	return &sp, nil
+}
+
+// pressureCyclesUsed counts the hull's pressure cycles as a qualification
+// counts them: every rainflow cycle of gauge pressure (a half cycle as a
+// half) whose range is at least a tenth of the design pressure, over the
+// dives that are not void. A yo-yo dive counts every cycle it made.
+func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, error) {
+	min := 0.1 * h.Spec.DesignPressureMPa
+	var n float64
+	err := l.pool.QueryRow(ctx, `SELECT coalesce(sum(cnt), 0) FROM (
+		SELECT c.counts[i] AS cnt FROM dive_cycles c JOIN dives d ON d.id = c.dive_id,
+		generate_subscripts(c.ranges, 1) AS i
+		WHERE c.hull_id = $1 AND c.series = 'pressure' AND c.ranges[i] >= $2 AND `+notVoided+`) x`, h.ID, min).Scan(&n)
+	if err != nil {
+		return 0, fmt.Errorf("pressure cycles of %s: %w", h.Serial, err)
+	}
+	return n, nil
 }
 
 // diveFacts fills a dive's facts from its evidence.

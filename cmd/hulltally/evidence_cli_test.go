@@ -895,7 +895,8 @@ func TestAdversarialRefusedValues(t *testing.T) {
 // Case 11. A dive logged to the wrong hull: logging the same file on the
 // right hull is refused while the wrong record stands (exit 2, naming it);
 // after `dive void`, the file is accepted on the right hull and names the
-// void dive in replaces_void_dive; the wrong hull no longer counts it.
+// void dive in replaces_void_dive; the wrong hull no longer counts it for
+// damage, but its flags stay open until the clearing procedure.
 func TestAdversarialWrongHullVoid(t *testing.T) {
 	e := newEnv(t)
 	e.ok("hull", "add", "-f", advSpec2)
@@ -926,14 +927,30 @@ func TestAdversarialWrongHullVoid(t *testing.T) {
 			t.Errorf("wrong hull after the void: %v carries damage %v / %v, want 0", m["name"], m["cyclic_damage"], m["sustained_damage"])
 		}
 	}
+	// But a void closes nothing by itself: the void dive's flags stay, with
+	// a finding that it was voided, until a passing inspection and a return
+	// to service recorded after the void.
+	voided := false
 	for _, f := range wh["flags"].([]any) {
-		if f.(map[string]any)["dive"] == wid {
-			t.Errorf("wrong hull after the void: flag of the void dive still open: %v", f)
+		m := f.(map[string]any)
+		if m["dive"] == wid && m["rule"] == "data-quality" && strings.Contains(fmt.Sprint(m["detail"]), "dive_voided") {
+			voided = true
 		}
 	}
-	if wh["dive_count"] != 0.0 {
-		// hull show's dive totals come from every dive row, void or not.
-		t.Logf("note: hull show of the wrong hull still gives dive_count %v (and max_pressure_mpa %v) after the void", wh["dive_count"], wh["max_pressure_mpa"])
+	if !voided || wh["status"] == "fit" {
+		t.Errorf("wrong hull right after the void: status %v, dive_voided finding %v; want the flags kept open", wh["status"], voided)
+	}
+	if wh["dive_count"] != 0.0 || wh["max_pressure_mpa"] != 0.0 {
+		t.Errorf("wrong hull after the void: dive_count %v, max_pressure_mpa %v, want 0 (a void dive counts nowhere in the totals)", wh["dive_count"], wh["max_pressure_mpa"])
+	}
+	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--actor", "Insp")
+	e.ok("decide", advHull, "--return-to-service", "--reason", "the void dive was another hull's", "--actor", "Chief")
+	wh = e.hullJSON(advHull)
+	for _, r := range wh["status_reasons"].([]any) {
+		m := r.(map[string]any)
+		if m["kind"] == "flag" && m["state"] != "fit" && strings.Contains(fmt.Sprint(m["text"]), wid) {
+			t.Errorf("after inspection and return to service: the void dive's flag is still open: %v", m["text"])
+		}
 	}
 	e.ok("verify")
 }

@@ -238,16 +238,11 @@ func gauge(p Profile, ph Phase, name string, c0 float64, haveBaseline bool, c St
 	if !ok {
 		q = c.Quality
 	}
+	// A doubtful gauge is missing evidence (QualityOK false), but its
+	// figures are still computed: a reading gone wild (creep of thousands
+	// of µε) must not hide behind "doubtful", and the rules on its figures
+	// can only make the verdict worse.
 	r.QualityOK, r.QualityReason = GaugeQuality(p, name, q)
-	if !r.QualityOK {
-		why := "not computed: gauge doubtful: " + r.QualityReason
-		r.Compliance.Reason = "compliance " + why
-		r.Change = ComplianceChange{BaselineUEPerMPa: c0, Reason: "change " + why}
-		r.Residual.Reason = "residual strain " + why
-		r.Hysteresis.Reason = "hysteresis " + why
-		r.Creep = Creep{HoldS: ph.HoldDurationS(), Reason: "creep " + why}
-		return r
-	}
 	r.Compliance = compliance(p.Pressure, s, ph, c)
 	r.Change = change(r.Compliance, c0, haveBaseline)
 	r.Residual = residual(p.Pressure, s, p.Temp, ph, r.Compliance, c)

@@ -166,6 +166,12 @@ type DiveFacts struct {
 	// CollapseMPa is the spec's collapse pressure when the dive was made,
 	// MPa; 0 means HullFacts.CollapsePressureMPa.
 	CollapseMPa float64
+	// Extra marks facts that are not a dive of their own: an earlier
+	// judgement of a dive whose evidence was judged again (a re-judgement
+	// may raise flags, never close one), or a record that is no dive (a
+	// proof test recorded without samples). Their flags count like any
+	// other; they are not counted as dives, nor summed twice.
+	Extra bool
 	// Gauges and Channels are the strain gauges and acoustic-emission
 	// channels the hull was configured with for the dive.
 	Gauges, Channels []string
@@ -448,6 +454,9 @@ func sinceValue(m Measure, f HullFacts, dives []DiveFacts, what string, at, rec 
 		// hide a dive), may exceed a stale count.
 		after := 0
 		for _, d := range dives {
+			if d.Extra {
+				continue
+			}
 			if d.Start.After(at) || recorded(d.Start, d.RecordedAt).After(rec) {
 				after++
 			}
@@ -818,7 +827,12 @@ func growthFlags(rule Rule, dives []DiveFacts) []Flag {
 	var out []Flag
 	sum := map[string]float64{}
 	var at, rec time.Time
-	for i, d := range dives {
+	n := 0
+	for _, d := range dives {
+		if d.Extra {
+			continue // an earlier judgement of a dive already summed
+		}
+		n++
 		if d.Start.After(at) {
 			at = d.Start
 		}
@@ -840,7 +854,7 @@ func growthFlags(rule Rule, dives []DiveFacts) []Flag {
 				best, bestGauge = sum[g], g
 			}
 		}
-		detail := fmt.Sprintf("gauge %s residual strain summed over %d dive(s): %.1f µε", bestGauge, i+1, best)
+		detail := fmt.Sprintf("gauge %s residual strain summed over %d dive(s): %.1f µε", bestGauge, n, best)
 		out = appendFlag(out, rule, math.Abs(best), detail, true, d.ID, at, rec)
 	}
 	return out
