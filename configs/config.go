@@ -10,6 +10,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 	"time"
@@ -243,6 +244,9 @@ func Load(o Options) (*Config, error) {
 			src = append(src, "$"+name)
 		}
 	}
+	if err := numbersParse(v); err != nil {
+		return nil, err
+	}
 	c := &Config{Source: src}
 	c.Home = v.GetString("home")
 	c.Database.URL = v.GetString("database.url")
@@ -269,17 +273,17 @@ func Load(o Options) (*Config, error) {
 	if _, err := in.Earliest(); err != nil {
 		return nil, err
 	}
-	if !(in.ClockToleranceS >= 0 && in.ClockToleranceS <= 86400) || !(in.SurfaceToleranceMPa > 0 && in.SurfaceToleranceMPa <= 5) ||
+	if !(in.ClockToleranceS >= 0 && in.ClockToleranceS <= 86400) || !(in.SurfaceToleranceMPa > 0 && in.SurfaceToleranceMPa <= 1) ||
 		!(in.MaxGapS > 0 && in.MaxGapS < 1e9) || !(in.MaxIntervalS > 0 && in.MaxIntervalS <= in.MaxGapS) ||
 		!(in.CutLegMPaPerS > 0 && in.CutLegMPaPerS <= 1) {
-		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 5], max_gap_s > 0, 0 < max_interval_s <= max_gap_s, 0 < cut_leg_mpa_per_s <= 1): %+v", *in)
+		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 1], max_gap_s > 0, 0 < max_interval_s <= max_gap_s, 0 < cut_leg_mpa_per_s <= 1): %+v", *in)
 	}
 	c.Proof.Tolerance, c.Proof.HoldMin = v.GetFloat64("proof.tolerance"), v.GetFloat64("proof.hold_min")
 	if !(c.Proof.HoldMin >= 0 && c.Proof.HoldMin <= 10000) {
 		return nil, fmt.Errorf("configuration: proof.hold_min must be between 0 and 10000 minutes, got %v", c.Proof.HoldMin)
 	}
-	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance < 0.2) {
-		return nil, fmt.Errorf("configuration: proof.tolerance must be a fraction in [0, 0.2), got %v", c.Proof.Tolerance)
+	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance <= 0.05) {
+		return nil, fmt.Errorf("configuration: proof.tolerance must be a fraction in [0, 0.05], got %v", c.Proof.Tolerance)
 	}
 	c.RulesFile = v.GetString("fitness.rules_file")
 	c.Evidence = Evidence{HoldFraction: v.GetFloat64("evidence.hold_fraction"), OnsetIncrementFrac: v.GetFloat64("evidence.onset_increment_fraction"),
@@ -291,6 +295,8 @@ func Load(o Options) (*Config, error) {
 		ResidualTempToleranceC: v.GetFloat64("evidence.residual_temp_tolerance_c")}
 	if e := c.Evidence; !(e.HoldFraction > 0 && e.HoldFraction <= 1) || !(e.OnsetIncrementFrac > 0) || !(e.OnsetHits > 0) || e.HoldWindows < 2 ||
 		!(e.HoldDecayFraction >= 0 && e.HoldDecayFraction <= 1) || e.HoldQuietHits < 0 || e.HoldMinHits < 0 || e.BaselineDives < 1 ||
+		!(e.OnsetIncrementFrac <= 0.5) || !(e.OnsetHits >= 1 && e.OnsetHits <= 1000) || !(e.MinAmplitudeDB > 0 && e.MinAmplitudeDB <= 100) ||
+		!(e.HoldSettleS <= 3600) || e.HoldMaxHitsAfterSettle > 10000 || e.HoldWindows > 100 || e.BaselineDives > 1000 ||
 		!(e.HoldSettleS >= 0) || e.HoldMaxHitsAfterSettle < 0 || !(e.SensorCheckMinDB > 0 && e.SensorCheckMinDB <= 140) ||
 		!(e.HighAmplitudeDB > 0 && e.HighAmplitudeDB <= 140) || !(e.ResidualTempToleranceC >= 0 && e.ResidualTempToleranceC < 50) {
 		return nil, fmt.Errorf("configuration: evidence settings out of range: %+v", e)
@@ -353,8 +359,8 @@ func (f *Fatigue) validate() error {
 	if f.MeanStress != "goodman" && f.MeanStress != "none" {
 		errs = append(errs, fmt.Sprintf("fatigue.mean_stress must be goodman or none, got %q", f.MeanStress))
 	}
-	if !(f.Allowable > 0) {
-		errs = append(errs, fmt.Sprintf("fatigue.allowable must be positive, got %v", f.Allowable))
+	if !(f.Allowable > 0 && f.Allowable <= 1) {
+		errs = append(errs, fmt.Sprintf("fatigue.allowable must be in (0, 1], got %v", f.Allowable))
 	}
 	if f.Combine != "add" && f.Combine != "separate" {
 		errs = append(errs, fmt.Sprintf("fatigue.combine must be add or separate, got %q", f.Combine))
@@ -381,6 +387,33 @@ func (f *Fatigue) validate() error {
 		errs = append(errs, "fatigue.window and fatigue.min_dives must be at least 1")
 	}
 	if len(errs) > 0 {
+		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
+	}
+	return nil
+}
+
+// numbersParse refuses a numeric setting whose value is not a number (an
+// environment variable of "five" or "abc"): viper would read it as 0,
+// which can loosen a limit without a word.
+func numbersParse(v *viper.Viper) error {
+	var errs []string
+	for key, def := range defaults {
+		switch def.(type) {
+		case int, float64:
+		default:
+			continue
+		}
+		raw := v.Get(key)
+		s, ok := raw.(string)
+		if !ok {
+			continue
+		}
+		if _, err := strconv.ParseFloat(strings.TrimSpace(s), 64); err != nil {
+			errs = append(errs, fmt.Sprintf("%s must be a number, got %q", key, s))
+		}
+	}
+	if len(errs) > 0 {
+		sort.Strings(errs)
 		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
 	}
 	return nil

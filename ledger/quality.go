@@ -23,7 +23,13 @@ const (
 	FindingCutEnd   = "record_not_at_surface_end"
 	FindingGap      = "gap_at_depth"
 	FindingCoarse   = "coarse_sampling"
+	FindingBelowAtm = "pressure_below_atmospheric"
 )
+
+// belowAtmMPa is the gauge pressure below which a reading is impossible
+// in the sea (an absolute pressure under half an atmosphere): a logger
+// that wrote gauge values into an absolute column, or a sensor fault.
+const belowAtmMPa = -0.05
 
 // maxGapsListed bounds the gaps named one by one in a finding.
 const maxGapsListed = 5
@@ -41,6 +47,7 @@ type quality struct {
 	have           bool
 	firstP, lastP  float64
 	maxP           float64
+	minP           float64
 	prevT, prevP   float64
 	gaps           int
 	gapList        []string
@@ -67,7 +74,7 @@ func newQuality(surfTol, maxGap, maxInterval float64, tempCol int) *quality {
 func (q *quality) add(t, p, temp []float64) {
 	for i := range t {
 		if !q.have {
-			q.have, q.firstP = true, p[i]
+			q.have, q.firstP, q.minP = true, p[i], p[i]
 		} else {
 			dt := t[i] - q.prevT
 			below := q.prevP > q.surfTol || p[i] > q.surfTol
@@ -90,6 +97,7 @@ func (q *quality) add(t, p, temp []float64) {
 		}
 		q.prevT, q.prevP, q.lastP = t[i], p[i], p[i]
 		q.maxP = math.Max(q.maxP, p[i])
+		q.minP = math.Min(q.minP, p[i])
 		if temp != nil {
 			q.tempsPresent = true
 			if p[i] > q.surfTol {
@@ -121,6 +129,9 @@ func (q *quality) findings() []Finding {
 	}
 	if q.endsCut() {
 		out = append(out, Finding{FindingCutEnd, fmt.Sprintf("the record ends at %.3g MPa, not within %.3g MPa of the surface: the dive's last part is missing; its pressure cycle is closed to the surface and counted whole, and the unrecorded ascent is charged at the dive's highest recorded pressure %.3g MPa", q.lastP, q.surfTol, q.maxP)})
+	}
+	if q.have && q.minP < belowAtmMPa {
+		out = append(out, Finding{FindingBelowAtm, fmt.Sprintf("a reading of %.3g MPa gauge, an absolute pressure of %.3g MPa, is below what the sea allows: a gauge logger written into an absolute column, or a sensor fault; the depths and pressures of this record are doubtful", q.minP, q.minP+0.101325)})
 	}
 	if q.gaps > 0 {
 		d := fmt.Sprintf("%d gap(s) between samples below the surface longer than %.0f s (longest %.0f s): %s", q.gaps, q.maxGap, q.longestGapS, strings.Join(q.gapList, "; "))
