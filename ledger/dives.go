@@ -331,6 +331,9 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err := tx.Commit(ctx); err != nil {
 		return nil, fmt.Errorf("logging dive: commit: %w", err)
 	}
+	if err := l.noteStatusAfter(ctx, h.Serial); err != nil {
+		return nil, err
+	}
 	d := diveFromRow(row, h.Serial, h.Spec.RatedDepthM, false)
 	d.Rejudged, d.Replaces = rejudged, replaces
 	d.Evidence, d.ProofTest = row.evidence.View(), req.proof != nil

@@ -759,3 +759,17 @@ func voidLife(dmg *Damages, v fitness.Verdict, r *fitness.Rules) {
 // the surface (ingest.surface_tolerance_mpa): a sensor check above it is
 // counted as emission too.
 func (l *Ledger) SurfaceToleranceMPa() float64 { return l.cfg.Ingest.SurfaceToleranceMPa }
+
+// noteStatusAfter evaluates a hull's status after a write and appends it
+// to the status history when it changed, so that every change is kept
+// whoever wrote (the CLI, the demo, a script).
+func (l *Ledger) noteStatusAfter(ctx context.Context, serial string) error {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return err
+	}
+	if _, err := l.FitnessOf(ctx, h, now()); err != nil {
+		return fmt.Errorf("recorded; noting the hull's status failed: %w", err)
+	}
+	return nil
+}

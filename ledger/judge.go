@@ -112,6 +112,9 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 	if err != nil {
 		return nil, err
 	}
+	if err := l.noteStatusAfter(ctx, h.Serial); err != nil {
+		return nil, err
+	}
 	return v, nil
 }
 

@@ -176,6 +176,9 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 	if err != nil {
 		return nil, err
 	}
+	if err := l.noteStatusAfter(ctx, serial); err != nil {
+		return nil, err
+	}
 	return &in, nil
 }
 
@@ -200,6 +203,9 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 		return err
 	})
 	if err != nil {
+		return nil, err
+	}
+	if err := l.noteStatusAfter(ctx, serial); err != nil {
 		return nil, err
 	}
 	p.Baseline = map[string]float64{}
@@ -283,6 +289,9 @@ func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) 
 		return chainRec{"decision", d.ID.String(), decisionCanon(h.ID, &d)}, err
 	})
 	if err != nil {
+		return nil, err
+	}
+	if err := l.noteStatusAfter(ctx, serial); err != nil {
 		return nil, err
 	}
 	return &d, nil
