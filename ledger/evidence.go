@@ -479,7 +479,9 @@ type EvidenceView struct {
 	FelicityReason       string   `json:"felicity_reason"`
 	OnsetMPa             *float64 `json:"onset_mpa"`
 	OnsetCriterion       string   `json:"onset_criterion,omitempty"`
-	ReferencePressureMPa float64  `json:"reference_pressure_mpa"`
+	// ReferencePressureMPa is null when the hull had no earlier dive or
+	// proof test (no reference).
+	ReferencePressureMPa *float64 `json:"reference_pressure_mpa"`
 	ReferenceSource      string   `json:"reference_source"`
 	// HoldEmission is nil for a dive without acoustic-emission data.
 	HoldEmission  *HoldView         `json:"hold_emission"`
@@ -510,9 +512,12 @@ func (e *Evidence) View() *EvidenceView {
 	if e == nil {
 		return nil
 	}
-	v := &EvidenceView{Evaluated: e.Evaluated, Reason: e.Reason, PeakMPa: e.PeakMPa, ReferencePressureMPa: e.PreviousMaxMPa,
+	v := &EvidenceView{Evaluated: e.Evaluated, Reason: e.Reason, PeakMPa: e.PeakMPa, ReferencePressureMPa: fin(e.PreviousMaxMPa),
 		ReferenceSource: e.ReferenceSource, MissingAE: e.MissingAE, Channels: e.Channels, Gauges: e.Strain,
 		MissingGauges: e.MissingGauges, GaugeProblems: e.GaugeProblems, Baseline: e.BaselineSource, DataQuality: e.DataQuality}
+	if e.PreviousMaxMPa <= 0 {
+		v.ReferencePressureMPa = nil
+	}
 	if v.Channels == nil {
 		v.Channels = []ChannelEv{}
 	}

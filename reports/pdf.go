@@ -2,6 +2,7 @@ package reports
 
 import (
 	"fmt"
+	"hulltally/fatigue/fitness"
 	"math"
 	"sort"
 	"strings"
@@ -421,7 +422,7 @@ func implosion(d *doc, iv *ImplosionView, reason string, ratedM float64) {
 	if iv.CollapseTimeMS != nil {
 		ct = fmt.Sprintf("about %.2g ms", *iv.CollapseTimeMS)
 	}
-	d.kv([][2]string{{"Collapse at", at}, {"Internal volume", vol}, {"Energy released", energy}, {"Collapse time", ct}})
+	d.kv([][2]string{{"Sea pressure", at}, {"Internal volume", vol}, {"Energy released", energy}, {"Collapse time", ct}})
 	d.pdf.Ln(0.5)
 	d.block(marginL, bodyW, 3.6, ImplosionCaution, styleBold, 8, "L", true)
 	d.pdf.Ln(0.5)
@@ -706,7 +707,18 @@ func diveBody(d *doc, m *Model) error {
 	d.h2("Flags raised by this dive")
 	rows = nil
 	for _, f := range dp.Flags {
-		rows = append(rows, []string{f.Level, f.Rule, f.Detail})
+		detail := f.Detail
+		if !f.Missing {
+			v := fmt.Sprintf("%.4g %s %.4g %s", float64(f.Value), symbol(f.When), f.Threshold, f.Unit)
+			if detail == "" {
+				detail = v
+			} else {
+				detail = v + "; " + detail
+			}
+		} else if detail == "" {
+			detail = "value not established"
+		}
+		rows = append(rows, []string{f.Level, f.Rule, detail})
 	}
 	if len(rows) == 0 {
 		d.para("None.", 9)
@@ -916,4 +928,9 @@ func RenderReport(m *Model) (*Rendered, error) {
 		return RenderFleetReport(m)
 	}
 	return nil, fmt.Errorf("unknown report kind %q", m.Kind)
+}
+
+// symbol is a comparison as its sign.
+func symbol(when string) string {
+	return fitness.Comparison(when).Symbol()
 }

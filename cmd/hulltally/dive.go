@@ -353,7 +353,11 @@ func (a *app) printEvidence(e *ledger.EvidenceView) {
 	if !e.Evaluated {
 		a.printf("  not evaluated: %s\n", e.Reason)
 	}
-	a.printf("  reference pressure %.4g MPa (%s)\n", e.ReferencePressureMPa, e.ReferenceSource)
+	if e.ReferencePressureMPa != nil {
+		a.printf("  reference pressure %.4g MPa (%s)\n", *e.ReferencePressureMPa, e.ReferenceSource)
+	} else {
+		a.printf("  reference pressure: none (%s)\n", e.ReferenceSource)
+	}
 	switch {
 	case e.FelicityRatio != nil:
 		a.printf("  Felicity ratio %.3f: %s\n", *e.FelicityRatio, e.FelicityReason)
