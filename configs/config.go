@@ -8,6 +8,7 @@ import (
 	"bytes"
 	_ "embed"
 	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"sort"
@@ -273,10 +274,14 @@ func Load(o Options) (*Config, error) {
 	if _, err := in.Earliest(); err != nil {
 		return nil, err
 	}
-	if !(in.ClockToleranceS >= 0 && in.ClockToleranceS <= 86400) || !(in.SurfaceToleranceMPa > 0 && in.SurfaceToleranceMPa <= 1) ||
-		!(in.MaxGapS > 0 && in.MaxGapS < 1e9) || !(in.MaxIntervalS > 0 && in.MaxIntervalS <= in.MaxGapS) ||
-		!(in.CutLegMPaPerS > 0 && in.CutLegMPaPerS <= 1) {
-		return nil, fmt.Errorf("configuration: ingest settings out of range (clock_tolerance_s 0..86400, surface_tolerance_mpa (0, 1], max_gap_s > 0, 0 < max_interval_s <= max_gap_s, 0 < cut_leg_mpa_per_s <= 1): %+v", *in)
+	if err := inRanges([]rangeCheck{
+		{"ingest.clock_tolerance_s", in.ClockToleranceS, 0, 86400, true},
+		{"ingest.surface_tolerance_mpa", in.SurfaceToleranceMPa, 0, 1, false},
+		{"ingest.max_gap_s", in.MaxGapS, 0, 1e9, false},
+		{"ingest.max_interval_s", in.MaxIntervalS, 0, in.MaxGapS, false},
+		{"ingest.cut_leg_mpa_per_s", in.CutLegMPaPerS, 0, 1, false},
+	}); err != nil {
+		return nil, err
 	}
 	c.Proof.Tolerance, c.Proof.HoldMin = v.GetFloat64("proof.tolerance"), v.GetFloat64("proof.hold_min")
 	if !(c.Proof.HoldMin >= 0 && c.Proof.HoldMin <= 10000) {
@@ -293,13 +298,24 @@ func Load(o Options) (*Config, error) {
 		HoldSettleS: v.GetFloat64("evidence.hold_settle_s"), HoldMaxHitsAfterSettle: v.GetInt("evidence.hold_max_hits_after_settle"),
 		SensorCheckMinDB: v.GetFloat64("evidence.sensor_check_min_db"), HighAmplitudeDB: v.GetFloat64("evidence.high_amplitude_db"),
 		ResidualTempToleranceC: v.GetFloat64("evidence.residual_temp_tolerance_c")}
-	if e := c.Evidence; !(e.HoldFraction > 0 && e.HoldFraction <= 1) || !(e.OnsetIncrementFrac > 0) || !(e.OnsetHits > 0) || e.HoldWindows < 2 ||
-		!(e.HoldDecayFraction >= 0 && e.HoldDecayFraction <= 1) || e.HoldQuietHits < 0 || e.HoldMinHits < 0 || e.BaselineDives < 1 ||
-		!(e.OnsetIncrementFrac <= 0.5) || !(e.OnsetHits >= 1 && e.OnsetHits <= 1000) || !(e.MinAmplitudeDB > 0 && e.MinAmplitudeDB <= 100) ||
-		!(e.HoldSettleS <= 3600) || e.HoldMaxHitsAfterSettle > 10000 || e.HoldWindows > 100 || e.BaselineDives > 1000 ||
-		!(e.HoldSettleS >= 0) || e.HoldMaxHitsAfterSettle < 0 || !(e.SensorCheckMinDB > 0 && e.SensorCheckMinDB <= 140) ||
-		!(e.HighAmplitudeDB > 0 && e.HighAmplitudeDB <= 140) || !(e.ResidualTempToleranceC >= 0 && e.ResidualTempToleranceC < 50) {
-		return nil, fmt.Errorf("configuration: evidence settings out of range: %+v", e)
+	e := c.Evidence
+	if err := inRanges([]rangeCheck{
+		{"evidence.hold_fraction", e.HoldFraction, 0, 1, false},
+		{"evidence.onset_increment_fraction", e.OnsetIncrementFrac, 0, 0.5, false},
+		{"evidence.onset_hits", e.OnsetHits, 1, 1000, true},
+		{"evidence.min_amplitude_db", e.MinAmplitudeDB, 0, 100, false},
+		{"evidence.hold_windows", float64(e.HoldWindows), 2, 100, true},
+		{"evidence.hold_decay_fraction", e.HoldDecayFraction, 0, 1, true},
+		{"evidence.hold_quiet_hits", float64(e.HoldQuietHits), 0, 10000, true},
+		{"evidence.hold_min_hits", float64(e.HoldMinHits), 0, 10000, true},
+		{"evidence.baseline_dives", float64(e.BaselineDives), 1, 1000, true},
+		{"evidence.hold_settle_s", e.HoldSettleS, 0, 3600, true},
+		{"evidence.hold_max_hits_after_settle", float64(e.HoldMaxHitsAfterSettle), 0, 10000, true},
+		{"evidence.sensor_check_min_db", e.SensorCheckMinDB, 0, 140, false},
+		{"evidence.high_amplitude_db", e.HighAmplitudeDB, 0, 140, false},
+		{"evidence.residual_temp_tolerance_c", e.ResidualTempToleranceC, 0, 50, true},
+	}); err != nil {
+		return nil, err
 	}
 	fa := &c.Fatigue
 	fa.CurvesFile = v.GetString("fatigue.curves_file")
@@ -414,6 +430,33 @@ func numbersParse(v *viper.Viper) error {
 	}
 	if len(errs) > 0 {
 		sort.Strings(errs)
+		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
+	}
+	return nil
+}
+
+// rangeCheck is one numeric setting and its allowed range: (lo, hi], or
+// [lo, hi] when loInclusive.
+type rangeCheck struct {
+	key         string
+	v, lo, hi   float64
+	loInclusive bool
+}
+
+// inRanges refuses every setting outside its range, naming each key.
+func inRanges(cs []rangeCheck) error {
+	var errs []string
+	for _, c := range cs {
+		ok := c.v <= c.hi && (c.v > c.lo || (c.loInclusive && c.v == c.lo))
+		if !ok || math.IsNaN(c.v) {
+			open := "("
+			if c.loInclusive {
+				open = "["
+			}
+			errs = append(errs, fmt.Sprintf("%s must lie in %s%g, %g], got %g", c.key, open, c.lo, c.hi, c.v))
+		}
+	}
+	if len(errs) > 0 {
 		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
 	}
 	return nil

@@ -48,12 +48,12 @@ func TestBadValues(t *testing.T) {
 		// refused, never read as 0 or taken as given.
 		{"HULLTALLY_EVIDENCE_MIN_AMPLITUDE_DB", "abc", "min_amplitude_db must be a number"},
 		{"HULLTALLY_FATIGUE_GATE_FACTOR", "five", "gate_factor must be a number"},
-		{"HULLTALLY_EVIDENCE_MIN_AMPLITUDE_DB", "141", "evidence settings out of range"},
-		{"HULLTALLY_EVIDENCE_ONSET_HITS", "1e9", "evidence settings out of range"},
-		{"HULLTALLY_EVIDENCE_ONSET_INCREMENT_FRACTION", "0.9", "evidence settings out of range"},
-		{"HULLTALLY_EVIDENCE_HOLD_SETTLE_S", "1e12", "evidence settings out of range"},
+		{"HULLTALLY_EVIDENCE_MIN_AMPLITUDE_DB", "141", "evidence.min_amplitude_db must lie in (0, 100], got 141"},
+		{"HULLTALLY_EVIDENCE_ONSET_HITS", "1e9", "evidence.onset_hits"},
+		{"HULLTALLY_EVIDENCE_ONSET_INCREMENT_FRACTION", "0.9", "evidence.onset_increment_fraction"},
+		{"HULLTALLY_EVIDENCE_HOLD_SETTLE_S", "1e12", "evidence.hold_settle_s"},
 		{"HULLTALLY_PROOF_TOLERANCE", "0.19", "proof.tolerance"},
-		{"HULLTALLY_INGEST_SURFACE_TOLERANCE_MPA", "5", "ingest settings out of range"},
+		{"HULLTALLY_INGEST_SURFACE_TOLERANCE_MPA", "5", "ingest.surface_tolerance_mpa"},
 		{"HULLTALLY_FATIGUE_ALLOWABLE", "3", "allowable"},
 	} {
 		_, err := Load(Options{Env: env(map[string]string{tc.key: tc.val}), UserHome: "/h", IsRoot: func() bool { return false }})
