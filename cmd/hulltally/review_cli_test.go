@@ -298,12 +298,10 @@ func TestReviewYoyoDesignCycles(t *testing.T) {
 		k = append(k, knot{tt, 0})
 	}
 	dir := t.TempDir()
-	var ids []string
 	for i, day := range []int{5, 8} {
 		start := advDay(day)
 		d := e.logJSON("--hull", advHull, "--ae", writeHits(t, dir, fmt.Sprintf("h%d.csv", i), start, surfaceChecks()),
 			writeSamples(t, dir, fmt.Sprintf("yoyo%d.csv", i), start, k, sampleOpts{}))
-		ids = append(ids, d["dive_id"].(string))
 		n := 0.0
 		for _, c := range e.showDive(d["dive_id"].(string))["pressure_cycles"].([]any) {
 			m := c.(map[string]any)
