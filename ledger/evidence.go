@@ -471,14 +471,14 @@ func hitsForEvidence(hs []logfile.Hit, firstNS int64) ([]evidence.Hit, []evidenc
 // the hold emission, the figures per channel and per gauge, and the
 // data-quality findings.
 type EvidenceView struct {
-	Evaluated            bool     `json:"evaluated"`
-	Reason               string   `json:"reason,omitempty"`
-	PeakMPa              float64  `json:"peak_mpa"`
-	FelicityRatio        *float64 `json:"felicity_ratio"`
-	FelicityLowerBound   *float64 `json:"felicity_lower_bound"`
-	FelicityReason       string   `json:"felicity_reason"`
-	OnsetMPa             *float64 `json:"onset_mpa"`
-	OnsetCriterion       string   `json:"onset_criterion,omitempty"`
+	Evaluated          bool     `json:"evaluated"`
+	Reason             string   `json:"reason,omitempty"`
+	PeakMPa            float64  `json:"peak_mpa"`
+	FelicityRatio      *float64 `json:"felicity_ratio"`
+	FelicityLowerBound *float64 `json:"felicity_lower_bound"`
+	FelicityReason     string   `json:"felicity_reason"`
+	OnsetMPa           *float64 `json:"onset_mpa"`
+	OnsetCriterion     string   `json:"onset_criterion,omitempty"`
 	// ReferencePressureMPa is null when the hull had no earlier dive or
 	// proof test (no reference).
 	ReferencePressureMPa *float64 `json:"reference_pressure_mpa"`
