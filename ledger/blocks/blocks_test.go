@@ -142,8 +142,48 @@ func FuzzDecode(f *testing.F) {
 		if err != nil {
 			return
 		}
-		if len(d.Values) > 0 && len(d.Values[0]) != len(d.TimeNS) {
-			t.Fatal("inconsistent decode")
+		// Every column holds a value per row, or none at all (the time
+		// column's slot).
+		for c, vs := range d.Values {
+			if vs != nil && len(vs) != len(d.TimeNS) {
+				t.Fatalf("column %d has %d values for %d rows", c, len(vs), len(d.TimeNS))
+			}
+		}
+		// Decode, encode, decode: what was accepted encodes again (decimal
+		// columns with their mantissas and scales, the others as bits) and
+		// decodes to the same times and values, bit for bit.
+		b := NewBlock(len(d.Values), len(d.TimeNS))
+		b.TimeNS = append(b.TimeNS, d.TimeNS...)
+		for c := range d.Values {
+			for i, v := range d.Values[c] { // none for an empty column: it encodes empty again
+				if d.Decimal[c] {
+					b.Cols[c].AppendDecimal(d.Mant[c][i], d.Scale[c])
+				} else {
+					b.Cols[c].AppendFloat(v)
+				}
+			}
+		}
+		d2, err := Decode(Encode(nil, b))
+		if err != nil {
+			t.Fatalf("a decoded block does not decode again after encoding: %v", err)
+		}
+		if len(d2.TimeNS) != len(d.TimeNS) || len(d2.Values) != len(d.Values) {
+			t.Fatalf("round trip changed the shape: %d×%d → %d×%d", len(d.TimeNS), len(d.Values), len(d2.TimeNS), len(d2.Values))
+		}
+		for i := range d.TimeNS {
+			if d2.TimeNS[i] != d.TimeNS[i] {
+				t.Fatalf("time %d: %d → %d", i, d.TimeNS[i], d2.TimeNS[i])
+			}
+		}
+		for c := range d.Values {
+			if len(d2.Values[c]) != len(d.Values[c]) {
+				t.Fatalf("column %d: %d values → %d", c, len(d.Values[c]), len(d2.Values[c]))
+			}
+			for i := range d.Values[c] {
+				if math.Float64bits(d2.Values[c][i]) != math.Float64bits(d.Values[c][i]) {
+					t.Fatalf("column %d row %d: %v → %v", c, i, d.Values[c][i], d2.Values[c][i])
+				}
+			}
 		}
 	})
 }
