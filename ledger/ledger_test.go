@@ -4,6 +4,8 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"hulltally/fatigue/seawater"
+	"math"
 	"os"
 	"path/filepath"
 	"strings"
@@ -329,15 +331,26 @@ func TestBeyondRatedIsRecorded(t *testing.T) {
 	if !d.BeyondRated || d.MaxDepthM != 4100 {
 		t.Fatalf("dive %+v", d)
 	}
+	// Depth logged without latitude: pressure at latitude 90° (the most
+	// pressure per metre).
+	if want := seawater.DepthToMPa(4100, 90); !d.LatitudeAssumed || d.Latitude != 90 || math.Abs(d.MaxPressureMPa-want) > 1e-9 {
+		t.Fatalf("depth dive: latitude %v (assumed %v), max pressure %v, want 90 and %v", d.Latitude, d.LatitudeAssumed, d.MaxPressureMPa, want)
+	}
 	// Pressure logged without latitude: depth at the equator (the deepest
-	// reading of a pressure), 41.5 MPa is beyond 4000 m.
-	p = writeFile(t, "deep2.csv", "time,pressure_mpa\n2026-05-02T08:00:00Z,0\n2026-05-02T09:00:00Z,41.5\n")
+	// reading of a pressure). The pressure is chosen so that the equator
+	// puts it 5 m beyond the 4000 m rating while latitude 90° would put it
+	// within: a wrong latitude is caught (UNESCO 1983 either way).
+	pr := seawater.DepthToMPa(4005, 0)
+	if seawater.MPaToDepth(pr, 90) >= 4000 {
+		t.Fatalf("test set-up: %.4f MPa is beyond 4000 m at latitude 90 too", pr)
+	}
+	p = writeFile(t, "deep2.csv", fmt.Sprintf("time,pressure_mpa\n2026-05-02T08:00:00Z,0\n2026-05-02T09:00:00Z,%.6f\n", pr))
 	d, err = l.LogDive(context.Background(), ledger.LogRequest{Hull: serial, Samples: p})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !d.BeyondRated || !d.LatitudeAssumed || d.Latitude != 0 {
-		t.Fatalf("dive %+v", d)
+	if !d.BeyondRated || !d.LatitudeAssumed || d.Latitude != 0 || math.Abs(d.MaxDepthM-4005) > 0.01 {
+		t.Fatalf("pressure dive: beyond %v, latitude %v (assumed %v), depth %v m; want beyond, 0, 4005 m", d.BeyondRated, d.Latitude, d.LatitudeAssumed, d.MaxDepthM)
 	}
 }
 
