@@ -1,22 +1,27 @@
 // Package configs holds hulltally's configuration: the built-in defaults,
 // the embedded default file hulltally.yaml, an optional file given by the
-// user, and HULLTALLY_* environment variables, in rising priority. It also
-// embeds the shipped material and curve library.
+// user, and HULLTALLY_* environment variables, in rising priority. One
+// table of keys (Keys) drives the defaults, the variables, the parsing and
+// the validation of every layer, and the README's table (MarkdownTable).
+// Configuration fails closed: an unknown key or variable and a bad value
+// are refused with an *Error, never replaced by a default. The package
+// also embeds the shipped material and curve library and rule set.
 package configs
 
 import (
 	"bytes"
 	_ "embed"
+	"errors"
 	"fmt"
-	"math"
+	"io"
 	"os"
 	"path/filepath"
 	"sort"
-	"strconv"
 	"strings"
+	"syscall"
 	"time"
 
-	"github.com/spf13/viper"
+	"gopkg.in/yaml.v3"
 )
 
 //go:embed hulltally.yaml
@@ -158,9 +163,9 @@ func (f Fatigue) Curves() ([]byte, string, error) {
 	if f.CurvesFile == "" {
 		return CurvesYAML, "configs/curves.yaml (shipped)", nil
 	}
-	b, err := os.ReadFile(f.CurvesFile)
+	b, err := readRegular(f.CurvesFile, maxDataFileBytes)
 	if err != nil {
-		return nil, "", fmt.Errorf("fatigue.curves_file: %w", err)
+		return nil, "", fmt.Errorf("fatigue.curves_file %s: %w", f.CurvesFile, err)
 	}
 	return b, f.CurvesFile, nil
 }
@@ -170,19 +175,25 @@ func (c *Config) Rules() ([]byte, string, error) {
 	if c.RulesFile == "" {
 		return RulesYAML, "configs/rules.yaml (shipped)", nil
 	}
-	b, err := os.ReadFile(c.RulesFile)
+	b, err := readRegular(c.RulesFile, maxDataFileBytes)
 	if err != nil {
-		return nil, "", fmt.Errorf("fitness.rules_file: %w", err)
+		return nil, "", fmt.Errorf("fitness.rules_file %s: %w", c.RulesFile, err)
 	}
 	return b, c.RulesFile, nil
 }
 
 // Options are the inputs of Load that do not come from files.
 type Options struct {
-	// File is a configuration file given with --config (may be empty).
+	// File is a configuration file given with --config (may be empty). It
+	// must be a regular file of at most MaxFileBytes.
 	File string
 	// Env looks up environment variables; nil means os.LookupEnv.
 	Env func(string) (string, bool)
+	// Environ lists the environment as "NAME=value" entries, to refuse
+	// HULLTALLY_* variables that match no key. nil means os.Environ when
+	// Env is nil too, and no such check when Env is given (a test's Env
+	// holds only the variables it means).
+	Environ func() []string
 	// UserHome is the user's home folder; empty means os.UserHomeDir.
 	UserHome string
 	// IsRoot reports whether the process runs as root; nil means
@@ -190,152 +201,374 @@ type Options struct {
 	IsRoot func() bool
 }
 
-// defaults are the built-in values of every key (the lowest layer); the
-// embedded hulltally.yaml states the same values with their sources.
-var defaults = map[string]any{
-	"home": "", "database.url": "", "database.max_conns": 4,
-	"ingest.default_latitude": "", "ingest.block_samples": 8192,
-	"ingest.clock_tolerance_s": 600, "ingest.earliest_time": "1990-01-01T00:00:00Z", "ingest.surface_tolerance_mpa": 0.1,
-	"ingest.max_gap_s": 60, "ingest.max_interval_s": 10, "ingest.cut_leg_mpa_per_s": 0.005, "proof.tolerance": 0.02, "proof.hold_min": 30,
-	"fatigue.design_bottom_time_min": 60, "fatigue.life_horizon": 100000,
-	"evidence.hold_settle_s": 60, "evidence.hold_max_hits_after_settle": 5, "evidence.sensor_check_min_db": 80,
-	"evidence.high_amplitude_db": 80, "evidence.residual_temp_tolerance_c": 2,
-	"fatigue.curves_file": "", "fatigue.design_fatigue_factor": 1.0, "fatigue.mean_stress": "goodman",
-	"fatigue.allowable": 0.3, "fatigue.combine": "add", "fatigue.sustained_allowable": 0.3,
-	"fatigue.sensor_noise_mpa": 0.01, "fatigue.strain_noise_ue": 2.0, "fatigue.gate_factor": 5,
-	"fatigue.hold_bin_mpa": 0.05, "fatigue.hold_max_bins": 24, "fatigue.window": 10, "fatigue.min_dives": 3,
-	"fitness.rules_file":     "",
-	"evidence.hold_fraction": 0.95, "evidence.onset_increment_fraction": 0.10, "evidence.onset_hits": 6,
-	"evidence.min_amplitude_db": 45, "evidence.hold_windows": 4, "evidence.hold_decay_fraction": 0.5,
-	"evidence.hold_quiet_hits": 2, "evidence.hold_min_hits": 5, "evidence.baseline_dives": 3,
+// MaxFileBytes is the largest configuration file read (1 MiB): the
+// shipped hulltally.yaml is under 10 KiB.
+const MaxFileBytes = 1 << 20
+
+// maxDataFileBytes bounds a curve library or rule set file (16 MiB).
+const maxDataFileBytes = 16 << 20
+
+// Sentinels of the kinds of *Error, for errors.Is.
+var (
+	// ErrUnknownKey: a key (or HULLTALLY_* variable) that matches no
+	// configuration key.
+	ErrUnknownKey = errors.New("unknown configuration key")
+	// ErrBadValue: a value that is malformed or outside its range.
+	ErrBadValue = errors.New("bad configuration value")
+	// ErrBadFile: a configuration file that cannot be used (missing, not
+	// a regular file, too large, not a YAML mapping).
+	ErrBadFile = errors.New("bad configuration file")
+)
+
+// Error is a refused configuration: where the fault is (File and Line,
+// or Var), which Key, and why. errors.Is(err, Kind) holds for its Kind.
+type Error struct {
+	// Kind is ErrUnknownKey, ErrBadValue or ErrBadFile.
+	Kind error
+	// File is the configuration file ("embedded configs/hulltally.yaml"
+	// for the embedded one); empty for an environment variable or a
+	// check across keys.
+	File string
+	// Line is the line in File, when known (else 0).
+	Line int
+	// Var is the environment variable, when the fault is in one.
+	Var string
+	// Key is the dotted key as written (an unknown key) or the known key
+	// whose value is refused; empty for a fault of the whole file.
+	Key string
+	// Suggestion is the nearest known key to an unknown one (its
+	// environment variable for an unknown variable).
+	Suggestion string
+	// Reason says what is wrong.
+	Reason string
+	// Err is the underlying error, if any.
+	Err error
 }
 
-// Load resolves the configuration.
-func Load(o Options) (*Config, error) {
-	env := o.Env
+func (e *Error) Error() string {
+	var b strings.Builder
+	switch {
+	case e.Var != "":
+		b.WriteString("environment variable " + e.Var)
+	case e.File != "":
+		b.WriteString("config file " + e.File)
+		if e.Line > 0 {
+			fmt.Fprintf(&b, " line %d", e.Line)
+		}
+	default:
+		b.WriteString("configuration")
+	}
+	b.WriteString(": ")
+	b.WriteString(e.Reason)
+	if e.Suggestion != "" {
+		b.WriteString(" (did you mean " + e.Suggestion + "?)")
+	}
+	if e.Err != nil {
+		b.WriteString(": " + e.Err.Error())
+	}
+	return b.String()
+}
+
+// Unwrap gives errors.Is and errors.As the kind and the cause.
+func (e *Error) Unwrap() []error {
+	if e.Err != nil {
+		return []error{e.Kind, e.Err}
+	}
+	return []error{e.Kind}
+}
+
+// setting is one key's value in one layer and where it came from.
+type setting struct {
+	v    value
+	from string
+}
+
+// Load resolves the configuration: the built-in defaults of Keys, the
+// embedded hulltally.yaml, o.File, then HULLTALLY_* variables. Every
+// layer is checked as it is read: an unknown key, a key given twice, a
+// malformed or out-of-range value (NaN and Inf included) is refused with
+// an error (errors.Join of *Error, one per fault) naming the file and
+// line or the variable, and the key. Load never falls back to a default
+// for a key it could not read.
+func Load(o Options) (*Config, error) { return load(o, defaultYAML) }
+
+// load is Load with the embedded layer given.
+func load(o Options, embedded []byte) (*Config, error) {
+	env, environ := o.Env, o.Environ
 	if env == nil {
 		env = os.LookupEnv
+		if environ == nil {
+			environ = os.Environ
+		}
 	}
-	v := viper.New()
-	v.SetConfigType("yaml")
-	for key, val := range defaults {
-		v.SetDefault(key, val)
+	keys := Keys()
+	byName := make(map[string]*Key, len(keys))
+	for i := range keys {
+		byName[keys[i].Name] = &keys[i]
+	}
+	// Unknown keys are matched against keys and sections ("fatigu").
+	suggest := yamlCandidates(keys)
+	got := make(map[string]setting, len(keys))
+	var errs []error
+	for _, k := range keys {
+		v, err := k.parse(k.Default, false)
+		if err != nil { // a fault of the table itself
+			errs = append(errs, &Error{Kind: ErrBadValue, File: "built-in defaults", Key: k.Name, Reason: err.Error()})
+		}
+		got[k.Name] = setting{v, "built-in defaults"}
 	}
 	src := []string{"built-in defaults"}
-	if err := v.MergeConfig(bytes.NewReader(defaultYAML)); err != nil {
-		return nil, fmt.Errorf("embedded configs/hulltally.yaml: %w", err)
+
+	layer := func(name string, data []byte) {
+		errs = append(errs, loadYAML(name, data, byName, suggest, got)...)
 	}
-	src = append(src, "embedded configs/hulltally.yaml")
+	layer(embeddedName, embedded)
+	src = append(src, embeddedName)
 	if o.File != "" {
-		f, err := os.Open(o.File)
+		data, err := readRegular(o.File, MaxFileBytes)
 		if err != nil {
-			return nil, fmt.Errorf("config file: %w", err)
+			errs = append(errs, &Error{Kind: ErrBadFile, File: o.File, Reason: "cannot be read", Err: err})
+		} else {
+			layer(o.File, data)
+			src = append(src, o.File)
 		}
-		defer f.Close()
-		if err := v.MergeConfig(f); err != nil {
-			return nil, fmt.Errorf("config file %s: %w", o.File, err)
-		}
-		src = append(src, o.File)
 	}
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
+	}
+
 	// Environment: HULLTALLY_HOME, HULLTALLY_DATABASE_URL, ...
-	for _, key := range v.AllKeys() {
-		name := "HULLTALLY_" + strings.ToUpper(strings.ReplaceAll(key, ".", "_"))
-		if val, ok := env(name); ok {
-			v.Set(key, val)
-			src = append(src, "$"+name)
+	envNames := make([]string, len(keys))
+	for i, k := range keys {
+		envNames[i] = EnvName(k.Name)
+		raw, ok := env(envNames[i])
+		if !ok {
+			continue
+		}
+		v, err := k.parse(raw, false)
+		if err != nil {
+			errs = append(errs, &Error{Kind: ErrBadValue, Var: envNames[i], Key: k.Name, Reason: err.Error()})
+			continue
+		}
+		got[k.Name] = setting{v, "$" + envNames[i]}
+		src = append(src, "$"+envNames[i])
+	}
+	if environ != nil {
+		known := make(map[string]bool, len(envNames))
+		for _, n := range envNames {
+			known[n] = true
+		}
+		var unknown []string
+		for _, kv := range environ() {
+			name, _, _ := strings.Cut(kv, "=")
+			if strings.HasPrefix(strings.ToUpper(name), envPrefix) && !known[name] && !reservedEnv(name) {
+				unknown = append(unknown, name)
+			}
+		}
+		sort.Strings(unknown)
+		for _, name := range unknown {
+			errs = append(errs, &Error{Kind: ErrUnknownKey, Var: name, Reason: "no such configuration key",
+				Suggestion: suggestEnv(name, keys)})
 		}
 	}
-	if err := numbersParse(v); err != nil {
-		return nil, err
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
 	}
+
 	c := &Config{Source: src}
-	c.Home = v.GetString("home")
-	c.Database.URL = v.GetString("database.url")
-	mc := v.GetInt("database.max_conns")
-	if mc < 1 || mc > 1000 {
-		return nil, fmt.Errorf("database.max_conns must be between 1 and 1000, got %d", mc)
+	for _, k := range keys {
+		k.set(c, got[k.Name].v)
 	}
-	c.Database.MaxConns = int32(mc)
-	if s := strings.TrimSpace(v.GetString("ingest.default_latitude")); s != "" {
-		lat, err := strconv.ParseFloat(s, 64)
-		if err != nil || lat < -90 || lat > 90 {
-			return nil, fmt.Errorf("ingest.default_latitude must be a latitude in degrees (-90..90) or empty, got %q", s)
+	// Checks across keys.
+	if c.Ingest.MaxIntervalS > c.Ingest.MaxGapS {
+		errs = append(errs, &Error{Kind: ErrBadValue, Key: "ingest.max_interval_s",
+			Reason: fmt.Sprintf("ingest.max_interval_s (%g, from %s) must not exceed ingest.max_gap_s (%g, from %s)",
+				c.Ingest.MaxIntervalS, got["ingest.max_interval_s"].from, c.Ingest.MaxGapS, got["ingest.max_gap_s"].from)})
+	}
+	if len(errs) > 0 {
+		return nil, errors.Join(errs...)
+	}
+	if err := resolveHome(c, o, env); err != nil {
+		return nil, err
+	}
+	return c, nil
+}
+
+const embeddedName = "embedded configs/hulltally.yaml"
+
+// loadYAML checks one YAML layer against the key table and records its
+// values in got. Every key is checked, so that all faults of a file are
+// reported at once.
+func loadYAML(file string, data []byte, byName map[string]*Key, suggest []candidate, got map[string]setting) []error {
+	bad := func(line int, reason string, err error) []error {
+		return []error{&Error{Kind: ErrBadFile, File: file, Line: line, Reason: reason, Err: err}}
+	}
+	dec := yaml.NewDecoder(bytes.NewReader(data))
+	var doc yaml.Node
+	if err := dec.Decode(&doc); err != nil {
+		if errors.Is(err, io.EOF) {
+			return nil // an empty file sets nothing
 		}
-		c.Ingest.DefaultLatitude = &lat
+		return bad(0, "not valid YAML", err)
 	}
-	c.Ingest.BlockSamples = v.GetInt("ingest.block_samples")
-	if c.Ingest.BlockSamples < 16 || c.Ingest.BlockSamples > 1<<20 {
-		return nil, fmt.Errorf("ingest.block_samples must be between 16 and 1048576, got %d", c.Ingest.BlockSamples)
+	var extra yaml.Node
+	if err := dec.Decode(&extra); !errors.Is(err, io.EOF) {
+		return bad(extra.Line, "holds more than one YAML document", err)
 	}
-	in := &c.Ingest
-	in.ClockToleranceS, in.EarliestTime = v.GetFloat64("ingest.clock_tolerance_s"), v.GetString("ingest.earliest_time")
-	in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS = v.GetFloat64("ingest.surface_tolerance_mpa"), v.GetFloat64("ingest.max_gap_s"), v.GetFloat64("ingest.max_interval_s")
-	in.CutLegMPaPerS = v.GetFloat64("ingest.cut_leg_mpa_per_s")
-	if _, err := in.Earliest(); err != nil {
+	root := &doc
+	if root.Kind == yaml.DocumentNode {
+		if len(root.Content) == 0 {
+			return nil
+		}
+		root = root.Content[0]
+	}
+	root = deref(root)
+	if root.Kind == yaml.ScalarNode && root.Tag == "!!null" {
+		return nil
+	}
+	if root.Kind != yaml.MappingNode {
+		return bad(root.Line, "must be a mapping of sections and keys", nil)
+	}
+	var errs []error
+	seen := map[string]int{}
+	unknown := func(key string, line int) {
+		errs = append(errs, &Error{Kind: ErrUnknownKey, File: file, Line: line, Key: key,
+			Reason: "unknown key " + key, Suggestion: suggestKey(key, suggest)})
+	}
+	leaf := func(name string, kn, vn *yaml.Node) {
+		if first, dup := seen[name]; dup {
+			errs = append(errs, &Error{Kind: ErrBadValue, File: file, Line: kn.Line, Key: name,
+				Reason: fmt.Sprintf("%s is given twice (first on line %d)", name, first)})
+			return
+		}
+		seen[name] = kn.Line
+		k := byName[name]
+		if k == nil {
+			unknown(name, kn.Line)
+			return
+		}
+		vn = deref(vn)
+		if vn.Kind != yaml.ScalarNode {
+			errs = append(errs, &Error{Kind: ErrBadValue, File: file, Line: kn.Line, Key: name,
+				Reason: fmt.Sprintf("%s must be a single value (%s), not a list or section", name, k.Allowed())})
+			return
+		}
+		raw, null := vn.Value, vn.Tag == "!!null"
+		if null {
+			raw = ""
+		}
+		v, err := k.parse(raw, null)
+		if err != nil {
+			errs = append(errs, &Error{Kind: ErrBadValue, File: file, Line: vn.Line, Key: name, Reason: err.Error()})
+			return
+		}
+		got[name] = setting{v, file}
+	}
+	for i := 0; i+1 < len(root.Content); i += 2 {
+		kn, vn := deref(root.Content[i]), deref(root.Content[i+1])
+		sec := kn.Value
+		if first, dup := seen[sec]; dup {
+			errs = append(errs, &Error{Kind: ErrBadValue, File: file, Line: kn.Line, Key: sec,
+				Reason: fmt.Sprintf("%s is given twice (first on line %d)", sec, first)})
+			continue
+		}
+		if _, isKey := byName[sec]; isKey {
+			leaf(sec, kn, vn)
+			continue
+		}
+		seen[sec] = kn.Line
+		if !isSection(sec, byName) {
+			unknown(sec, kn.Line)
+			continue
+		}
+		if vn.Kind == yaml.ScalarNode && vn.Tag == "!!null" {
+			continue // an empty section sets nothing
+		}
+		if vn.Kind != yaml.MappingNode {
+			errs = append(errs, &Error{Kind: ErrBadValue, File: file, Line: kn.Line, Key: sec,
+				Reason: sec + " is a section: it must hold keys"})
+			continue
+		}
+		for j := 0; j+1 < len(vn.Content); j += 2 {
+			ck := deref(vn.Content[j])
+			leaf(sec+"."+ck.Value, ck, vn.Content[j+1])
+		}
+	}
+	return errs
+}
+
+// deref follows a YAML alias to its anchored node.
+func deref(n *yaml.Node) *yaml.Node {
+	for n.Kind == yaml.AliasNode && n.Alias != nil {
+		n = n.Alias
+	}
+	return n
+}
+
+// isSection reports whether sec is the section of some key.
+func isSection(sec string, byName map[string]*Key) bool {
+	for n := range byName {
+		if strings.HasPrefix(n, sec+".") {
+			return true
+		}
+	}
+	return false
+}
+
+// readRegular reads a regular file of at most limit bytes. A FIFO, a
+// device (/dev/zero) or a folder is refused before anything is read, and
+// a file that grows past the limit while read is refused too.
+func readRegular(name string, limit int64) ([]byte, error) {
+	st, err := os.Stat(name)
+	if err != nil {
 		return nil, err
 	}
-	if err := inRanges([]rangeCheck{
-		{"ingest.clock_tolerance_s", in.ClockToleranceS, 0, 86400, true},
-		{"ingest.surface_tolerance_mpa", in.SurfaceToleranceMPa, 0, 1, false},
-		{"ingest.max_gap_s", in.MaxGapS, 0, 1e9, false},
-		{"ingest.max_interval_s", in.MaxIntervalS, 0, in.MaxGapS, false},
-		{"ingest.cut_leg_mpa_per_s", in.CutLegMPaPerS, 0, 1, false},
-	}); err != nil {
+	if !st.Mode().IsRegular() {
+		return nil, fmt.Errorf("not a regular file (%s)", fileKind(st.Mode()))
+	}
+	if st.Size() > limit {
+		return nil, fmt.Errorf("larger than %d bytes", limit)
+	}
+	// O_NONBLOCK: should the path be swapped for a FIFO after the check,
+	// opening it does not wait for a writer; the check below refuses it.
+	f, err := os.OpenFile(name, os.O_RDONLY|syscall.O_NONBLOCK, 0)
+	if err != nil {
 		return nil, err
 	}
-	c.Proof.Tolerance, c.Proof.HoldMin = v.GetFloat64("proof.tolerance"), v.GetFloat64("proof.hold_min")
-	if !(c.Proof.HoldMin >= 0 && c.Proof.HoldMin <= 10000) {
-		return nil, fmt.Errorf("configuration: proof.hold_min must be between 0 and 10000 minutes, got %v", c.Proof.HoldMin)
-	}
-	if !(c.Proof.Tolerance >= 0 && c.Proof.Tolerance <= 0.05) {
-		return nil, fmt.Errorf("configuration: proof.tolerance must be a fraction in [0, 0.05], got %v", c.Proof.Tolerance)
-	}
-	c.RulesFile = v.GetString("fitness.rules_file")
-	c.Evidence = Evidence{HoldFraction: v.GetFloat64("evidence.hold_fraction"), OnsetIncrementFrac: v.GetFloat64("evidence.onset_increment_fraction"),
-		OnsetHits: v.GetFloat64("evidence.onset_hits"), MinAmplitudeDB: v.GetFloat64("evidence.min_amplitude_db"),
-		HoldWindows: v.GetInt("evidence.hold_windows"), HoldDecayFraction: v.GetFloat64("evidence.hold_decay_fraction"),
-		HoldQuietHits: v.GetInt("evidence.hold_quiet_hits"), HoldMinHits: v.GetInt("evidence.hold_min_hits"), BaselineDives: v.GetInt("evidence.baseline_dives"),
-		HoldSettleS: v.GetFloat64("evidence.hold_settle_s"), HoldMaxHitsAfterSettle: v.GetInt("evidence.hold_max_hits_after_settle"),
-		SensorCheckMinDB: v.GetFloat64("evidence.sensor_check_min_db"), HighAmplitudeDB: v.GetFloat64("evidence.high_amplitude_db"),
-		ResidualTempToleranceC: v.GetFloat64("evidence.residual_temp_tolerance_c")}
-	e := c.Evidence
-	if err := inRanges([]rangeCheck{
-		{"evidence.hold_fraction", e.HoldFraction, 0, 1, false},
-		{"evidence.onset_increment_fraction", e.OnsetIncrementFrac, 0, 0.5, false},
-		{"evidence.onset_hits", e.OnsetHits, 1, 1000, true},
-		{"evidence.min_amplitude_db", e.MinAmplitudeDB, 0, 100, false},
-		{"evidence.hold_windows", float64(e.HoldWindows), 2, 100, true},
-		{"evidence.hold_decay_fraction", e.HoldDecayFraction, 0, 1, true},
-		{"evidence.hold_quiet_hits", float64(e.HoldQuietHits), 0, 10000, true},
-		{"evidence.hold_min_hits", float64(e.HoldMinHits), 0, 10000, true},
-		{"evidence.baseline_dives", float64(e.BaselineDives), 1, 1000, true},
-		{"evidence.hold_settle_s", e.HoldSettleS, 0, 3600, true},
-		{"evidence.hold_max_hits_after_settle", float64(e.HoldMaxHitsAfterSettle), 0, 10000, true},
-		{"evidence.sensor_check_min_db", e.SensorCheckMinDB, 0, 140, false},
-		{"evidence.high_amplitude_db", e.HighAmplitudeDB, 0, 140, false},
-		{"evidence.residual_temp_tolerance_c", e.ResidualTempToleranceC, 0, 50, true},
-	}); err != nil {
+	defer f.Close()
+	if st, err = f.Stat(); err != nil {
 		return nil, err
 	}
-	fa := &c.Fatigue
-	fa.CurvesFile = v.GetString("fatigue.curves_file")
-	fa.DesignFatigueFactor = v.GetFloat64("fatigue.design_fatigue_factor")
-	fa.MeanStress = v.GetString("fatigue.mean_stress")
-	fa.Allowable = v.GetFloat64("fatigue.allowable")
-	fa.Combine = v.GetString("fatigue.combine")
-	fa.SustainedAllowable = v.GetFloat64("fatigue.sustained_allowable")
-	fa.SensorNoiseMPa = v.GetFloat64("fatigue.sensor_noise_mpa")
-	fa.StrainNoiseUE = v.GetFloat64("fatigue.strain_noise_ue")
-	fa.GateFactor = v.GetFloat64("fatigue.gate_factor")
-	fa.HoldBinMPa = v.GetFloat64("fatigue.hold_bin_mpa")
-	fa.HoldMaxBins = v.GetInt("fatigue.hold_max_bins")
-	fa.Window = v.GetInt("fatigue.window")
-	fa.MinDives = v.GetInt("fatigue.min_dives")
-	fa.DesignBottomTimeMin = v.GetFloat64("fatigue.design_bottom_time_min")
-	fa.LifeHorizon = v.GetInt64("fatigue.life_horizon")
-	if err := fa.validate(); err != nil {
+	if !st.Mode().IsRegular() {
+		return nil, fmt.Errorf("not a regular file (%s)", fileKind(st.Mode()))
+	}
+	b, err := io.ReadAll(io.LimitReader(f, limit+1))
+	if err != nil {
 		return nil, err
 	}
+	if int64(len(b)) > limit {
+		return nil, fmt.Errorf("larger than %d bytes", limit)
+	}
+	return b, nil
+}
+
+// fileKind names the kind of a file that is not a regular one.
+func fileKind(m os.FileMode) string {
+	switch {
+	case m.IsDir():
+		return "a folder"
+	case m&os.ModeNamedPipe != 0:
+		return "a named pipe"
+	case m&os.ModeSocket != 0:
+		return "a socket"
+	case m&os.ModeDevice != 0:
+		return "a device"
+	}
+	return "mode " + m.Type().String()
+}
+
+// resolveHome fills in the default home folder and makes it absolute.
+func resolveHome(c *Config, o Options, env func(string) (string, bool)) error {
 	if c.Home == "" {
 		isRoot := o.IsRoot
 		if isRoot == nil {
@@ -353,7 +586,7 @@ func Load(o Options) (*Config, error) {
 			if h == "" {
 				var err error
 				if h, err = os.UserHomeDir(); err != nil {
-					return nil, fmt.Errorf("no home folder for hulltally (set HULLTALLY_HOME): %w", err)
+					return fmt.Errorf("no home folder for hulltally (set HULLTALLY_HOME): %w", err)
 				}
 			}
 			c.Home = filepath.Join(h, ".local", "share", "hulltally")
@@ -361,103 +594,8 @@ func Load(o Options) (*Config, error) {
 	}
 	abs, err := filepath.Abs(c.Home)
 	if err != nil {
-		return nil, fmt.Errorf("home %q: %w", c.Home, err)
+		return fmt.Errorf("home %q: %w", c.Home, err)
 	}
 	c.Home = abs
-	return c, nil
-}
-
-func (f *Fatigue) validate() error {
-	var errs []string
-	if !(f.DesignFatigueFactor >= 1) {
-		errs = append(errs, fmt.Sprintf("fatigue.design_fatigue_factor must be at least 1, got %v", f.DesignFatigueFactor))
-	}
-	if f.MeanStress != "goodman" && f.MeanStress != "none" {
-		errs = append(errs, fmt.Sprintf("fatigue.mean_stress must be goodman or none, got %q", f.MeanStress))
-	}
-	if !(f.Allowable > 0 && f.Allowable <= 1) {
-		errs = append(errs, fmt.Sprintf("fatigue.allowable must be in (0, 1], got %v", f.Allowable))
-	}
-	if f.Combine != "add" && f.Combine != "separate" {
-		errs = append(errs, fmt.Sprintf("fatigue.combine must be add or separate, got %q", f.Combine))
-	}
-	if f.Combine == "separate" && !(f.SustainedAllowable > 0) {
-		errs = append(errs, fmt.Sprintf("fatigue.sustained_allowable must be positive, got %v", f.SustainedAllowable))
-	}
-	if !(f.SensorNoiseMPa >= 0) || !(f.StrainNoiseUE >= 0) || !(f.GateFactor >= 0) {
-		errs = append(errs, "fatigue.sensor_noise_mpa, strain_noise_ue and gate_factor must be non-negative")
-	}
-	if !(f.HoldBinMPa > 0) {
-		errs = append(errs, fmt.Sprintf("fatigue.hold_bin_mpa must be positive, got %v", f.HoldBinMPa))
-	}
-	if f.HoldMaxBins < 2 {
-		errs = append(errs, fmt.Sprintf("fatigue.hold_max_bins must be at least 2, got %d", f.HoldMaxBins))
-	}
-	if !(f.DesignBottomTimeMin >= 0 && f.DesignBottomTimeMin <= 100000) {
-		errs = append(errs, fmt.Sprintf("fatigue.design_bottom_time_min must be between 0 and 100000 minutes, got %v", f.DesignBottomTimeMin))
-	}
-	if f.LifeHorizon < 1 {
-		errs = append(errs, fmt.Sprintf("fatigue.life_horizon must be at least 1 dive, got %d", f.LifeHorizon))
-	}
-	if f.Window < 1 || f.MinDives < 1 {
-		errs = append(errs, "fatigue.window and fatigue.min_dives must be at least 1")
-	}
-	if len(errs) > 0 {
-		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
-	}
-	return nil
-}
-
-// numbersParse refuses a numeric setting whose value is not a number (an
-// environment variable of "five" or "abc"): viper would read it as 0,
-// which can loosen a limit without a word.
-func numbersParse(v *viper.Viper) error {
-	var errs []string
-	for key, def := range defaults {
-		switch def.(type) {
-		case int, float64:
-		default:
-			continue
-		}
-		raw := v.Get(key)
-		s, ok := raw.(string)
-		if !ok {
-			continue
-		}
-		if _, err := strconv.ParseFloat(strings.TrimSpace(s), 64); err != nil {
-			errs = append(errs, fmt.Sprintf("%s must be a number, got %q", key, s))
-		}
-	}
-	if len(errs) > 0 {
-		sort.Strings(errs)
-		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
-	}
-	return nil
-}
-
-// rangeCheck is one numeric setting and its allowed range: (lo, hi], or
-// [lo, hi] when loInclusive.
-type rangeCheck struct {
-	key         string
-	v, lo, hi   float64
-	loInclusive bool
-}
-
-// inRanges refuses every setting outside its range, naming each key.
-func inRanges(cs []rangeCheck) error {
-	var errs []string
-	for _, c := range cs {
-		ok := c.v <= c.hi && (c.v > c.lo || (c.loInclusive && c.v == c.lo))
-		if !ok || math.IsNaN(c.v) {
-			open := "("
-			if c.loInclusive {
-				open = "["
-			}
-			errs = append(errs, fmt.Sprintf("%s must lie in %s%g, %g], got %g", c.key, open, c.lo, c.hi, c.v))
-		}
-	}
-	if len(errs) > 0 {
-		return fmt.Errorf("configuration: %s", strings.Join(errs, "; "))
-	}
 	return nil
 }
