@@ -11,7 +11,9 @@ func (a *app) assessCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "assess [--hull SERIAL]",
 		Short: "Re-assess damage from the stored cycles with the configuration in force (the old assessment stays)",
-		Args:  cobra.NoArgs,
+		Example: `  hulltally assess --reason "design fatigue factor 2 after review"
+  hulltally --config dff2.yaml assess --hull EX-C4000-01 --reason "curve revision"`,
+		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -47,5 +49,6 @@ func (a *app) assessCmd() *cobra.Command {
 	c.Flags().StringVar(&o.Hull, "hull", "", "one hull (default: every hull)")
 	c.Flags().StringVar(&o.Reason, "reason", "", "why (for the record)")
 	c.Flags().StringVar(&o.Actor, "actor", "", "who (default: the login name)")
+	must(c.RegisterFlagCompletionFunc("hull", a.completeHullFlag))
 	return c
 }

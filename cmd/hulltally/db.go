@@ -10,13 +10,17 @@ import (
 func cautionText() string { return reports.Caution }
 
 func (a *app) dbCmd() *cobra.Command {
-	db := &cobra.Command{Use: "db", Short: "The ledger's database: status, stop, migrate"}
+	db := &cobra.Command{Use: "db", Short: "The ledger's database: status, stop, migrate",
+		Example: "  hulltally db status\n  hulltally db stop\n  hulltally db migrate"}
 	db.AddCommand(&cobra.Command{
-		Use:   "status",
-		Short: "Say where the ledger is and whether its database runs",
-		Args:  cobra.NoArgs,
+		Use:     "status",
+		Short:   "Say where the ledger is and whether its database runs (the URL's password is never printed)",
+		Example: "  hulltally db status\n  hulltally db status --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			st := ledger.DBStatus(cmd.Context(), a.cfg)
+			st.URL = a.printableURL(st.URL)
+			st.Detail = redactWith(st.Detail, a.cfg.Database.URL)
 			if a.asJSON {
 				return a.printJSON(st)
 			}
@@ -35,9 +39,10 @@ func (a *app) dbCmd() *cobra.Command {
 			return nil
 		},
 	}, &cobra.Command{
-		Use:   "stop",
-		Short: "Stop the managed PostgreSQL cluster",
-		Args:  cobra.NoArgs,
+		Use:     "stop",
+		Short:   "Stop the managed PostgreSQL cluster",
+		Example: "  hulltally db stop",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			stopped, err := ledger.StopManaged(cmd.Context(), a.cfg)
 			if err != nil {
@@ -54,9 +59,10 @@ func (a *app) dbCmd() *cobra.Command {
 			return nil
 		},
 	}, &cobra.Command{
-		Use:   "migrate",
-		Short: "Apply pending schema migrations (also done on first use)",
-		Args:  cobra.NoArgs,
+		Use:     "migrate",
+		Short:   "Apply pending schema migrations (also done on first use)",
+		Example: "  hulltally db migrate\n  hulltally db migrate --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -68,11 +74,21 @@ func (a *app) dbCmd() *cobra.Command {
 				return err
 			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": l.Info().URL})
+				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": a.printableURL(l.Info().URL)})
 			}
-			a.printf("schema at version %d of %d (%s)\n", cur, latest, l.Info().URL)
+			a.printf("schema at version %d of %d (%s)\n", cur, latest, a.printableURL(l.Info().URL))
 			return nil
 		},
 	})
 	return db
+}
+
+// printableURL is the database URL as the CLI prints it: the configured
+// URL with its password removed (in URL or key=value form), or the
+// managed cluster's, also redacted.
+func (a *app) printableURL(fromLedger string) string {
+	if a.cfg != nil && a.cfg.Database.URL != "" {
+		return redactWith(a.cfg.Database.URL, a.cfg.Database.URL)
+	}
+	return redact(fromLedger)
 }

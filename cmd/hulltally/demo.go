@@ -17,9 +17,10 @@ func (a *app) demoCmd() *cobra.Command {
 	var dives int
 	var hz float64
 	c := &cobra.Command{
-		Use:   "demo",
-		Short: "Set up an invented fleet, generate a season of dives, log them and show the fleet",
-		Args:  cobra.NoArgs,
+		Use:     "demo",
+		Short:   "Set up an invented fleet, generate a season of dives, log them and show the fleet",
+		Example: "  hulltally demo\n  hulltally demo --dives 20 --hz 1",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			t0 := time.Now()
 			l, err := a.open(cmd.Context())

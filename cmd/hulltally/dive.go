@@ -15,19 +15,20 @@ import (
 )
 
 func (a *app) diveCmd() *cobra.Command {
-	dive := &cobra.Command{Use: "dive", Short: "Dives: log a data-logger file, list, show"}
+	dive := &cobra.Command{Use: "dive", Short: "Dives: log a data-logger file, list, show, correct, void",
+		Example: "  hulltally dive log --hull EX-C4000-01 --lat 45 dive.csv\n  hulltally dive list --hull EX-C4000-01\n  hulltally dive show 1a2b3c4d"}
 	var req ledger.LogRequest
 	var lat, start string
 	var progress bool
 	logc := &cobra.Command{
 		Use:   "log --hull SERIAL SAMPLES.csv",
 		Short: "Record a dive from its data-logger file (and acoustic-emission hits)",
-		Args:  cobra.ExactArgs(1),
+		Example: `  hulltally dive log --hull EX-C4000-01 --lat 45 dive.csv
+  hulltally dive log --hull EX-C4000-01 --ae hits.csv --site "North Bank" --operator "A. Diver" dive.csv --json
+  hulltally dive log --hull EX-C4000-01 --start 2026-05-01T08:30:00Z --progress long.csv`,
+		Args: cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			req.Samples = args[0]
-			if req.Hull == "" {
-				return usageError{fmt.Errorf("--hull SERIAL is required")}
-			}
 			if err := a.fillLog(&req, lat, start); err != nil {
 				return err
 			}
@@ -91,16 +92,17 @@ func (a *app) diveCmd() *cobra.Command {
 	f.StringVar(&req.Operator, "operator", "", "operator's name")
 	f.StringVar(&start, "start", "", "start time for files with t_s columns (RFC 3339)")
 	f.BoolVar(&progress, "progress", false, "report stored samples on stderr as it goes")
+	must(logc.MarkFlagRequired("hull"))
+	must(logc.RegisterFlagCompletionFunc("hull", a.completeHullFlag))
+	must(logc.MarkFlagFilename("ae", "csv"))
 
 	var hull string
 	list := &cobra.Command{
-		Use:   "list --hull SERIAL",
-		Short: "List a hull's dives",
-		Args:  cobra.NoArgs,
+		Use:     "list --hull SERIAL",
+		Short:   "List a hull's dives",
+		Example: "  hulltally dive list --hull EX-C4000-01\n  hulltally dive list --hull EX-C4000-01 --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			if hull == "" {
-				return usageError{fmt.Errorf("--hull SERIAL is required")}
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
@@ -137,11 +139,15 @@ func (a *app) diveCmd() *cobra.Command {
 		},
 	}
 	list.Flags().StringVar(&hull, "hull", "", "hull serial (required)")
+	must(list.MarkFlagRequired("hull"))
+	must(list.RegisterFlagCompletionFunc("hull", a.completeHullFlag))
 
 	show := &cobra.Command{
-		Use:   "show ID",
-		Short: "Show one dive (the id or its first 8 characters)",
-		Args:  cobra.ExactArgs(1),
+		Use:               "show ID",
+		Short:             "Show one dive (the id or its first 8 characters)",
+		Example:           "  hulltally dive show 1a2b3c4d\n  hulltally dive show 1a2b3c4d-0000-4000-8000-000000000000 --json",
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeDiveArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -171,11 +177,13 @@ func (a *app) diveCmd() *cobra.Command {
 	}
 	var voidReason, voidActor string
 	void := &cobra.Command{
-		Use:   "void ID --reason TEXT [--actor NAME]",
-		Short: "Take a dive out of damage, evidence and status from now on (logged to the wrong hull, say); the record stays",
-		Args:  cobra.ExactArgs(1),
+		Use:               "void ID --reason TEXT [--actor NAME]",
+		Short:             "Take a dive out of damage, evidence and status from now on (logged to the wrong hull, say); the record stays",
+		Example:           `  hulltally dive void 1a2b3c4d --reason "logged to the wrong hull" --actor "Ops"`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeDiveArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if voidReason == "" {
+			if strings.TrimSpace(voidReason) == "" {
 				return usageError{fmt.Errorf("--reason TEXT is required")}
 			}
 			if voidActor == "" {
@@ -202,11 +210,14 @@ func (a *app) diveCmd() *cobra.Command {
 	}
 	void.Flags().StringVar(&voidReason, "reason", "", "why (required)")
 	void.Flags().StringVar(&voidActor, "actor", "", "who decides (default: the login name)")
+	must(void.MarkFlagRequired("reason"))
 	var field, value, reason, actor string
 	correct := &cobra.Command{
-		Use:   "correct ID --field site|operator --value TEXT --reason TEXT [--actor NAME]",
-		Short: "Record a correction of a dive's site or operator (the original record stays)",
-		Args:  cobra.ExactArgs(1),
+		Use:               "correct ID --field site|operator --value TEXT --reason TEXT [--actor NAME]",
+		Short:             "Record a correction of a dive's site or operator (the original record stays)",
+		Example:           `  hulltally dive correct 1a2b3c4d --field site --value "Right Bay" --reason "typed the wrong site"`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeDiveArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if actor == "" {
 				actor = currentActor()
@@ -232,6 +243,10 @@ func (a *app) diveCmd() *cobra.Command {
 	cf.StringVar(&value, "value", "", "the value it should have had")
 	cf.StringVar(&reason, "reason", "", "why (required)")
 	cf.StringVar(&actor, "actor", "", "who (default: the login name)")
+	must(correct.MarkFlagRequired("field"))
+	must(correct.MarkFlagRequired("value"))
+	must(correct.MarkFlagRequired("reason"))
+	must(correct.RegisterFlagCompletionFunc("field", fixedValues("site", "operator")))
 	dive.AddCommand(logc, list, show, correct, void)
 	return dive
 }

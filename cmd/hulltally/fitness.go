@@ -18,10 +18,13 @@ func (a *app) clearCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "clear SERIAL --depth M [--bottom-time MIN]",
 		Short: "Pre-dive clearance: go or no-go for the planned dive, with every reason (exit 0 go, 3 no-go)",
-		Args:  cobra.ExactArgs(1),
+		Example: `  hulltally clear EX-C4000-01 --depth 3500
+  hulltally clear EX-C4000-01 --depth 3500 --bottom-time 120 --json   # read "go" and "reasons", or the exit code`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeSerialArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if depth <= 0 {
-				return usageError{fmt.Errorf("--depth M (the planned depth in metres) is required")}
+				return usageError{fmt.Errorf("--depth M (the planned depth in metres, more than 0) is required")}
 			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -82,6 +85,7 @@ func (a *app) clearCmd() *cobra.Command {
 	}
 	c.Flags().Float64Var(&depth, "depth", 0, "planned depth, m (required)")
 	c.Flags().Float64Var(&bottom, "bottom-time", 0, "planned time at depth, minutes")
+	must(c.MarkFlagRequired("depth"))
 	return c
 }
 
@@ -100,9 +104,10 @@ func urgency(s string) int {
 
 func (a *app) fleetCmd() *cobra.Command {
 	return &cobra.Command{
-		Use:   "fleet",
-		Short: "Every hull with status, damage, remaining dives, last dive and open flags; most urgent first",
-		Args:  cobra.NoArgs,
+		Use:     "fleet",
+		Short:   "Every hull with status, damage, remaining dives, last dive and open flags; most urgent first",
+		Example: "  hulltally fleet\n  hulltally fleet --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -124,13 +129,16 @@ func (a *app) fleetCmd() *cobra.Command {
 
 // fleetRow is one hull of the fleet view.
 type fleetRow struct {
-	Serial         string     `json:"serial"`
-	Name           string     `json:"name"`
-	Status         string     `json:"status"`
-	DamagePercent  ledger.Num `json:"damage_percent_of_allowable"`
-	Governing      string     `json:"governing_component"`
-	RemainingDives *int64     `json:"remaining_dives"`
-	Remaining      string     `json:"remaining"`
+	Serial string `json:"serial"`
+	Name   string `json:"name"`
+	Status string `json:"status"`
+	// DamagePercent is null, with DamageOverload, when the damage is
+	// infinite (a static overload): never the string "inf".
+	DamagePercent  *float64 `json:"damage_percent_of_allowable"`
+	DamageOverload bool     `json:"damage_overload"`
+	Governing      string   `json:"governing_component"`
+	RemainingDives *int64   `json:"remaining_dives"`
+	Remaining      string   `json:"remaining"`
 	// RemainingMoreThan: the figure is the horizon; RemainingReason says
 	// how the figure was reached, or why there is none.
 	RemainingMoreThan bool            `json:"remaining_more_than"`
@@ -139,6 +147,7 @@ type fleetRow struct {
 	LastDive          *time.Time      `json:"last_dive"`
 	OpenFlags         []ledger.Reason `json:"open_flags"`
 	Reasons           []ledger.Reason `json:"reasons"`
+	ratio             float64         // the governing damage ratio, for sorting and the text
 }
 
 func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
@@ -153,11 +162,12 @@ func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
 		if err != nil {
 			return nil, err
 		}
-		f, err := l.FitnessOf(cmd.Context(), h, now)
+		// A read: evaluated, not recorded.
+		f, err := l.FitnessAt(cmd.Context(), h, now)
 		if err != nil {
 			return nil, err
 		}
-		r := fleetRow{Serial: s.Serial, Name: s.Name, Status: f.Status, DamagePercent: 100 * f.Damage.GoverningRatio,
+		r := fleetRow{Serial: s.Serial, Name: s.Name, Status: f.Status, ratio: float64(f.Damage.GoverningRatio),
 			Governing: f.Damage.Governing, RemainingDives: f.Damage.RemainingDives, Remaining: remaining(f.Damage), LastDive: f.LastDive,
 			RemainingMoreThan: f.Damage.RemainingMoreThan, RemainingStatus: f.Damage.RemainingStatus, RemainingReason: f.Damage.RemainingReason,
 			OpenFlags: []ledger.Reason{}, Reasons: f.Reasons}
@@ -166,13 +176,14 @@ func (a *app) fleet(cmd *cobra.Command, l *ledger.Ledger) ([]fleetRow, error) {
 				r.OpenFlags = append(r.OpenFlags, x)
 			}
 		}
+		r.DamagePercent, r.DamageOverload = percentOf(r.ratio)
 		out = append(out, r)
 	}
 	sort.SliceStable(out, func(i, j int) bool {
 		if ui, uj := urgency(out[i].Status), urgency(out[j].Status); ui != uj {
 			return ui < uj
 		}
-		return out[i].DamagePercent > out[j].DamagePercent
+		return out[i].ratio > out[j].ratio
 	})
 	return out, nil
 }
@@ -185,7 +196,7 @@ func (a *app) printFleet(fl []fleetRow) {
 		if r.LastDive != nil {
 			last = r.LastDive.UTC().Format("2006-01-02")
 		}
-		fmt.Fprintf(w, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\n", r.Serial, r.Name, strings.ToUpper(r.Status), pct(float64(r.DamagePercent)/100), r.Governing, r.Remaining, last, len(r.OpenFlags))
+		fmt.Fprintf(w, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\n", r.Serial, r.Name, strings.ToUpper(r.Status), pct(r.ratio), r.Governing, r.Remaining, last, len(r.OpenFlags))
 	}
 	w.Flush()
 	for _, r := range fl {

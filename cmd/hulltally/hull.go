@@ -25,14 +25,19 @@ func currentActor() string {
 }
 
 func (a *app) hullCmd() *cobra.Command {
-	hull := &cobra.Command{Use: "hull", Short: "Hulls: add from a spec, list, show"}
+	hull := &cobra.Command{Use: "hull", Short: "Hulls: add from a spec, list, show",
+		Example: "  hulltally hull add -f hull.yaml\n  hulltally hull list\n  hulltally hull show EX-C4000-01"}
 	var file, actor, reason string
 	var revise bool
 	var h spec.Hull
 	add := &cobra.Command{
 		Use:   "add [-f hull.yaml | flags]",
 		Short: "Record a hull from a YAML spec (or flags); --revise records a new spec revision",
-		Args:  cobra.NoArgs,
+		Example: `  hulltally hull add -f testdata/hulls/example-cylinder.yaml
+  hulltally hull add -f hull.yaml --revise --reason "derated after inspection"
+  hulltally hull add --serial S-01 --name Test --material carbon/epoxy --inner-radius 0.5 --wall 0.06 --length 2 \
+    --rated-depth 4000 --design-pressure 45 --proof-pressure 50 --collapse-pressure 80 --component-curve CURVE`,
+		Args: cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			sp := &h
 			if file != "" {
@@ -94,6 +99,9 @@ func (a *app) hullCmd() *cobra.Command {
 	f.Float64Var(&h.CollapsePressureMPa, "collapse-pressure", 0, "collapse pressure, MPa")
 	var curve string
 	f.StringVar(&curve, "component-curve", "", "S-N curve of the single laminate component (Lamé load transfer)")
+	must(add.MarkFlagFilename("file", "yaml", "yml"))
+	add.MarkFlagsMutuallyExclusive("file", "serial")
+	must(add.RegisterFlagCompletionFunc("shape", fixedValues("cylinder", "sphere")))
 	add.PreRunE = func(cmd *cobra.Command, _ []string) error {
 		if curve != "" {
 			kind := "laminate_cylinder"
@@ -106,9 +114,10 @@ func (a *app) hullCmd() *cobra.Command {
 	}
 
 	list := &cobra.Command{
-		Use:   "list",
-		Short: "List the hulls with their dive totals",
-		Args:  cobra.NoArgs,
+		Use:     "list",
+		Short:   "List the hulls with their dive totals, governing component, damage and dives left",
+		Example: "  hulltally hull list\n  hulltally hull list --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -119,25 +128,24 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			if a.asJSON {
-				if hs == nil {
-					hs = []ledger.HullSummary{}
-				}
-				return a.printJSON(map[string]any{"hulls": hs, "caution": cautionText()})
-			}
-			dmg, err := a.damages(cmd.Context(), l)
+			fits, err := a.fitnesses(cmd.Context(), l)
 			if err != nil {
 				return err
 			}
-			a.printHulls(hs, dmg, true)
+			if a.asJSON {
+				return a.printJSON(map[string]any{"hulls": hullRows(hs, fits), "caution": cautionText()})
+			}
+			a.printHulls(hs, damagesOf(fits), true)
 			return nil
 		},
 	}
 
 	show := &cobra.Command{
-		Use:   "show SERIAL",
-		Short: "Show a hull's spec and record",
-		Args:  cobra.ExactArgs(1),
+		Use:               "show SERIAL",
+		Short:             "Show a hull's spec and record",
+		Example:           "  hulltally hull show EX-C4000-01\n  hulltally hull show EX-C4000-01 --json",
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeSerialArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -152,7 +160,9 @@ func (a *app) hullCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			fit, err := l.FitnessOf(cmd.Context(), rec, time.Now().UTC())
+			// A read: the status is evaluated, not recorded (writes and
+			// 'status record' keep the history).
+			fit, err := l.FitnessAt(cmd.Context(), rec, time.Now().UTC())
 			if err != nil {
 				return err
 			}
@@ -310,27 +320,96 @@ func (a *app) printDamage(d *ledger.Damages) {
 	a.printf("remaining dives: %s — %s\n", remaining(d), d.RemainingReason)
 }
 
-// damages reads every hull's damage.
-func (a *app) damages(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Damages, error) {
+// fitnesses evaluates every hull's status now, by serial (a read:
+// nothing is recorded).
+func (a *app) fitnesses(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Fitness, error) {
 	hs, err := l.Hulls(ctx)
 	if err != nil {
 		return nil, err
 	}
-	out := map[string]*ledger.Damages{}
+	now := time.Now().UTC()
+	out := map[string]*ledger.Fitness{}
 	for _, s := range hs {
 		h, err := l.Hull(ctx, s.Serial)
 		if err != nil {
 			return nil, err
 		}
-		// The damage as the status leaves it: no remaining life where
-		// it is void (a read: nothing is recorded).
-		f, err := l.FitnessAt(ctx, h, time.Now().UTC())
+		f, err := l.FitnessAt(ctx, h, now)
 		if err != nil {
 			return nil, err
 		}
-		out[s.Serial] = f.Damage
+		out[s.Serial] = f
 	}
 	return out, nil
+}
+
+// damagesOf is each hull's damage as its status leaves it: no remaining
+// life where it is void.
+func damagesOf(fits map[string]*ledger.Fitness) map[string]*ledger.Damages {
+	out := map[string]*ledger.Damages{}
+	for s, f := range fits {
+		out[s] = f.Damage
+	}
+	return out
+}
+
+// damages reads every hull's damage (a read: nothing is recorded).
+func (a *app) damages(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Damages, error) {
+	fits, err := a.fitnesses(ctx, l)
+	if err != nil {
+		return nil, err
+	}
+	return damagesOf(fits), nil
+}
+
+// hullRow is one hull of `hull list --json`: the totals and what the text
+// shows of its damage and life.
+type hullRow struct {
+	ledger.HullSummary
+	Status string `json:"status"`
+	// Governing is the component nearest its allowable.
+	Governing string `json:"governing_component"`
+	// DamagePercent is the governing damage in percent of its allowable;
+	// null with DamageOverload when it is infinite (a static overload).
+	DamagePercent  *float64 `json:"damage_percent_of_allowable"`
+	DamageOverload bool     `json:"damage_overload"`
+	// RemainingDives is null when no figure can be told (RemainingStatus
+	// and RemainingReason say why); RemainingMoreThan when it is the
+	// horizon. Remaining is the text the table shows.
+	RemainingDives    *int64     `json:"remaining_dives"`
+	RemainingMoreThan bool       `json:"remaining_more_than"`
+	RemainingStatus   string     `json:"remaining_status"`
+	RemainingReason   string     `json:"remaining_reason"`
+	Remaining         string     `json:"remaining"`
+	LastDive          *time.Time `json:"last_dive"`
+}
+
+func hullRows(hs []ledger.HullSummary, fits map[string]*ledger.Fitness) []hullRow {
+	out := []hullRow{}
+	for _, h := range hs {
+		r := hullRow{HullSummary: h, LastDive: h.LastDive}
+		if f := fits[h.Serial]; f != nil {
+			d := f.Damage
+			r.Status, r.Governing = f.Status, d.Governing
+			r.DamagePercent, r.DamageOverload = percentOf(float64(d.GoverningRatio))
+			r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason = d.RemainingDives, d.RemainingMoreThan, d.RemainingStatus, d.RemainingReason
+			r.Remaining = remaining(d)
+		}
+		out = append(out, r)
+	}
+	return out
+}
+
+// percentOf turns a damage ratio into a percentage for JSON: never the
+// string "inf". An infinite ratio (a static overload) is null with
+// overload true; a ratio that is not a number is null too, and counts as
+// an overload, the safe side.
+func percentOf(ratio float64) (*float64, bool) {
+	if math.IsInf(ratio, 0) || math.IsNaN(ratio) {
+		return nil, true
+	}
+	p := 100 * ratio
+	return &p, false
 }
 
 // printImplosion states the implosion hazard with its assumptions.

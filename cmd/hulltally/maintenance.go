@@ -2,6 +2,7 @@ package main
 
 import (
 	"fmt"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -27,7 +28,10 @@ func (a *app) inspectCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "inspect SERIAL --method M --result pass|fail [--findings TEXT] [--actor NAME] [--at TIME]",
 		Short: "Record an inspection of a hull (append-only, in the audit chain)",
-		Args:  cobra.ExactArgs(1),
+		Example: `  hulltally inspect EX-C4000-01 --method visual --result pass --actor "I. Nspector"
+  hulltally inspect EX-C4000-01 --method ultrasonic --result fail --findings "delamination at the fwd ring" --at 2026-07-01T09:00:00Z`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeSerialArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			var err error
 			if in.At, err = parseAt(at); err != nil {
@@ -58,6 +62,9 @@ func (a *app) inspectCmd() *cobra.Command {
 	f.StringVar(&in.Result, "result", "", "pass or fail")
 	f.StringVar(&in.Actor, "actor", "", "inspector (default: the login name)")
 	f.StringVar(&at, "at", "", "when it was done (RFC 3339; default now)")
+	must(c.MarkFlagRequired("method"))
+	must(c.MarkFlagRequired("result"))
+	must(c.RegisterFlagCompletionFunc("result", fixedValues("pass", "fail")))
 	return c
 }
 
@@ -67,7 +74,10 @@ func (a *app) prooftestCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "prooftest SERIAL --pressure MPA --result pass|fail [--samples FILE.csv [--ae HITS.csv]] [--actor NAME] [--at TIME]",
 		Short: "Record a proof test; its samples file (optional) is logged as a dive and sets the strain baseline and Felicity reference",
-		Args:  cobra.ExactArgs(1),
+		Example: `  hulltally prooftest EX-C4000-01 --pressure 50 --result pass --actor yard
+  hulltally prooftest EX-C4000-01 --pressure 50 --result pass --samples proof.csv --ae proof-hits.csv`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeSerialArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			var err error
 			if p.At, err = parseAt(at); err != nil {
@@ -111,6 +121,11 @@ func (a *app) prooftestCmd() *cobra.Command {
 	f.StringVar(&ae, "ae", "", "the test's acoustic-emission hits")
 	f.StringVar(&start, "start", "", "start time for files with t_s columns")
 	f.StringVar(&lat, "lat", "", "latitude for depth columns")
+	must(c.MarkFlagRequired("pressure"))
+	must(c.MarkFlagRequired("result"))
+	must(c.RegisterFlagCompletionFunc("result", fixedValues("pass", "fail")))
+	must(c.MarkFlagFilename("samples", "csv"))
+	must(c.MarkFlagFilename("ae", "csv"))
 	return c
 }
 
@@ -121,8 +136,14 @@ func (a *app) decideCmd() *cobra.Command {
 	c := &cobra.Command{
 		Use:   "decide SERIAL (--return-to-service | --withdraw) --reason TEXT [--actor NAME] [--at TIME]",
 		Short: "Record a decision to return a hull to service or to withdraw it",
-		Args:  cobra.ExactArgs(1),
+		Example: `  hulltally decide EX-C4000-01 --return-to-service --reason "inspection passed" --actor "Chief Eng."
+  hulltally decide EX-C4000-01 --withdraw --reason "end of season lay-up"`,
+		Args:              cobra.ExactArgs(1),
+		ValidArgsFunction: a.completeSerialArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if strings.TrimSpace(d.Reason) == "" {
+				return usageError{fmt.Errorf("--reason TEXT is required")}
+			}
 			switch {
 			case ret == withdraw:
 				return usageError{fmt.Errorf("give exactly one of --return-to-service and --withdraw")}
@@ -160,5 +181,8 @@ func (a *app) decideCmd() *cobra.Command {
 	f.StringVar(&d.Reason, "reason", "", "why (required)")
 	f.StringVar(&d.Actor, "actor", "", "who decides (default: the login name)")
 	f.StringVar(&at, "at", "", "when (RFC 3339; default now)")
+	must(c.MarkFlagRequired("reason"))
+	c.MarkFlagsMutuallyExclusive("return-to-service", "withdraw")
+	c.MarkFlagsOneRequired("return-to-service", "withdraw")
 	return c
 }

@@ -10,13 +10,16 @@ import (
 )
 
 func (a *app) reportCmd() *cobra.Command {
-	rep := &cobra.Command{Use: "report", Short: "PDF reports: a hull's fitness-for-service summary, a dive sheet, the fleet summary; verify a report"}
+	rep := &cobra.Command{Use: "report", Short: "PDF reports: a hull's fitness-for-service summary, a dive sheet, the fleet summary; verify a report",
+		Example: "  hulltally report hull EX-C4000-01 -o hull.pdf\n  hulltally report fleet -o fleet.pdf\n  hulltally report verify hull.pdf"}
 	var out string
-	mk := func(use, short, kind string, nargs int) *cobra.Command {
+	mk := func(use, short, kind string, nargs int, example string, complete cobra.CompletionFunc) *cobra.Command {
 		c := &cobra.Command{
-			Use:   use,
-			Short: short,
-			Args:  cobra.ExactArgs(nargs),
+			Use:               use,
+			Short:             short,
+			Example:           example,
+			Args:              cobra.ExactArgs(nargs),
+			ValidArgsFunction: complete,
 			RunE: func(cmd *cobra.Command, args []string) error {
 				if out == "" {
 					return usageError{fmt.Errorf("-o FILE.pdf is required")}
@@ -45,13 +48,16 @@ func (a *app) reportCmd() *cobra.Command {
 				return nil
 			},
 		}
-		c.Flags().StringVarP(&out, "output", "o", "", "the PDF file to write")
+		c.Flags().StringVarP(&out, "output", "o", "", "the PDF file to write (required)")
+		must(c.MarkFlagRequired("output"))
+		must(c.MarkFlagFilename("output", "pdf"))
 		return c
 	}
 	verify := &cobra.Command{
-		Use:   "verify FILE.pdf",
-		Short: "Check a report against the ledger (exit 0 when it matches, 1 with the reason when it does not)",
-		Args:  cobra.ExactArgs(1),
+		Use:     "verify FILE.pdf",
+		Short:   "Check a report against the ledger (exit 0 when it matches, 1 with the reason when it does not)",
+		Example: "  hulltally report verify hull.pdf\n  hulltally report verify hull.pdf --json",
+		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
@@ -76,9 +82,13 @@ func (a *app) reportCmd() *cobra.Command {
 			return nil
 		},
 	}
-	rep.AddCommand(mk("hull SERIAL -o FILE.pdf", "A hull's fitness-for-service summary", reports.KindHull, 1),
-		mk("dive ID -o FILE.pdf", "A one-page dive sheet", reports.KindDive, 1),
-		mk("fleet -o FILE.pdf", "The fleet summary", reports.KindFleet, 0), verify)
+	verify.ValidArgsFunction = func(*cobra.Command, []string, string) ([]cobra.Completion, cobra.ShellCompDirective) {
+		return []cobra.Completion{"pdf"}, cobra.ShellCompDirectiveFilterFileExt
+	}
+	rep.AddCommand(mk("hull SERIAL -o FILE.pdf", "A hull's fitness-for-service summary", reports.KindHull, 1,
+		"  hulltally report hull EX-C4000-01 -o EX-C4000-01.pdf", a.completeSerialArg),
+		mk("dive ID -o FILE.pdf", "A one-page dive sheet", reports.KindDive, 1, "  hulltally report dive 1a2b3c4d -o dive.pdf", a.completeDiveArg),
+		mk("fleet -o FILE.pdf", "The fleet summary", reports.KindFleet, 0, "  hulltally report fleet -o fleet-summary.pdf", cobra.NoFileCompletions), verify)
 	return rep
 }
 

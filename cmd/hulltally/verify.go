@@ -6,9 +6,10 @@ import (
 
 func (a *app) verifyCmd() *cobra.Command {
 	return &cobra.Command{
-		Use:   "verify",
-		Short: "Recompute every hull's audit chain; exit 1 at the first broken link",
-		Args:  cobra.NoArgs,
+		Use:     "verify",
+		Short:   "Recompute every hull's audit chain; exit 1 at the first broken link",
+		Example: "  hulltally verify\n  hulltally verify --json",
+		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
 			if err != nil {
