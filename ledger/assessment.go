@@ -754,11 +754,10 @@ type Num float64
 // MarshalJSON implements json.Marshaler.
 func (n Num) MarshalJSON() ([]byte, error) {
 	f := float64(n)
-	switch {
-	case math.IsInf(f, 1):
-		return []byte(`"inf"`), nil
-	case math.IsNaN(f):
-		return []byte(`"nan"`), nil
+	if math.IsInf(f, 0) || math.IsNaN(f) {
+		// Not a number a reader can use: null, and the record beside it
+		// says why (an overload, a value not established).
+		return []byte(`null`), nil
 	}
 	return json.Marshal(f)
 }

@@ -431,7 +431,7 @@ func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin flo
 	if !(depthM > 0) || depthM > 11500 || bottomMin < 0 || math.IsNaN(bottomMin) {
 		return nil, inputErr(fmt.Errorf("planned depth %v m and bottom time %v min: the depth must be between 0 and 11 500 m, the bottom time not negative", depthM, bottomMin))
 	}
-	f, err := l.FitnessOf(ctx, h, now)
+	f, err := l.FitnessAt(ctx, h, now) // a read: it records nothing
 	if err != nil {
 		return nil, err
 	}
@@ -593,7 +593,7 @@ type Reason struct {
 	At    *time.Time `json:"at,omitempty"`
 }
 
-// Flag is a raised rule, for output (a missing value prints as "nan").
+// Flag is a raised rule, for output (a missing value prints as null).
 type Flag struct {
 	Rule      string  `json:"rule"`
 	Title     string  `json:"title"`

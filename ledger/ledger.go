@@ -13,6 +13,8 @@ import (
 	"errors"
 	"fmt"
 	"net/url"
+	"regexp"
+	"strings"
 	"time"
 
 	"github.com/jackc/pgx/v5"
@@ -175,10 +177,21 @@ func createDatabase(ctx context.Context, maintURL, name string) error {
 	return nil
 }
 
+// kvPassword matches the password of a key=value connection string.
+var kvPassword = regexp.MustCompile(`(?i)(\bpassword\s*=\s*)('(?:[^'\\]|\\.)*'|[^\s]*)`)
+
 func redact(s string) string {
+	if !strings.Contains(s, "://") {
+		// key=value form: hide the value of password=…, quoted or not.
+		return kvPassword.ReplaceAllString(s, "${1}xxxxx")
+	}
 	u, err := url.Parse(s)
 	if err != nil {
 		return "(unparsable database URL)"
+	}
+	if q := u.Query(); q.Has("password") {
+		q.Set("password", "xxxxx")
+		u.RawQuery = q.Encode()
 	}
 	if u.User != nil {
 		if _, has := u.User.Password(); has {
