@@ -8,7 +8,6 @@ import (
 	"hash"
 	"io"
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"time"
@@ -19,6 +18,7 @@ import (
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger/blocks"
+	"hulltally/ledger/files"
 	"hulltally/ledger/logfile"
 )
 
@@ -229,14 +229,14 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if req.Latitude != nil && !seawater.ValidLatitude(*req.Latitude) {
 		return nil, inputErr(fmt.Errorf("latitude %v: must be between -90 and 90 degrees", *req.Latitude))
 	}
-	sha, size, err := hashFile(req.Samples)
+	sha, size, err := hashFile(ctx, req.Samples)
 	if err != nil {
-		return nil, inputErr(err)
+		return nil, fileErr(ctx, err)
 	}
 	var aeSHA []byte
 	if req.AE != "" {
-		if aeSHA, _, err = hashFile(req.AE); err != nil {
-			return nil, inputErr(err)
+		if aeSHA, _, err = hashFile(ctx, req.AE); err != nil {
+			return nil, fileErr(ctx, err)
 		}
 	}
 	if d, err := l.existingDive(ctx, l.pool, h, sha, aeSHA); d != nil || err != nil {
@@ -477,25 +477,30 @@ func diveFromRow(r *diveRow, serial string, rated float64, dup bool) *Dive {
 		Latitude: r.Lat, LatitudeAssumed: r.LatAssumed, Site: r.Site, Operator: r.Operator, RecordedAt: r.RecordedAt}
 }
 
-func hashFile(path string) ([]byte, int64, error) {
-	f, err := os.Open(path)
+// hashFile hashes a data-logger file. Only a regular file is read (a FIFO,
+// device such as /dev/zero, folder or socket is refused at once), and the
+// hash stops promptly when ctx is cancelled.
+func hashFile(ctx context.Context, path string) ([]byte, int64, error) {
+	f, err := files.OpenRegular(ctx, path)
 	if err != nil {
 		return nil, 0, err
 	}
 	defer f.Close()
-	st, err := f.Stat()
-	if err != nil {
-		return nil, 0, err
-	}
-	if st.IsDir() {
-		return nil, 0, fmt.Errorf("%s is a folder, not a data-logger file", path)
-	}
 	h := sha256.New()
-	n, err := io.Copy(h, f)
+	n, err := io.Copy(h, files.NewReader(ctx, f))
 	if err != nil {
 		return nil, 0, fmt.Errorf("reading %s: %w", path, err)
 	}
 	return h.Sum(nil), n, nil
+}
+
+// fileErr is an error opening or reading an input file: the input's fault
+// (an InputError), except a cancellation, which is returned as such.
+func fileErr(ctx context.Context, err error) error {
+	if ce := ctx.Err(); ce != nil && errors.Is(err, ce) {
+		return err
+	}
+	return inputErr(err)
 }
 
 type parsed struct {
@@ -506,9 +511,9 @@ type parsed struct {
 // ingest parses the samples (and hits) and stores blocks and hits in tx,
 // returning the dive row (not yet inserted) and the chain records.
 func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte) (*diveRow, []chainRec, error) {
-	f, err := os.Open(req.Samples)
+	f, err := files.OpenRegular(ctx, req.Samples)
 	if err != nil {
-		return nil, nil, inputErr(err)
+		return nil, nil, fileErr(ctx, err)
 	}
 	defer f.Close()
 	tee := sha256.New()
@@ -517,9 +522,9 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	if err != nil {
 		return nil, nil, err
 	}
-	sr, err := logfile.NewSampleReader(io.TeeReader(f, tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples, MinTime: minT, MaxTime: maxT})
+	sr, err := logfile.NewSampleReader(io.TeeReader(files.NewReader(ctx, f), tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples, MinTime: minT, MaxTime: maxT})
 	if err != nil {
-		return nil, nil, inputErr(err)
+		return nil, nil, fileErr(ctx, err)
 	}
 	hdr := sr.Header()
 	known := h.Spec.StrainGauges()
@@ -576,7 +581,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	src.maxLoad = math.Inf(-1)
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)
 	if src.perr != nil {
-		return nil, nil, inputErr(src.perr)
+		return nil, nil, fileErr(ctx, src.perr)
 	}
 	if err != nil {
 		return nil, nil, fmt.Errorf("storing readings: %w", err)
@@ -775,9 +780,9 @@ func (s *blockSource) Err() error {
 }
 
 func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRow, req LogRequest, aeSHA []byte, firstNS, lastNS int64) (int32, []byte, []logfile.Hit, error) {
-	f, err := os.Open(req.AE)
+	f, err := files.OpenRegular(ctx, req.AE)
 	if err != nil {
-		return 0, nil, nil, inputErr(err)
+		return 0, nil, nil, fileErr(ctx, err)
 	}
 	defer f.Close()
 	tee := sha256.New()
@@ -785,15 +790,15 @@ func (l *Ledger) ingestHits(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 	if err != nil {
 		return 0, nil, nil, err
 	}
-	hr, err := logfile.NewHitReaderOptions(io.TeeReader(f, tee), req.AE, logfile.HitOptions{Start: req.Start, MinTime: minT, MaxTime: maxT})
+	hr, err := logfile.NewHitReaderOptions(io.TeeReader(files.NewReader(ctx, f), tee), req.AE, logfile.HitOptions{Start: req.Start, MinTime: minT, MaxTime: maxT})
 	if err != nil {
-		return 0, nil, nil, inputErr(err)
+		return 0, nil, nil, fileErr(ctx, err)
 	}
 	chans := h.Spec.AEChannels()
 	src := &hitSource{hr: hr, row: row, chans: chans, first: firstNS, last: lastNS, digest: sha256.New(), serial: h.Serial}
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"ae_hits"}, []string{"dive_id", "hull_id", "seq", "t_ns", "channel", "amplitude_db", "energy", "counts", "duration_us", "rise_us", "event"}, src)
 	if src.perr != nil {
-		return 0, nil, nil, inputErr(src.perr)
+		return 0, nil, nil, fileErr(ctx, src.perr)
 	}
 	if err != nil {
 		return 0, nil, nil, fmt.Errorf("storing acoustic-emission hits: %w", err)

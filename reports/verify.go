@@ -4,11 +4,12 @@ import (
 	"context"
 	"crypto/sha256"
 	"fmt"
-	"os"
+	"io"
 	"regexp"
 	"time"
 
 	"hulltally/ledger"
+	"hulltally/ledger/files"
 )
 
 // Build gathers a report's content by kind and subject.
@@ -42,7 +43,10 @@ type Written struct {
 	Warning string `json:"warning,omitempty"`
 }
 
-// Write builds and renders a report and writes it to path.
+// Write builds and renders a report and writes it to path, atomically (see
+// files.WriteAtomic): path must not be a symbolic link (files.ErrSymlink)
+// or anything but a regular file, and on any error the old file at path is
+// left byte-identical.
 func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at time.Time) (*Written, error) {
 	// Microseconds, the ledger's precision: cut to the second, a report
 	// made within the second of a record (an inspection just entered)
@@ -59,11 +63,14 @@ func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at
 		return nil, err
 	}
 	b := r.PDF
-	if err := os.WriteFile(path, b, 0o644); err != nil {
-		return nil, fmt.Errorf("writing %s: %w", path, err)
-	}
 	fp, _ := m.Fingerprint()
 	sum := sha256.Sum256(b)
+	// Atomically: a temporary file in the same folder, synced and renamed
+	// into place. Never through a symbolic link at path; on any error (a
+	// full disk) the old file at path is left as it was.
+	if err := files.WriteAtomic(path, func(w io.Writer) error { _, err := w.Write(b); return err }, 0o644); err != nil {
+		return nil, err
+	}
 	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: pages(b), Bytes: len(b), Warning: r.Warning()}
 	for _, c := range r.Unprintable {
 		w.Unprintable = append(w.Unprintable, fmt.Sprintf("U+%04X", c))
@@ -91,12 +98,18 @@ type Verification struct {
 	Reason      string    `json:"reason"`
 }
 
+// MaxVerifyBytes is the largest report file Verify reads (256 MiB): a
+// hulltally report is far smaller; a larger file is not one of ours.
+const MaxVerifyBytes = 256 << 20
+
 // Verify checks a report file against the ledger: the file must be in the
 // register of issued reports (by the SHA-256 of its bytes: any change to
 // the file is found), and the fingerprint of the ledger content recomputed
 // at the report's generation time must equal the one it was issued with.
+// Only a regular file of at most MaxVerifyBytes is read (files.ErrNotRegular,
+// files.ErrTooLarge otherwise).
 func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, error) {
-	b, err := os.ReadFile(path)
+	b, err := files.ReadAllLimited(ctx, path, MaxVerifyBytes)
 	if err != nil {
 		return nil, err
 	}

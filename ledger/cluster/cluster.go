@@ -16,6 +16,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"io/fs"
 	"net/url"
 	"os"
 	"os/exec"
@@ -209,15 +210,27 @@ func (c *Cluster) mkdirs() error {
 	if err := os.MkdirAll(home, 0o755); err != nil {
 		return fmt.Errorf("creating hulltally home %s: %w", home, err)
 	}
-	if err := os.MkdirAll(c.Dir, 0o700); err != nil {
+	euid := uint32(os.Geteuid())
+	if err := checkHome(home, euid); err != nil {
+		return err
+	}
+	if err := os.Mkdir(c.Dir, 0o700); err != nil && !errors.Is(err, fs.ErrExist) {
 		return fmt.Errorf("creating %s: %w", c.Dir, err)
+	}
+	owners := []uint32{euid}
+	if c.runAs != nil {
+		owners = append(owners, c.runAs.Uid)
+	}
+	if err := checkOwnDir(c.Dir, owners...); err != nil {
+		return err
 	}
 	if c.runAs == nil {
 		return nil
 	}
 	// The server runs as postgres: it must own its folder and be able to
-	// enter every folder above it.
-	if err := os.Chown(c.Dir, int(c.runAs.Uid), int(c.runAs.Gid)); err != nil {
+	// enter every folder above it. Lchown never follows a symbolic link,
+	// and checkOwnDir has just seen a real folder there.
+	if err := os.Lchown(c.Dir, int(c.runAs.Uid), int(c.runAs.Gid)); err != nil {
 		return fmt.Errorf("giving %s to the postgres user: %w", c.Dir, err)
 	}
 	for d := home; ; d = filepath.Dir(d) {
@@ -234,6 +247,79 @@ func (c *Cluster) mkdirs() error {
 		if d == "/" || d == filepath.Dir(d) {
 			break
 		}
+	}
+	return nil
+}
+
+// checkHome refuses a hulltally home that another user could tamper with:
+// the home (a symbolic link is followed) must be a folder owned by us
+// (euid) or by root and not writable by others; and no folder above it,
+// on the path as given or as resolved, may be writable by others without
+// the sticky bit (/tmp, world-writable but sticky, is accepted: others
+// cannot rename or remove what they do not own there).
+func checkHome(home string, euid uint32) error {
+	abs, err := filepath.Abs(home)
+	if err != nil {
+		return fmt.Errorf("hulltally home %s: %w", home, err)
+	}
+	st, err := os.Stat(abs)
+	if err != nil {
+		return fmt.Errorf("hulltally home %s: %w", home, err)
+	}
+	if !st.IsDir() {
+		return fmt.Errorf("hulltally home %s is not a folder", home)
+	}
+	if st.Mode().Perm()&0o002 != 0 {
+		return fmt.Errorf("hulltally home %s is writable by others (mode %v): another user could replace the ledger's cluster; remove that permission (chmod o-w %s) or choose another HULLTALLY_HOME", home, st.Mode().Perm(), home)
+	}
+	if sys, ok := st.Sys().(*syscall.Stat_t); ok && sys.Uid != euid && sys.Uid != 0 {
+		return fmt.Errorf("hulltally home %s belongs to another user (uid %d): choose a HULLTALLY_HOME of your own", home, sys.Uid)
+	}
+	real, err := filepath.EvalSymlinks(abs)
+	if err != nil {
+		return fmt.Errorf("hulltally home %s: %w", home, err)
+	}
+	seen := map[string]bool{}
+	for _, p := range []string{abs, real} {
+		for d := filepath.Dir(p); !seen[d]; d = filepath.Dir(d) {
+			seen[d] = true
+			st, err := os.Stat(d)
+			if err != nil {
+				return fmt.Errorf("checking %s above the hulltally home: %w", d, err)
+			}
+			if st.Mode().Perm()&0o002 != 0 && st.Mode()&fs.ModeSticky == 0 {
+				return fmt.Errorf("%s, above the hulltally home %s, is writable by others without the sticky bit (mode %v): another user could replace the home; choose a HULLTALLY_HOME elsewhere", d, home, st.Mode())
+			}
+		}
+	}
+	return nil
+}
+
+// checkOwnDir refuses, for a folder hulltally made or uses as its own, a
+// symbolic link (never followed: as root that would give the link's
+// target to the postgres user), anything not a folder, a folder writable
+// by others and one owned by anyone but the given owners.
+func checkOwnDir(dir string, owners ...uint32) error {
+	st, err := os.Lstat(dir)
+	if err != nil {
+		return fmt.Errorf("checking %s: %w", dir, err)
+	}
+	if st.Mode()&fs.ModeSymlink != 0 {
+		return fmt.Errorf("%s is a symbolic link: hulltally keeps its cluster in a real folder and does not follow links there; remove the link", dir)
+	}
+	if !st.IsDir() {
+		return fmt.Errorf("%s is not a folder", dir)
+	}
+	if st.Mode().Perm()&0o002 != 0 {
+		return fmt.Errorf("%s is writable by others (mode %v): remove that permission (chmod o-w %s)", dir, st.Mode().Perm(), dir)
+	}
+	if sys, ok := st.Sys().(*syscall.Stat_t); ok {
+		for _, o := range owners {
+			if sys.Uid == o {
+				return nil
+			}
+		}
+		return fmt.Errorf("%s belongs to another user (uid %d): hulltally uses only a cluster folder of its own", dir, sys.Uid)
 	}
 	return nil
 }
@@ -255,13 +341,38 @@ shared_buffers = 128MB
 max_wal_size = 2GB
 logging_collector = off
 `, strings.ReplaceAll(c.Dir, "'", "''"), Port)
-	f, err := os.OpenFile(filepath.Join(c.DataDir(), "postgresql.conf"), os.O_APPEND|os.O_WRONLY, 0)
-	if err != nil {
+	if err := appendConf(filepath.Join(c.DataDir(), "postgresql.conf"), conf); err != nil {
 		return fmt.Errorf("configuring the cluster: %w", err)
 	}
-	if _, err := f.WriteString(conf); err != nil {
-		f.Close()
-		return fmt.Errorf("configuring the cluster: %w", err)
+	return nil
+}
+
+// appendConf appends to the server's configuration file, which initdb
+// made (as the postgres user when we are root). It never follows a
+// symbolic link and refuses anything but a regular file with one link:
+// as root, a link planted there would otherwise have root append to any
+// file on the system.
+func appendConf(path, text string) error {
+	f, err := os.OpenFile(path, os.O_APPEND|os.O_WRONLY|syscall.O_NOFOLLOW|syscall.O_NONBLOCK|syscall.O_NOCTTY, 0)
+	if err != nil {
+		if errors.Is(err, syscall.ELOOP) {
+			return fmt.Errorf("%s is a symbolic link: refused", path)
+		}
+		return err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return err
+	}
+	if !st.Mode().IsRegular() {
+		return fmt.Errorf("%s is not a regular file (mode %v): refused", path, st.Mode())
+	}
+	if sys, ok := st.Sys().(*syscall.Stat_t); ok && sys.Nlink != 1 {
+		return fmt.Errorf("%s has %d hard links: refused", path, sys.Nlink)
+	}
+	if _, err := f.WriteString(text); err != nil {
+		return err
 	}
 	return f.Close()
 }
@@ -282,7 +393,7 @@ func (c *Cluster) run(ctx context.Context, out io.Writer, name string, args ...s
 }
 
 func lockFile(path string) (func(), error) {
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_RDWR, 0o600)
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_RDWR|syscall.O_NOFOLLOW|syscall.O_NONBLOCK|syscall.O_NOCTTY, 0o600)
 	if err != nil {
 		return nil, fmt.Errorf("lock file %s: %w", path, err)
 	}

@@ -20,6 +20,7 @@ import (
 
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger"
+	"hulltally/ledger/files"
 	"hulltally/ledger/spec"
 	"hulltally/ledger/synth"
 )
@@ -155,7 +156,8 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 		if err != nil {
 			return nil, err
 		}
-		if err := os.WriteFile(specFile, append([]byte("# invented demo hull\n"), y...), 0o644); err != nil {
+		text := append([]byte("# invented demo hull\n"), y...)
+		if err := files.WriteAtomic(specFile, func(w io.Writer) error { _, err := w.Write(text); return err }, 0o644); err != nil {
 			return nil, fmt.Errorf("demo: %w", err)
 		}
 		_, err = l.AddHull(ctx, hp.spec, ledger.AddHullOptions{Actor: "demo", Reason: "demo fleet"})
@@ -269,30 +271,32 @@ func proofTest(ctx context.Context, l *ledger.Ledger, hp hullPlan, dir string, a
 	return nil
 }
 
+// writeDive writes a dive's two files, each to a temporary file with a
+// unique name in its folder, renamed into place only once both are whole:
+// concurrent demos never collide on a temporary name, and a reader never
+// sees half a file (the content is the same for the same seed, so the
+// last rename wins with identical bytes).
 func writeDive(d *synth.Dive, samples, hits string, seed uint64) error {
-	sf, err := os.Create(samples + ".tmp")
+	sf, err := files.NewAtomic(samples, 0o644)
 	if err != nil {
 		return fmt.Errorf("demo: %w", err)
 	}
-	hf, err := os.Create(hits + ".tmp")
+	defer sf.Abort()
+	hf, err := files.NewAtomic(hits, 0o644)
 	if err != nil {
-		sf.Close()
 		return fmt.Errorf("demo: %w", err)
 	}
-	_, err = d.Write(sf, hf, seed)
-	if e := sf.Close(); err == nil {
-		err = e
-	}
-	if e := hf.Close(); err == nil {
-		err = e
-	}
-	if err != nil {
+	defer hf.Abort()
+	if _, err := d.Write(sf, hf, seed); err != nil {
 		return fmt.Errorf("demo: writing %s: %w", samples, err)
 	}
-	if err := os.Rename(samples+".tmp", samples); err != nil {
-		return err
+	if err := sf.Commit(); err != nil {
+		return fmt.Errorf("demo: %w", err)
 	}
-	return os.Rename(hits+".tmp", hits)
+	if err := hf.Commit(); err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	return nil
 }
 
 func exists(p string) bool {

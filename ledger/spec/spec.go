@@ -20,6 +20,7 @@ package spec
 
 import (
 	"bytes"
+	"context"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -33,6 +34,7 @@ import (
 	"gopkg.in/yaml.v3"
 
 	"hulltally/fatigue/seawater"
+	"hulltally/ledger/files"
 )
 
 // Hull is one hull's specification.
@@ -530,4 +532,26 @@ func contains(list []string, s string) bool {
 		}
 	}
 	return false
+}
+
+// MaxFileBytes is the largest hull specification file ReadFile accepts
+// (1 MiB): a real spec is a few kilobytes; anything larger is a wrong
+// file, and reading it whole would only waste memory.
+const MaxFileBytes = 1 << 20
+
+// ReadFile reads and validates a hull specification from a file. Only a
+// regular file of at most MaxFileBytes is read: a FIFO, a device such as
+// /dev/zero, a folder or a socket is refused at once (the error wraps
+// files.ErrNotRegular), a larger file is refused (files.ErrTooLarge), and
+// ctx cancels the read. Errors name the file.
+func ReadFile(ctx context.Context, path string) (*Hull, error) {
+	data, err := files.ReadAllLimited(ctx, path, MaxFileBytes)
+	if err != nil {
+		return nil, fmt.Errorf("hull spec: %w", err)
+	}
+	h, err := Parse(data)
+	if err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	return h, nil
 }
