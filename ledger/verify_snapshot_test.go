@@ -289,7 +289,10 @@ func TestEveryByteOfABlock(t *testing.T) {
 
 // BenchmarkVerify verifies a ledger of 20 hulls × 50 short dives (each
 // dive with its readings, hits, cycles, profile, evidence and
-// assessment), reporting chain records verified per second.
+// assessment), reporting chain records verified per second. On the
+// shared 2-core development machine (9060 records), reading one record
+// per query gave 8138 and 4630 records/s, and the batched reads 21235 and
+// 11999 records/s (two pairs of runs under different load: 2.6× each).
 //
 //	go test -run XXX -bench Verify -benchtime 5x ./ledger/
 func BenchmarkVerify(b *testing.B) {
