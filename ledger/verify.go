@@ -5,12 +5,15 @@ import (
 	"context"
 	"crypto/sha256"
 	"fmt"
+	"hash"
+	"sort"
 	"strconv"
 	"strings"
 	"time"
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgtype"
 
 	"hulltally/fatigue/assess"
 	"hulltally/ledger/logfile"
@@ -39,20 +42,42 @@ type VerifyResult struct {
 // are re-hashed from their data), each link's hash recomputed, and the
 // number of records in each table compared with the chain (a row added
 // behind the chain's back is found as well as one edited or removed).
+//
+// Everything is read in one read-only REPEATABLE READ transaction, so the
+// chain, the records and the counts are those of one snapshot: dives
+// being logged meanwhile (each committed with its chain records in one
+// transaction) are either wholly seen or not at all, and never raise a
+// false alarm. Each table is read once per hull, all of the hull's rows
+// in one query.
 func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
+	var res *VerifyResult
+	err := pgx.BeginTxFunc(ctx, l.pool, pgx.TxOptions{IsoLevel: pgx.RepeatableRead, AccessMode: pgx.ReadOnly}, func(tx pgx.Tx) error {
+		var err error
+		res, err = verifyAll(ctx, tx)
+		return err
+	})
+	if err != nil {
+		return nil, err
+	}
+	return res, nil
+}
+
+// verifyAll verifies every hull's chain with the reads of q.
+func verifyAll(ctx context.Context, q querier) (*VerifyResult, error) {
 	res := &VerifyResult{OK: true, Heads: map[string]string{}}
-	rows, err := l.pool.Query(ctx, `SELECT id, serial FROM hulls ORDER BY serial COLLATE "C"`)
+	rows, err := q.Query(ctx, `SELECT id, serial, recorded_at FROM hulls ORDER BY serial COLLATE "C"`)
 	if err != nil {
 		return nil, fmt.Errorf("verify: listing hulls: %w", err)
 	}
 	type hullID struct {
 		id     uuid.UUID
 		serial string
+		at     time.Time
 	}
 	var hulls []hullID
 	for rows.Next() {
 		var h hullID
-		if err := rows.Scan(&h.id, &h.serial); err != nil {
+		if err := rows.Scan(&h.id, &h.serial, &h.at); err != nil {
 			return nil, err
 		}
 		hulls = append(hulls, h)
@@ -62,7 +87,7 @@ func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
 	}
 	res.Hulls = len(hulls)
 	for _, h := range hulls {
-		n, head, broken, err := l.verifyHull(ctx, h.id, h.serial)
+		n, head, broken, err := verifyHull(ctx, q, h.id, h.serial, h.at)
 		if err != nil {
 			return nil, err
 		}
@@ -75,7 +100,7 @@ func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
 	}
 	// Chain rows of hulls that no longer exist, or hull-less records.
 	var orphans int64
-	if err := l.pool.QueryRow(ctx, `SELECT count(*) FROM audit_chain c WHERE NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = c.hull_id)`).Scan(&orphans); err != nil {
+	if err := q.QueryRow(ctx, `SELECT count(*) FROM audit_chain c WHERE NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = c.hull_id)`).Scan(&orphans); err != nil {
 		return nil, err
 	}
 	if orphans > 0 && res.FirstBroken == nil {
@@ -96,30 +121,93 @@ func (l *Ledger) ChainHead(ctx context.Context, hull uuid.UUID) ([]byte, int64, 
 	return h, seq, err
 }
 
-func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) (int64, []byte, *Broken, error) {
-	rows, err := l.pool.Query(ctx, "SELECT seq, kind, record_key, prev_hash, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq", hull)
+// chainLink is one stored link of a hull's audit chain.
+type chainLink struct {
+	seq        int64
+	kind, key  string
+	prev, hash []byte
+}
+
+// linkVerdict is what a record's stored rows say of its chain link: the
+// rows were found (done), their canonical bytes hash to the link's hash
+// (match), the table rows the record stands for (hits, damage rows), or
+// why the record is missing or inconsistent, or a read error.
+type linkVerdict struct {
+	done  bool
+	match bool
+	rows  int64
+	why   string
+	err   error
+}
+
+// hullBatch holds a hull's chain and, for each link, the verdict on the
+// record its batch reads found. Links whose record was not among the
+// hull's rows (a record missing, or moved to another hull) are left
+// undone and judged by reading the record by its key, as before.
+type hullBatch struct {
+	links []chainLink
+	index map[string]map[string]int // kind → record key → link
+	v     []linkVerdict
+	// stored is the number of rows of each kind the hull's tables hold,
+	// counted from the same reads (the count checks).
+	stored map[string]int64
+}
+
+// settle records the verdict on the link of (kind, key), if the chain has
+// one; a record that is on no link is left to the count checks.
+func (b *hullBatch) settle(kind, key string, canon []byte, rows int64, why string, err error) {
+	i, ok := b.index[kind][key]
+	if !ok || b.v[i].done {
+		return
+	}
+	b.v[i] = judgeLink(&b.links[i], canon, rows, why, err)
+}
+
+func judgeLink(k *chainLink, canon []byte, rows int64, why string, err error) linkVerdict {
+	v := linkVerdict{done: true, rows: rows, why: why, err: err}
+	if err == nil && why == "" {
+		v.match = bytes.Equal(chainHash(k.prev, canon), k.hash)
+	}
+	return v
+}
+
+// verifyCounts are the kinds whose stored rows are counted against the
+// chain, in the order they are checked. Each count is of the hull's rows
+// (hull_id = the hull) as the batch reads found them:
+//
+//	hull               hulls (the hull itself)
+//	hull_revision      hull_revisions
+//	dive               dives
+//	reading_block      reading_blocks
+//	ae_hits            dives with an acoustic-emission file (ae_source_sha256 not null)
+//	ae_hit_rows        ae_hits
+//	dive_cycles        dives with counted cycles (distinct dive_id of dive_cycles)
+//	dive_holds         dive_holds
+//	dive_profile       dive_profiles
+//	dive_evidence      dive_evidence
+//	inspection         inspections
+//	proof_test         proof_tests
+//	decision           decisions
+//	status             status_history
+//	correction         corrections
+//	assessment         assessments
+//	assessment_rows    assessment_damage
+//	evidence_revision  evidence_revisions
+//	dive_void          dive_voids
+//	dive_fingerprint   dive_fingerprints
+var verifyCounts = [...]string{"hull", "hull_revision", "dive", "reading_block", "ae_hits", "ae_hit_rows", "dive_cycles", "dive_holds",
+	"dive_profile", "dive_evidence", "inspection", "proof_test", "decision", "status", "correction", "assessment", "assessment_rows",
+	"evidence_revision", "dive_void", "dive_fingerprint"}
+
+func verifyHull(ctx context.Context, q querier, hull uuid.UUID, serial string, hullAt time.Time) (int64, []byte, *Broken, error) {
+	b, err := loadHullBatch(ctx, q, hull, serial, hullAt)
 	if err != nil {
 		return 0, nil, nil, fmt.Errorf("verify %s: %w", serial, err)
 	}
-	type link struct {
-		seq        int64
-		kind, key  string
-		prev, hash []byte
-	}
-	var links []link
-	for rows.Next() {
-		var k link
-		if err := rows.Scan(&k.seq, &k.kind, &k.key, &k.prev, &k.hash); err != nil {
-			return 0, nil, nil, err
-		}
-		links = append(links, k)
-	}
-	if err := rows.Err(); err != nil {
-		return 0, nil, nil, err
-	}
 	prev := make([]byte, 32)
 	counts := map[string]int64{}
-	for i, k := range links {
+	for i := range b.links {
+		k := &b.links[i]
 		brk := func(reason string, a ...any) *Broken {
 			return &Broken{Hull: serial, Seq: k.seq, Kind: k.kind, Key: k.key, Reason: fmt.Sprintf(reason, a...)}
 		}
@@ -129,66 +217,521 @@ func (l *Ledger) verifyHull(ctx context.Context, hull uuid.UUID, serial string) 
 		if !bytes.Equal(k.prev, prev) {
 			return int64(i), prev, brk("previous-hash link does not match the record before it"), nil
 		}
-		canon, rows, why, err := l.recordCanon(ctx, k.kind, k.key)
-		if err != nil {
-			return 0, nil, nil, fmt.Errorf("verify %s record %d: %w", serial, k.seq, err)
+		v := b.v[i]
+		if !v.done {
+			canon, rows, why, err := recordCanon(ctx, q, k.kind, k.key)
+			v = judgeLink(k, canon, rows, why, err)
 		}
-		if why != "" {
-			return int64(i), prev, brk("%s", why), nil
+		if v.err != nil {
+			return 0, nil, nil, fmt.Errorf("verify %s record %d: %w", serial, k.seq, v.err)
 		}
-		if h := chainHash(prev, canon); !bytes.Equal(h, k.hash) {
+		if v.why != "" {
+			return int64(i), prev, brk("%s", v.why), nil
+		}
+		if !v.match {
 			return int64(i), prev, brk("record content does not match its hash (the stored record was changed)"), nil
 		}
 		counts[k.kind]++
 		switch k.kind {
 		case "assessment":
-			counts["assessment_rows"] += rows
+			counts["assessment_rows"] += v.rows
 		case "ae_hits":
-			counts["ae_hit_rows"] += rows
+			counts["ae_hit_rows"] += v.rows
 		}
 		prev = k.hash
 	}
 	// Every stored record must be on the chain.
-	checks := []struct{ kind, sql string }{
-		{"hull", "SELECT count(*) FROM hulls WHERE id = $1"},
-		{"hull_revision", "SELECT count(*) FROM hull_revisions WHERE hull_id = $1"},
-		{"dive", "SELECT count(*) FROM dives WHERE hull_id = $1"},
-		{"reading_block", "SELECT count(*) FROM reading_blocks WHERE hull_id = $1"},
-		{"ae_hits", "SELECT count(*) FROM dives WHERE hull_id = $1 AND ae_source_sha256 IS NOT NULL"},
-		{"ae_hit_rows", "SELECT count(*) FROM ae_hits WHERE hull_id = $1"},
-		{"dive_cycles", "SELECT count(DISTINCT dive_id) FROM dive_cycles WHERE hull_id = $1"},
-		{"dive_holds", "SELECT count(*) FROM dive_holds WHERE hull_id = $1"},
-		{"dive_profile", "SELECT count(*) FROM dive_profiles WHERE hull_id = $1"},
-		{"dive_evidence", "SELECT count(*) FROM dive_evidence WHERE hull_id = $1"},
-		{"inspection", "SELECT count(*) FROM inspections WHERE hull_id = $1"},
-		{"proof_test", "SELECT count(*) FROM proof_tests WHERE hull_id = $1"},
-		{"decision", "SELECT count(*) FROM decisions WHERE hull_id = $1"},
-		{"status", "SELECT count(*) FROM status_history WHERE hull_id = $1"},
-		{"correction", "SELECT count(*) FROM corrections WHERE hull_id = $1"},
-		{"assessment", "SELECT count(*) FROM assessments WHERE hull_id = $1"},
-		{"assessment_rows", "SELECT count(*) FROM assessment_damage WHERE hull_id = $1"},
-		{"evidence_revision", "SELECT count(*) FROM evidence_revisions WHERE hull_id = $1"},
-		{"dive_void", "SELECT count(*) FROM dive_voids WHERE hull_id = $1"},
-		{"dive_fingerprint", "SELECT count(*) FROM dive_fingerprints WHERE hull_id = $1"},
-	}
-	for _, c := range checks {
-		var n int64
-		if err := l.pool.QueryRow(ctx, c.sql, hull).Scan(&n); err != nil {
-			return 0, nil, nil, fmt.Errorf("verify %s: counting %s: %w", serial, c.kind, err)
-		}
-		if n != counts[c.kind] {
-			return int64(len(links)), prev, &Broken{Hull: serial, Seq: int64(len(links)) + 1, Kind: c.kind,
-				Reason: fmt.Sprintf("%d %s records stored but %d on the chain (records added or removed behind the chain)", n, c.kind, counts[c.kind])}, nil
+	for _, kind := range verifyCounts {
+		if n := b.stored[kind]; n != counts[kind] {
+			return int64(len(b.links)), prev, &Broken{Hull: serial, Seq: int64(len(b.links)) + 1, Kind: kind,
+				Reason: fmt.Sprintf("%d %s records stored but %d on the chain (records added or removed behind the chain)", n, kind, counts[kind])}, nil
 		}
 	}
-	return int64(len(links)), prev, nil, nil
+	return int64(len(b.links)), prev, nil, nil
+}
+
+// loadHullBatch reads the hull's chain, then each of its tables in one
+// query, and judges every link whose record it found.
+func loadHullBatch(ctx context.Context, q querier, hull uuid.UUID, serial string, hullAt time.Time) (*hullBatch, error) {
+	b := &hullBatch{index: map[string]map[string]int{}, stored: map[string]int64{}}
+	rows, err := q.Query(ctx, "SELECT seq, kind, record_key, prev_hash, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq", hull)
+	if err != nil {
+		return nil, err
+	}
+	for rows.Next() {
+		var k chainLink
+		if err := rows.Scan(&k.seq, &k.kind, &k.key, &k.prev, &k.hash); err != nil {
+			return nil, err
+		}
+		b.links = append(b.links, k)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	b.v = make([]linkVerdict, len(b.links))
+	for i, k := range b.links {
+		m := b.index[k.kind]
+		if m == nil {
+			m = map[string]int{}
+			b.index[k.kind] = m
+		}
+		if _, dup := m[k.key]; !dup {
+			m[k.key] = i
+		}
+	}
+	// The hull itself, as listed in this snapshot.
+	b.stored["hull"] = 1
+	b.settle("hull", hull.String(), hullCanon(hull, serial, hullAt), 0, "", nil)
+	for _, load := range []func(context.Context, querier, uuid.UUID, *hullBatch) error{
+		batchRevisions, batchDives, batchBlocks, batchHits, batchCycles, batchHolds, batchProfiles, batchEvidence,
+		batchInspections, batchProofTests, batchDecisions, batchStatus, batchCorrections, batchAssessments,
+		batchEvidenceRevisions, batchVoids, batchFingerprints,
+	} {
+		if err := load(ctx, q, hull, b); err != nil {
+			return nil, err
+		}
+	}
+	return b, nil
+}
+
+// each runs sql with the hull's id and calls scan for every row.
+func each(ctx context.Context, q querier, what, sql string, hull uuid.UUID, scan func(pgx.Rows) error) error {
+	rows, err := q.Query(ctx, sql, hull)
+	if err != nil {
+		return fmt.Errorf("reading %s: %w", what, err)
+	}
+	defer rows.Close()
+	for rows.Next() {
+		if err := scan(rows); err != nil {
+			return fmt.Errorf("reading %s: %w", what, err)
+		}
+	}
+	if err := rows.Err(); err != nil {
+		return fmt.Errorf("reading %s: %w", what, err)
+	}
+	return nil
+}
+
+func seqKey(id uuid.UUID, n int64) string { return id.String() + "/" + strconv.FormatInt(n, 10) }
+
+func batchRevisions(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	revs := map[int32]*revisionRow{}
+	var order []int32
+	err := each(ctx, q, "hull revisions", `SELECT revision, name, material_system, shape, inner_radius_m, wall_thickness_m, length_m, rated_depth_m,
+		design_pressure_mpa, proof_pressure_mpa, collapse_pressure_mpa, spec_json, reason, actor, recorded_at
+		FROM hull_revisions WHERE hull_id = $1`, hull, func(rows pgx.Rows) error {
+		r := &revisionRow{HullID: hull}
+		if err := rows.Scan(&r.Revision, &r.Name, &r.Material, &r.Shape, &r.InnerR, &r.Wall, &r.Length, &r.Rated, &r.Design, &r.Proof, &r.Collapse,
+			&r.SpecJSON, &r.Reason, &r.Actor, &r.RecordedAt); err != nil {
+			return err
+		}
+		revs[r.Revision] = r
+		order = append(order, r.Revision)
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	b.stored["hull_revision"] = int64(len(order))
+	// Components and gauges of a revision not among the hull's revisions
+	// are not the hull's (the key reads of such a revision find them).
+	err = each(ctx, q, "hull components", `SELECT revision, name, kind, transfer_basis, transfer_factor, curve, rupture_curve FROM hull_components
+		WHERE hull_id = $1 ORDER BY revision, name COLLATE "C"`, hull, func(rows pgx.Rows) error {
+		var rev int32
+		var c componentRow
+		if err := rows.Scan(&rev, &c.Name, &c.Kind, &c.Basis, &c.Factor, &c.Curve, &c.Rupture); err != nil {
+			return err
+		}
+		if r := revs[rev]; r != nil {
+			r.Components = append(r.Components, c)
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	err = each(ctx, q, "gauges", `SELECT revision, name, kind, component, position, direction, channel FROM gauges
+		WHERE hull_id = $1 ORDER BY revision, name COLLATE "C"`, hull, func(rows pgx.Rows) error {
+		var rev int32
+		var g gaugeRow
+		if err := rows.Scan(&rev, &g.Name, &g.Kind, &g.Component, &g.Position, &g.Direction, &g.Channel); err != nil {
+			return err
+		}
+		if r := revs[rev]; r != nil {
+			r.Gauges = append(r.Gauges, g)
+		}
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	for _, rev := range order {
+		b.settle("hull_revision", seqKey(hull, int64(rev)), revs[rev].canon(), 0, "", nil)
+	}
+	return nil
+}
+
+func batchDives(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "dives", "SELECT "+diveColumns+" FROM dives WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var r diveRow
+		if err := rows.Scan(r.scanArgs()...); err != nil {
+			return err
+		}
+		b.stored["dive"]++
+		if r.AESHA != nil {
+			b.stored["ae_hits"]++
+		}
+		b.settle("dive", r.ID.String(), r.canon(), 0, "", nil)
+		return nil
+	})
+}
+
+// batchBlocks streams the hull's reading blocks, re-hashing each block's
+// data as it arrives (the data is not kept).
+func batchBlocks(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "reading blocks", "SELECT dive_id, block_no, first_sample, samples, t_first_ns, t_last_ns, data, sha256 FROM reading_blocks WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var no int32
+		var first, t0, t1 int64
+		var n int32
+		var data pgtype.DriverBytes // valid until the next row: hashed at once
+		var sum []byte
+		if err := rows.Scan(&id, &no, &first, &n, &t0, &t1, &data, &sum); err != nil {
+			return err
+		}
+		b.stored["reading_block"]++
+		key := seqKey(id, int64(no))
+		actual := sha256.Sum256(data)
+		if !bytes.Equal(actual[:], sum) {
+			b.settle("reading_block", key, nil, 0, "reading block data does not match its stored SHA-256 (the readings were changed)", nil)
+			return nil
+		}
+		b.settle("reading_block", key, blockCanon(id, hull, no, first, n, t0, t1, actual[:]), 0, "", nil)
+		return nil
+	})
+}
+
+// batchHits streams the hull's acoustic-emission hits by dive and
+// sequence, digesting each dive's hits as they arrive.
+func batchHits(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	var cur uuid.UUID
+	var digest hash.Hash
+	var n int32
+	var why string
+	var buf []byte
+	flush := func() {
+		if digest == nil {
+			return
+		}
+		if why != "" {
+			b.settle("ae_hits", cur.String(), nil, 0, why, nil)
+		} else {
+			b.settle("ae_hits", cur.String(), hitsCanon(cur, n, digest.Sum(nil)), int64(n), "", nil)
+		}
+	}
+	err := each(ctx, q, "acoustic-emission hits", "SELECT dive_id, seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE hull_id = $1 ORDER BY dive_id, seq", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var seq, ch int32
+		var h logfile.Hit
+		var ev string
+		if err := rows.Scan(&id, &seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS, &ev); err != nil {
+			return err
+		}
+		b.stored["ae_hit_rows"]++
+		if digest == nil || id != cur {
+			flush()
+			cur, digest, n, why = id, sha256.New(), 0, ""
+		}
+		if why != "" {
+			return nil
+		}
+		e, ok := logfile.ParseEvent(ev)
+		if !ok {
+			why = fmt.Sprintf("hit %d has an unknown event %q", seq, ev)
+			return nil
+		}
+		h.Channel, h.Event = int(ch), e
+		buf = hitBytes(buf[:0], seq, &h)
+		digest.Write(buf)
+		n++
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	flush()
+	return nil
+}
+
+func batchCycles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	var cur uuid.UUID
+	var ss []series
+	flush := func() {
+		if len(ss) > 0 {
+			b.stored["dive_cycles"]++
+			b.settle("dive_cycles", cur.String(), cyclesCanon(cur, ss), 0, "", nil)
+		}
+	}
+	err := each(ctx, q, "counted cycles", `SELECT dive_id, series, unit, gate, ranges, means, counts FROM dive_cycles WHERE hull_id = $1 ORDER BY dive_id, series COLLATE "C"`, hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var s series
+		var r, m, n []float64
+		if err := rows.Scan(&id, &s.name, &s.unit, &s.gate, &r, &m, &n); err != nil {
+			return err
+		}
+		if len(ss) == 0 || id != cur {
+			flush()
+			cur, ss = id, nil
+		}
+		s.cycles = joinCycles(r, m, n)
+		ss = append(ss, s)
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	flush()
+	return nil
+}
+
+func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "time at pressure", "SELECT dive_id, bin_mpa, levels, seconds FROM dive_holds WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var bin float64
+		var lv, sec []float64
+		if err := rows.Scan(&id, &bin, &lv, &sec); err != nil {
+			return err
+		}
+		b.stored["dive_holds"]++
+		hs := make([]assess.Hold, len(lv))
+		for i := range lv {
+			hs[i] = assess.Hold{LevelMPa: lv[i], Seconds: sec[i]}
+		}
+		b.settle("dive_holds", id.String(), holdsCanon(id, bin, hs), 0, "", nil)
+		return nil
+	})
+}
+
+func batchProfiles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "dive profiles", "SELECT dive_id, step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		p := &profileAcc{}
+		var flat []float64
+		if err := rows.Scan(&id, &p.step, &p.TimeS, &p.Press, &p.gauges, &flat); err != nil {
+			return err
+		}
+		b.stored["dive_profile"]++
+		n := len(p.TimeS)
+		if len(flat) != n*len(p.gauges) {
+			// As the record's own read reports it.
+			b.settle("dive_profile", id.String(), nil, 0, "", fmt.Errorf("dive %s: profile strain has %d values for %d gauges × %d points", id, len(flat), len(p.gauges), n))
+			return nil
+		}
+		for g := range p.gauges {
+			p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
+		}
+		b.settle("dive_profile", id.String(), profileCanon(id, p), 0, "", nil)
+		return nil
+	})
+}
+
+func batchEvidence(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "dive evidence", "SELECT dive_id, evidence_json FROM dive_evidence WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var js string
+		if err := rows.Scan(&id, &js); err != nil {
+			return err
+		}
+		b.stored["dive_evidence"]++
+		b.settle("dive_evidence", id.String(), evidenceCanon(id, js), 0, "", nil)
+		return nil
+	})
+}
+
+func batchInspections(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "inspections", "SELECT id, at, method, findings, result, actor, recorded_at FROM inspections WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var in Inspection
+		if err := rows.Scan(&in.ID, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt); err != nil {
+			return err
+		}
+		b.stored["inspection"]++
+		b.settle("inspection", in.ID.String(), inspectionCanon(hull, &in), 0, "", nil)
+		return nil
+	})
+}
+
+func batchProofTests(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "proof tests", "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var p ProofTest
+		var bj string
+		if err := rows.Scan(&p.ID, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt); err != nil {
+			return err
+		}
+		b.stored["proof_test"]++
+		b.settle("proof_test", p.ID.String(), proofCanon(hull, &p, bj), 0, "", nil)
+		return nil
+	})
+}
+
+func batchDecisions(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "decisions", "SELECT id, at, kind, actor, reason, recorded_at FROM decisions WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var d Decision
+		if err := rows.Scan(&d.ID, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt); err != nil {
+			return err
+		}
+		b.stored["decision"]++
+		b.settle("decision", d.ID.String(), decisionCanon(hull, &d), 0, "", nil)
+		return nil
+	})
+}
+
+func batchStatus(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "status history", "SELECT seq, status, reasons_json, recorded_at FROM status_history WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var seq int64
+		var status, reasons string
+		var at time.Time
+		if err := rows.Scan(&seq, &status, &reasons, &at); err != nil {
+			return err
+		}
+		b.stored["status"]++
+		b.settle("status", seqKey(hull, seq), statusCanon(hull, seq, status, reasons, at), 0, "", nil)
+		return nil
+	})
+}
+
+func batchCorrections(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "corrections", "SELECT id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var c Correction
+		var target, vj string
+		if err := rows.Scan(&c.ID, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt); err != nil {
+			return err
+		}
+		b.stored["correction"]++
+		var err error
+		if c.Dive, err = uuid.Parse(target); err != nil {
+			b.settle("correction", c.ID.String(), nil, 0, "correction names no dive", nil)
+			return nil
+		}
+		b.settle("correction", c.ID.String(), correctionCanon(hull, &c, vj), 0, "", nil)
+		return nil
+	})
+}
+
+// batchAssessments reads the hull's assessments, then streams their
+// damage rows by assessment, judging each assessment when its rows are
+// complete (the per-dive arrays are not all held at once).
+func batchAssessments(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	heads := map[uuid.UUID]*assessmentHead{}
+	err := each(ctx, q, "assessments", "SELECT id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at FROM assessments WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		a := &assessmentHead{hull: hull}
+		if err := rows.Scan(&a.id, &a.revision, &a.kind, &a.configHash, &a.configJSON, &a.reason, &a.actor, &a.at); err != nil {
+			return err
+		}
+		heads[a.id] = a
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	b.stored["assessment"] = int64(len(heads))
+	var cur uuid.UUID
+	var cols []compDamage
+	var why string
+	started := false
+	flush := func() {
+		if !started {
+			return
+		}
+		a := heads[cur]
+		if a == nil {
+			return // damage rows of no assessment of this hull: the key read judges the record
+		}
+		if why != "" {
+			b.settle("assessment", cur.String(), nil, 0, why, nil)
+			return
+		}
+		sort.Slice(cols, func(i, j int) bool { return cols[i].component < cols[j].component }) // byte order, as COLLATE "C"
+		b.settle("assessment", cur.String(), assessmentCanon(a, cols), int64(len(cols)), "", nil)
+	}
+	err = each(ctx, q, "assessment damage", `SELECT assessment_id, component, basis, factor, curve, rupture_curve, dive_ids, cyclic, sustained FROM assessment_damage
+		WHERE hull_id = $1 ORDER BY assessment_id`, hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var g compDamage
+		var dives [][16]byte
+		if err := rows.Scan(&id, &g.component, &g.basis, &g.factor, &g.curve, &g.ruptureCurve, &dives, &g.cyclic, &g.sustained); err != nil {
+			return err
+		}
+		b.stored["assessment_rows"]++
+		if !started || id != cur {
+			flush()
+			cur, cols, why, started = id, nil, "", true
+		}
+		if why != "" {
+			return nil
+		}
+		if len(dives) != len(g.cyclic) || len(dives) != len(g.sustained) {
+			why = "assessment arrays of unequal length"
+			return nil
+		}
+		g.dives = make([]uuid.UUID, len(dives))
+		for k, d := range dives {
+			g.dives[k] = d
+		}
+		cols = append(cols, g)
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	flush()
+	return nil
+}
+
+func batchEvidenceRevisions(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "evidence revisions", "SELECT dive_id, seq, evidence_json, reason, cause, recorded_at FROM evidence_revisions WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var seq int64
+		var js, reason, cause string
+		var at time.Time
+		if err := rows.Scan(&id, &seq, &js, &reason, &cause, &at); err != nil {
+			return err
+		}
+		b.stored["evidence_revision"]++
+		b.settle("evidence_revision", seqKey(id, seq), revisionCanon(id, seq, js, reason, cause, at), 0, "", nil)
+		return nil
+	})
+}
+
+func batchVoids(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "voids", "SELECT id, dive_id, reason, actor, recorded_at FROM dive_voids WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		v := &Void{}
+		if err := rows.Scan(&v.ID, &v.Dive, &v.Reason, &v.Actor, &v.RecordedAt); err != nil {
+			return err
+		}
+		b.stored["dive_void"]++
+		b.settle("dive_void", v.ID.String(), voidCanon(hull, v), 0, "", nil)
+		return nil
+	})
+}
+
+func batchFingerprints(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	return each(ctx, q, "samples fingerprints", "SELECT dive_id, fingerprint FROM dive_fingerprints WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		var fp []byte
+		if err := rows.Scan(&id, &fp); err != nil {
+			return err
+		}
+		b.stored["dive_fingerprint"]++
+		b.settle("dive_fingerprint", id.String(), fingerprintCanon(id, fp), 0, "", nil)
+		return nil
+	})
 }
 
 // recordCanon rebuilds the canonical bytes of a record from its row. why
 // is non-empty when the record is missing or inconsistent.
 // It also returns the number of table rows the record stands for (hits,
 // damage rows), for the count check.
-func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int64, string, error) {
+func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int64, string, error) {
 	switch kind {
 	case "hull":
 		id, err := uuid.Parse(key)
@@ -197,7 +740,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		var serial string
 		var at time.Time
-		err = l.pool.QueryRow(ctx, "SELECT serial, recorded_at FROM hulls WHERE id = $1", id).Scan(&serial, &at)
+		err = q.QueryRow(ctx, "SELECT serial, recorded_at FROM hulls WHERE id = $1", id).Scan(&serial, &at)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "hull record is missing", nil
 		}
@@ -210,7 +753,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if !ok {
 			return nil, 0, "bad record key", nil
 		}
-		r, err := loadRevision(ctx, l.pool, id, int32(rev))
+		r, err := loadRevision(ctx, q, id, int32(rev))
 		if err == pgx.ErrNoRows {
 			return nil, 0, "hull revision record is missing", nil
 		}
@@ -224,7 +767,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "bad record key", nil
 		}
 		var r diveRow
-		err = l.pool.QueryRow(ctx, "SELECT "+diveColumns+" FROM dives WHERE id = $1", id).Scan(r.scanArgs()...)
+		err = q.QueryRow(ctx, "SELECT "+diveColumns+" FROM dives WHERE id = $1", id).Scan(r.scanArgs()...)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "dive record is missing", nil
 		}
@@ -241,7 +784,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		var first, t0, t1 int64
 		var n int32
 		var data, sum []byte
-		err := l.pool.QueryRow(ctx, "SELECT hull_id, first_sample, samples, t_first_ns, t_last_ns, data, sha256 FROM reading_blocks WHERE dive_id = $1 AND block_no = $2", id, no).Scan(&hullID, &first, &n, &t0, &t1, &data, &sum)
+		err := q.QueryRow(ctx, "SELECT hull_id, first_sample, samples, t_first_ns, t_last_ns, data, sha256 FROM reading_blocks WHERE dive_id = $1 AND block_no = $2", id, no).Scan(&hullID, &first, &n, &t0, &t1, &data, &sum)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "reading block is missing", nil
 		}
@@ -258,7 +801,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		rows, err := l.pool.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
+		rows, err := q.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
 		if err != nil {
 			return nil, 0, "", err
 		}
@@ -291,7 +834,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		rows, err := l.pool.Query(ctx, `SELECT series, unit, gate, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 ORDER BY series COLLATE "C"`, id)
+		rows, err := q.Query(ctx, `SELECT series, unit, gate, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 ORDER BY series COLLATE "C"`, id)
 		if err != nil {
 			return nil, 0, "", err
 		}
@@ -321,7 +864,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		c := Correction{ID: id}
 		var hull uuid.UUID
 		var target, vj string
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE id = $1", id).Scan(&hull, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt)
+		err = q.QueryRow(ctx, "SELECT hull_id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE id = $1", id).Scan(&hull, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "correction record is missing", nil
 		}
@@ -339,7 +882,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		var status, reasons string
 		var at time.Time
-		err := l.pool.QueryRow(ctx, "SELECT status, reasons_json, recorded_at FROM status_history WHERE hull_id = $1 AND seq = $2", id, seq).Scan(&status, &reasons, &at)
+		err := q.QueryRow(ctx, "SELECT status, reasons_json, recorded_at FROM status_history WHERE hull_id = $1 AND seq = $2", id, seq).Scan(&status, &reasons, &at)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "status record is missing", nil
 		}
@@ -353,7 +896,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "bad record key", nil
 		}
 		var js string
-		err = l.pool.QueryRow(ctx, "SELECT evidence_json FROM dive_evidence WHERE dive_id = $1", id).Scan(&js)
+		err = q.QueryRow(ctx, "SELECT evidence_json FROM dive_evidence WHERE dive_id = $1", id).Scan(&js)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "dive evidence is missing", nil
 		}
@@ -369,7 +912,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		var in Inspection
 		var hull uuid.UUID
 		in.ID = id
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, method, findings, result, actor, recorded_at FROM inspections WHERE id = $1", id).Scan(&hull, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt)
+		err = q.QueryRow(ctx, "SELECT hull_id, at, method, findings, result, actor, recorded_at FROM inspections WHERE id = $1", id).Scan(&hull, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "inspection record is missing", nil
 		}
@@ -386,7 +929,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		var hull uuid.UUID
 		var bj string
 		p.ID = id
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE id = $1", id).Scan(&hull, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt)
+		err = q.QueryRow(ctx, "SELECT hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE id = $1", id).Scan(&hull, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "proof test record is missing", nil
 		}
@@ -402,7 +945,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		var d Decision
 		var hull uuid.UUID
 		d.ID = id
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, at, kind, actor, reason, recorded_at FROM decisions WHERE id = $1", id).Scan(&hull, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt)
+		err = q.QueryRow(ctx, "SELECT hull_id, at, kind, actor, reason, recorded_at FROM decisions WHERE id = $1", id).Scan(&hull, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "decision record is missing", nil
 		}
@@ -415,7 +958,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		p, err := loadProfile(ctx, l.pool, id)
+		p, err := loadProfile(ctx, q, id)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "dive profile is missing", nil
 		}
@@ -430,7 +973,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		var bin float64
 		var lv, sec []float64
-		err = l.pool.QueryRow(ctx, "SELECT bin_mpa, levels, seconds FROM dive_holds WHERE dive_id = $1", id).Scan(&bin, &lv, &sec)
+		err = q.QueryRow(ctx, "SELECT bin_mpa, levels, seconds FROM dive_holds WHERE dive_id = $1", id).Scan(&bin, &lv, &sec)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "time at pressure is missing", nil
 		}
@@ -448,7 +991,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "bad record key", nil
 		}
 		a := &assessmentHead{id: id}
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at FROM assessments WHERE id = $1", id).Scan(
+		err = q.QueryRow(ctx, "SELECT hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at FROM assessments WHERE id = $1", id).Scan(
 			&a.hull, &a.revision, &a.kind, &a.configHash, &a.configJSON, &a.reason, &a.actor, &a.at)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "assessment is missing", nil
@@ -456,7 +999,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		if err != nil {
 			return nil, 0, "", err
 		}
-		rows, err := l.pool.Query(ctx, `SELECT component, basis, factor, curve, rupture_curve, dive_ids, cyclic, sustained FROM assessment_damage
+		rows, err := q.Query(ctx, `SELECT component, basis, factor, curve, rupture_curve, dive_ids, cyclic, sustained FROM assessment_damage
 			WHERE assessment_id = $1 ORDER BY component COLLATE "C"`, id)
 		if err != nil {
 			return nil, 0, "", err
@@ -490,7 +1033,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		var js, reason, cause string
 		var at time.Time
-		err := l.pool.QueryRow(ctx, "SELECT evidence_json, reason, cause, recorded_at FROM evidence_revisions WHERE dive_id = $1 AND seq = $2", id, seq).Scan(&js, &reason, &cause, &at)
+		err := q.QueryRow(ctx, "SELECT evidence_json, reason, cause, recorded_at FROM evidence_revisions WHERE dive_id = $1 AND seq = $2", id, seq).Scan(&js, &reason, &cause, &at)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "evidence revision is missing", nil
 		}
@@ -505,7 +1048,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 		}
 		v := &Void{ID: id}
 		var hull uuid.UUID
-		err = l.pool.QueryRow(ctx, "SELECT hull_id, dive_id, reason, actor, recorded_at FROM dive_voids WHERE id = $1", id).Scan(&hull, &v.Dive, &v.Reason, &v.Actor, &v.RecordedAt)
+		err = q.QueryRow(ctx, "SELECT hull_id, dive_id, reason, actor, recorded_at FROM dive_voids WHERE id = $1", id).Scan(&hull, &v.Dive, &v.Reason, &v.Actor, &v.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "void record is missing", nil
 		}
@@ -519,7 +1062,7 @@ func (l *Ledger) recordCanon(ctx context.Context, kind, key string) ([]byte, int
 			return nil, 0, "bad record key", nil
 		}
 		var fp []byte
-		err = l.pool.QueryRow(ctx, "SELECT fingerprint FROM dive_fingerprints WHERE dive_id = $1", id).Scan(&fp)
+		err = q.QueryRow(ctx, "SELECT fingerprint FROM dive_fingerprints WHERE dive_id = $1", id).Scan(&fp)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "samples fingerprint is missing", nil
 		}
