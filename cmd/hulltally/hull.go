@@ -2,9 +2,11 @@ package main
 
 import (
 	"context"
+	"errors"
 	"fmt"
+	"hulltally/ledger/files"
+	"io/fs"
 	"math"
-	"os"
 	"os/user"
 	"strings"
 	"text/tabwriter"
@@ -41,12 +43,15 @@ func (a *app) hullCmd() *cobra.Command {
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			sp := &h
 			if file != "" {
-				data, err := os.ReadFile(file)
-				if err != nil {
-					return usageError{err}
-				}
-				if sp, err = spec.Parse(data); err != nil {
-					return &ledger.InputError{Err: fmt.Errorf("%s: %w", file, err)}
+				// A regular file of at most 1 MiB, read with the command's
+				// context (/dev/zero or a FIFO is refused at once).
+				var err error
+				if sp, err = spec.ReadFile(cmd.Context(), file); err != nil {
+					if errors.Is(err, fs.ErrNotExist) || errors.Is(err, fs.ErrPermission) ||
+						errors.Is(err, files.ErrNotRegular) || errors.Is(err, files.ErrTooLarge) {
+						return usageError{err}
+					}
+					return &ledger.InputError{Err: err}
 				}
 			} else {
 				if h.Shape == "" {
