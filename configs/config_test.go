@@ -59,20 +59,20 @@ type layerCase struct {
 
 // loadLayer loads tc's fault in its layer on top of the shipped
 // configuration.
-func loadLayer(t *testing.T, tc layerCase) (*Config, error, string) {
+func loadLayer(t *testing.T, tc layerCase) (*Config, string, error) {
 	t.Helper()
 	o := Options{Env: env(tc.vars), Environ: environ(tc.vars), UserHome: "/h", IsRoot: notRoot}
 	switch tc.layer {
 	case "file":
 		o.File = writeFile(t, tc.body)
 		c, err := Load(o)
-		return c, err, o.File
+		return c, o.File, err
 	case "env":
 		c, err := Load(o)
-		return c, err, ""
+		return c, "", err
 	}
 	t.Fatalf("no layer %q", tc.layer)
-	return nil, nil, ""
+	return nil, "", nil
 }
 
 func checkRefused(t *testing.T, tc layerCase, c *Config, err error, where string) {
@@ -137,7 +137,7 @@ func TestMisspeltKeysRefused(t *testing.T) {
 			sugg: "HULLTALLY_FATIGUE_ALLOWABLE"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			c, err, file := loadLayer(t, tc)
+			c, file, err := loadLayer(t, tc)
 			checkRefused(t, tc, c, err, file)
 		})
 	}
@@ -250,7 +250,7 @@ func TestBadValues(t *testing.T) {
 		{name: "proof tolerance", layer: "env", vars: map[string]string{"HULLTALLY_PROOF_TOLERANCE": "0.19"}, kind: ErrBadValue, key: "proof.tolerance"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			c, err, file := loadLayer(t, tc)
+			c, file, err := loadLayer(t, tc)
 			checkRefused(t, tc, c, err, file)
 		})
 	}
