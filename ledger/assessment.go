@@ -497,6 +497,9 @@ type AssessResult struct {
 // configuration in force, appending a new assessment per hull in one
 // transaction; the earlier ones stay on record.
 func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, error) {
+	if err := l.writable("Assess"); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, fmt.Errorf("assess: the actor is required")
 	}
@@ -689,7 +692,7 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 
 // hullsMissingCounts lists the hulls that have dives without stored cycles.
 func (l *Ledger) hullsMissingCounts(ctx context.Context, ids [][16]byte) ([]uuid.UUID, error) {
-	rows, err := l.pool.Query(ctx, `SELECT DISTINCT d.hull_id FROM dives d LEFT JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
+	rows, err := l.db.Query(ctx, `SELECT DISTINCT d.hull_id FROM dives d LEFT JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
 		WHERE d.hull_id = ANY($1) AND c.dive_id IS NULL`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("looking for dives without counted cycles: %w", err)
@@ -715,7 +718,7 @@ func joinCyclesInto(dst []rainflow.Cycle, r, m, n []float64) []rainflow.Cycle {
 
 // allHulls returns every hull with its spec in force, by serial.
 func (l *Ledger) allHulls(ctx context.Context) ([]*Hull, error) {
-	rows, err := l.pool.Query(ctx, `SELECT DISTINCT ON (h.serial COLLATE "C") h.id, h.serial, h.recorded_at, r.revision, r.spec_json, r.recorded_at, r.reason, r.actor
+	rows, err := l.db.Query(ctx, `SELECT DISTINCT ON (h.serial COLLATE "C") h.id, h.serial, h.recorded_at, r.revision, r.spec_json, r.recorded_at, r.reason, r.actor
 		FROM hulls h JOIN hull_revisions r ON r.hull_id = h.id
 		ORDER BY h.serial COLLATE "C", r.revision DESC`)
 	if err != nil {
@@ -740,7 +743,7 @@ func (l *Ledger) allHulls(ctx context.Context) ([]*Hull, error) {
 	}
 	rows.Close()
 	for _, h := range out {
-		if err := attachProof(ctx, l.pool, h); err != nil {
+		if err := attachProof(ctx, l.db, h); err != nil {
 			return nil, err
 		}
 	}
@@ -894,7 +897,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		byID[h.ID] = i
 		out[i] = l.newDamages(h)
 	}
-	prows, err := l.pool.Query(ctx, `SELECT hull_id, pressure_mpa FROM proof_tests WHERE hull_id = ANY($1) AND dive_id IS NULL ORDER BY hull_id, at`, ids)
+	prows, err := l.db.Query(ctx, `SELECT hull_id, pressure_mpa FROM proof_tests WHERE hull_id = ANY($1) AND dive_id IS NULL ORDER BY hull_id, at`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("reading proof tests: %w", err)
 	}
@@ -911,7 +914,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	if err := prows.Err(); err != nil {
 		return nil, err
 	}
-	rows, err := l.pool.Query(ctx, `SELECT hull_id, id, start_time FROM dives d WHERE hull_id = ANY($1) AND `+notVoided+` ORDER BY hull_id, start_time, id`, ids)
+	rows, err := l.db.Query(ctx, `SELECT hull_id, id, start_time FROM dives d WHERE hull_id = ANY($1) AND `+notVoided+` ORDER BY hull_id, start_time, id`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("reading dives: %w", err)
 	}
@@ -936,7 +939,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	}
 	// Newest assessment first: a dive takes its damage from the newest
 	// assessment that covers it.
-	rows, err = l.pool.Query(ctx, `SELECT a.hull_id, a.seq, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
+	rows, err = l.db.Query(ctx, `SELECT a.hull_id, a.seq, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
 		FROM assessments a JOIN assessment_damage ad ON ad.assessment_id = a.id
 		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, a.seq DESC, ad.component`, ids)
 	if err != nil {
@@ -1020,7 +1023,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	if err := l.showRecords(ctx, out, recFrom); err != nil {
 		return nil, err
 	}
-	rows, err = l.pool.Query(ctx, `SELECT DISTINCT ON (hull_id) hull_id, count(*) OVER (PARTITION BY hull_id), config_hash
+	rows, err = l.db.Query(ctx, `SELECT DISTINCT ON (hull_id) hull_id, count(*) OVER (PARTITION BY hull_id), config_hash
 		FROM assessments WHERE hull_id = ANY($1) ORDER BY hull_id, seq DESC`, ids)
 	if err != nil {
 		return nil, err
@@ -1069,7 +1072,7 @@ func (l *Ledger) showRecords(ctx context.Context, out []*Damages, refs []recRef)
 	if len(ids) == 0 {
 		return nil
 	}
-	rows, err := l.pool.Query(ctx, "SELECT id, config_json FROM assessments WHERE id = ANY($1)", ids)
+	rows, err := l.db.Query(ctx, "SELECT id, config_json FROM assessments WHERE id = ANY($1)", ids)
 	if err != nil {
 		return fmt.Errorf("reading assessment settings: %w", err)
 	}
@@ -1206,7 +1209,7 @@ type Cycle struct {
 // DiveCycles returns the rainflow cycles of gauge pressure of a dive.
 func (l *Ledger) DiveCycles(ctx context.Context, dive uuid.UUID) ([]Cycle, error) {
 	var r, m, n []float64
-	err := l.pool.QueryRow(ctx, "SELECT ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND series = 'pressure'", dive).Scan(&r, &m, &n)
+	err := l.db.QueryRow(ctx, "SELECT ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND series = 'pressure'", dive).Scan(&r, &m, &n)
 	if err == pgx.ErrNoRows {
 		return []Cycle{}, nil
 	}
@@ -1241,7 +1244,7 @@ type DiveComponentDamage struct {
 // DiveDamageOf returns the dive's damage per component in the assessment
 // in force (the newest that covers the dive).
 func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]DiveComponentDamage, error) {
-	rows, err := l.pool.Query(ctx, `
+	rows, err := l.db.Query(ctx, `
 		SELECT a.seq, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve, ad.factor, a.config_json
 		FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
 		WHERE ad.hull_id = (SELECT hull_id FROM dives WHERE id = $1) AND $1 = ANY(ad.dive_ids)

@@ -45,6 +45,9 @@ func correctionCanon(hull uuid.UUID, c *Correction, valueJSON string) []byte {
 
 // CorrectDive records a correction of a dive's site or operator.
 func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reason, actor string) (*Correction, error) {
+	if err := l.writable("CorrectDive"); err != nil {
+		return nil, err
+	}
 	d, err := l.Dive(ctx, id)
 	if err != nil {
 		return nil, err
@@ -70,7 +73,7 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 
 // correctionsOf returns a dive's corrections, oldest first.
 func (l *Ledger) correctionsOf(ctx context.Context, dive uuid.UUID) ([]Correction, error) {
-	rows, err := l.pool.Query(ctx, `SELECT id, field, value_json, reason, actor, recorded_at FROM corrections
+	rows, err := l.db.Query(ctx, `SELECT id, field, value_json, reason, actor, recorded_at FROM corrections
 		WHERE target_kind = 'dive' AND target_key = $1 ORDER BY recorded_at, id`, dive.String())
 	if err != nil {
 		return nil, err

@@ -161,7 +161,7 @@ func (c *diveCounter) finish() ([]series, []assess.Hold) {
 // have no stored cycles (dives logged before cycles were kept), and stores
 // their cycles and time at pressure as new records.
 func (l *Ledger) backfillCounts(ctx context.Context, h *Hull) (int, error) {
-	rows, err := l.pool.Query(ctx, `SELECT id, columns, latitude FROM dives d WHERE hull_id = $1
+	rows, err := l.db.Query(ctx, `SELECT id, columns, latitude FROM dives d WHERE hull_id = $1
 		AND NOT EXISTS (SELECT 1 FROM dive_cycles c WHERE c.dive_id = d.id) ORDER BY start_time`, h.ID)
 	if err != nil {
 		return 0, fmt.Errorf("looking for dives without counted cycles: %w", err)

@@ -219,6 +219,9 @@ func inputErr(err error) error {
 // all of it or nothing. The same samples file for the same hull is the
 // same dive: it is reported as a duplicate and nothing is added.
 func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
+	if err := l.writable("LogDive"); err != nil {
+		return nil, err
+	}
 	h, err := l.Hull(ctx, req.Hull)
 	if err != nil {
 		if errors.Is(err, ErrUnknownHull) {
@@ -239,10 +242,10 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 			return nil, fileErr(ctx, err)
 		}
 	}
-	if d, err := l.existingDive(ctx, l.pool, h, sha, aeSHA); d != nil || err != nil {
+	if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
 		return d, err
 	}
-	replaces, err := l.elsewhere(ctx, l.pool, h, "source_sha256", sha, "samples file")
+	replaces, err := l.elsewhere(ctx, l.db, h, "source_sha256", sha, "samples file")
 	if err != nil {
 		return nil, err
 	}
@@ -294,7 +297,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	}
 	if tag.RowsAffected() == 0 {
 		tx.Rollback(ctx)
-		return l.existingDive(ctx, l.pool, h, sha, aeSHA)
+		return l.existingDive(ctx, l.db, h, sha, aeSHA)
 	}
 	recs = append([]chainRec{{"dive", row.ID.String(), row.canon()}}, recs...)
 	if p := req.proof; p != nil {
@@ -897,7 +900,7 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	if err != nil {
 		return nil, err
 	}
-	rows, err := l.pool.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+", EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
+	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+", EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}
@@ -930,7 +933,7 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 	if len(id) < 8 {
 		return nil, inputErr(fmt.Errorf("%w: %q: give the dive id or at least its first 8 characters", ErrUnknownDive, id))
 	}
-	rows, err := l.pool.Query(ctx, "SELECT "+diveColumns+", (SELECT serial FROM hulls WHERE hulls.id = dives.hull_id) FROM dives WHERE id::text LIKE $1 || '%' LIMIT 2", id)
+	rows, err := l.db.Query(ctx, "SELECT "+diveColumns+", (SELECT serial FROM hulls WHERE hulls.id = dives.hull_id) FROM dives WHERE id::text LIKE $1 || '%' LIMIT 2", id)
 	if err != nil {
 		return nil, fmt.Errorf("reading dive %s: %w", id, err)
 	}
@@ -966,7 +969,7 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 		return nil, err
 	}
 	d.Voided = d.Void != nil
-	if err := l.pool.QueryRow(ctx, "SELECT EXISTS (SELECT 1 FROM proof_tests WHERE dive_id = $1)", d.ID).Scan(&d.ProofTest); err != nil {
+	if err := l.db.QueryRow(ctx, "SELECT EXISTS (SELECT 1 FROM proof_tests WHERE dive_id = $1)", d.ID).Scan(&d.ProofTest); err != nil {
 		return nil, err
 	}
 	d.BeyondRated = d.BeyondRated && !d.ProofTest
@@ -984,7 +987,7 @@ type DecodedBlock = blocks.Decoded
 
 // ReadBlocks streams a dive's decoded reading blocks in order.
 func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*DecodedBlock) error) error {
-	rows, err := l.pool.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 ORDER BY block_no", dive)
+	rows, err := l.db.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 ORDER BY block_no", dive)
 	if err != nil {
 		return fmt.Errorf("reading blocks of dive %s: %w", dive, err)
 	}

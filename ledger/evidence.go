@@ -407,7 +407,7 @@ func storeEvidence(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, ev *Evi
 // evidence was kept).
 func (l *Ledger) EvidenceOf(ctx context.Context, dive uuid.UUID) (*Evidence, error) {
 	var js string
-	err := l.pool.QueryRow(ctx, "SELECT "+effectiveEvidence+" FROM dives d WHERE d.id = $1", dive).Scan(&js)
+	err := l.db.QueryRow(ctx, "SELECT "+effectiveEvidence+" FROM dives d WHERE d.id = $1", dive).Scan(&js)
 	if err == pgx.ErrNoRows || (err == nil && js == "") {
 		return nil, nil
 	}
@@ -424,7 +424,7 @@ func (l *Ledger) EvidenceOf(ctx context.Context, dive uuid.UUID) (*Evidence, err
 // HullEvidence returns the stored evidence of every dive of a hull, by
 // dive (dives logged before evidence was kept are absent).
 func (l *Ledger) HullEvidence(ctx context.Context, hull uuid.UUID) (map[uuid.UUID]*Evidence, error) {
-	rows, err := l.pool.Query(ctx, "SELECT d.id, "+effectiveEvidence+" FROM dives d WHERE d.hull_id = $1", hull)
+	rows, err := l.db.Query(ctx, "SELECT d.id, "+effectiveEvidence+" FROM dives d WHERE d.hull_id = $1", hull)
 	if err != nil {
 		return nil, fmt.Errorf("evidence of hull %s: %w", hull, err)
 	}

@@ -56,6 +56,9 @@ func (l *Ledger) loadRules() error {
 // FitnessOf evaluates the hull's rules and status at now, and appends the
 // status to the hull's history when it changed.
 func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitness, error) {
+	if err := l.writable("FitnessOf"); err != nil {
+		return nil, err
+	}
 	return l.fitnessOf(ctx, h, now, true)
 }
 
@@ -139,7 +142,7 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		void        *Void
 		js          string
 	}
-	rows, err := l.pool.Query(ctx, `SELECT d.id, d.hull_revision, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa,
+	rows, err := l.db.Query(ctx, `SELECT d.id, d.hull_revision, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa,
 		v.reason, v.actor, v.recorded_at, `+effectiveEvidence+` FROM dives d LEFT JOIN dive_voids v ON v.dive_id = d.id
 		WHERE d.hull_id = $1 ORDER BY d.start_time, d.id`, h.ID)
 	if err != nil {
@@ -234,7 +237,7 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 // evidence before the one in force (the evidence stored at logging and
 // all but the newest revision), oldest first.
 func (l *Ledger) olderJudgements(ctx context.Context, h *Hull) (map[uuid.UUID][]string, error) {
-	rows, err := l.pool.Query(ctx, `SELECT e.dive_id, e.evidence_json, 0::bigint AS seq FROM dive_evidence e
+	rows, err := l.db.Query(ctx, `SELECT e.dive_id, e.evidence_json, 0::bigint AS seq FROM dive_evidence e
 		WHERE e.hull_id = $1 AND EXISTS (SELECT 1 FROM evidence_revisions r WHERE r.dive_id = e.dive_id)
 		UNION ALL
 		SELECT r.dive_id, r.evidence_json, r.seq FROM evidence_revisions r
@@ -259,7 +262,7 @@ func (l *Ledger) olderJudgements(ctx context.Context, h *Hull) (map[uuid.UUID][]
 
 // specOfRevision returns a hull's spec as recorded in one revision.
 func (l *Ledger) specOfRevision(ctx context.Context, hull uuid.UUID, rev int32) (*spec.Hull, error) {
-	r, err := loadRevision(ctx, l.pool, hull, rev)
+	r, err := loadRevision(ctx, l.db, hull, rev)
 	if err != nil {
 		return nil, fmt.Errorf("hull revision %d: %w", rev, err)
 	}
@@ -277,7 +280,7 @@ func (l *Ledger) specOfRevision(ctx context.Context, hull uuid.UUID, rev int32) 
 func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, error) {
 	min := 0.1 * h.Spec.DesignPressureMPa
 	var n float64
-	err := l.pool.QueryRow(ctx, `SELECT coalesce(sum(cnt), 0) FROM (
+	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(cnt), 0) FROM (
 		SELECT c.counts[i] AS cnt FROM dive_cycles c JOIN dives d ON d.id = c.dive_id,
 		generate_subscripts(c.ranges, 1) AS i
 		WHERE c.hull_id = $1 AND c.series = 'pressure' AND c.ranges[i] >= $2 AND `+notVoided+`) x`, h.ID, min).Scan(&n)
@@ -357,7 +360,7 @@ func setF(m *map[string]float64, k string, v float64) {
 // noteStatus appends the status to the hull's history when it changed.
 func (l *Ledger) noteStatus(ctx context.Context, h *Hull, f *Fitness) error {
 	var last string
-	err := l.pool.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
+	err := l.db.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
 	if err == nil && last == f.Status {
 		return nil
 	}
@@ -391,7 +394,7 @@ type StatusChange struct {
 
 // StatusHistory lists a hull's status changes, oldest first.
 func (l *Ledger) StatusHistory(ctx context.Context, h *Hull) ([]StatusChange, error) {
-	rows, err := l.pool.Query(ctx, "SELECT status, recorded_at FROM status_history WHERE hull_id = $1 ORDER BY seq", h.ID)
+	rows, err := l.db.Query(ctx, "SELECT status, recorded_at FROM status_history WHERE hull_id = $1 ORDER BY seq", h.ID)
 	if err != nil {
 		return nil, err
 	}
@@ -506,7 +509,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 	if err != nil {
 		return math.Inf(1), "", inputErr(err)
 	}
-	rows, err := l.pool.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
+	rows, err := l.db.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
 		FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.dive_id = d.id
 		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {

@@ -123,6 +123,9 @@ type AddHullOptions struct {
 // AddHull records a new hull, or with Revise a new revision of a hull's
 // specification (the earlier revision stays on record).
 func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*Hull, error) {
+	if err := l.writable("AddHull"); err != nil {
+		return nil, err
+	}
 	if err := h.Validate(); err != nil {
 		return nil, err
 	}
@@ -279,7 +282,7 @@ func loadRevision(ctx context.Context, q querier, hull uuid.UUID, rev int32) (*r
 
 // Hull returns the hull with its specification in force.
 func (l *Ledger) Hull(ctx context.Context, serial string) (*Hull, error) {
-	return hullBySerial(ctx, l.pool, serial)
+	return hullBySerial(ctx, l.db, serial)
 }
 
 func hullBySerial(ctx context.Context, q querier, serial string) (*Hull, error) {
@@ -364,7 +367,7 @@ func (l *Ledger) HullSummary(ctx context.Context, id uuid.UUID) (*HullSummary, e
 }
 
 func (l *Ledger) hullSummaries(ctx context.Context, id *uuid.UUID) ([]HullSummary, error) {
-	rows, err := l.pool.Query(ctx, `
+	rows, err := l.db.Query(ctx, `
 		SELECT h.serial, r.name, r.material_system, r.shape, r.rated_depth_m, r.revision,
 		       count(d.id), coalesce(max(d.max_pressure_mpa), 0), coalesce(max(d.max_depth_m), 0),
 		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id)), max(d.start_time)

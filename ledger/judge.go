@@ -72,6 +72,9 @@ var ErrAlreadyVoid = errors.New("dive already void")
 // with the reason and who decided; later dives of the hull are judged
 // again without it, in the same transaction.
 func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void, error) {
+	if err := l.writable("VoidDive"); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(reason) == "" {
 		return nil, inputErr(errors.New("voiding a dive needs a reason (--reason)"))
 	}
@@ -121,7 +124,7 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 // VoidOf returns the void record of a dive, or nil.
 func (l *Ledger) VoidOf(ctx context.Context, dive uuid.UUID) (*Void, error) {
 	v := &Void{Dive: dive}
-	err := l.pool.QueryRow(ctx, `SELECT v.id, h.serial, v.reason, v.actor, v.recorded_at FROM dive_voids v JOIN hulls h ON h.id = v.hull_id WHERE v.dive_id = $1`, dive).
+	err := l.db.QueryRow(ctx, `SELECT v.id, h.serial, v.reason, v.actor, v.recorded_at FROM dive_voids v JOIN hulls h ON h.id = v.hull_id WHERE v.dive_id = $1`, dive).
 		Scan(&v.ID, &v.Hull, &v.Reason, &v.Actor, &v.RecordedAt)
 	if err == pgx.ErrNoRows {
 		return nil, nil
@@ -274,5 +277,5 @@ func loadHits(ctx context.Context, q querier, dive uuid.UUID) ([]evidence.Hit, [
 // HitsOf returns a dive's stored acoustic-emission hits and sensor checks
 // (times in seconds from the dive's first sample), for reports.
 func (l *Ledger) HitsOf(ctx context.Context, dive uuid.UUID) ([]evidence.Hit, []evidence.SensorCheck, error) {
-	return loadHits(ctx, l.pool, dive)
+	return loadHits(ctx, l.db, dive)
 }

@@ -31,9 +31,15 @@ import (
 // Ledger is an open hulltally ledger.
 type Ledger struct {
 	pool *pgxpool.Pool
-	cfg  *configs.Config
-	info Info
-	fat  *fatigueEnv
+	// db is where reads go: the pool, or inside Snapshot the one
+	// read-only repeatable-read transaction.
+	db querier
+	// snapshot is true for the Ledger a Snapshot hands to its function;
+	// writes refuse it.
+	snapshot bool
+	cfg      *configs.Config
+	info     Info
+	fat      *fatigueEnv
 	// rulesSet is the fitness rule set, parsed once at Open.
 	rulesSet *fitness.Rules
 	rulesSrc string
@@ -91,7 +97,7 @@ func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
 	if err != nil {
 		return nil, fmt.Errorf("connecting to %s: %w", l.info.URL, err)
 	}
-	l.pool = pool
+	l.pool, l.db = pool, pool
 	if err := l.Migrate(ctx); err != nil {
 		pool.Close()
 		return nil, err
@@ -110,6 +116,9 @@ func (l *Ledger) Pool() *pgxpool.Pool { return l.pool }
 
 // Migrate applies pending migrations under tern's advisory lock.
 func (l *Ledger) Migrate(ctx context.Context) error {
+	if err := l.writable("Migrate"); err != nil {
+		return err
+	}
 	conn, err := l.pool.Acquire(ctx)
 	if err != nil {
 		return fmt.Errorf("migrations: connecting to %s: %w", l.info.URL, err)

@@ -154,6 +154,9 @@ func (l *Ledger) record(ctx context.Context, serial string, insert func(tx pgx.T
 
 // RecordInspection records an inspection of a hull.
 func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspection) (*Inspection, error) {
+	if err := l.writable("RecordInspection"); err != nil {
+		return nil, err
+	}
 	var errs []string
 	in.ID, in.RecordedAt, errs = l.stamp(&in.At)
 	if strings.TrimSpace(in.Method) == "" {
@@ -186,6 +189,9 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 // samples goes through ProofTestWithSamples). A passing test below the
 // spec's proof pressure, less the configured tolerance, is refused.
 func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest) (*ProofTest, error) {
+	if err := l.writable("RecordProofTest"); err != nil {
+		return nil, err
+	}
 	h, err := l.Hull(ctx, serial)
 	if err != nil {
 		return nil, inputErr(err)
@@ -269,6 +275,9 @@ func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTe
 // RecordDecision records a decision to return a hull to service or to
 // withdraw it, by a named person with a reason.
 func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) (*Decision, error) {
+	if err := l.writable("RecordDecision"); err != nil {
+		return nil, err
+	}
 	var errs []string
 	d.ID, d.RecordedAt, errs = l.stamp(&d.At)
 	if d.Kind != DecisionReturn && d.Kind != DecisionWithdraw {
@@ -307,7 +316,7 @@ type Maintenance struct {
 // MaintenanceOf reads a hull's maintenance records.
 func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, error) {
 	m := &Maintenance{Inspections: []Inspection{}, ProofTests: []ProofTest{}, Decisions: []Decision{}}
-	rows, err := l.pool.Query(ctx, "SELECT id, at, method, findings, result, actor, recorded_at FROM inspections WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	rows, err := l.db.Query(ctx, "SELECT id, at, method, findings, result, actor, recorded_at FROM inspections WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("inspections of %s: %w", h.Serial, err)
 	}
@@ -320,7 +329,7 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 		m.Inspections = append(m.Inspections, in)
 	}
 	rows.Close()
-	rows, err = l.pool.Query(ctx, "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	rows, err = l.db.Query(ctx, "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("proof tests of %s: %w", h.Serial, err)
 	}
@@ -338,7 +347,7 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 		m.ProofTests = append(m.ProofTests, p)
 	}
 	rows.Close()
-	rows, err = l.pool.Query(ctx, "SELECT id, at, kind, actor, reason, recorded_at FROM decisions WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
+	rows, err = l.db.Query(ctx, "SELECT id, at, kind, actor, reason, recorded_at FROM decisions WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("decisions of %s: %w", h.Serial, err)
 	}
@@ -361,6 +370,9 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 // measured on it becomes the new baseline), after the record is checked
 // against its samples: all of it is stored, or nothing.
 func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p ProofTest, req LogRequest) (*ProofTest, error) {
+	if err := l.writable("ProofTestWithSamples"); err != nil {
+		return nil, err
+	}
 	if req.Samples == "" {
 		return l.RecordProofTest(ctx, serial, p)
 	}
@@ -379,7 +391,7 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 	}
 	if d.Duplicate {
 		var n int
-		if err := l.pool.QueryRow(ctx, "SELECT count(*) FROM proof_tests WHERE dive_id = $1", d.ID).Scan(&n); err != nil {
+		if err := l.db.QueryRow(ctx, "SELECT count(*) FROM proof_tests WHERE dive_id = $1", d.ID).Scan(&n); err != nil {
 			return nil, err
 		}
 		if n > 0 {

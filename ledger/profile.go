@@ -109,7 +109,7 @@ type Profile struct {
 // ProfileOf returns a dive's decimated profile (nil for dives logged
 // before profiles were kept).
 func (l *Ledger) ProfileOf(ctx context.Context, dive uuid.UUID) (*Profile, error) {
-	p, err := loadProfile(ctx, l.pool, dive)
+	p, err := loadProfile(ctx, l.db, dive)
 	if err == pgx.ErrNoRows {
 		return nil, nil
 	}
@@ -126,7 +126,7 @@ func (l *Ledger) ProfileOf(ctx context.Context, dive uuid.UUID) (*Profile, error
 // HullCycles returns every pressure cycle of a hull's dives (range, count
 // pairs), for the histogram of its load.
 func (l *Ledger) HullCycles(ctx context.Context, hull uuid.UUID) (ranges, counts []float64, err error) {
-	rows, err := l.pool.Query(ctx, "SELECT ranges, counts FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'", hull)
+	rows, err := l.db.Query(ctx, "SELECT ranges, counts FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'", hull)
 	if err != nil {
 		return nil, nil, err
 	}

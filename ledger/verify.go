@@ -50,6 +50,10 @@ type VerifyResult struct {
 // false alarm. Each table is read once per hull, all of the hull's rows
 // in one query.
 func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
+	if l.snapshot {
+		// Already inside one repeatable-read transaction.
+		return verifyAll(ctx, l.db)
+	}
 	var res *VerifyResult
 	err := pgx.BeginTxFunc(ctx, l.pool, pgx.TxOptions{IsoLevel: pgx.RepeatableRead, AccessMode: pgx.ReadOnly}, func(tx pgx.Tx) error {
 		var err error
@@ -114,7 +118,7 @@ func verifyAll(ctx context.Context, q querier) (*VerifyResult, error) {
 func (l *Ledger) ChainHead(ctx context.Context, hull uuid.UUID) ([]byte, int64, error) {
 	var seq int64
 	var h []byte
-	err := l.pool.QueryRow(ctx, "SELECT seq, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", hull).Scan(&seq, &h)
+	err := l.db.QueryRow(ctx, "SELECT seq, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", hull).Scan(&seq, &h)
 	if err == pgx.ErrNoRows {
 		return make([]byte, 32), 0, nil
 	}
