@@ -59,6 +59,8 @@ func (l *Ledger) loadFatigue() error {
 		"combine": f.Combine, "sustained_allowable": f.SustainedAllowable, "gate_mpa": f.GateMPa(), "gate_ue": f.GateUE(),
 		"hold_bin_mpa": f.HoldBinMPa, "hold_max_bins": f.HoldMaxBins, "window": f.Window, "min_dives": f.MinDives,
 		"curves_source": src, "curves_sha256": fmt.Sprintf("%x", libSum),
+		// Which build computed the figures: recorded, not hashed.
+		"software": software(),
 	}
 	js, err := json.Marshal(doc) // map keys are sorted: canonical
 	if err != nil {
@@ -66,7 +68,7 @@ func (l *Ledger) loadFatigue() error {
 	}
 	hashDoc := map[string]any{}
 	for k, v := range doc {
-		if k != "curves_source" {
+		if k != "curves_source" && k != "software" {
 			hashDoc[k] = v
 		}
 	}
