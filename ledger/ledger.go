@@ -1,11 +1,3 @@
-// Package ledger is hulltally's PostgreSQL record: the connection (to a
-// configured server or to the managed local cluster), the migrations, the
-// repositories for hulls, dives, readings and acoustic-emission hits, the
-// streaming ingest of data-logger files, and the append-only audit chain.
-//
-// Every ledger table is append-only (database triggers refuse UPDATE,
-// DELETE and TRUNCATE) and every record is chained per hull:
-// hash = SHA-256(previous hash ‖ canonical bytes of the record).
 package ledger
 
 import (
