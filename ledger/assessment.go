@@ -17,6 +17,7 @@ import (
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/damage"
 	"hulltally/fatigue/fitness"
+	"hulltally/fatigue/inforce"
 	"hulltally/fatigue/load"
 	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
@@ -920,10 +921,6 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	if err != nil {
 		return nil, fmt.Errorf("reading dives: %w", err)
 	}
-	pos := make([]map[uuid.UUID]int, len(hulls))
-	for i := range pos {
-		pos[i] = map[uuid.UUID]int{}
-	}
 	for rows.Next() {
 		var hullID, id uuid.UUID
 		var start time.Time
@@ -932,7 +929,6 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 			return nil, err
 		}
 		i := byID[hullID]
-		pos[i][id] = len(out[i].PerDive)
 		out[i].PerDive = append(out[i].PerDive, DiveDamage{Dive: id, Start: start, Damage: map[string]damage.Damage{}})
 	}
 	rows.Close()
@@ -947,9 +943,17 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	if err != nil {
 		return nil, fmt.Errorf("reading damage: %w", err)
 	}
-	claimed := make([][]bool, len(hulls))
-	for i := range claimed {
-		claimed[i] = make([]bool, len(out[i].PerDive))
+	claimers := make([]*inforce.Claimer[uuid.UUID], len(hulls))
+	for i := range claimers {
+		ids := make([]uuid.UUID, len(out[i].PerDive))
+		for p := range out[i].PerDive {
+			ids[p] = out[i].PerDive[p].Dive
+		}
+		comps := make([]string, len(out[i].Components))
+		for k := range out[i].Components {
+			comps[k] = out[i].Components[k].Name
+		}
+		claimers[i] = inforce.New(ids, comps)
 	}
 	var group []compDamage
 	groupHull, groupSeq := -1, int64(-1)
@@ -960,40 +964,27 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		if groupHull < 0 {
 			return
 		}
-		o, cl := out[groupHull], claimed[groupHull]
-		fresh := map[int]bool{}
-		for _, g := range group {
-			for _, d := range g.dives {
-				if p, ok := pos[groupHull][d]; ok && !cl[p] {
-					fresh[p] = true
-				}
-			}
+		o := out[groupHull]
+		cols := make([]inforce.Column[uuid.UUID], len(group))
+		for n, g := range group {
+			cols[n] = inforce.Column[uuid.UUID]{Component: g.component, Dives: g.dives, Cyclic: g.cyclic, Sustained: g.sustained}
 		}
-		for _, g := range group {
+		used := claimers[groupHull].Claim(cols)
+		for n, g := range group {
 			k := -1
 			for j := range o.Components {
 				if o.Components[j].Name == g.component {
 					k = j
 				}
 			}
-			if k < 0 {
-				continue // a component no longer in the spec
+			if k < 0 || !used[n] {
+				continue
 			}
-			used := false
-			for n, d := range g.dives {
-				if p, ok := pos[groupHull][d]; ok && fresh[p] {
-					o.PerDive[p].Damage[g.component] = damage.Damage{Cyclic: g.cyclic[n], Sustained: g.sustained[n]}
-					used = true
-				}
-			}
-			if used && o.Components[k].Basis == "" {
+			if o.Components[k].Basis == "" {
 				c := &o.Components[k]
 				c.Basis, c.Factor, c.Curve, c.RuptureCurve = g.basis, g.factor, g.curve, g.ruptureCurve
 				recFrom = append(recFrom, recRef{groupHull, k, groupID})
 			}
-		}
-		for p := range fresh {
-			cl[p] = true
 		}
 		group = group[:0]
 	}
@@ -1021,6 +1012,11 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	rows.Close()
 	if err := rows.Err(); err != nil {
 		return nil, err
+	}
+	for i := range out {
+		for p, dm := range claimers[i].Damage() {
+			out[i].PerDive[p].Damage = dm
+		}
 	}
 	if err := l.showRecords(ctx, out, recFrom); err != nil {
 		return nil, err
