@@ -16,7 +16,7 @@ import (
 	"hulltally/fatigue/damage"
 	"hulltally/fatigue/fitness"
 	"hulltally/fatigue/implosion"
-	"hulltally/fatigue/rainflow"
+	"hulltally/fatigue/plan"
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger/spec"
 )
@@ -516,9 +516,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		return 0, "", err
 	}
 	defer rows.Close()
-	var best *assess.Dive
-	var bestPeak float64
-	bestID := ""
+	var recent []plan.Recent
 	for rows.Next() {
 		var id uuid.UUID
 		var peak float64
@@ -526,50 +524,17 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		if err := rows.Scan(&id, &peak, &rg, &mn, &ct, &lv, &sec); err != nil {
 			return 0, "", err
 		}
-		if !(peak > 0) {
-			continue
+		r := plan.Recent{ID: id.String(), PeakMPa: peak, Cycles: joinCycles(rg, mn, ct)}
+		for i := range lv {
+			r.Holds = append(r.Holds, assess.Hold{LevelMPa: lv[i], Seconds: sec[i]})
 		}
-		if best == nil || math.Abs(peak-target) < math.Abs(bestPeak-target) {
-			d := assess.Dive{PressureCycles: joinCycles(rg, mn, ct)}
-			for i := range lv {
-				d.Holds = append(d.Holds, assess.Hold{LevelMPa: lv[i], Seconds: sec[i]})
-			}
-			best, bestPeak, bestID = &d, peak, id.String()
-		}
+		recent = append(recent, r)
 	}
 	if err := rows.Err(); err != nil {
 		return 0, "", err
 	}
-	var d assess.Dive
-	var basis string
-	if best == nil {
-		d = assess.Dive{PressureCycles: joinCycles([]float64{target}, []float64{target / 2}, []float64{1}),
-			Holds: []assess.Hold{{LevelMPa: target, Seconds: bottomMin * 60}}}
-		basis = fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it", target, bottomMin)
-	} else {
-		s := target / bestPeak
-		for _, c := range best.PressureCycles {
-			d.PressureCycles = append(d.PressureCycles, fitnessScale(c, s))
-		}
-		holdS := 0.0
-		for _, hl := range best.Holds {
-			if hl.LevelMPa >= 0.95*bestPeak {
-				holdS += hl.Seconds
-			}
-		}
-		ts := 1.0
-		if bottomMin > 0 && holdS > 0 {
-			ts = math.Max(1, bottomMin*60/holdS) // never less time at depth than the typical dive
-		}
-		for _, hl := range best.Holds {
-			sec := hl.Seconds
-			if hl.LevelMPa >= 0.95*bestPeak {
-				sec *= ts
-			}
-			d.Holds = append(d.Holds, assess.Hold{LevelMPa: hl.LevelMPa * s, Seconds: sec})
-		}
-		basis = fmt.Sprintf("dive %s (peak %.3f MPa) scaled ×%.3f to %.3f MPa (planned depth at latitude 90°), time at depth ×%.2f", bestID[:8], bestPeak, s, target, ts)
-	}
+	rows.Close()
+	d, basis := plan.Predict(recent, target, bottomMin)
 	res, err := assess.DiveDamage(d, comps, l.fat.settings)
 	if err != nil {
 		return 0, "", err
@@ -580,10 +545,6 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		worst = math.Max(worst, ratio)
 	}
 	return worst, basis, nil
-}
-
-func fitnessScale(c rainflow.Cycle, s float64) rainflow.Cycle {
-	return rainflow.Cycle{Range: c.Range * s, Mean: c.Mean * s, Count: c.Count}
 }
 
 // Reason is a reason behind a status or a clearance, for output.
