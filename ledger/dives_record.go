@@ -1,0 +1,203 @@
+package ledger
+
+import (
+	"errors"
+	"time"
+
+	"github.com/google/uuid"
+
+	"hulltally/ledger/logfile"
+)
+
+// LogRequest is one dive to record.
+type LogRequest struct {
+	Hull    string // serial
+	Samples string // path of the samples file
+	AE      string // path of the acoustic-emission hits file, optional
+	// Latitude in degrees; nil means the configured default, else the
+	// conservative latitude for the logged column.
+	Latitude *float64
+	Site     string
+	Operator string
+	// Start is the time of t_s = 0 for files with relative times.
+	Start *time.Time
+	// Progress, if set, is called after each stored block with the samples
+	// stored so far.
+	Progress func(samples int64)
+	// proof, when set, is the proof test these samples record: it is
+	// checked against them and stored in the same transaction.
+	proof *ProofTest
+}
+
+// Dive is a recorded dive's summary.
+type Dive struct {
+	ID              uuid.UUID `json:"dive_id"`
+	Hull            string    `json:"hull"`
+	HullRevision    int32     `json:"hull_revision"`
+	Duplicate       bool      `json:"duplicate"`
+	Source          string    `json:"source"`
+	SourceSHA256    string    `json:"source_sha256"`
+	AESource        string    `json:"ae_source,omitempty"`
+	Start           time.Time `json:"start_time"`
+	End             time.Time `json:"end_time"`
+	DurationS       float64   `json:"duration_s"`
+	Samples         int64     `json:"samples"`
+	Blocks          int32     `json:"blocks"`
+	MaxDepthM       float64   `json:"max_depth_m"`
+	MaxPressureMPa  float64   `json:"max_pressure_mpa"`
+	RatedDepthM     float64   `json:"rated_depth_m"`
+	BeyondRated     bool      `json:"beyond_rated"`
+	LoadColumn      string    `json:"load_column"`
+	Columns         []string  `json:"columns"`
+	Gauges          []string  `json:"gauges"`
+	AEHits          int32     `json:"ae_hits"`
+	Latitude        float64   `json:"latitude"`
+	LatitudeAssumed bool      `json:"latitude_assumed"`
+	Site            string    `json:"site"`
+	Operator        string    `json:"operator"`
+	RecordedAt      time.Time `json:"recorded_at"`
+	// Corrections recorded on the dive (applied to Site and Operator).
+	Corrections []Correction `json:"corrections,omitempty"`
+	// Voided is true when a void record took the dive out of damage,
+	// evidence and status; Void is that record (dive show).
+	Voided bool  `json:"voided"`
+	Void   *Void `json:"void,omitempty"`
+	// ProofTest is true when the dive records a proof test: it is judged
+	// as one, never as a dive beyond the rated depth.
+	ProofTest bool `json:"proof_test"`
+	// Evidence is the dive's evidence in force (dive show and dive log).
+	Evidence *EvidenceView `json:"evidence,omitempty"`
+	// Rejudged lists the later dives whose evidence was judged again
+	// because this dive was logged late (dive log only).
+	Rejudged []uuid.UUID `json:"rejudged,omitempty"`
+	// Replaces names a void dive of another hull recorded from the same
+	// samples (dive log only).
+	Replaces *uuid.UUID `json:"replaces_void_dive,omitempty"`
+}
+
+// diveRow is the stored dive row, for canonical bytes.
+type diveRow struct {
+	ID, HullID                  uuid.UUID
+	HullRevision                int32
+	SourceName                  string
+	SHA                         []byte
+	SourceBytes                 int64
+	AEName                      string
+	AESHA                       []byte
+	Start, End                  time.Time
+	Lat                         float64
+	LatAssumed                  bool
+	Site, Operator, LoadColumn  string
+	Columns, Gauges             []string
+	Samples                     int64
+	Blocks                      int32
+	Duration, MaxDepth, MaxPres float64
+	Beyond                      bool
+	AEHits                      int32
+	RecordedAt                  time.Time
+	// fingerprint is the SHA-256 of the normalised samples (not a dive
+	// column: stored in dive_fingerprints).
+	fingerprint []byte
+	// evidence is the dive's evidence as judged at logging.
+	evidence *Evidence
+}
+
+func (d *diveRow) canon() []byte {
+	c := newCanon("dive")
+	c.uuid(d.ID)
+	c.uuid(d.HullID)
+	c.i64(int64(d.HullRevision))
+	c.str(d.SourceName)
+	c.bytes(d.SHA)
+	c.i64(d.SourceBytes)
+	c.str(d.AEName)
+	c.bytes(d.AESHA)
+	c.time(d.Start)
+	c.time(d.End)
+	c.f64(d.Lat)
+	c.boolean(d.LatAssumed)
+	c.str(d.Site)
+	c.str(d.Operator)
+	c.str(d.LoadColumn)
+	c.strs(d.Columns)
+	c.strs(d.Gauges)
+	c.i64(d.Samples)
+	c.i64(int64(d.Blocks))
+	c.f64(d.Duration)
+	c.f64(d.MaxDepth)
+	c.f64(d.MaxPres)
+	c.boolean(d.Beyond)
+	c.i64(int64(d.AEHits))
+	c.time(d.RecordedAt)
+	return c.b
+}
+
+const diveColumns = `id, hull_id, hull_revision, source_name, source_sha256, source_bytes, ae_source_name, ae_source_sha256,
+	start_time, end_time, latitude, latitude_assumed, site, operator, load_column, columns, gauges, sample_count,
+	block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at`
+
+func (d *diveRow) scanArgs() []any {
+	return []any{&d.ID, &d.HullID, &d.HullRevision, &d.SourceName, &d.SHA, &d.SourceBytes, &d.AEName, &d.AESHA,
+		&d.Start, &d.End, &d.Lat, &d.LatAssumed, &d.Site, &d.Operator, &d.LoadColumn, &d.Columns, &d.Gauges, &d.Samples,
+		&d.Blocks, &d.Duration, &d.MaxDepth, &d.MaxPres, &d.Beyond, &d.AEHits, &d.RecordedAt}
+}
+
+func (d *diveRow) values() []any {
+	return []any{d.ID, d.HullID, d.HullRevision, d.SourceName, d.SHA, d.SourceBytes, d.AEName, d.AESHA,
+		d.Start, d.End, d.Lat, d.LatAssumed, d.Site, d.Operator, d.LoadColumn, d.Columns, d.Gauges, d.Samples,
+		d.Blocks, d.Duration, d.MaxDepth, d.MaxPres, d.Beyond, d.AEHits, d.RecordedAt}
+}
+
+func blockCanon(dive, hull uuid.UUID, no int32, first int64, n int32, t0, t1 int64, dataSHA []byte) []byte {
+	c := newCanon("reading_block")
+	c.uuid(dive)
+	c.uuid(hull)
+	c.i64(int64(no))
+	c.i64(first)
+	c.i64(int64(n))
+	c.i64(t0)
+	c.i64(t1)
+	c.bytes(dataSHA) // SHA-256 of the encoded readings, recomputed from the data
+	return c.b
+}
+
+func hitsCanon(dive uuid.UUID, n int32, digest []byte) []byte {
+	c := newCanon("ae_hits")
+	c.uuid(dive)
+	c.i64(int64(n))
+	c.bytes(digest) // SHA-256 over the canonical bytes of every hit, in order
+	return c.b
+}
+
+func hitBytes(dst []byte, seq int32, h *logfile.Hit) []byte {
+	c := canon{b: dst}
+	c.i64(int64(seq))
+	c.i64(h.TimeNS)
+	c.i64(int64(h.Channel))
+	c.f64(h.AmplitudeDB)
+	c.f64(h.Energy)
+	c.i64(h.Counts)
+	c.f64(h.DurationUS)
+	c.f64(h.RiseUS)
+	if h.Event != logfile.EventHit {
+		// A sensor check; hits keep the bytes they had before checks
+		// were recorded.
+		c.str(h.Event.String())
+	}
+	return c.b
+}
+
+// InputError wraps a problem with the user's input (as opposed to the
+// database): the command exits with the input-error code.
+type InputError struct{ Err error }
+
+func (e *InputError) Error() string { return e.Err.Error() }
+func (e *InputError) Unwrap() error { return e.Err }
+
+func inputErr(err error) error {
+	var ie *InputError
+	if errors.As(err, &ie) {
+		return err
+	}
+	return &InputError{err}
+}
