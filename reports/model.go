@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
-	"sort"
 	"strings"
 	"time"
 
@@ -15,6 +14,7 @@ import (
 	"hulltally/fatigue/fitness"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
+	"hulltally/reports/view"
 )
 
 // Kinds of report.
@@ -313,48 +313,32 @@ func BuildFleet(ctx context.Context, l *ledger.Ledger, at time.Time) (*Model, er
 		m.Hulls = append(m.Hulls, *hp)
 		specs = append(specs, hp.Spec)
 	}
-	sort.SliceStable(m.Hulls, func(i, j int) bool {
-		ui, uj := urgency(m.Hulls[i].Status), urgency(m.Hulls[j].Status)
-		if ui != uj {
-			return ui < uj
-		}
-		return m.Hulls[i].Damage.GoverningRatio > m.Hulls[j].Damage.GoverningRatio
+	view.SortByUrgency(m.Hulls, func(h *HullPart) view.Rank {
+		return view.Rank{Status: h.Status, Ratio: float64(h.Damage.GoverningRatio), Serial: h.Spec.Serial}
 	})
 	return m, fillBasis(l, m, specs)
 }
 
 // BuildDive gathers a dive sheet's content.
 func BuildDive(ctx context.Context, l *ledger.Ledger, id string, at time.Time) (*Model, error) {
-	d, err := l.Dive(ctx, id)
+	dv, err := view.DiveOf(ctx, l, id)
 	if err != nil {
 		return nil, err
 	}
+	if err := dv.WithHull(ctx, l, at); err != nil {
+		return nil, err
+	}
+	d, load, hv := dv.Record, dv.Load, dv.Hull
+	h := hv.Record
 	m := &Model{Kind: KindDive, Subject: d.ID.String(), GeneratedAt: at, Chains: map[string]Chain{}}
-	h, err := l.Hull(ctx, d.Hull)
-	if err != nil {
-		return nil, err
-	}
 	if err := chain(ctx, l, h, m); err != nil {
-		return nil, err
-	}
-	load, err := l.LoadOf(ctx, d.ID)
-	if err != nil {
 		return nil, err
 	}
 	ev, err := l.EvidenceOf(ctx, d.ID)
 	if err != nil {
 		return nil, err
 	}
-	f, err := l.FitnessAt(ctx, h, at)
-	if err != nil {
-		return nil, err
-	}
-	dp := &DivePart{Dive: d, Load: load, Evidence: ev, Flags: []ledger.Flag{}}
-	for _, fl := range f.Flags {
-		if fl.Dive == d.ID.String() {
-			dp.Flags = append(dp.Flags, fl)
-		}
-	}
+	dp := &DivePart{Dive: d, Load: load, Evidence: ev, Flags: dv.Flags}
 	if dp.profile, err = l.ProfileOf(ctx, d.ID); err != nil {
 		return nil, err
 	}
@@ -370,7 +354,7 @@ func BuildDive(ctx context.Context, l *ledger.Ledger, id string, at time.Time) (
 		}
 	}
 	m.Dive = dp
-	m.Hulls = []HullPart{{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: f.Damage}}
+	m.Hulls = []HullPart{{Spec: h.Spec, Revision: h.Revision, Status: hv.Status(), Reasons: hv.Fitness.Reasons, Damage: hv.Damage}}
 	return m, fillBasis(l, m, []*spec.Hull{h.Spec})
 }
 
@@ -384,18 +368,15 @@ func chain(ctx context.Context, l *ledger.Ledger, h *ledger.Hull, m *Model) erro
 }
 
 func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time, full bool, m *Model) (*HullPart, error) {
-	h, err := l.Hull(ctx, serial)
+	hv, err := view.HullOf(ctx, l, serial, at)
 	if err != nil {
 		return nil, err
 	}
+	h, f := hv.Record, hv.Fitness
 	if err := chain(ctx, l, h, m); err != nil {
 		return nil, err
 	}
-	f, err := l.FitnessAt(ctx, h, at)
-	if err != nil {
-		return nil, err
-	}
-	hp := &HullPart{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: f.Damage, flags: f.Flags}
+	hp := &HullPart{Spec: h.Spec, Revision: h.Revision, Status: f.Status, Reasons: f.Reasons, Damage: hv.Damage, flags: f.Flags}
 	if !full {
 		return hp, nil
 	}
@@ -641,16 +622,4 @@ func ruleMeasures(b *ledger.BasisInfo) map[string]fitness.Measure {
 		measure[r.ID] = r.Measure
 	}
 	return measure
-}
-
-func urgency(s string) int {
-	switch s {
-	case "hold":
-		return 0
-	case "watch":
-		return 1
-	case "fit":
-		return 2
-	}
-	return 3
 }

@@ -10,64 +10,21 @@ import (
 
 	"hulltally/ledger"
 	"hulltally/reports/charts"
+	"hulltally/reports/view"
 )
 
-// shortReason cuts a reason before its rule, basis and source (stated in
-// the basis section).
-func shortReason(s string) string {
-	if i := strings.Index(s, " [rule "); i > 0 {
-		return s[:i]
-	}
-	return s
-}
-
-// reasonRows lists the reasons, each rule once with the number of dives
-// that raised it.
+// reasonRows lists the reasons, each rule and level once with the number
+// of dives that raised it (view.CollapseReasons).
 func reasonRows(rs []ledger.Reason, withClosed bool) [][]string {
-	type agg struct {
-		r ledger.Reason
-		n int
-	}
-	var order []string
-	m := map[string]*agg{}
-	for _, r := range rs {
-		if r.State == "fit" && !withClosed {
-			continue
-		}
-		key := r.Kind + "|" + r.Code + "|" + r.State
-		if r.Kind != "flag" {
-			key += "|" + r.Text
-		}
-		if a, ok := m[key]; ok {
-			a.n++
-			continue
-		}
-		m[key] = &agg{r, 1}
-		order = append(order, key)
-	}
 	var out [][]string
-	for _, k := range order {
-		a := m[k]
-		text := shortReason(a.r.Text)
-		if a.n > 1 {
-			text += fmt.Sprintf(" (and %d more dives)", a.n-1)
-		}
-		out = append(out, []string{a.r.State, a.r.Kind, text})
+	for _, x := range view.CollapseReasons(rs, withClosed) {
+		out = append(out, []string{x.First.State, x.First.Kind, x.Text()})
 	}
 	return out
 }
 
-func pct(r float64) string {
-	switch {
-	case math.IsInf(r, 1):
-		return "OVERLOAD"
-	case r == 0:
-		return "0 %"
-	case r < 1e-4:
-		return "< 0.01 %"
-	}
-	return fmt.Sprintf("%.2f %%", math.Ceil(r*1e4)/100)
-}
+// pct prints a damage ratio as a percentage (view.Percent).
+func pct(r float64) string { return view.Percent(r) }
 
 func sci(v float64) string {
 	if math.IsInf(v, 1) {
@@ -77,56 +34,14 @@ func sci(v float64) string {
 }
 
 // lifeVoid reports whether the remaining life must not be shown as a
-// figure: the ledger voided it, or the hull is on hold or withdrawn
-// (checked here too, so that no figure can slip through).
-func lifeVoid(status string, d *ledger.Damages) bool {
-	return d.RemainingStatus == statusLifeVoid || status == "hold" || status == "withdrawn"
-}
+// figure (view.LifeOf).
+func lifeVoid(status string, d *ledger.Damages) bool { return view.LifeOf(status, d).Void }
 
 // statusLifeVoid is the ledger's remaining-life status of a void life.
-const statusLifeVoid = "void_evidence_open"
+const statusLifeVoid = view.LifeVoidStatus
 
-// basisWords names what governs the remaining life.
-func basisWords(b string) string {
-	switch b {
-	case "recent_mean":
-		return "the mean damage per dive of the recent dives"
-	case "design_dive":
-		return "the damage of the design dive"
-	case "qualified_cycles":
-		return "the pressure cycles the design was qualified for"
-	case "current_damage":
-		return "the damage already done"
-	case "":
-		return "not stated"
-	}
-	return strings.ReplaceAll(b, "_", " ")
-}
-
-// divesText states a number of dives left, "more than N" at the horizon.
-func divesText(n int64, moreThan bool) string {
-	if moreThan {
-		return fmt.Sprintf("more than %d dives", n)
-	}
-	return fmt.Sprintf("%d dives", n)
-}
-
-// remainingText states the remaining life in one line: VOID with its
-// reason on a hull on hold (never a figure), "more than N" beyond the
-// horizon, else the figure and what governs it.
-func remainingText(status string, d *ledger.Damages) string {
-	if lifeVoid(status, d) {
-		why := d.RemainingReason
-		if d.RemainingStatus != statusLifeVoid || why == "" {
-			why = "fatigue projection void while the hull is " + status
-		}
-		return "VOID: " + why
-	}
-	if d.RemainingDives != nil {
-		return fmt.Sprintf("%s (governed by %s)", divesText(*d.RemainingDives, d.RemainingMoreThan), basisWords(d.RemainingBasis))
-	}
-	return fmt.Sprintf("%s: %s", strings.ReplaceAll(d.RemainingStatus, "_", " "), d.RemainingReason)
-}
+// remainingText states the remaining life in one line (view.Life.Text).
+func remainingText(status string, d *ledger.Damages) string { return view.LifeOf(status, d).Text() }
 
 // remainingRows states the remaining life with both projections and the
 // limit they run to; only the void statement when it is void.
@@ -139,7 +54,7 @@ func remainingRows(status string, d *ledger.Damages) [][2]string {
 		if v == nil {
 			return "not evaluated"
 		}
-		return divesText(*v, moreThan)
+		return view.DivesText(*v, moreThan)
 	}
 	dd := proj(d.RemainingAtDesignDive, d.RemainingAtDesignDiveMoreThan)
 	if d.DesignDive != "" {
@@ -869,22 +784,11 @@ func fleetBody(d *doc, m *Model) error {
 	d.h1(fmt.Sprintf("Fleet summary: %d hulls, most urgent first", len(m.Hulls)))
 	var rows [][]string
 	for _, h := range m.Hulls {
-		open := 0
-		for _, r := range h.Reasons {
-			if r.Kind == "flag" && r.State != "fit" {
-				open++
-			}
-		}
-		var left string
-		switch {
-		case lifeVoid(h.Status, h.Damage):
-			left = "VOID"
-		case h.Damage.RemainingDives != nil && h.Damage.RemainingMoreThan:
-			left = fmt.Sprintf("more than %d", *h.Damage.RemainingDives)
-		case h.Damage.RemainingDives != nil:
-			left = fmt.Sprint(*h.Damage.RemainingDives)
-		default:
-			left = strings.ReplaceAll(h.Damage.RemainingStatus, "_", " ")
+		open := len(view.OpenFlags(h.Reasons))
+		life := view.LifeOf(h.Status, h.Damage)
+		left := life.Short()
+		if life.Void {
+			left = "VOID" // the paragraph under the table says why
 		}
 		rows = append(rows, []string{h.Spec.Serial, h.Spec.Name, strings.ToUpper(h.Status), pct(float64(h.Damage.GoverningRatio)), h.Damage.Governing, left, fmt.Sprint(h.Damage.DiveCount), fmt.Sprint(open)})
 	}

@@ -4,6 +4,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hulltally/ledger"
+	"hulltally/reports/view"
 )
 
 func (a *app) assessCmd() *cobra.Command {
@@ -38,9 +39,9 @@ func (a *app) assessCmd() *cobra.Command {
 				for i, c := range r.Current.Components {
 					before := r.Previous.Components[i]
 					a.printf("  %-14s damage %.3e -> %.3e (%s -> %s of allowable)\n", c.Name,
-						float64(before.CyclicDamage+before.SustainedDamage), float64(c.CyclicDamage+c.SustainedDamage), pct(float64(before.Ratio)), pct(float64(c.Ratio)))
+						float64(before.CyclicDamage+before.SustainedDamage), float64(c.CyclicDamage+c.SustainedDamage), view.Percent(float64(before.Ratio)), view.Percent(float64(c.Ratio)))
 				}
-				a.printf("  remaining dives: %s -> %s\n", remaining(r.Previous), remaining(r.Current))
+				a.printf("  remaining dives: %s -> %s\n", view.LifeOf("", r.Previous).Short(), view.LifeOf("", r.Current).Short())
 			}
 			a.printf("\n%s\n", cautionText())
 			return nil

@@ -13,6 +13,8 @@ import (
 
 	"github.com/jackc/pgx/v5"
 	"github.com/spf13/cobra"
+
+	"hulltally/reports/view"
 )
 
 func TestRedact(t *testing.T) {
@@ -50,15 +52,15 @@ func TestRedact(t *testing.T) {
 // must not print as the string "inf" in a JSON number, nor as 0.
 func TestPercentNeverInf(t *testing.T) {
 	for _, r := range []float64{math.Inf(1), math.NaN()} {
-		p, over := percentOf(r)
+		p, over := view.PercentJSON(r)
 		if p != nil || !over {
-			t.Errorf("percentOf(%v) = %v, %v; want null and overload", r, p, over)
+			t.Errorf("view.PercentJSON(%v) = %v, %v; want null and overload", r, p, over)
 		}
 	}
-	if p, over := percentOf(0.25); p == nil || *p != 25 || over {
-		t.Errorf("percentOf(0.25) = %v, %v", p, over)
+	if p, over := view.PercentJSON(0.25); p == nil || *p != 25 || over {
+		t.Errorf("view.PercentJSON(0.25) = %v, %v", p, over)
 	}
-	b, err := json.Marshal(fleetRow{ratio: math.Inf(1), DamagePercent: nil, DamageOverload: true})
+	b, err := json.Marshal(view.FleetRow{Ratio: math.Inf(1), DamagePercent: nil, DamageOverload: true})
 	if err != nil || bytes.Contains(b, []byte("inf")) || !bytes.Contains(b, []byte(`"damage_percent_of_allowable":null`)) {
 		t.Errorf("fleet row: %s %v", b, err)
 	}

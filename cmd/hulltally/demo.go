@@ -11,6 +11,7 @@ import (
 	"hulltally/ledger"
 	"hulltally/ledger/demo"
 	"hulltally/reports"
+	"hulltally/reports/view"
 )
 
 func (a *app) demoCmd() *cobra.Command {
@@ -36,14 +37,15 @@ func (a *app) demoCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			dmg, err := a.damages(cmd.Context(), l)
+			fv, err := view.FleetOf(cmd.Context(), l, time.Now().UTC())
 			if err != nil {
 				return err
 			}
-			fl, err := a.fleet(cmd, l)
-			if err != nil {
-				return err
+			dmg := map[string]*ledger.Damages{}
+			for s, h := range fv.Hulls {
+				dmg[s] = h.Damage
 			}
+			fl := fv.Rows()
 			written, err := a.demoReports(cmd, l)
 			if err != nil {
 				return err
@@ -56,7 +58,7 @@ func (a *app) demoCmd() *cobra.Command {
 			}
 			a.printf("demo fleet of the Corrigan Shelf Survey Cooperative (invented), files in %s\n", sum.Dir)
 			a.printf("%d dives: %d logged now (%d samples), %d already recorded; %.1f s\n\n", sum.Dives, sum.Logged, sum.Samples, sum.Duplicates, time.Since(t0).Seconds())
-			a.printHulls(hs, dmg, false)
+			a.printHulls(fv.HullRows(), false)
 			a.printf("\nfleet status, most urgent first:\n")
 			a.printFleet(fl)
 			a.printf("\nreports:\n")

@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"hulltally/ledger"
+	"hulltally/reports/view"
 )
 
 func (a *app) diveCmd() *cobra.Command {
@@ -154,14 +155,11 @@ func (a *app) diveCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			d, err := l.Dive(cmd.Context(), args[0])
+			dv, err := view.DiveOf(cmd.Context(), l, args[0])
 			if err != nil {
 				return err
 			}
-			load, err := l.LoadOf(cmd.Context(), d.ID)
-			if err != nil {
-				return err
-			}
+			d, load := dv.Record, dv.Load
 			if a.asJSON {
 				return a.printJSON(struct {
 					*ledger.Dive
@@ -406,7 +404,7 @@ func (a *app) printEvidence(e *ledger.EvidenceView) {
 				state = "hits"
 			}
 			fmt.Fprintf(w, "  %d\t%s\t%d\t%s\t%s\t%d\t%.0f\t%s\n", c.Channel, state, c.Hits, optNum(c.HistoricIndex, "%.3g"), optNum(c.Severity, "%.3g"),
-				c.HighAmplitudeHits, c.TotalCounts, terminalSafe(c.Notes))
+				c.HighAmplitudeHits, c.TotalCounts, view.TerminalSafe(c.Notes))
 		}
 		w.Flush()
 	}
@@ -424,7 +422,7 @@ func (a *app) printEvidence(e *ledger.EvidenceView) {
 			}
 			note := e.GaugeProblems[g.Gauge]
 			fmt.Fprintf(w, "  %s\t%s\t%s\t%s\t%s\t%s\t%s\n", g.Gauge, optNum(g.ComplianceUEPerMPa, "%.2f"), change, residual,
-				optNum(g.Hysteresis, "%.3f"), optNum(g.CreepUE, "%.1f"), terminalSafe(note))
+				optNum(g.Hysteresis, "%.3f"), optNum(g.CreepUE, "%.1f"), view.TerminalSafe(note))
 		}
 		w.Flush()
 	}
@@ -451,27 +449,12 @@ func (a *app) printStatusChange(before, after *ledger.Fitness) {
 	for _, r := range before.Reasons {
 		was[r.Text] = true
 	}
-	seen := map[string]bool{}
-	for _, r := range after.Reasons {
-		if r.State == "fit" || seen[r.Code] {
-			continue
-		}
-		seen[r.Code] = true
+	// The same rule raised by many dives is shown once, with a count.
+	for _, x := range view.CollapseReasons(after.Reasons, false) {
 		mark := "  "
-		if !was[r.Text] {
+		if !was[x.First.Text] {
 			mark = "+ "
 		}
-		a.printf("  %s%s: %s\n", mark, r.State, short(r.Text))
+		a.printf("  %s%s: %s\n", mark, x.First.State, x.Text())
 	}
-}
-
-// terminalSafe replaces control characters (terminal escapes, new lines)
-// in text from the ledger before it is printed.
-func terminalSafe(s string) string {
-	return strings.Map(func(r rune) rune {
-		if r < 0x20 || r == 0x7f || (r >= 0x80 && r < 0xa0) {
-			return '\uFFFD'
-		}
-		return r
-	}, s)
 }

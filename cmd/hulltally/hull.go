@@ -1,12 +1,10 @@
 package main
 
 import (
-	"context"
 	"errors"
 	"fmt"
 	"hulltally/ledger/files"
 	"io/fs"
-	"math"
 	"os/user"
 	"strings"
 	"text/tabwriter"
@@ -17,6 +15,7 @@ import (
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
+	"hulltally/reports/view"
 )
 
 func currentActor() string {
@@ -129,18 +128,14 @@ func (a *app) hullCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			hs, err := l.Hulls(cmd.Context())
-			if err != nil {
-				return err
-			}
-			fits, err := a.fitnesses(cmd.Context(), l)
+			fl, err := view.FleetOf(cmd.Context(), l, time.Now().UTC())
 			if err != nil {
 				return err
 			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"hulls": hullRows(hs, fits), "caution": cautionText()})
+				return a.printJSON(map[string]any{"hulls": fl.HullRows(), "caution": cautionText()})
 			}
-			a.printHulls(hs, damagesOf(fits), true)
+			a.printHulls(fl.HullRows(), true)
 			return nil
 		},
 	}
@@ -167,11 +162,11 @@ func (a *app) hullCmd() *cobra.Command {
 			}
 			// A read: the status is evaluated, not recorded (writes and
 			// 'status record' keep the history).
-			fit, err := l.FitnessAt(cmd.Context(), rec, time.Now().UTC())
+			hv, err := view.HullOf(cmd.Context(), l, rec.Serial, time.Now().UTC())
 			if err != nil {
 				return err
 			}
-			dmg := fit.Damage
+			fit, dmg := hv.Fitness, hv.Damage
 			maint, err := l.MaintenanceOf(cmd.Context(), rec)
 			if err != nil {
 				return err
@@ -226,18 +221,12 @@ func (a *app) hullCmd() *cobra.Command {
 				}
 			}
 			w.Flush()
-			a.printDamage(dmg)
+			a.printDamage(dmg, hv.Life)
 			a.printImplosion(imp, "at the rated depth")
 			a.printf("\nstatus: %s\n", strings.ToUpper(fit.Status))
-			seen := map[string]int{}
-			for _, x := range fit.Reasons {
-				if x.Kind == "flag" {
-					seen[x.Code+string(x.State)]++
-					if seen[x.Code+string(x.State)] > 1 {
-						continue
-					}
-				}
-				a.printf("  [%s] %s\n", x.State, short(x.Text))
+			// The same rule raised by many dives is shown once, with a count.
+			for _, x := range view.CollapseReasons(fit.Reasons, true) {
+				a.printf("  [%s] %s\n", x.First.State, x.Text())
 			}
 			for _, in := range maint.Inspections {
 				a.printf("inspection %s: %s, %s by %s — %s\n", in.At.Format("2006-01-02"), in.Method, in.Result, in.Actor, in.Findings)
@@ -257,19 +246,19 @@ func (a *app) hullCmd() *cobra.Command {
 }
 
 // printHulls prints the hull list with each hull's damage.
-func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages, caution bool) {
+func (a *app) printHulls(rows []view.HullRow, caution bool) {
 	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(w, "SERIAL\tNAME\tRATED m\tDIVES\tDEEPEST m\tMAX MPa\tBEYOND RATED\tGOVERNING\tDAMAGE/ALLOWABLE\tDIVES LEFT\tLAST DIVE")
-	for _, h := range hs {
+	for _, h := range rows {
 		last := "-"
 		if h.LastDive != nil {
 			last = h.LastDive.UTC().Format("2006-01-02 15:04")
 		}
 		gov, ratio, left := "-", "-", "-"
-		if d := dmg[h.Serial]; d != nil {
-			gov, ratio, left = d.Governing, pct(float64(d.GoverningRatio)), remaining(d)
+		if h.Status != "" {
+			gov, ratio, left = h.Governing, view.Percent(h.Ratio), h.Remaining
 		}
-		fmt.Fprintf(w, "%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\t%s\t%s\t%s\n", h.Serial, h.Name, h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, gov, ratio, left, last)
+		fmt.Fprintf(w, "%s\t%s\t%.0f\t%d\t%.1f\t%.3f\t%d\t%s\t%s\t%s\t%s\n", view.TerminalSafe(h.Serial), view.TerminalSafe(h.Name), h.RatedDepthM, h.DiveCount, h.MaxDepthM, h.MaxPressureMPa, h.BeyondRated, gov, ratio, left, last)
 	}
 	w.Flush()
 	if caution {
@@ -277,43 +266,13 @@ func (a *app) printHulls(hs []ledger.HullSummary, dmg map[string]*ledger.Damages
 	}
 }
 
-// pct prints a damage ratio as a percentage of the allowable, rounded up
-// (never in the hull's favour).
-func pct(r float64) string {
-	switch {
-	case math.IsInf(r, 1):
-		return "OVERLOAD"
-	case r == 0:
-		return "0 %"
-	case r < 1e-4:
-		return "<0.01 %"
-	}
-	return fmt.Sprintf("%.2f %%", math.Ceil(r*1e4)/100)
-}
-
-func remaining(d *ledger.Damages) string {
-	switch {
-	case d.RemainingDives != nil && d.RemainingMoreThan:
-		return fmt.Sprintf("more than %d", *d.RemainingDives)
-	case d.RemainingDives != nil:
-		return fmt.Sprint(*d.RemainingDives)
-	case d.RemainingStatus == "void_evidence_open":
-		return "void"
-	case d.RemainingStatus == "not_limited_by_damage":
-		return "not limited"
-	case d.RemainingStatus == "too_few_dives":
-		return "too few dives"
-	}
-	return d.RemainingStatus
-}
-
 // printDamage prints a hull's damage table.
-func (a *app) printDamage(d *ledger.Damages) {
+func (a *app) printDamage(d *ledger.Damages, life view.Life) {
 	a.printf("\ncumulative damage (%d dives; design fatigue factor %g, mean stress %s, cyclic and sustained %s):\n", d.DiveCount, d.DesignFatigueFactor, d.MeanStress, d.Combine)
 	w := tabwriter.NewWriter(a.out, 0, 4, 2, ' ', 0)
 	fmt.Fprintln(w, "  COMPONENT\tCYCLIC\tSUSTAINED\tALLOWABLE\tOF ALLOWABLE\tTRANSFER\tCURVE")
 	for _, c := range d.Components {
-		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%g\t%s\t%s %.3g MPa/MPa\t%s\n", c.Name, float64(c.CyclicDamage), float64(c.SustainedDamage), c.Allowable, pct(float64(c.Ratio)), c.Basis, c.Factor, c.Curve)
+		fmt.Fprintf(w, "  %s\t%.3e\t%.3e\t%g\t%s\t%s %.3g MPa/MPa\t%s\n", c.Name, float64(c.CyclicDamage), float64(c.SustainedDamage), c.Allowable, view.Percent(float64(c.Ratio)), c.Basis, c.Factor, c.Curve)
 	}
 	w.Flush()
 	for _, c := range d.Components {
@@ -321,100 +280,8 @@ func (a *app) printDamage(d *ledger.Damages) {
 			a.printf("  %s includes prior damage %.3e cyclic, %.3e sustained: %s\n", c.Name, float64(c.Prior.Cyclic), float64(c.Prior.Sustained), c.Prior.Source)
 		}
 	}
-	a.printf("governing component: %s at %s of its allowable\n", d.Governing, pct(float64(d.GoverningRatio)))
-	a.printf("remaining dives: %s — %s\n", remaining(d), d.RemainingReason)
-}
-
-// fitnesses evaluates every hull's status now, by serial (a read:
-// nothing is recorded).
-func (a *app) fitnesses(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Fitness, error) {
-	hs, err := l.Hulls(ctx)
-	if err != nil {
-		return nil, err
-	}
-	now := time.Now().UTC()
-	out := map[string]*ledger.Fitness{}
-	for _, s := range hs {
-		h, err := l.Hull(ctx, s.Serial)
-		if err != nil {
-			return nil, err
-		}
-		f, err := l.FitnessAt(ctx, h, now)
-		if err != nil {
-			return nil, err
-		}
-		out[s.Serial] = f
-	}
-	return out, nil
-}
-
-// damagesOf is each hull's damage as its status leaves it: no remaining
-// life where it is void.
-func damagesOf(fits map[string]*ledger.Fitness) map[string]*ledger.Damages {
-	out := map[string]*ledger.Damages{}
-	for s, f := range fits {
-		out[s] = f.Damage
-	}
-	return out
-}
-
-// damages reads every hull's damage (a read: nothing is recorded).
-func (a *app) damages(ctx context.Context, l *ledger.Ledger) (map[string]*ledger.Damages, error) {
-	fits, err := a.fitnesses(ctx, l)
-	if err != nil {
-		return nil, err
-	}
-	return damagesOf(fits), nil
-}
-
-// hullRow is one hull of `hull list --json`: the totals and what the text
-// shows of its damage and life.
-type hullRow struct {
-	ledger.HullSummary
-	Status string `json:"status"`
-	// Governing is the component nearest its allowable.
-	Governing string `json:"governing_component"`
-	// DamagePercent is the governing damage in percent of its allowable;
-	// null with DamageOverload when it is infinite (a static overload).
-	DamagePercent  *float64 `json:"damage_percent_of_allowable"`
-	DamageOverload bool     `json:"damage_overload"`
-	// RemainingDives is null when no figure can be told (RemainingStatus
-	// and RemainingReason say why); RemainingMoreThan when it is the
-	// horizon. Remaining is the text the table shows.
-	RemainingDives    *int64     `json:"remaining_dives"`
-	RemainingMoreThan bool       `json:"remaining_more_than"`
-	RemainingStatus   string     `json:"remaining_status"`
-	RemainingReason   string     `json:"remaining_reason"`
-	Remaining         string     `json:"remaining"`
-	LastDive          *time.Time `json:"last_dive"`
-}
-
-func hullRows(hs []ledger.HullSummary, fits map[string]*ledger.Fitness) []hullRow {
-	out := []hullRow{}
-	for _, h := range hs {
-		r := hullRow{HullSummary: h, LastDive: h.LastDive}
-		if f := fits[h.Serial]; f != nil {
-			d := f.Damage
-			r.Status, r.Governing = f.Status, d.Governing
-			r.DamagePercent, r.DamageOverload = percentOf(float64(d.GoverningRatio))
-			r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason = d.RemainingDives, d.RemainingMoreThan, d.RemainingStatus, d.RemainingReason
-			r.Remaining = remaining(d)
-		}
-		out = append(out, r)
-	}
-	return out
-}
-
-// percentOf turns a damage ratio into a percentage for JSON: never the
-// string "inf". An infinite ratio (a static overload) is null with
-// overload true; a ratio that is not a number is null too, and counts as
-// an overload, the safe side.
-func percentOf(ratio float64) (*float64, bool) {
-	if math.IsInf(ratio, 0) || math.IsNaN(ratio) {
-		return nil, true
-	}
-	p := 100 * ratio
-	return &p, false
+	a.printf("governing component: %s at %s of its allowable\n", d.Governing, view.Percent(float64(d.GoverningRatio)))
+	a.printf("remaining dives: %s — %s\n", life.Short(), life.Reason)
 }
 
 // printImplosion states the implosion hazard with its assumptions.
