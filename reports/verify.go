@@ -12,17 +12,30 @@ import (
 	"hulltally/ledger/files"
 )
 
-// Build gathers a report's content by kind and subject.
+// Build gathers a report's content by kind and subject, reading the
+// ledger at one moment (one read-only REPEATABLE READ snapshot): the
+// chain heads the fingerprint names and the figures come from the same
+// state, even while dives are being logged.
 func Build(ctx context.Context, l *ledger.Ledger, kind, subject string, at time.Time) (*Model, error) {
-	switch kind {
-	case KindHull:
-		return BuildHull(ctx, l, subject, at)
-	case KindDive:
-		return BuildDive(ctx, l, subject, at)
-	case KindFleet:
-		return BuildFleet(ctx, l, at)
+	var m *Model
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		var err error
+		switch kind {
+		case KindHull:
+			m, err = BuildHull(ctx, s, subject, at)
+		case KindDive:
+			m, err = BuildDive(ctx, s, subject, at)
+		case KindFleet:
+			m, err = BuildFleet(ctx, s, at)
+		default:
+			err = fmt.Errorf("unknown report kind %q", kind)
+		}
+		return err
+	})
+	if err != nil {
+		return nil, err
 	}
-	return nil, fmt.Errorf("unknown report kind %q", kind)
+	return m, nil
 }
 
 // Written is a report written to a file.

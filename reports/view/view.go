@@ -313,11 +313,16 @@ func (h *Hull) Rank() Rank {
 // HullOf reads a hull and evaluates its status at a moment (a read:
 // nothing is recorded).
 func HullOf(ctx context.Context, l *ledger.Ledger, serial string, at time.Time) (*Hull, error) {
-	rec, err := l.Hull(ctx, serial)
-	if err != nil {
-		return nil, err
-	}
-	return hullAt(ctx, l, rec, at)
+	var h *Hull
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		rec, err := s.Hull(ctx, serial)
+		if err != nil {
+			return err
+		}
+		h, err = hullAt(ctx, s, rec, at)
+		return err
+	})
+	return h, err
 }
 
 func hullAt(ctx context.Context, l *ledger.Ledger, rec *ledger.Hull, at time.Time) (*Hull, error) {
@@ -355,17 +360,26 @@ type Fleet struct {
 // FleetOf reads every hull and evaluates its status at a moment (a read:
 // nothing is recorded).
 func FleetOf(ctx context.Context, l *ledger.Ledger, at time.Time) (*Fleet, error) {
-	hs, err := l.Hulls(ctx)
+	var fl *Fleet
+	// One snapshot for the whole fleet: every hull's figures from the same
+	// moment.
+	err := l.Snapshot(ctx, func(sl *ledger.Ledger) error {
+		hs, err := sl.Hulls(ctx)
+		if err != nil {
+			return err
+		}
+		fl = &Fleet{Summaries: hs, Hulls: map[string]*Hull{}}
+		for _, s := range hs {
+			h, err := HullOf(ctx, sl, s.Serial, at)
+			if err != nil {
+				return err
+			}
+			fl.Hulls[s.Serial] = h
+		}
+		return nil
+	})
 	if err != nil {
 		return nil, err
-	}
-	fl := &Fleet{Summaries: hs, Hulls: map[string]*Hull{}}
-	for _, s := range hs {
-		h, err := HullOf(ctx, l, s.Serial, at)
-		if err != nil {
-			return nil, err
-		}
-		fl.Hulls[s.Serial] = h
 	}
 	return fl, nil
 }
