@@ -3,77 +3,63 @@ package ledger
 import (
 	"context"
 	"fmt"
-	"math"
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/fatigue/assess"
-	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
+	"hulltally/fatigue/stream"
 	"hulltally/ledger/logfile"
 )
 
-// diveCounter counts a dive's load while its samples stream past: the
-// rainflow cycles of gauge pressure and of each strain gauge, and the time
-// at pressure.
+// diveCounter counts a dive's load while its samples stream past: it
+// converts the logged load column to gauge pressure (through the seawater
+// depth table for a depth column) and times to seconds from the first
+// sample, and feeds fatigue/stream, which counts the rainflow cycles of
+// gauge pressure and of each strain gauge, the time at pressure, the
+// decimated profile and the data-quality findings.
 type diveCounter struct {
-	loadIdx  int
-	load     logfile.Column
-	depth    *seawater.DepthTable
-	pressure *rainflow.Counter
-	holds    *assess.HoldHistogram
-	strains  []strainCounter
-	gateMPa  float64
-	gateUE   float64
-	maxBins  int
-	firstNS  int64
-	started  bool
-	pbuf     []float64
-	tbuf     []float64
-	profile  *profileAcc
-	sbuf     [][]float64
-	quality  *quality
-	tempIdx  int
-	// cutRate is the rate of travel, MPa/s, at which the unrecorded leg of
-	// a cut-off record is charged.
-	cutRate float64
-}
-
-// cutLegS is the time charged for the unrecorded leg of a cut-off record
-// from pressure p to the surface.
-func (c *diveCounter) cutLegS(p float64) float64 { return math.Max(p, 0) / c.cutRate }
-
-type strainCounter struct {
-	col     int
-	gauge   string
-	counter *rainflow.Counter
+	loadIdx    int
+	load       logfile.Column
+	depth      *seawater.DepthTable
+	strainCols []int
+	gauges     []string
+	tempIdx    int
+	gateMPa    float64
+	gateUE     float64
+	firstNS    int64
+	started    bool
+	pbuf       []float64
+	tbuf       []float64
+	sbuf       [][]float64
+	dive       *stream.Dive
+	// quality is the record's data-quality watch.
+	quality *quality
+	// profile is the decimated profile, filled by finish.
+	profile *profileAcc
 }
 
 func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64) *diveCounter {
-	c := &diveCounter{loadIdx: loadIdx, load: cols[loadIdx], pressure: rainflow.NewCounter(l.fat.gateMPa),
-		holds: assess.NewHoldHistogram(l.fat.binMPa), gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE, maxBins: l.fat.maxBins}
+	c := &diveCounter{loadIdx: loadIdx, load: cols[loadIdx], gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE, tempIdx: -1}
 	if c.load.Load == logfile.LoadDepth {
 		c.depth = seawater.NewDepthTable(lat)
 	}
-	var gauges []string
 	for i, col := range cols {
-		if col.Kind == logfile.KindStrain {
-			c.strains = append(c.strains, strainCounter{col: i, gauge: col.Gauge, counter: rainflow.NewCounter(l.fat.gateUE)})
-			gauges = append(gauges, col.Gauge)
-		}
-	}
-	c.profile = newProfileAcc(gauges)
-	c.sbuf = make([][]float64, len(c.strains))
-	c.tempIdx = -1
-	for i, col := range cols {
-		if col.Kind == logfile.KindTemp {
+		switch col.Kind {
+		case logfile.KindStrain:
+			c.strainCols = append(c.strainCols, i)
+			c.gauges = append(c.gauges, col.Gauge)
+		case logfile.KindTemp:
 			c.tempIdx = i
 		}
 	}
+	c.sbuf = make([][]float64, len(c.strainCols))
 	in := l.cfg.Ingest
-	c.quality = newQuality(in.SurfaceToleranceMPa, in.MaxGapS, in.MaxIntervalS, c.tempIdx)
-	c.cutRate = in.CutLegMPaPerS
+	c.dive = stream.NewDive(stream.Config{GateMPa: l.fat.gateMPa, GateUE: l.fat.gateUE, HoldBinMPa: l.fat.binMPa, HoldMaxBins: l.fat.maxBins,
+		SurfaceToleranceMPa: in.SurfaceToleranceMPa, MaxGapS: in.MaxGapS, MaxIntervalS: in.MaxIntervalS, CutLegMPaPerS: in.CutLegMPaPerS}, c.gauges)
+	c.quality = &quality{c.dive.Quality()}
+	c.profile = &profileAcc{step: 1, gauges: c.gauges}
 	return c
 }
 
@@ -102,12 +88,6 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 			c.pbuf = append(c.pbuf, v*c.load.ToMPa-seawater.StandardAtmosphereMPa)
 		}
 	}
-	if !c.quality.have && len(c.pbuf) > 0 && c.pbuf[0] > c.quality.surfTol {
-		// The record starts below the surface: the dive began from the
-		// surface all the same, so its first cycle starts at 0.
-		c.pressure.Add([]float64{0})
-	}
-	c.pressure.Add(c.pbuf)
 	c.tbuf = c.tbuf[:0]
 	for _, t := range timeNS {
 		c.tbuf = append(c.tbuf, float64(t-c.firstNS)/1e9)
@@ -116,45 +96,22 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 	if c.tempIdx >= 0 {
 		temp = col(c.tempIdx)
 	}
-	c.quality.add(c.tbuf, c.pbuf, temp)
-	c.holds.Add(c.tbuf, c.pbuf)
-	for i := range c.strains {
-		c.sbuf[i] = col(c.strains[i].col)
-		c.strains[i].counter.Add(c.sbuf[i])
+	for i, k := range c.strainCols {
+		c.sbuf[i] = col(k)
 	}
-	c.profile.add(c.tbuf, c.pbuf, c.sbuf)
+	c.dive.Add(c.tbuf, c.pbuf, c.sbuf, temp)
 }
 
 // finish closes the residues and returns the series (pressure first) and
-// the time at pressure; the decimated profile is in c.profile.
+// the time at pressure; the decimated profile is then in c.profile.
 func (c *diveCounter) finish() ([]series, []assess.Hold) {
-	c.profile.finish()
-	q := c.quality
-	if q.endsCut() {
-		// The record ends below the surface: close the cycle to the
-		// surface so it is counted whole, not as a half.
-		c.pressure.Add([]float64{0})
+	r := c.dive.Finish()
+	*c.profile = profileAcc{step: r.Profile.StepS, gauges: r.Profile.Gauges, TimeS: r.Profile.TimeS, Press: r.Profile.PressureMPa, Strain: r.Profile.Strain}
+	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: r.Pressure}}
+	for i, g := range c.gauges {
+		ss = append(ss, series{name: "strain:" + g, unit: "microstrain", gate: c.gateUE, cycles: r.Strain[i]})
 	}
-	// The unrecorded legs of a cut-off record (from the surface to its
-	// first pressure, from its last pressure to the surface) are charged
-	// at the highest pressure recorded, for the time they take at the
-	// configured slow rate: what happened there is unknown, so never in
-	// the hull's favour.
-	leg := 0.0
-	if q.startsCut() {
-		leg += c.cutLegS(q.firstP)
-	}
-	if q.endsCut() {
-		leg += c.cutLegS(q.lastP)
-	}
-	if leg > 0 {
-		c.holds.Add([]float64{q.prevT + leg}, []float64{q.maxP})
-	}
-	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: c.pressure.Finish()}}
-	for _, sc := range c.strains {
-		ss = append(ss, series{name: "strain:" + sc.gauge, unit: "microstrain", gate: c.gateUE, cycles: sc.counter.Finish()})
-	}
-	return ss, c.holds.Holds(c.maxBins)
+	return ss, r.Holds
 }
 
 // backfillCounts counts, from the raw readings, the dives of a hull that
