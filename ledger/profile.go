@@ -5,12 +5,7 @@ import (
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
-
-	"hulltally/fatigue/stream"
 )
-
-// maxProfilePoints bounds a dive's decimated profile, whatever its length.
-const maxProfilePoints = stream.MaxProfilePoints
 
 // profileAcc is a dive's decimated profile as the ledger stores it: the
 // means over windows of step seconds built by stream.Decimator (times in s
