@@ -427,6 +427,17 @@ type Clearance struct {
 
 // Clear answers whether the hull is cleared for a planned dive.
 func (l *Ledger) Clear(ctx context.Context, serial string, depthM, bottomMin float64, now time.Time) (*Clearance, error) {
+	var out *Clearance
+	// One snapshot: the status and the prediction from the same moment.
+	err := l.Snapshot(ctx, func(s *Ledger) error {
+		var err error
+		out, err = s.clear(ctx, serial, depthM, bottomMin, now)
+		return err
+	})
+	return out, err
+}
+
+func (l *Ledger) clear(ctx context.Context, serial string, depthM, bottomMin float64, now time.Time) (*Clearance, error) {
 	h, err := l.Hull(ctx, serial)
 	if err != nil {
 		return nil, inputErr(err)

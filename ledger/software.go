@@ -39,3 +39,19 @@ func software() Software {
 	}
 	return s
 }
+
+// CurrentSoftware identifies the running build (module version, VCS
+// revision), for reports' metadata.
+func CurrentSoftware() Software { return software() }
+
+// String is the build in a few words: "hulltally (devel) rev abc123".
+func (s Software) String() string {
+	out := "hulltally " + s.Version
+	if s.Revision != "" {
+		out += " rev " + s.Revision
+		if s.Modified {
+			out += " (modified)"
+		}
+	}
+	return out
+}

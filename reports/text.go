@@ -3,6 +3,7 @@ package reports
 import (
 	"bytes"
 	"fmt"
+	"hulltally/ledger"
 	"strings"
 	"time"
 
@@ -58,7 +59,7 @@ func newDoc(m *Model, title, notice string) (*doc, error) {
 	d := &doc{pdf: pdf, ts: ts, fp: fp, title: title, notice: notice}
 	pdf.SetTitle(title, true)
 	pdf.SetAuthor("hulltally", true)
-	pdf.SetCreator("hulltally", true)
+	pdf.SetCreator(ledger.CurrentSoftware().String(), true) // the build that wrote it
 	pdf.SetSubject(m.Kind+" "+m.Subject, true)
 	pdf.SetKeywords(keywords(m, fp), false)
 	pdf.SetFooterFunc(func() {

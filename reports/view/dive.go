@@ -22,15 +22,20 @@ type Dive struct {
 // DiveOf reads a dive (its ID or the first characters of it) and its
 // load.
 func DiveOf(ctx context.Context, l *ledger.Ledger, id string) (*Dive, error) {
-	d, err := l.Dive(ctx, id)
-	if err != nil {
-		return nil, err
-	}
-	load, err := l.LoadOf(ctx, d.ID)
-	if err != nil {
-		return nil, fmt.Errorf("load of dive %s: %w", d.ID, err)
-	}
-	return &Dive{Record: d, Load: load}, nil
+	var out *Dive
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		d, err := s.Dive(ctx, id)
+		if err != nil {
+			return err
+		}
+		load, err := s.LoadOf(ctx, d.ID)
+		if err != nil {
+			return fmt.Errorf("load of dive %s: %w", d.ID, err)
+		}
+		out = &Dive{Record: d, Load: load}
+		return nil
+	})
+	return out, err
 }
 
 // WithHull evaluates the dive's hull at a moment (a read: nothing is
