@@ -10,15 +10,16 @@ package configs
 
 import (
 	"bytes"
+	"context"
 	_ "embed"
 	"errors"
 	"fmt"
+	"hulltally/ledger/files"
 	"io"
 	"os"
 	"path/filepath"
 	"sort"
 	"strings"
-	"syscall"
 	"time"
 
 	"gopkg.in/yaml.v3"
@@ -515,56 +516,11 @@ func isSection(sec string, byName map[string]*Key) bool {
 	return false
 }
 
-// readRegular reads a regular file of at most limit bytes. A FIFO, a
-// device (/dev/zero) or a folder is refused before anything is read, and
-// a file that grows past the limit while read is refused too.
+// readRegular reads a regular file of at most limit bytes (files.ReadAllLimited:
+// a FIFO, a device such as /dev/zero or a folder is refused before
+// anything is read, and a file that grows past the limit is refused too).
 func readRegular(name string, limit int64) ([]byte, error) {
-	st, err := os.Stat(name)
-	if err != nil {
-		return nil, err
-	}
-	if !st.Mode().IsRegular() {
-		return nil, fmt.Errorf("not a regular file (%s)", fileKind(st.Mode()))
-	}
-	if st.Size() > limit {
-		return nil, fmt.Errorf("larger than %d bytes", limit)
-	}
-	// O_NONBLOCK: should the path be swapped for a FIFO after the check,
-	// opening it does not wait for a writer; the check below refuses it.
-	f, err := os.OpenFile(name, os.O_RDONLY|syscall.O_NONBLOCK, 0)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	if st, err = f.Stat(); err != nil {
-		return nil, err
-	}
-	if !st.Mode().IsRegular() {
-		return nil, fmt.Errorf("not a regular file (%s)", fileKind(st.Mode()))
-	}
-	b, err := io.ReadAll(io.LimitReader(f, limit+1))
-	if err != nil {
-		return nil, err
-	}
-	if int64(len(b)) > limit {
-		return nil, fmt.Errorf("larger than %d bytes", limit)
-	}
-	return b, nil
-}
-
-// fileKind names the kind of a file that is not a regular one.
-func fileKind(m os.FileMode) string {
-	switch {
-	case m.IsDir():
-		return "a folder"
-	case m&os.ModeNamedPipe != 0:
-		return "a named pipe"
-	case m&os.ModeSocket != 0:
-		return "a socket"
-	case m&os.ModeDevice != 0:
-		return "a device"
-	}
-	return "mode " + m.Type().String()
+	return files.ReadAllLimited(context.Background(), name, limit)
 }
 
 // resolveHome fills in the default home folder and makes it absolute.

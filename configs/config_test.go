@@ -324,7 +324,7 @@ func TestConfigFileKinds(t *testing.T) {
 		{"fifo", fifo, "not a regular file"},
 		{"folder", dir, "not a regular file"},
 		{"missing", filepath.Join(dir, "none.yaml"), "no such file"},
-		{"too large", big, "larger than 1048576 bytes"},
+		{"too large", big, "more than 1048576 bytes"},
 		{"two documents", writeFile(t, "fatigue:\n  allowable: 0.2\n---\nfatigue:\n  allowable: 0.9\n"), "more than one YAML document"},
 		{"a list", writeFile(t, "- fatigue\n"), "must be a mapping"},
 		{"not YAML", writeFile(t, "fatigue: [\n"), "not valid YAML"},
