@@ -377,8 +377,14 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	}
 	var proj *charts.Projection
 	if !lifeVoid(hp.Status, hp.Damage) && hp.Damage.RemainingDives != nil && n > 0 && *hp.Damage.RemainingDives > 0 {
-		left := 1 - hp.CumRatio[n-1]
-		rate := left / float64(*hp.Damage.RemainingDives)
+		// The dives left are counted to the damage rule's hold level
+		// (LimitRatio), so the line's rate is what is left to that level
+		// over them.
+		limit := hp.Damage.LimitRatio
+		if !(limit > 0) {
+			limit = 1
+		}
+		rate := (limit - hp.CumRatio[n-1]) / float64(*hp.Damage.RemainingDives)
 		until := float64(n) + math.Min(float64(*hp.Damage.RemainingDives), 5*float64(n)+50)
 		proj = &charts.Projection{FromDive: float64(n), RatePerDive: rate, UntilDive: until}
 	}
