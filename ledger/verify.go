@@ -299,6 +299,13 @@ func loadHullBatch(ctx context.Context, q querier, hull uuid.UUID, serial string
 }
 
 // each runs sql with the hull's id and calls scan for every row.
+//
+// The batch reads scan by position on purpose, even where the record's
+// struct carries db tags (inspections, proof tests, decisions, voids,
+// corrections): verify streams every record of a hull, one row held at a
+// time, and settles it as it goes; collecting the rows into a slice first
+// would hold a whole hull's records (blocks, hits, cycles) in memory and
+// add a per-row reflection step to the one path that reads everything.
 func each(ctx context.Context, q querier, what, sql string, hull uuid.UUID, scan func(pgx.Rows) error) error {
 	rows, err := q.Query(ctx, sql, hull)
 	if err != nil {
