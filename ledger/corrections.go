@@ -15,13 +15,20 @@ import (
 // corrected row stays as it was; readers apply the newest correction of
 // each field.
 type Correction struct {
-	ID         uuid.UUID `json:"id"`
-	Dive       uuid.UUID `json:"dive_id"`
-	Field      string    `json:"field"`
-	Value      string    `json:"value"`
-	Reason     string    `json:"reason"`
-	Actor      string    `json:"actor"`
-	RecordedAt time.Time `json:"recorded_at"`
+	ID         uuid.UUID `json:"id" db:"id"`
+	Dive       uuid.UUID `json:"dive_id" db:"-"` // stored as target_key text
+	Field      string    `json:"field" db:"field"`
+	Value      string    `json:"value" db:"-"` // stored as JSON text in value_json
+	Reason     string    `json:"reason" db:"reason"`
+	Actor      string    `json:"actor" db:"actor"`
+	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
+}
+
+// correctionRow is a corrections row as read: the record with its value
+// still JSON text.
+type correctionRow struct {
+	Correction
+	ValueJSON string `db:"value_json"`
 }
 
 // CorrectableFields are the dive fields a correction may set. Fields that
@@ -78,20 +85,20 @@ func (l *Ledger) correctionsOf(ctx context.Context, dive uuid.UUID) ([]Correctio
 	if err != nil {
 		return nil, err
 	}
-	defer rows.Close()
+	rs, err := pgx.CollectRows(rows, pgx.RowToStructByName[correctionRow])
+	if err != nil {
+		return nil, err
+	}
 	var out []Correction
-	for rows.Next() {
-		c := Correction{Dive: dive}
-		var vj string
-		if err := rows.Scan(&c.ID, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt); err != nil {
-			return nil, err
-		}
-		if err := json.Unmarshal([]byte(vj), &c.Value); err != nil {
+	for _, r := range rs {
+		c := r.Correction
+		c.Dive = dive
+		if err := json.Unmarshal([]byte(r.ValueJSON), &c.Value); err != nil {
 			return nil, fmt.Errorf("correction %s: %w", c.ID, err)
 		}
 		out = append(out, c)
 	}
-	return out, rows.Err()
+	return out, nil
 }
 
 // applyCorrections sets the dive's corrected fields and lists the

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
 
 	"hulltally/ledger/blocks"
 )
@@ -17,24 +18,28 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	if err != nil {
 		return nil, err
 	}
-	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+", EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
+	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" AS voided, EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) AS proof_test FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}
-	defer rows.Close()
+	type listed struct {
+		diveRow
+		Voided    bool `db:"voided"`
+		ProofTest bool `db:"proof_test"`
+	}
+	rs, err := pgx.CollectRows(rows, pgx.RowToStructByName[listed])
+	if err != nil {
+		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
+	}
 	var out []Dive
-	for rows.Next() {
-		var r diveRow
-		var void, proof bool
-		if err := rows.Scan(append(r.scanArgs(), &void, &proof)...); err != nil {
-			return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
-		}
-		d := diveFromRow(&r, serial, h.Spec.RatedDepthM, false)
-		d.Voided, d.ProofTest = void, proof
-		d.BeyondRated = d.BeyondRated && !proof
+	for i := range rs {
+		r := &rs[i]
+		d := diveFromRow(&r.diveRow, serial, h.Spec.RatedDepthM, false)
+		d.Voided, d.ProofTest = r.Voided, r.ProofTest
+		d.BeyondRated = d.BeyondRated && !r.ProofTest
 		out = append(out, *d)
 	}
-	return out, rows.Err()
+	return out, nil
 }
 
 // ErrUnknownDive is returned for a dive id not in the ledger.
@@ -50,22 +55,21 @@ func (l *Ledger) Dive(ctx context.Context, id string) (*Dive, error) {
 	if len(id) < 8 {
 		return nil, inputErr(fmt.Errorf("%w: %q: give the dive id or at least its first 8 characters", ErrUnknownDive, id))
 	}
-	rows, err := l.db.Query(ctx, "SELECT "+diveColumns+", (SELECT serial FROM hulls WHERE hulls.id = dives.hull_id) FROM dives WHERE id::text LIKE $1 || '%' LIMIT 2", id)
+	rows, err := l.db.Query(ctx, "SELECT "+diveColumns+", (SELECT serial FROM hulls WHERE hulls.id = dives.hull_id) AS serial FROM dives WHERE id::text LIKE $1 || '%' LIMIT 2", id)
 	if err != nil {
 		return nil, fmt.Errorf("reading dive %s: %w", id, err)
 	}
-	defer rows.Close()
-	var found []*Dive
-	for rows.Next() {
-		var r diveRow
-		var serial string
-		if err := rows.Scan(append(r.scanArgs(), &serial)...); err != nil {
-			return nil, fmt.Errorf("reading dive %s: %w", id, err)
-		}
-		found = append(found, diveFromRow(&r, serial, 0, false))
+	type found1 struct {
+		diveRow
+		Serial string `db:"serial"`
 	}
-	if err := rows.Err(); err != nil {
-		return nil, err
+	rs, err := pgx.CollectRows(rows, pgx.RowToStructByName[found1])
+	if err != nil {
+		return nil, fmt.Errorf("reading dive %s: %w", id, err)
+	}
+	var found []*Dive
+	for i := range rs {
+		found = append(found, diveFromRow(&rs[i].diveRow, rs[i].Serial, 0, false))
 	}
 	switch len(found) {
 	case 0:

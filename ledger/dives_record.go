@@ -77,24 +77,31 @@ type Dive struct {
 
 // diveRow is the stored dive row, for canonical bytes.
 type diveRow struct {
-	ID, HullID                  uuid.UUID
-	HullRevision                int32
-	SourceName                  string
-	SHA                         []byte
-	SourceBytes                 int64
-	AEName                      string
-	AESHA                       []byte
-	Start, End                  time.Time
-	Lat                         float64
-	LatAssumed                  bool
-	Site, Operator, LoadColumn  string
-	Columns, Gauges             []string
-	Samples                     int64
-	Blocks                      int32
-	Duration, MaxDepth, MaxPres float64
-	Beyond                      bool
-	AEHits                      int32
-	RecordedAt                  time.Time
+	ID           uuid.UUID `db:"id"`
+	HullID       uuid.UUID `db:"hull_id"`
+	HullRevision int32     `db:"hull_revision"`
+	SourceName   string    `db:"source_name"`
+	SHA          []byte    `db:"source_sha256"`
+	SourceBytes  int64     `db:"source_bytes"`
+	AEName       string    `db:"ae_source_name"`
+	AESHA        []byte    `db:"ae_source_sha256"`
+	Start        time.Time `db:"start_time"`
+	End          time.Time `db:"end_time"`
+	Lat          float64   `db:"latitude"`
+	LatAssumed   bool      `db:"latitude_assumed"`
+	Site         string    `db:"site"`
+	Operator     string    `db:"operator"`
+	LoadColumn   string    `db:"load_column"`
+	Columns      []string  `db:"columns"`
+	Gauges       []string  `db:"gauges"`
+	Samples      int64     `db:"sample_count"`
+	Blocks       int32     `db:"block_count"`
+	Duration     float64   `db:"duration_s"`
+	MaxDepth     float64   `db:"max_depth_m"`
+	MaxPres      float64   `db:"max_pressure_mpa"`
+	Beyond       bool      `db:"beyond_rated"`
+	AEHits       int32     `db:"ae_hit_count"`
+	RecordedAt   time.Time `db:"recorded_at"`
 	// fingerprint is the SHA-256 of the normalised samples (not a dive
 	// column: stored in dive_fingerprints).
 	fingerprint []byte
@@ -132,6 +139,9 @@ func (d *diveRow) canon() []byte {
 	return c.b
 }
 
+// diveColumns are the dives columns in scanArgs and values order; their
+// names are diveRow's db tags (the dive lists read by name, the COPY
+// source and verify's streaming reads by position).
 const diveColumns = `id, hull_id, hull_revision, source_name, source_sha256, source_bytes, ae_source_name, ae_source_sha256,
 	start_time, end_time, latitude, latitude_assumed, site, operator, load_column, columns, gauges, sample_count,
 	block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at`

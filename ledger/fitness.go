@@ -388,8 +388,8 @@ func statusCanon(hull uuid.UUID, seq int64, status, reasons string, at time.Time
 
 // StatusChange is one entry of a hull's status history.
 type StatusChange struct {
-	Status     string    `json:"status"`
-	RecordedAt time.Time `json:"recorded_at"`
+	Status     string    `json:"status" db:"status"`
+	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
 }
 
 // StatusHistory lists a hull's status changes, oldest first.
@@ -398,16 +398,14 @@ func (l *Ledger) StatusHistory(ctx context.Context, h *Hull) ([]StatusChange, er
 	if err != nil {
 		return nil, err
 	}
-	defer rows.Close()
-	out := []StatusChange{}
-	for rows.Next() {
-		var s StatusChange
-		if err := rows.Scan(&s.Status, &s.RecordedAt); err != nil {
-			return nil, err
-		}
-		out = append(out, s)
+	out, err := pgx.CollectRows(rows, pgx.RowToStructByName[StatusChange])
+	if err != nil {
+		return nil, err
 	}
-	return out, rows.Err()
+	if out == nil {
+		out = []StatusChange{} // an empty history is [] in JSON, never null
+	}
+	return out, nil
 }
 
 // Clearance is a pre-dive go or no-go.

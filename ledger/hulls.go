@@ -55,14 +55,21 @@ type revisionRow struct {
 }
 
 type componentRow struct {
-	Name, Kind, Basis string
-	Factor            *float64
-	Curve, Rupture    string
+	Name    string   `db:"name"`
+	Kind    string   `db:"kind"`
+	Basis   string   `db:"transfer_basis"`
+	Factor  *float64 `db:"transfer_factor"`
+	Curve   string   `db:"curve"`
+	Rupture string   `db:"rupture_curve"`
 }
 
 type gaugeRow struct {
-	Name, Kind, Component, Position, Direction string
-	Channel                                    *int32
+	Name      string `db:"name"`
+	Kind      string `db:"kind"`
+	Component string `db:"component"`
+	Position  string `db:"position"`
+	Direction string `db:"direction"`
+	Channel   *int32 `db:"channel"`
 }
 
 func (r *revisionRow) canon() []byte {
@@ -255,14 +262,7 @@ func loadRevision(ctx context.Context, q querier, hull uuid.UUID, rev int32) (*r
 	if err != nil {
 		return nil, err
 	}
-	for rows.Next() {
-		var c componentRow
-		if err := rows.Scan(&c.Name, &c.Kind, &c.Basis, &c.Factor, &c.Curve, &c.Rupture); err != nil {
-			return nil, err
-		}
-		r.Components = append(r.Components, c)
-	}
-	if err := rows.Err(); err != nil {
+	if r.Components, err = pgx.CollectRows(rows, pgx.RowToStructByName[componentRow]); err != nil {
 		return nil, err
 	}
 	rows, err = q.Query(ctx, `SELECT name, kind, component, position, direction, channel FROM gauges
@@ -270,14 +270,10 @@ func loadRevision(ctx context.Context, q querier, hull uuid.UUID, rev int32) (*r
 	if err != nil {
 		return nil, err
 	}
-	for rows.Next() {
-		var g gaugeRow
-		if err := rows.Scan(&g.Name, &g.Kind, &g.Component, &g.Position, &g.Direction, &g.Channel); err != nil {
-			return nil, err
-		}
-		r.Gauges = append(r.Gauges, g)
+	if r.Gauges, err = pgx.CollectRows(rows, pgx.RowToStructByName[gaugeRow]); err != nil {
+		return nil, err
 	}
-	return r, rows.Err()
+	return r, nil
 }
 
 // Hull returns the hull with its specification in force.
@@ -334,19 +330,19 @@ func attachProof(ctx context.Context, q querier, h *Hull) error {
 
 // HullSummary is one line of the hull list.
 type HullSummary struct {
-	Serial         string  `json:"serial"`
-	Name           string  `json:"name"`
-	MaterialSystem string  `json:"material_system"`
-	Shape          string  `json:"shape"`
-	RatedDepthM    float64 `json:"rated_depth_m"`
-	Revision       int32   `json:"revision"`
-	DiveCount      int64   `json:"dive_count"`
-	MaxPressureMPa float64 `json:"max_pressure_mpa"`
-	MaxDepthM      float64 `json:"max_depth_m"`
+	Serial         string  `json:"serial" db:"serial"`
+	Name           string  `json:"name" db:"name"`
+	MaterialSystem string  `json:"material_system" db:"material_system"`
+	Shape          string  `json:"shape" db:"shape"`
+	RatedDepthM    float64 `json:"rated_depth_m" db:"rated_depth_m"`
+	Revision       int32   `json:"revision" db:"revision"`
+	DiveCount      int64   `json:"dive_count" db:"dive_count"`
+	MaxPressureMPa float64 `json:"max_pressure_mpa" db:"max_pressure_mpa"`
+	MaxDepthM      float64 `json:"max_depth_m" db:"max_depth_m"`
 	// BeyondRated counts the dives beyond the rated depth, proof tests
 	// not included; void dives count nowhere in the summary.
-	BeyondRated int64      `json:"dives_beyond_rated"`
-	LastDive    *time.Time `json:"last_dive,omitempty"`
+	BeyondRated int64      `json:"dives_beyond_rated" db:"dives_beyond_rated"`
+	LastDive    *time.Time `json:"last_dive,omitempty" db:"last_dive"`
 }
 
 // Hulls lists every hull with its dive totals, by serial.
@@ -369,8 +365,9 @@ func (l *Ledger) HullSummary(ctx context.Context, id uuid.UUID) (*HullSummary, e
 func (l *Ledger) hullSummaries(ctx context.Context, id *uuid.UUID) ([]HullSummary, error) {
 	rows, err := l.db.Query(ctx, `
 		SELECT h.serial, r.name, r.material_system, r.shape, r.rated_depth_m, r.revision,
-		       count(d.id), coalesce(max(d.max_pressure_mpa), 0), coalesce(max(d.max_depth_m), 0),
-		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id)), max(d.start_time)
+		       count(d.id) AS dive_count, coalesce(max(d.max_pressure_mpa), 0) AS max_pressure_mpa, coalesce(max(d.max_depth_m), 0) AS max_depth_m,
+		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id)) AS dives_beyond_rated,
+		       max(d.start_time) AS last_dive
 		FROM hulls h
 		JOIN LATERAL (SELECT * FROM hull_revisions r WHERE r.hull_id = h.id ORDER BY revision DESC LIMIT 1) r ON true
 		LEFT JOIN dives d ON d.hull_id = h.id AND `+notVoided+`
@@ -380,14 +377,12 @@ func (l *Ledger) hullSummaries(ctx context.Context, id *uuid.UUID) ([]HullSummar
 	if err != nil {
 		return nil, fmt.Errorf("listing hulls: %w", err)
 	}
-	defer rows.Close()
-	var out []HullSummary
-	for rows.Next() {
-		var s HullSummary
-		if err := rows.Scan(&s.Serial, &s.Name, &s.MaterialSystem, &s.Shape, &s.RatedDepthM, &s.Revision, &s.DiveCount, &s.MaxPressureMPa, &s.MaxDepthM, &s.BeyondRated, &s.LastDive); err != nil {
-			return nil, fmt.Errorf("listing hulls: %w", err)
-		}
-		out = append(out, s)
+	out, err := pgx.CollectRows(rows, pgx.RowToStructByName[HullSummary])
+	if err != nil {
+		return nil, fmt.Errorf("listing hulls: %w", err)
 	}
-	return out, rows.Err()
+	if len(out) == 0 {
+		return nil, nil // as before: no hulls lists as null
+	}
+	return out, nil
 }

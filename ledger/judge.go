@@ -26,14 +26,14 @@ const effectiveEvidence = `coalesce((SELECT r.evidence_json FROM evidence_revisi
 // Void is a record that takes a dive out of damage, evidence and status
 // from the time it is recorded (the dive and its readings stay).
 type Void struct {
-	ID         uuid.UUID `json:"id"`
-	Dive       uuid.UUID `json:"dive_id"`
-	Hull       string    `json:"hull"`
-	Reason     string    `json:"reason"`
-	Actor      string    `json:"actor"`
-	RecordedAt time.Time `json:"recorded_at"`
+	ID         uuid.UUID `json:"id" db:"id"`
+	Dive       uuid.UUID `json:"dive_id" db:"dive_id"`
+	Hull       string    `json:"hull" db:"hull"` // the hull's serial
+	Reason     string    `json:"reason" db:"reason"`
+	Actor      string    `json:"actor" db:"actor"`
+	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
 	// Rejudged lists the later dives whose evidence was judged again.
-	Rejudged []uuid.UUID `json:"rejudged"`
+	Rejudged []uuid.UUID `json:"rejudged" db:"-"`
 }
 
 func voidCanon(hull uuid.UUID, v *Void) []byte {
@@ -123,10 +123,12 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 
 // VoidOf returns the void record of a dive, or nil.
 func (l *Ledger) VoidOf(ctx context.Context, dive uuid.UUID) (*Void, error) {
-	v := &Void{Dive: dive}
-	err := l.db.QueryRow(ctx, `SELECT v.id, h.serial, v.reason, v.actor, v.recorded_at FROM dive_voids v JOIN hulls h ON h.id = v.hull_id WHERE v.dive_id = $1`, dive).
-		Scan(&v.ID, &v.Hull, &v.Reason, &v.Actor, &v.RecordedAt)
-	if err == pgx.ErrNoRows {
+	rows, err := l.db.Query(ctx, `SELECT v.id, v.dive_id, h.serial AS hull, v.reason, v.actor, v.recorded_at FROM dive_voids v JOIN hulls h ON h.id = v.hull_id WHERE v.dive_id = $1`, dive)
+	if err != nil {
+		return nil, fmt.Errorf("void of dive %s: %w", dive, err)
+	}
+	v, err := pgx.CollectOneRow(rows, pgx.RowToAddrOfStructByName[Void])
+	if errors.Is(err, pgx.ErrNoRows) {
 		return nil, nil
 	}
 	if err != nil {

@@ -15,38 +15,46 @@ import (
 
 // Inspection is a recorded inspection of a hull.
 type Inspection struct {
-	ID         uuid.UUID `json:"id"`
-	At         time.Time `json:"at"`
-	Method     string    `json:"method"`
-	Findings   string    `json:"findings"`
-	Result     string    `json:"result"`
-	Actor      string    `json:"actor"`
-	RecordedAt time.Time `json:"recorded_at"`
+	ID         uuid.UUID `json:"id" db:"id"`
+	At         time.Time `json:"at" db:"at"`
+	Method     string    `json:"method" db:"method"`
+	Findings   string    `json:"findings" db:"findings"`
+	Result     string    `json:"result" db:"result"`
+	Actor      string    `json:"actor" db:"actor"`
+	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
 }
 
 // ProofTest is a recorded proof test.
 type ProofTest struct {
-	ID          uuid.UUID  `json:"id"`
-	At          time.Time  `json:"at"`
-	PressureMPa float64    `json:"pressure_mpa"`
-	Result      string     `json:"result"`
-	Notes       string     `json:"notes"`
-	Actor       string     `json:"actor"`
-	DiveID      *uuid.UUID `json:"dive_id,omitempty"`
+	ID          uuid.UUID  `json:"id" db:"id"`
+	At          time.Time  `json:"at" db:"at"`
+	PressureMPa float64    `json:"pressure_mpa" db:"pressure_mpa"`
+	Result      string     `json:"result" db:"result"`
+	Notes       string     `json:"notes" db:"notes"`
+	Actor       string     `json:"actor" db:"actor"`
+	DiveID      *uuid.UUID `json:"dive_id,omitempty" db:"dive_id"`
 	// Baseline is the compliance per strain gauge (µε per MPa) measured
-	// on the test, the baseline of later dives.
-	Baseline   map[string]float64 `json:"baseline_compliance_ue_per_mpa"`
-	RecordedAt time.Time          `json:"recorded_at"`
+	// on the test, the baseline of later dives (stored as JSON text in
+	// baseline_json: see proofTestRow).
+	Baseline   map[string]float64 `json:"baseline_compliance_ue_per_mpa" db:"-"`
+	RecordedAt time.Time          `json:"recorded_at" db:"recorded_at"`
+}
+
+// proofTestRow is a proof_tests row as read: the record with its
+// baseline still JSON text.
+type proofTestRow struct {
+	ProofTest
+	BaselineJSON string `db:"baseline_json"`
 }
 
 // Decision is a recorded maintenance decision.
 type Decision struct {
-	ID         uuid.UUID `json:"id"`
-	At         time.Time `json:"at"`
-	Kind       string    `json:"kind"`
-	Actor      string    `json:"actor"`
-	Reason     string    `json:"reason"`
-	RecordedAt time.Time `json:"recorded_at"`
+	ID         uuid.UUID `json:"id" db:"id"`
+	At         time.Time `json:"at" db:"at"`
+	Kind       string    `json:"kind" db:"kind"`
+	Actor      string    `json:"actor" db:"actor"`
+	Reason     string    `json:"reason" db:"reason"`
+	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
 }
 
 // Decision kinds.
@@ -320,47 +328,37 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 	if err != nil {
 		return nil, fmt.Errorf("inspections of %s: %w", h.Serial, err)
 	}
-	for rows.Next() {
-		var in Inspection
-		if err := rows.Scan(&in.ID, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt); err != nil {
-			rows.Close()
-			return nil, err
-		}
-		m.Inspections = append(m.Inspections, in)
+	ins, err := pgx.CollectRows(rows, pgx.RowToStructByName[Inspection])
+	if err != nil {
+		return nil, fmt.Errorf("inspections of %s: %w", h.Serial, err)
 	}
-	rows.Close()
+	m.Inspections = append(m.Inspections, ins...)
 	rows, err = l.db.Query(ctx, "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("proof tests of %s: %w", h.Serial, err)
 	}
-	for rows.Next() {
-		var p ProofTest
-		var bj string
-		if err := rows.Scan(&p.ID, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt); err != nil {
-			rows.Close()
-			return nil, err
-		}
-		if err := json.Unmarshal([]byte(bj), &p.Baseline); err != nil {
-			rows.Close()
+	prs, err := pgx.CollectRows(rows, pgx.RowToStructByName[proofTestRow])
+	if err != nil {
+		return nil, fmt.Errorf("proof tests of %s: %w", h.Serial, err)
+	}
+	for _, r := range prs {
+		p := r.ProofTest
+		if err := json.Unmarshal([]byte(r.BaselineJSON), &p.Baseline); err != nil {
 			return nil, fmt.Errorf("proof test %s: baseline: %w", p.ID, err)
 		}
 		m.ProofTests = append(m.ProofTests, p)
 	}
-	rows.Close()
 	rows, err = l.db.Query(ctx, "SELECT id, at, kind, actor, reason, recorded_at FROM decisions WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("decisions of %s: %w", h.Serial, err)
 	}
-	defer rows.Close()
-	for rows.Next() {
-		var d Decision
-		if err := rows.Scan(&d.ID, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt); err != nil {
-			return nil, err
-		}
-		m.Decisions = append(m.Decisions, d)
+	ds, err := pgx.CollectRows(rows, pgx.RowToStructByName[Decision])
+	if err != nil {
+		return nil, fmt.Errorf("decisions of %s: %w", h.Serial, err)
 	}
+	m.Decisions = append(m.Decisions, ds...)
 	sort.SliceStable(m.Decisions, func(i, j int) bool { return m.Decisions[i].At.Before(m.Decisions[j].At) })
-	return m, rows.Err()
+	return m, nil
 }
 
 // ProofTestWithSamples records a proof test; when req names a samples

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"crypto/sha256"
+	"errors"
 	"fmt"
 	"hash"
 	"sort"
@@ -299,6 +300,13 @@ func loadHullBatch(ctx context.Context, q querier, hull uuid.UUID, serial string
 }
 
 // each runs sql with the hull's id and calls scan for every row.
+//
+// The batch reads scan by position on purpose, even where the record's
+// struct carries db tags (inspections, proof tests, decisions, voids,
+// corrections): verify streams every record of a hull, one row held at a
+// time, and settles it as it goes; collecting the rows into a slice first
+// would hold a whole hull's records (blocks, hits, cycles) in memory and
+// add a per-row reflection step to the one path that reads everything.
 func each(ctx context.Context, q querier, what, sql string, hull uuid.UUID, scan func(pgx.Rows) error) error {
 	rows, err := q.Query(ctx, sql, hull)
 	if err != nil {
@@ -314,6 +322,17 @@ func each(ctx context.Context, q querier, what, sql string, hull uuid.UUID, scan
 		return fmt.Errorf("reading %s: %w", what, err)
 	}
 	return nil
+}
+
+// collectOne runs sql with args and reads its one row with fn; a missing
+// row is pgx.ErrNoRows (test with errors.Is).
+func collectOne[T any](ctx context.Context, q querier, fn pgx.RowToFunc[T], sql string, args ...any) (T, error) {
+	rows, err := q.Query(ctx, sql, args...)
+	if err != nil {
+		var zero T
+		return zero, err
+	}
+	return pgx.CollectOneRow(rows, fn)
 }
 
 func seqKey(id uuid.UUID, n int64) string { return id.String() + "/" + strconv.FormatInt(n, 10) }
@@ -913,50 +932,52 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		var in Inspection
-		var hull uuid.UUID
-		in.ID = id
-		err = q.QueryRow(ctx, "SELECT hull_id, at, method, findings, result, actor, recorded_at FROM inspections WHERE id = $1", id).Scan(&hull, &in.At, &in.Method, &in.Findings, &in.Result, &in.Actor, &in.RecordedAt)
-		if err == pgx.ErrNoRows {
+		type row struct {
+			Inspection
+			Hull uuid.UUID `db:"hull_id"`
+		}
+		r, err := collectOne(ctx, q, pgx.RowToStructByName[row], "SELECT id, hull_id, at, method, findings, result, actor, recorded_at FROM inspections WHERE id = $1", id)
+		if errors.Is(err, pgx.ErrNoRows) {
 			return nil, 0, "inspection record is missing", nil
 		}
 		if err != nil {
 			return nil, 0, "", err
 		}
-		return inspectionCanon(hull, &in), 0, "", nil
+		return inspectionCanon(r.Hull, &r.Inspection), 0, "", nil
 	case "proof_test":
 		id, err := uuid.Parse(key)
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		var p ProofTest
-		var hull uuid.UUID
-		var bj string
-		p.ID = id
-		err = q.QueryRow(ctx, "SELECT hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE id = $1", id).Scan(&hull, &p.At, &p.PressureMPa, &p.Result, &p.Notes, &p.Actor, &p.DiveID, &bj, &p.RecordedAt)
-		if err == pgx.ErrNoRows {
+		type row struct {
+			proofTestRow
+			Hull uuid.UUID `db:"hull_id"`
+		}
+		r, err := collectOne(ctx, q, pgx.RowToStructByName[row], "SELECT id, hull_id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE id = $1", id)
+		if errors.Is(err, pgx.ErrNoRows) {
 			return nil, 0, "proof test record is missing", nil
 		}
 		if err != nil {
 			return nil, 0, "", err
 		}
-		return proofCanon(hull, &p, bj), 0, "", nil
+		return proofCanon(r.Hull, &r.ProofTest, r.BaselineJSON), 0, "", nil
 	case "decision":
 		id, err := uuid.Parse(key)
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		var d Decision
-		var hull uuid.UUID
-		d.ID = id
-		err = q.QueryRow(ctx, "SELECT hull_id, at, kind, actor, reason, recorded_at FROM decisions WHERE id = $1", id).Scan(&hull, &d.At, &d.Kind, &d.Actor, &d.Reason, &d.RecordedAt)
-		if err == pgx.ErrNoRows {
+		type row struct {
+			Decision
+			Hull uuid.UUID `db:"hull_id"`
+		}
+		r, err := collectOne(ctx, q, pgx.RowToStructByName[row], "SELECT id, hull_id, at, kind, actor, reason, recorded_at FROM decisions WHERE id = $1", id)
+		if errors.Is(err, pgx.ErrNoRows) {
 			return nil, 0, "decision record is missing", nil
 		}
 		if err != nil {
 			return nil, 0, "", err
 		}
-		return decisionCanon(hull, &d), 0, "", nil
+		return decisionCanon(r.Hull, &r.Decision), 0, "", nil
 	case "dive_profile":
 		id, err := uuid.Parse(key)
 		if err != nil {
