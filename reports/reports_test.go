@@ -13,6 +13,7 @@ import (
 	"hulltally/ledger"
 	"hulltally/ledger/demo"
 	"hulltally/ledger/ledgertest"
+	"hulltally/ledger/synth"
 	"hulltally/reports"
 )
 
@@ -231,5 +232,66 @@ func TestReportSeesRecordJustMade(t *testing.T) {
 		if v, err := reports.Verify(ctx, l, w.Path); err != nil || !v.OK {
 			t.Fatalf("report does not verify: %v %+v", err, v)
 		}
+	}
+}
+
+// TestReportAtOneSnapshot: a report built inside a ledger snapshot reads
+// nothing outside it. A dive logged (and committed) while the snapshot is
+// open must change neither the figures nor the chain head the
+// fingerprint names; outside the snapshot the same report sees it. A
+// report read from several moments would mix a new chain head with old
+// figures, or the reverse.
+func TestReportAtOneSnapshot(t *testing.T) {
+	l := srv.Open(t)
+	ctx := context.Background()
+	dir := t.TempDir()
+	if _, err := demo.Run(ctx, l, demo.Options{Dir: dir, DivesPerHull: 2, SampleHz: 0.1}); err != nil {
+		t.Fatal(err)
+	}
+	at := time.Now().UTC()
+	var inside1, inside2 string
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		m, err := reports.BuildHull(ctx, s, "CSC-QUI-03", at)
+		if err != nil {
+			return err
+		}
+		if inside1, err = m.Fingerprint(); err != nil {
+			return err
+		}
+		// A dive of the hull, logged and committed outside the snapshot.
+		d := synth.Dive{Start: time.Date(2026, 11, 20, 8, 0, 0, 0, time.UTC), SampleHz: 0.2, Latitude: -37.6, MaxDepthM: 500,
+			DescentMPS: 1, AscentMPS: 1, BottomS: 600, SurfaceS: 120, DepthNoiseM: 0.05}
+		p := filepath.Join(dir, "late.csv")
+		f, err := os.Create(p)
+		if err != nil {
+			return err
+		}
+		if _, err := d.Write(f, nil, 7); err != nil {
+			return err
+		}
+		f.Close()
+		lat := -37.6
+		if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: "CSC-QUI-03", Samples: p, Latitude: &lat}); err != nil {
+			return err
+		}
+		m, err = reports.BuildHull(ctx, s, "CSC-QUI-03", at)
+		if err != nil {
+			return err
+		}
+		inside2, err = m.Fingerprint()
+		return err
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if inside1 != inside2 {
+		t.Fatalf("a report inside one snapshot changed when a dive was committed outside it: %s → %s", inside1, inside2)
+	}
+	m, err := reports.BuildHull(ctx, l, "CSC-QUI-03", at)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if after, _ := m.Fingerprint(); after == inside1 {
+		t.Fatalf("outside the snapshot the report does not see the new dive (fingerprint %s unchanged)", after)
 	}
 }
