@@ -31,17 +31,29 @@ type correctionRow struct {
 	ValueJSON string `db:"value_json"`
 }
 
+// correctionDive is the target_kind of a correction of a dive, the only
+// kind recorded so far.
+const correctionDive = "dive"
+
 // CorrectableFields are the dive fields a correction may set. Fields that
 // feed the damage (the readings, the latitude) are not among them: such an
 // error is corrected by logging the right file, never by editing.
 var correctableFields = []string{"site", "operator"}
 
-func correctionCanon(hull uuid.UUID, c *Correction, valueJSON string) []byte {
+// correctionCanon is a correction's canonical bytes: every column of its
+// corrections row. kind and targetKey are the stored target_kind and
+// target_key, byte for byte. Every correction ever written has kind
+// "dive" and the dive id's canonical text as its key, which are the bytes
+// the first records were hashed with (they wrote the constant "dive"), so
+// taking the stored values changes no existing hash, while a kind or key
+// changed behind the chain (to another kind, or to another spelling of the
+// same id that the dive's readers would no longer find) breaks it.
+func correctionCanon(hull uuid.UUID, c *Correction, kind, targetKey, valueJSON string) []byte {
 	k := newCanon("correction")
 	k.uuid(c.ID)
 	k.uuid(hull)
-	k.str("dive")
-	k.str(c.Dive.String())
+	k.str(kind)
+	k.str(targetKey)
 	k.str(c.Field)
 	k.str(valueJSON)
 	k.str(c.Reason)
@@ -69,8 +81,8 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 	vj, _ := json.Marshal(value)
 	err = l.record(ctx, d.Hull, func(tx pgx.Tx, h *Hull) (chainRec, error) {
 		_, err := tx.Exec(ctx, `INSERT INTO corrections (id, hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at)
-			VALUES ($1,$2,'dive',$3,$4,$5,$6,$7,$8)`, c.ID, h.ID, c.Dive.String(), field, string(vj), reason, actor, c.RecordedAt)
-		return chainRec{"correction", c.ID.String(), correctionCanon(h.ID, c, string(vj))}, err
+			VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9)`, c.ID, h.ID, correctionDive, c.Dive.String(), field, string(vj), reason, actor, c.RecordedAt)
+		return chainRec{"correction", c.ID.String(), correctionCanon(h.ID, c, correctionDive, c.Dive.String(), string(vj))}, err
 	})
 	if err != nil {
 		return nil, err

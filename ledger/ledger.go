@@ -90,7 +90,11 @@ func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
 		return nil, fmt.Errorf("connecting to %s: %w", l.info.URL, err)
 	}
 	l.pool, l.db = pool, pool
-	if err := l.Migrate(ctx); err != nil {
+	// Open applies pending migrations but does not restore append-only
+	// guards found down: that is Migrate's, asked for by name, so that a
+	// guard switched off is first seen by verify rather than silently put
+	// back by the next command.
+	if err := l.applyMigrations(ctx); err != nil {
 		pool.Close()
 		return nil, err
 	}
@@ -106,11 +110,95 @@ func (l *Ledger) Info() Info { return l.info }
 // Pool exposes the connection pool to the other ledger packages and tests.
 func (l *Ledger) Pool() *pgxpool.Pool { return l.pool }
 
-// Migrate applies pending migrations under tern's advisory lock.
-func (l *Ledger) Migrate(ctx context.Context) error {
+// MigrateResult says what Migrate did besides applying migrations.
+type MigrateResult struct {
+	// Restored lists the append-only guards Migrate found missing,
+	// disabled or altered and put back as the migrations define them;
+	// Problem says what each was (GuardMissing, GuardDisabled,
+	// GuardAltered). Empty when every guard was in place.
+	Restored []GuardFinding `json:"restored"`
+}
+
+// Migrate applies pending migrations under tern's advisory lock, then
+// restores the append-only guards: it recreates the trigger function
+// ledger_append_only if it is missing or was replaced, creates any
+// missing <table>_append_only or <table>_no_truncate trigger with the SQL
+// of ledger_protect, recreates any altered one, and enables any disabled
+// one (ALTER TABLE … ENABLE TRIGGER). It returns what it restored. A
+// ledger table that no longer exists cannot be restored: the other guards
+// are restored and committed, and the error names the table.
+//
+// Restoring a guard repairs no record: run verify, which finds any record
+// changed while the guard was down.
+func (l *Ledger) Migrate(ctx context.Context) (*MigrateResult, error) {
 	if err := l.writable("Migrate"); err != nil {
-		return err
+		return nil, err
 	}
+	if err := l.applyMigrations(ctx); err != nil {
+		return nil, err
+	}
+	res := &MigrateResult{Restored: []GuardFinding{}}
+	var lost []string
+	err := pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
+		// One restorer at a time; the guards are read after the lock.
+		if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock(hashtext('hulltally append-only guards'))"); err != nil {
+			return err
+		}
+		found, err := checkGuards(ctx, tx)
+		if err != nil {
+			return err
+		}
+		for _, g := range found {
+			if g.Table == "" {
+				// The function, listed first: the triggers need it.
+				if _, err := tx.Exec(ctx, "CREATE OR REPLACE FUNCTION ledger_append_only() RETURNS trigger LANGUAGE plpgsql AS $hulltally$"+appendOnlyBody+"$hulltally$"); err != nil {
+					return fmt.Errorf("restoring ledger_append_only: %w", err)
+				}
+				res.Restored = append(res.Restored, g)
+				continue
+			}
+			if g.Problem == GuardTableMissing {
+				lost = append(lost, g.Table)
+				continue
+			}
+			for _, stmt := range guardRepair(g) {
+				if _, err := tx.Exec(ctx, stmt); err != nil {
+					return fmt.Errorf("restoring append-only trigger %s on table %s: %w", g.Trigger, g.Table, err)
+				}
+			}
+			res.Restored = append(res.Restored, g)
+		}
+		return nil
+	})
+	if err != nil {
+		return nil, fmt.Errorf("migrations: restoring append-only guards: %w", err)
+	}
+	if len(lost) > 0 {
+		return res, fmt.Errorf("migrations: ledger tables %s are missing: their records and append-only guards cannot be restored", strings.Join(lost, ", "))
+	}
+	return res, nil
+}
+
+// guardRepair returns the statements that put a guard back as
+// ledger_protect (001_ledger.sql) makes it.
+func guardRepair(g GuardFinding) []string {
+	table, trig := pgx.Identifier{g.Table}.Sanitize(), pgx.Identifier{g.Trigger}.Sanitize()
+	create := "CREATE TRIGGER " + trig + " BEFORE UPDATE OR DELETE ON " + table + " FOR EACH ROW EXECUTE FUNCTION ledger_append_only()"
+	if strings.HasSuffix(g.Trigger, "_no_truncate") {
+		create = "CREATE TRIGGER " + trig + " BEFORE TRUNCATE ON " + table + " FOR EACH STATEMENT EXECUTE FUNCTION ledger_append_only()"
+	}
+	switch g.Problem {
+	case GuardMissing:
+		return []string{create}
+	case GuardAltered:
+		return []string{"DROP TRIGGER " + trig + " ON " + table, create}
+	default: // GuardDisabled
+		return []string{"ALTER TABLE " + table + " ENABLE TRIGGER " + trig}
+	}
+}
+
+// applyMigrations applies pending migrations under tern's advisory lock.
+func (l *Ledger) applyMigrations(ctx context.Context) error {
 	conn, err := l.pool.Acquire(ctx)
 	if err != nil {
 		return fmt.Errorf("migrations: connecting to %s: %w", l.info.URL, err)

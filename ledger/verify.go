@@ -36,6 +36,17 @@ type VerifyResult struct {
 	Hulls       int               `json:"hulls"`
 	FirstBroken *Broken           `json:"first_broken"`
 	Heads       map[string]string `json:"heads"`
+	// Guards lists the append-only triggers (and their function) that are
+	// missing, disabled or altered. Any finding makes OK false: with the
+	// guards down the ledger can be edited in place, and a rewrite that
+	// recomputes a hull's later hashes is not caught by the chain alone.
+	// When every chain holds, FirstBroken then names the first finding
+	// (Kind "append_only_guard", Key the trigger) so that a reader of
+	// FirstBroken alone still sees why the ledger is not OK.
+	Guards []GuardFinding `json:"guards"`
+	// Problem is the first thing to say when OK is false: the first
+	// broken link, else the first guard finding.
+	Problem string `json:"problem,omitempty"`
 }
 
 // Verify recomputes every hull's audit chain from the stored records: each
@@ -69,7 +80,12 @@ func (l *Ledger) Verify(ctx context.Context) (*VerifyResult, error) {
 
 // verifyAll verifies every hull's chain with the reads of q.
 func verifyAll(ctx context.Context, q querier) (*VerifyResult, error) {
-	res := &VerifyResult{OK: true, Heads: map[string]string{}}
+	res := &VerifyResult{OK: true, Heads: map[string]string{}, Guards: []GuardFinding{}}
+	guards, err := checkGuards(ctx, q)
+	if err != nil {
+		return nil, err
+	}
+	res.Guards = append(res.Guards, guards...)
 	rows, err := q.Query(ctx, `SELECT id, serial, recorded_at FROM hulls ORDER BY serial COLLATE "C"`)
 	if err != nil {
 		return nil, fmt.Errorf("verify: listing hulls: %w", err)
@@ -111,6 +127,23 @@ func verifyAll(ctx context.Context, q querier) (*VerifyResult, error) {
 	if orphans > 0 && res.FirstBroken == nil {
 		res.OK = false
 		res.FirstBroken = &Broken{Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
+	}
+	if b := res.FirstBroken; b != nil {
+		res.Problem = fmt.Sprintf("first broken link: hull %s, record %d (%s %s): %s", b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
+	}
+	if len(res.Guards) > 0 {
+		res.OK = false
+		g := res.Guards[0]
+		more := ""
+		if n := len(res.Guards) - 1; n > 0 {
+			more = fmt.Sprintf(" (and %d more guard findings)", n)
+		}
+		if res.FirstBroken == nil {
+			res.FirstBroken = &Broken{Kind: "append_only_guard", Key: g.Trigger, Reason: g.Detail + more}
+			res.Problem = "ledger guard down: " + g.Detail + more + "; run `hulltally db migrate` to restore it, after finding out who turned it off"
+		} else {
+			res.Problem += "; and ledger guard down: " + g.Detail + more
+		}
 	}
 	return res, nil
 }
@@ -623,19 +656,14 @@ func batchStatus(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) e
 }
 
 func batchCorrections(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
-	return each(ctx, q, "corrections", "SELECT id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+	return each(ctx, q, "corrections", "SELECT id, target_kind, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
 		var c Correction
-		var target, vj string
-		if err := rows.Scan(&c.ID, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt); err != nil {
+		var kind, target, vj string
+		if err := rows.Scan(&c.ID, &kind, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt); err != nil {
 			return err
 		}
 		b.stored["correction"]++
-		var err error
-		if c.Dive, err = uuid.Parse(target); err != nil {
-			b.settle("correction", c.ID.String(), nil, 0, "correction names no dive", nil)
-			return nil
-		}
-		b.settle("correction", c.ID.String(), correctionCanon(hull, &c, vj), 0, "", nil)
+		b.settle("correction", c.ID.String(), correctionCanon(hull, &c, kind, target, vj), 0, "", nil)
 		return nil
 	})
 }
@@ -886,18 +914,15 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		}
 		c := Correction{ID: id}
 		var hull uuid.UUID
-		var target, vj string
-		err = q.QueryRow(ctx, "SELECT hull_id, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE id = $1", id).Scan(&hull, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt)
+		var kind, target, vj string
+		err = q.QueryRow(ctx, "SELECT hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at FROM corrections WHERE id = $1", id).Scan(&hull, &kind, &target, &c.Field, &vj, &c.Reason, &c.Actor, &c.RecordedAt)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "correction record is missing", nil
 		}
 		if err != nil {
 			return nil, 0, "", err
 		}
-		if c.Dive, err = uuid.Parse(target); err != nil {
-			return nil, 0, "correction names no dive", nil
-		}
-		return correctionCanon(hull, &c, vj), 0, "", nil
+		return correctionCanon(hull, &c, kind, target, vj), 0, "", nil
 	case "status":
 		id, seq, ok := splitKey(key)
 		if !ok {
@@ -1113,4 +1138,173 @@ func splitKey(key string) (uuid.UUID, int64, bool) {
 		return uuid.Nil, 0, false
 	}
 	return id, n, true
+}
+
+// GuardFinding is one append-only guard of the database that is not as the
+// migrations made it: a ledger table's trigger missing, disabled, or
+// altered, or the trigger function itself replaced.
+type GuardFinding struct {
+	// Table is the ledger table ("" for the trigger function).
+	Table string `json:"table"`
+	// Trigger is the trigger's name (<table>_append_only for UPDATE and
+	// DELETE, <table>_no_truncate for TRUNCATE), or the function's name.
+	Trigger string `json:"trigger"`
+	// Problem is one of GuardMissing, GuardDisabled, GuardAltered,
+	// GuardTableMissing.
+	Problem string `json:"problem"`
+	// Detail says it in a sentence.
+	Detail string `json:"detail"`
+}
+
+// The problems a GuardFinding names.
+const (
+	// GuardMissing: the trigger (or its table) does not exist.
+	GuardMissing = "missing"
+	// GuardDisabled: the trigger exists but does not fire in ordinary
+	// sessions (pg_trigger.tgenabled is 'D', or 'R': replica only).
+	GuardDisabled = "disabled"
+	// GuardAltered: a trigger of that name exists but does not run
+	// ledger_append_only on the events it must refuse, or the function
+	// ledger_append_only no longer refuses.
+	GuardAltered = "altered"
+	// GuardTableMissing: the ledger table itself does not exist.
+	GuardTableMissing = "table missing"
+)
+
+// protectedTables are the tables the migrations make append-only with
+// ledger_protect (001 … 005), in migration order. A migration that
+// protects a new table adds it here; verify also checks every table that
+// carries a <table>_append_only trigger.
+var protectedTables = [...]string{
+	// 001_ledger.sql
+	"hulls", "hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections", "audit_chain",
+	// 002_assessment.sql
+	"dive_cycles", "dive_holds", "assessments", "assessment_damage",
+	// 003_evidence.sql
+	"dive_profiles", "dive_evidence", "inspections", "proof_tests", "decisions", "status_history",
+	// 004_reports.sql
+	"issued_reports",
+	// 005_judgement.sql
+	"evidence_revisions", "dive_voids", "dive_fingerprints",
+}
+
+// pg_trigger.tgtype bits (PostgreSQL's catalog/pg_trigger.h): ROW 1,
+// BEFORE 2, INSERT 4, DELETE 8, UPDATE 16, TRUNCATE 32, INSTEAD 64.
+const (
+	guardRowType      = 1 | 2 | 8 | 16 // BEFORE UPDATE OR DELETE FOR EACH ROW
+	guardTruncateType = 2 | 32         // BEFORE TRUNCATE FOR EACH STATEMENT
+)
+
+// appendOnlyBody is the body of ledger_append_only as 001_ledger.sql
+// creates it; verify compares it with the stored one, whitespace folded.
+const appendOnlyBody = `
+BEGIN
+    RAISE EXCEPTION 'hulltally ledger table % is append-only: % refused (record a correction instead)',
+        TG_TABLE_NAME, TG_OP USING ERRCODE = 'insufficient_privilege';
+END;
+`
+
+func foldSpace(s string) string { return strings.Join(strings.Fields(s), " ") }
+
+// checkGuards lists the append-only guards that are missing, disabled or
+// altered, in table order (row trigger before truncate trigger), the
+// trigger function first.
+func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
+	var out []GuardFinding
+	var src *string
+	err := q.QueryRow(ctx, `SELECT (SELECT p.prosrc FROM pg_proc p JOIN pg_namespace n ON n.oid = p.pronamespace
+		WHERE n.nspname = current_schema() AND p.proname = 'ledger_append_only' AND p.pronargs = 0)`).Scan(&src)
+	if err != nil {
+		return nil, fmt.Errorf("verify: reading the append-only function: %w", err)
+	}
+	switch {
+	case src == nil:
+		out = append(out, GuardFinding{Trigger: "ledger_append_only", Problem: GuardMissing,
+			Detail: "the trigger function ledger_append_only is missing: no ledger table is append-only"})
+	case foldSpace(*src) != foldSpace(appendOnlyBody):
+		out = append(out, GuardFinding{Trigger: "ledger_append_only", Problem: GuardAltered,
+			Detail: "the trigger function ledger_append_only was replaced: it may no longer refuse UPDATE, DELETE and TRUNCATE"})
+	}
+	type trig struct {
+		enabled string
+		typ     int16
+		fn      string
+	}
+	trigs := map[string]trig{}  // trigger name → state
+	tables := map[string]bool{} // tables that exist
+	rows, err := q.Query(ctx, `SELECT c.relname, t.tgname, t.tgenabled::text, t.tgtype, t.tgfoid::regproc::text
+		FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid JOIN pg_namespace n ON n.oid = c.relnamespace
+		WHERE n.nspname = current_schema() AND NOT t.tgisinternal`)
+	if err != nil {
+		return nil, fmt.Errorf("verify: reading the append-only triggers: %w", err)
+	}
+	var extra []string
+	seen := map[string]bool{}
+	for _, t := range protectedTables {
+		seen[t] = true
+	}
+	for rows.Next() {
+		var table, name string
+		var tr trig
+		if err := rows.Scan(&table, &name, &tr.enabled, &tr.typ, &tr.fn); err != nil {
+			rows.Close()
+			return nil, fmt.Errorf("verify: reading the append-only triggers: %w", err)
+		}
+		trigs[table+"\x00"+name] = tr
+		if name == table+"_append_only" && !seen[table] {
+			seen[table] = true
+			extra = append(extra, table)
+		}
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("verify: reading the append-only triggers: %w", err)
+	}
+	sort.Strings(extra)
+	all := append(protectedTables[:len(protectedTables):len(protectedTables)], extra...)
+	trows, err := q.Query(ctx, `SELECT c.relname FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace
+		WHERE n.nspname = current_schema() AND c.relkind IN ('r', 'p') AND c.relname = ANY($1)`, all)
+	if err != nil {
+		return nil, fmt.Errorf("verify: listing the ledger tables: %w", err)
+	}
+	for trows.Next() {
+		var t string
+		if err := trows.Scan(&t); err != nil {
+			trows.Close()
+			return nil, err
+		}
+		tables[t] = true
+	}
+	trows.Close()
+	if err := trows.Err(); err != nil {
+		return nil, err
+	}
+	for _, table := range all {
+		if !tables[table] {
+			out = append(out, GuardFinding{Table: table, Trigger: table + "_append_only", Problem: GuardTableMissing,
+				Detail: fmt.Sprintf("ledger table %s is missing (dropped with its append-only triggers)", table)})
+			continue
+		}
+		for _, want := range []struct {
+			suffix, what string
+			typ          int16
+		}{{"_append_only", "UPDATE and DELETE", guardRowType}, {"_no_truncate", "TRUNCATE", guardTruncateType}} {
+			name := table + want.suffix
+			tr, ok := trigs[table+"\x00"+name]
+			switch {
+			case !ok:
+				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardMissing,
+					Detail: fmt.Sprintf("append-only trigger %s on table %s is missing: %s of its rows is not refused", name, table, want.what)})
+			case tr.typ != want.typ || tr.fn != "ledger_append_only":
+				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardAltered,
+					Detail: fmt.Sprintf("append-only trigger %s on table %s was altered (runs %s, type %d; want ledger_append_only, type %d): %s may not be refused", name, table, tr.fn, tr.typ, want.typ, want.what)})
+			case tr.enabled != "O" && tr.enabled != "A":
+				// 'O' fires in ordinary sessions, 'A' always; 'D' never,
+				// 'R' only in replica sessions.
+				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardDisabled,
+					Detail: fmt.Sprintf("append-only trigger %s on table %s is disabled (tgenabled %q): %s of its rows is not refused", name, table, tr.enabled, want.what)})
+			}
+		}
+	}
+	return out, nil
 }

@@ -1,0 +1,259 @@
+package ledger_test
+
+import (
+	"context"
+	"errors"
+	"strings"
+	"testing"
+
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
+
+	"hulltally/configs"
+	"hulltally/ledger"
+	"hulltally/ledger/ledgertest"
+)
+
+// guardExec runs administrator statements in one transaction, as a rogue
+// or careless administrator would, without touching any record.
+func guardExec(t *testing.T, l *ledger.Ledger, stmts ...string) {
+	t.Helper()
+	ctx := context.Background()
+	err := pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
+		for _, s := range stmts {
+			if _, err := tx.Exec(ctx, s); err != nil {
+				return errors.Join(errors.New(s), err)
+			}
+		}
+		return nil
+	})
+	if err != nil {
+		t.Fatal(err)
+	}
+}
+
+// TestGuardsWatched: each way of taking an append-only guard down is
+// reported by verify (not OK, naming the trigger and the table), while
+// the chain itself still holds; Migrate puts the guard back and says so,
+// the guard refuses edits again, and verify is OK again.
+func TestGuardsWatched(t *testing.T) {
+	ctx := context.Background()
+	cases := []struct {
+		name  string
+		stmts []string
+		want  []ledger.GuardFinding // Table, Trigger, Problem
+		// edit is a statement the restored guard must refuse.
+		edit string
+	}{
+		{"drop a row trigger", []string{"DROP TRIGGER dives_append_only ON dives"},
+			[]ledger.GuardFinding{{Table: "dives", Trigger: "dives_append_only", Problem: ledger.GuardMissing}},
+			"UPDATE dives SET max_depth_m = 1"},
+		{"drop a truncate trigger", []string{"DROP TRIGGER reading_blocks_no_truncate ON reading_blocks"},
+			[]ledger.GuardFinding{{Table: "reading_blocks", Trigger: "reading_blocks_no_truncate", Problem: ledger.GuardMissing}},
+			"TRUNCATE reading_blocks CASCADE"},
+		{"disable a row trigger", []string{"ALTER TABLE corrections DISABLE TRIGGER corrections_append_only"},
+			[]ledger.GuardFinding{{Table: "corrections", Trigger: "corrections_append_only", Problem: ledger.GuardDisabled}},
+			"DELETE FROM corrections"},
+		{"disable every user trigger of a table", []string{"ALTER TABLE audit_chain DISABLE TRIGGER USER"},
+			[]ledger.GuardFinding{
+				{Table: "audit_chain", Trigger: "audit_chain_append_only", Problem: ledger.GuardDisabled},
+				{Table: "audit_chain", Trigger: "audit_chain_no_truncate", Problem: ledger.GuardDisabled},
+			},
+			"DELETE FROM audit_chain"},
+		{"row trigger set to fire in replica sessions only", []string{"ALTER TABLE hulls ENABLE REPLICA TRIGGER hulls_append_only"},
+			[]ledger.GuardFinding{{Table: "hulls", Trigger: "hulls_append_only", Problem: ledger.GuardDisabled}},
+			"UPDATE hulls SET serial = 'OTHER'"},
+		{"row trigger replaced by one on INSERT only", []string{
+			"DROP TRIGGER hull_components_append_only ON hull_components",
+			"CREATE TRIGGER hull_components_append_only BEFORE INSERT ON hull_components FOR EACH ROW EXECUTE FUNCTION ledger_append_only()"},
+			[]ledger.GuardFinding{{Table: "hull_components", Trigger: "hull_components_append_only", Problem: ledger.GuardAltered}},
+			"DELETE FROM hull_components"},
+		{"trigger function replaced by one that lets edits through", []string{
+			"CREATE OR REPLACE FUNCTION ledger_append_only() RETURNS trigger LANGUAGE plpgsql AS $$ BEGIN RETURN OLD; END; $$"},
+			[]ledger.GuardFinding{{Table: "", Trigger: "ledger_append_only", Problem: ledger.GuardAltered}},
+			"UPDATE hull_revisions SET rated_depth_m = 6000"},
+		{"one dropped and one disabled", []string{
+			"DROP TRIGGER assessments_append_only ON assessments",
+			"ALTER TABLE dive_fingerprints DISABLE TRIGGER dive_fingerprints_no_truncate"},
+			[]ledger.GuardFinding{
+				{Table: "assessments", Trigger: "assessments_append_only", Problem: ledger.GuardMissing},
+				{Table: "dive_fingerprints", Trigger: "dive_fingerprints_no_truncate", Problem: ledger.GuardDisabled},
+			},
+			"UPDATE assessments SET reason = 'other'"},
+	}
+	for _, tc := range cases {
+		t.Run(tc.name, func(t *testing.T) {
+			l := newLedger(t, 0)
+			d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive), AE: writeFile(t, "h.csv", goodHits)})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", "tester"); err != nil {
+				t.Fatal(err)
+			}
+			res, err := l.Verify(ctx)
+			if err != nil || !res.OK || len(res.Guards) != 0 {
+				t.Fatalf("clean ledger: %v %+v", err, res)
+			}
+			guardExec(t, l, tc.stmts...)
+
+			res, err = l.Verify(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.OK {
+				t.Fatalf("verify is OK with a guard down: %+v", res)
+			}
+			if got := strip(res.Guards); !equalFindings(got, tc.want) {
+				t.Fatalf("guards %+v, want %+v", got, tc.want)
+			}
+			// Every chain holds: the first thing said is the guard.
+			if res.FirstBroken == nil || res.FirstBroken.Kind != "append_only_guard" || res.FirstBroken.Key != tc.want[0].Trigger {
+				t.Errorf("first broken %+v, want the guard %s", res.FirstBroken, tc.want[0].Trigger)
+			}
+			if !strings.Contains(res.Problem, tc.want[0].Trigger) || (tc.want[0].Table != "" && !strings.Contains(res.Problem, "table "+tc.want[0].Table)) {
+				t.Errorf("problem %q does not name trigger %s on table %s", res.Problem, tc.want[0].Trigger, tc.want[0].Table)
+			}
+
+			// Opening the ledger again does not silently put the guard back.
+			l2, err := ledger.Open(ctx, ledgerConfigOf(t, l))
+			if err != nil {
+				t.Fatal(err)
+			}
+			l2.Close()
+			if res, err := l.Verify(ctx); err != nil || res.OK {
+				t.Fatalf("guard restored by Open: %v %+v", err, res)
+			}
+
+			mr, err := l.Migrate(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if got := strip(mr.Restored); !equalFindings(got, tc.want) {
+				t.Fatalf("restored %+v, want %+v", got, tc.want)
+			}
+			res, err = l.Verify(ctx)
+			if err != nil || !res.OK || len(res.Guards) != 0 || res.FirstBroken != nil {
+				t.Fatalf("after migrate: %v %+v", err, res)
+			}
+			// The guard refuses again.
+			_, err = l.Pool().Exec(ctx, tc.edit)
+			var pe *pgconn.PgError
+			if !errors.As(err, &pe) || pe.Code != "42501" || !strings.Contains(pe.Message, "append-only") {
+				t.Fatalf("%s after restore: %v, want refused as append-only", tc.edit, err)
+			}
+			// Nothing left to restore.
+			if mr, err := l.Migrate(ctx); err != nil || len(mr.Restored) != 0 {
+				t.Fatalf("second migrate: %v %+v", err, mr)
+			}
+		})
+	}
+}
+
+// TestGuardTableDropped: a ledger table dropped whole (its guards with it)
+// is reported, and Migrate says it cannot be restored.
+func TestGuardTableDropped(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	guardExec(t, l, "DROP TABLE issued_reports")
+	res, err := l.Verify(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []ledger.GuardFinding{{Table: "issued_reports", Trigger: "issued_reports_append_only", Problem: ledger.GuardTableMissing}}
+	if res.OK || !equalFindings(strip(res.Guards), want) {
+		t.Fatalf("verify: %+v", res)
+	}
+	if _, err := l.Migrate(ctx); err == nil || !strings.Contains(err.Error(), "issued_reports") {
+		t.Fatalf("migrate with a ledger table dropped: %v", err)
+	}
+}
+
+// TestGuardOnAddedTable: a table protected by a later migration (here by
+// hand, as a migration would with ledger_protect) is watched from the
+// database's own list, though the list kept in Go does not name it.
+func TestGuardOnAddedTable(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	guardExec(t, l, "CREATE TABLE later_records (id int)", "SELECT ledger_protect(ARRAY['later_records'])")
+	if res, err := l.Verify(ctx); err != nil || !res.OK {
+		t.Fatalf("clean: %v %+v", err, res)
+	}
+	guardExec(t, l, "DROP TRIGGER later_records_no_truncate ON later_records")
+	res, err := l.Verify(ctx)
+	want := []ledger.GuardFinding{{Table: "later_records", Trigger: "later_records_no_truncate", Problem: ledger.GuardMissing}}
+	if err != nil || res.OK || !equalFindings(strip(res.Guards), want) {
+		t.Fatalf("verify: %v %+v", err, res)
+	}
+	if mr, err := l.Migrate(ctx); err != nil || !equalFindings(strip(mr.Restored), want) {
+		t.Fatalf("migrate: %v %+v", err, mr)
+	}
+	if res, err := l.Verify(ctx); err != nil || !res.OK {
+		t.Fatalf("after migrate: %v %+v", err, res)
+	}
+}
+
+// TestCorrectionKindBehindChain: a correction's kind or target changed
+// behind the chain (which would take it off the dive it corrects: readers
+// select target_kind = 'dive' and the dive id's text) is found, and a
+// correction written today verifies.
+func TestCorrectionKindBehindChain(t *testing.T) {
+	ctx := context.Background()
+	for _, tc := range []struct{ name, sql string }{
+		{"kind changed", "UPDATE corrections SET target_kind = 'hull'"},
+		{"kind changed in case only", "UPDATE corrections SET target_kind = 'Dive'"},
+		{"target respelt", "UPDATE corrections SET target_key = upper(target_key)"},
+		{"target changed", "UPDATE corrections SET target_key = gen_random_uuid()::text"},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			l := newLedger(t, 0)
+			d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", "tester"); err != nil {
+				t.Fatal(err)
+			}
+			if res, err := l.Verify(ctx); err != nil || !res.OK {
+				t.Fatalf("clean ledger: %v %+v", err, res)
+			}
+			tamper(t, l, tc.sql)
+			res, err := l.Verify(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.OK || res.FirstBroken == nil || res.FirstBroken.Kind != "correction" {
+				t.Fatalf("verify did not find the correction changed: %+v", res)
+			}
+		})
+	}
+}
+
+// ledgerConfigOf is a configuration for the database l is on.
+func ledgerConfigOf(t *testing.T, l *ledger.Ledger) *configs.Config {
+	t.Helper()
+	return ledgertest.Config(t, l.Pool().Config().ConnString())
+}
+
+func strip(gs []ledger.GuardFinding) []ledger.GuardFinding {
+	out := make([]ledger.GuardFinding, len(gs))
+	for i, g := range gs {
+		if g.Detail == "" {
+			panic("guard finding without detail")
+		}
+		out[i] = ledger.GuardFinding{Table: g.Table, Trigger: g.Trigger, Problem: g.Problem}
+	}
+	return out
+}
+
+func equalFindings(a, b []ledger.GuardFinding) bool {
+	if len(a) != len(b) {
+		return false
+	}
+	for i := range a {
+		if a[i] != b[i] {
+			return false
+		}
+	}
+	return true
+}
