@@ -199,10 +199,14 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 		return nil, err
 	}
 	// Newest assessment first: a dive takes its damage from the newest
-	// assessment that covers it.
-	rows, err = l.db.Query(ctx, `SELECT a.hull_id, a.seq, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
+	// assessment that covers it. "Newest" is the position in the hull's
+	// audit chain (chainSeq), not the table's own sequence, which no hash
+	// covers: reordering assessments behind the chain cannot put an older,
+	// smaller figure in force, and an assessment inserted behind the chain
+	// (no chain record) ranks oldest of all.
+	rows, err = l.db.Query(ctx, `SELECT a.hull_id, `+chainSeq+`, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
 		FROM assessments a JOIN assessment_damage ad ON ad.assessment_id = a.id
-		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, a.seq DESC, ad.component`, ids)
+		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, 2 DESC, a.id, ad.component`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("reading damage: %w", err)
 	}
@@ -284,8 +288,8 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	if err := l.showRecords(ctx, out, recFrom); err != nil {
 		return nil, err
 	}
-	rows, err = l.db.Query(ctx, `SELECT DISTINCT ON (hull_id) hull_id, count(*) OVER (PARTITION BY hull_id), config_hash
-		FROM assessments WHERE hull_id = ANY($1) ORDER BY hull_id, seq DESC`, ids)
+	rows, err = l.db.Query(ctx, `SELECT DISTINCT ON (a.hull_id) a.hull_id, count(*) OVER (PARTITION BY a.hull_id), a.config_hash
+		FROM assessments a WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, `+chainSeq+` DESC, a.id`, ids)
 	if err != nil {
 		return nil, err
 	}
@@ -502,14 +506,19 @@ type DiveComponentDamage struct {
 	MeanStress          string   `json:"mean_stress,omitempty"`
 }
 
+// chainSeq is an assessment's (aliased a) position in its hull's audit
+// chain, 0 when it has no chain record: the order of assessments that the
+// chain's hashes protect.
+const chainSeq = `coalesce((SELECT c.seq FROM audit_chain c WHERE c.kind = 'assessment' AND c.record_key = a.id::text), 0)`
+
 // DiveDamageOf returns the dive's damage per component in the assessment
 // in force (the newest that covers the dive).
 func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]DiveComponentDamage, error) {
 	rows, err := l.db.Query(ctx, `
-		SELECT a.seq, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve, ad.factor, a.config_json
+		SELECT `+chainSeq+`, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve, ad.factor, a.config_json
 		FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
 		WHERE ad.hull_id = (SELECT hull_id FROM dives WHERE id = $1) AND $1 = ANY(ad.dive_ids)
-		ORDER BY a.seq DESC`, dive)
+		ORDER BY 1 DESC, a.id`, dive)
 	if err != nil {
 		return nil, err
 	}

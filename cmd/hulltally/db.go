@@ -69,12 +69,34 @@ func (a *app) dbCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
+			// Migrate also restores append-only guards that were dropped,
+			// disabled or altered, and says which.
+			mr, merr := l.Migrate(cmd.Context())
+			var restored []ledger.GuardFinding
+			if mr != nil {
+				restored = mr.Restored
+			}
+			if restored == nil {
+				restored = []ledger.GuardFinding{}
+			}
+			if !a.asJSON {
+				for _, g := range restored {
+					if g.Table == "" {
+						a.printf("restored the append-only trigger function %s (it was %s)\n", g.Trigger, g.Problem)
+					} else {
+						a.printf("restored append-only trigger %s on table %s (it was %s)\n", g.Trigger, g.Table, g.Problem)
+					}
+				}
+			}
+			if merr != nil {
+				return merr
+			}
 			cur, latest, err := l.SchemaVersion(cmd.Context())
 			if err != nil {
 				return err
 			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": a.printableURL(l.Info().URL)})
+				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": a.printableURL(l.Info().URL), "restored": restored})
 			}
 			a.printf("schema at version %d of %d (%s)\n", cur, latest, a.printableURL(l.Info().URL))
 			return nil
