@@ -2,7 +2,9 @@ package reports
 
 import (
 	"context"
+	"crypto/ecdsa"
 	"crypto/sha256"
+	"errors"
 	"fmt"
 	"io"
 	"regexp"
@@ -10,6 +12,7 @@ import (
 
 	"hulltally/ledger"
 	"hulltally/ledger/files"
+	"hulltally/reports/sign"
 )
 
 // Build gathers a report's content by kind and subject, reading the
@@ -54,6 +57,28 @@ type Written struct {
 	// Warning says the same in a sentence for the CLI to print; empty when
 	// every character printed.
 	Warning string `json:"warning,omitempty"`
+	// Signed: the file carries the operator's PDF signature (false: an
+	// unsigned report, no key was given).
+	Signed bool `json:"signed"`
+	// SignedBy is the organisation the signing certificate names, and
+	// SignerFingerprint the signing key's SHA-256 fingerprint
+	// (sign.Fingerprint); empty when unsigned.
+	SignedBy          string `json:"signed_by,omitempty"`
+	SignerFingerprint string `json:"signer_fingerprint,omitempty"`
+	// Checkpoint is the ledger checkpoint carried in the signed content;
+	// empty when none.
+	Checkpoint string `json:"checkpoint,omitempty"`
+}
+
+// WriteOptions are the optional parts of WriteWith.
+type WriteOptions struct {
+	// Signer is the operator's report-signing key; nil writes an unsigned
+	// report (the caller says so to the user).
+	Signer *sign.Signer
+	// Checkpoint is the ledger's checkpoint the report is made at, carried
+	// in the signed content (the signature dictionary's reason); empty for
+	// none. Letters, digits and ":._/+=-" only.
+	Checkpoint string
 }
 
 // Write builds and renders a report and writes it to path, atomically (see
@@ -61,6 +86,15 @@ type Written struct {
 // or anything but a regular file, and on any error the old file at path is
 // left byte-identical.
 func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at time.Time) (*Written, error) {
+	return WriteWith(ctx, l, kind, subject, path, at, WriteOptions{})
+}
+
+// WriteWith is Write, signing the PDF with o.Signer when it is set: a PDF
+// certification signature over the whole file (its metadata with the
+// fingerprint included) and a signature dictionary whose reason carries
+// the fingerprint and o.Checkpoint (see sign.SignPDF). The register of
+// issued reports holds the SHA-256 of the signed file.
+func WriteWith(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at time.Time, o WriteOptions) (*Written, error) {
 	// Microseconds, the ledger's precision: cut to the second, a report
 	// made within the second of a record (an inspection just entered)
 	// would be built as if that record did not exist yet. The metadata
@@ -77,6 +111,14 @@ func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at
 	}
 	b := r.PDF
 	fp, _ := m.Fingerprint()
+	// Pages are counted before signing: the signature's update rewrites
+	// the first page's object.
+	np := pages(b)
+	if o.Signer != nil {
+		if b, err = sign.SignPDF(b, o.Signer, sign.Meta{Fingerprint: fp, Checkpoint: o.Checkpoint, Time: at}); err != nil {
+			return nil, err
+		}
+	}
 	sum := sha256.Sum256(b)
 	// Atomically: a temporary file in the same folder, synced and renamed
 	// into place. Never through a symbolic link at path; on any error (a
@@ -84,7 +126,10 @@ func Write(ctx context.Context, l *ledger.Ledger, kind, subject, path string, at
 	if err := files.WriteAtomic(path, func(w io.Writer) error { _, err := w.Write(b); return err }, 0o644); err != nil {
 		return nil, err
 	}
-	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: pages(b), Bytes: len(b), Warning: r.Warning()}
+	w := &Written{Path: path, Kind: kind, Subject: m.Subject, Fingerprint: fp, GeneratedAt: at, Pages: np, Bytes: len(b), Warning: r.Warning()}
+	if o.Signer != nil {
+		w.Signed, w.SignedBy, w.SignerFingerprint, w.Checkpoint = true, o.Signer.Org(), o.Signer.Fingerprint(), o.Checkpoint
+	}
 	for _, c := range r.Unprintable {
 		w.Unprintable = append(w.Unprintable, fmt.Sprintf("U+%04X", c))
 	}
@@ -109,7 +154,46 @@ type Verification struct {
 	GeneratedAt time.Time `json:"generated_at"`
 	Fingerprint string    `json:"fingerprint"`
 	Reason      string    `json:"reason"`
+	// Signature is the outcome of the signature check: SigValid,
+	// SigUnsigned, SigAltered, SigOtherKey, or SigNotChecked when no key
+	// was given.
+	Signature string `json:"signature"`
+	// SignedBy and SignerFingerprint name the signing certificate's
+	// organisation and the key's fingerprint, when the signature verified
+	// (by the given key or by another).
+	SignedBy          string `json:"signed_by,omitempty"`
+	SignerFingerprint string `json:"signer_fingerprint,omitempty"`
+	// Checkpoint is the ledger checkpoint in the signed content.
+	Checkpoint string `json:"checkpoint,omitempty"`
+	// Offline: the ledger was not consulted.
+	Offline bool `json:"offline"`
+	// Outdated: an authentic report (as issued, and signed by the key
+	// when one was given) whose fingerprint no longer matches the ledger:
+	// records were added or changed since. OK is false.
+	Outdated bool `json:"outdated,omitempty"`
 }
+
+// Outcomes of the signature check (Verification.Signature).
+const (
+	SigValid      = "valid"       // signed by the given key, unaltered since
+	SigUnsigned   = "unsigned"    // the file carries no signature
+	SigAltered    = "altered"     // the signature does not cover the file or does not verify
+	SigOtherKey   = "another key" // a valid signature by another key: forged, or another operator's
+	SigNotChecked = "not checked" // no key was given
+)
+
+// VerifyOptions are the optional parts of VerifyWith.
+type VerifyOptions struct {
+	// Key is the operator's public key (sign.LoadPublic); when set, the
+	// file must carry a valid PDF signature by it.
+	Key *ecdsa.PublicKey
+	// Offline checks the signature and the signed fingerprint only,
+	// without the ledger (Key is then required, the ledger may be nil).
+	Offline bool
+}
+
+// ErrOfflineNeedsKey: an offline check without a key would check nothing.
+var ErrOfflineNeedsKey = errors.New("an offline check needs the operator's public key (--key PUBKEY.pem): without the ledger, only the signature can show the report authentic")
 
 // MaxVerifyBytes is the largest report file Verify reads (256 MiB): a
 // hulltally report is far smaller; a larger file is not one of ours.
@@ -122,15 +206,41 @@ const MaxVerifyBytes = 256 << 20
 // Only a regular file of at most MaxVerifyBytes is read (files.ErrNotRegular,
 // files.ErrTooLarge otherwise).
 func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, error) {
+	return VerifyWith(ctx, l, path, VerifyOptions{})
+}
+
+// VerifyOffline checks a report's signature by the operator's key pub and
+// the fingerprint in its signed content, without any database: OK when
+// the file is unaltered since the operator signed it. It cannot say
+// whether the ledger has moved on since.
+func VerifyOffline(ctx context.Context, path string, pub *ecdsa.PublicKey) (*Verification, error) {
+	return VerifyWith(ctx, nil, path, VerifyOptions{Key: pub, Offline: true})
+}
+
+// VerifyWith is Verify with a signature check when o.Key is set (the file
+// must carry a valid PDF signature by that key over the whole file, and
+// the fingerprint in the signed signature dictionary must equal the one
+// in the metadata), and without the ledger when o.Offline. OK only when
+// every check passes; Reason tells an altered file (the signature does
+// not cover the file or does not verify), a forged one (signed by another
+// key), an unsigned one, and an authentic but outdated one (Outdated:
+// records added to the ledger since) apart.
+func VerifyWith(ctx context.Context, l *ledger.Ledger, path string, o VerifyOptions) (*Verification, error) {
+	if o.Offline && o.Key == nil {
+		return nil, ErrOfflineNeedsKey
+	}
+	if !o.Offline && l == nil {
+		return nil, errors.New("verifying against the ledger needs the ledger")
+	}
 	b, err := files.ReadAllLimited(ctx, path, MaxVerifyBytes)
 	if err != nil {
 		return nil, err
 	}
 	mm := keywordsRE.FindSubmatch(b)
 	if mm == nil {
-		return &Verification{Reason: "the file carries no hulltally fingerprint: not a hulltally report, or its metadata was altered"}, nil
+		return &Verification{Reason: "the file carries no hulltally fingerprint: not a hulltally report, or its metadata was altered", Signature: SigNotChecked, Offline: o.Offline}, nil
 	}
-	v := &Verification{Kind: string(mm[1]), Subject: string(mm[2]), Fingerprint: string(mm[5])}
+	v := &Verification{Kind: string(mm[1]), Subject: string(mm[2]), Fingerprint: string(mm[5]), Signature: SigNotChecked, Offline: o.Offline}
 	var then int64
 	fmt.Sscan(string(mm[4]), &then)
 	at, err := time.Parse(time.RFC3339Nano, string(mm[3]))
@@ -139,6 +249,18 @@ func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, 
 		return v, nil
 	}
 	v.GeneratedAt = at
+	signed := ""
+	if o.Key != nil {
+		if !checkSignature(v, b, o.Key) {
+			return v, nil
+		}
+		signed = "signed by the operator (" + v.SignedBy + ") and unaltered since, "
+		if o.Offline {
+			v.OK = true
+			v.Reason = "the report is signed by the operator (" + v.SignedBy + ", key " + v.SignerFingerprint + ") and unaltered since signing; its fingerprint is the signed one. The ledger was not consulted (offline): records added since are not known"
+			return v, nil
+		}
+	}
 	m, err := Build(ctx, l, v.Kind, v.Subject, at)
 	if err != nil {
 		v.Reason = fmt.Sprintf("the report's subject is no longer in the ledger: %v", err)
@@ -154,7 +276,13 @@ func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, 
 		return nil, err
 	}
 	if issued == nil {
-		v.Reason = "the file is not one this ledger issued (its SHA-256 is not in the register of issued reports): the file was altered"
+		if signed != "" {
+			// Signed by the operator, yet not in this ledger's register:
+			// another database, or a register that lost the entry.
+			v.Reason = signed + "but this ledger did not issue it (its SHA-256 is not in the register of issued reports): verify it against the database that issued it"
+		} else {
+			v.Reason = "the file is not one this ledger issued (its SHA-256 is not in the register of issued reports): the file was altered"
+		}
 		if fp != v.Fingerprint {
 			v.Reason += "; also, " + what(m, then)
 		}
@@ -165,11 +293,51 @@ func Verify(ctx context.Context, l *ledger.Ledger, path string) (*Verification, 
 		return v, nil
 	}
 	if fp != v.Fingerprint {
-		v.Reason = "the ledger no longer matches the report: " + what(m, then)
+		v.Outdated = true
+		if signed != "" {
+			v.Reason = "authentic but outdated: " + signed + "but its fingerprint no longer matches the ledger: " + what(m, then)
+		} else {
+			v.Reason = "the ledger no longer matches the report: " + what(m, then)
+		}
 		return v, nil
 	}
 	v.OK, v.Reason = true, "the report is as issued and matches the ledger"
+	if signed != "" {
+		v.Reason = "the report is " + signed + "as issued, and matches the ledger"
+	}
 	return v, nil
+}
+
+// checkSignature checks b's signature by pub into v; false (with v.Reason)
+// when it does not pass.
+func checkSignature(v *Verification, b []byte, pub *ecdsa.PublicKey) bool {
+	s, err := sign.Check(b, pub)
+	if s != nil {
+		v.SignedBy, v.SignerFingerprint, v.Checkpoint = s.Org, s.KeyFingerprint, s.Checkpoint
+	}
+	switch {
+	case errors.Is(err, sign.ErrUnsigned):
+		v.Signature = SigUnsigned
+		v.Reason = "the file carries no signature: it cannot be shown to come from the operator (an unsigned report, or its signature removed)"
+		return false
+	case errors.Is(err, sign.ErrOtherKey):
+		v.Signature = SigOtherKey
+		v.Reason = "forged, or another operator's: " + err.Error()
+		return false
+	case err != nil:
+		v.Signature = SigAltered
+		v.Reason = "altered: the signature does not cover the file or does not verify (" + err.Error() + ")"
+		return false
+	}
+	if s.Fingerprint != v.Fingerprint {
+		// Both are inside the signed bytes: only a signer could make them
+		// differ. Refused all the same.
+		v.Signature = SigAltered
+		v.Reason = fmt.Sprintf("the fingerprint in the signed signature (%q) differs from the one in the metadata: not a report as hulltally signs them", s.Fingerprint)
+		return false
+	}
+	v.Signature = SigValid
+	return true
 }
 
 // what explains a fingerprint mismatch from the number of chain records

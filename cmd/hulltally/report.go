@@ -4,15 +4,19 @@ import (
 	"fmt"
 	"time"
 
+	"hulltally/reports/sign"
+
 	"github.com/spf13/cobra"
 
+	"hulltally/ledger"
 	"hulltally/reports"
 )
 
 func (a *app) reportCmd() *cobra.Command {
 	rep := &cobra.Command{Use: "report", Short: "PDF reports: a hull's fitness-for-service summary, a dive sheet, the fleet summary; verify a report",
 		Example: "  hulltally report hull EX-C4000-01 -o hull.pdf\n  hulltally report fleet -o fleet.pdf\n  hulltally report verify hull.pdf"}
-	var out string
+	var out, keyFile string
+	var requireSig bool
 	mk := func(use, short, kind string, nargs int, example string, complete cobra.CompletionFunc) *cobra.Command {
 		c := &cobra.Command{
 			Use:               use,
@@ -28,14 +32,23 @@ func (a *app) reportCmd() *cobra.Command {
 				if nargs == 1 {
 					subject = args[0]
 				}
+				// The key first: a key that cannot be used stops the report
+				// before anything is written or registered.
+				signer, err := a.loadSigner(keyFile, requireSig)
+				if err != nil {
+					return err
+				}
 				l, err := a.open(cmd.Context())
 				if err != nil {
 					return err
 				}
 				defer l.Close()
-				w, err := reports.Write(cmd.Context(), l, kind, subject, out, time.Now())
+				w, err := reports.WriteWith(cmd.Context(), l, kind, subject, out, time.Now(), reports.WriteOptions{Signer: signer})
 				if err != nil {
 					return err
+				}
+				if !w.Signed {
+					fmt.Fprintf(a.errOut, "hulltally: warning: %s is NOT SIGNED: there is no report-signing key at %s; inspectors cannot check it without the ledger. Make one with 'hulltally key init --org NAME' (or refuse unsigned reports with --require-signature)\n", w.Path, a.keyPath(""))
 				}
 				// The warning goes to standard error in either mode (the
 				// JSON carries it too): a report with characters that could
@@ -45,26 +58,53 @@ func (a *app) reportCmd() *cobra.Command {
 					return a.printJSON(w)
 				}
 				a.printf("wrote %s (%d pages), fingerprint %s\n", w.Path, w.Pages, w.Fingerprint)
+				if w.Signed {
+					a.printf("signed by %s, key %s\n", w.SignedBy, w.SignerFingerprint)
+				} else {
+					a.printf("NOT SIGNED\n")
+				}
 				return nil
 			},
 		}
 		c.Flags().StringVarP(&out, "output", "o", "", "the PDF file to write (required)")
+		c.Flags().StringVar(&keyFile, "key", "", "the report-signing key file (default <home>/keys/"+sign.KeyFile+")")
+		c.Flags().BoolVar(&requireSig, "require-signature", false, "refuse to write an unsigned report when there is no key")
 		must(c.MarkFlagRequired("output"))
 		must(c.MarkFlagFilename("output", "pdf"))
 		return c
 	}
+	var pubFile string
+	var offline bool
 	verify := &cobra.Command{
-		Use:     "verify FILE.pdf",
-		Short:   "Check a report against the ledger (exit 0 when it matches, 1 with the reason when it does not)",
-		Example: "  hulltally report verify hull.pdf\n  hulltally report verify hull.pdf --json",
+		Use:     "verify FILE.pdf [--key PUBKEY.pem [--offline]]",
+		Short:   "Check a report: its signature by the operator's key, and against the ledger (exit 0 when every check passes, 1 with the reason when not)",
+		Example: "  hulltally report verify hull.pdf\n  hulltally report verify hull.pdf --key operator.pem\n  hulltally report verify hull.pdf --key operator.pem --offline --json",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			l, err := a.open(cmd.Context())
-			if err != nil {
-				return err
+			var o reports.VerifyOptions
+			if offline && pubFile == "" {
+				return usageError{reports.ErrOfflineNeedsKey}
 			}
-			defer l.Close()
-			v, err := reports.Verify(cmd.Context(), l, args[0])
+			if pubFile != "" {
+				pub, _, err := sign.LoadPublic(pubFile)
+				if err != nil {
+					return &ledger.InputError{Err: err}
+				}
+				o = reports.VerifyOptions{Key: pub, Offline: offline}
+			}
+			var v *reports.Verification
+			var err error
+			if offline {
+				// No database is opened, nor started.
+				v, err = reports.VerifyWith(cmd.Context(), nil, args[0], o)
+			} else {
+				l, oerr := a.open(cmd.Context())
+				if oerr != nil {
+					return oerr
+				}
+				defer l.Close()
+				v, err = reports.VerifyWith(cmd.Context(), l, args[0], o)
+			}
 			if err != nil {
 				return err
 			}
@@ -75,13 +115,23 @@ func (a *app) reportCmd() *cobra.Command {
 				return a.printJSON(v)
 			}
 			verdict := "REPORT DOES NOT MATCH"
-			if v.OK {
+			switch {
+			case v.OK && v.Offline:
+				verdict = "report verified offline (signature only)"
+			case v.OK:
 				verdict = "report verified"
+			case v.Signature == reports.SigUnsigned || v.Signature == reports.SigAltered || v.Signature == reports.SigOtherKey:
+				verdict = "REPORT NOT AUTHENTIC"
+			case v.Outdated:
+				verdict = "REPORT OUTDATED"
 			}
 			a.printf("%s: %s %s generated %s: %s\n", verdict, v.Kind, v.Subject, v.GeneratedAt.Format(time.RFC3339), v.Reason)
 			return nil
 		},
 	}
+	verify.Flags().StringVar(&pubFile, "key", "", "the operator's public key or certificate (PEM, from 'hulltally key export'): the report must be signed by it")
+	verify.Flags().BoolVar(&offline, "offline", false, "check the signature and the signed fingerprint only, without the ledger (needs --key)")
+	must(verify.MarkFlagFilename("key", "pem"))
 	verify.ValidArgsFunction = func(*cobra.Command, []string, string) ([]cobra.Completion, cobra.ShellCompDirective) {
 		return []cobra.Completion{"pdf"}, cobra.ShellCompDirectiveFilterFileExt
 	}
