@@ -78,7 +78,7 @@ func mustTime(s string) time.Time {
 var ledgerTables = []string{"hulls", "hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections", "audit_chain",
 	"dive_cycles", "dive_holds", "assessments", "assessment_damage",
 	"dive_profiles", "dive_evidence", "inspections", "proof_tests", "decisions", "status_history", "issued_reports",
-	"evidence_revisions", "dive_voids", "dive_fingerprints"}
+	"evidence_revisions", "dive_voids", "dive_fingerprints", "checkpoints"}
 
 func rowCounts(t *testing.T, l *ledger.Ledger) map[string]int64 {
 	t.Helper()

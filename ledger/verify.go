@@ -1186,6 +1186,8 @@ var protectedTables = [...]string{
 	"issued_reports",
 	// 005_judgement.sql
 	"evidence_revisions", "dive_voids", "dive_fingerprints",
+	// 006_checkpoints.sql
+	"checkpoints",
 }
 
 // pg_trigger.tgtype bits (PostgreSQL's catalog/pg_trigger.h): ROW 1,

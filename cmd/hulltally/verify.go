@@ -1,21 +1,51 @@
 package main
 
 import (
+	"crypto"
+	"errors"
+
 	"github.com/spf13/cobra"
+
+	"hulltally/ledger"
 )
 
 func (a *app) verifyCmd() *cobra.Command {
-	return &cobra.Command{
-		Use:     "verify",
-		Short:   "Recompute every hull's audit chain; exit 1 at the first broken link",
-		Example: "  hulltally verify\n  hulltally verify --json",
+	var cpFile, keyFile string
+	c := &cobra.Command{
+		Use:   "verify",
+		Short: "Recompute every hull's audit chain; exit 1 at the first broken link",
+		Long: "Recomputes every hull's audit chain from the stored records. With --checkpoint, also checks every signed checkpoint " +
+			"in the file (a checkpoint log, or one written by 'hulltally checkpoint -o') against --key, the operator's certificate or public key " +
+			"(PEM, from 'hulltally key export'): every checkpointed hull must still exist and its chain must still hold the checkpointed head at the " +
+			"checkpointed length. This finds a chain cut short, a hull removed, and records rewritten with every later hash recomputed, " +
+			"which the recomputation alone cannot see, as long as the rewritten records are older than the checkpoint; records appended " +
+			"after the newest checkpoint are beyond its reach.",
+		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			if (cpFile == "") != (keyFile == "") {
+				return usageError{errors.New("--checkpoint and --key go together")}
+			}
+			var cps []*ledger.Checkpoint
+			var pub crypto.PublicKey
+			if cpFile != "" {
+				k, err := readPublicKey(keyFile)
+				if err != nil {
+					return err
+				}
+				pub = k
+				if cps, err = readCheckpoints(cpFile); err != nil {
+					return err
+				}
+			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			if cps != nil {
+				return a.verifyCheckpoints(cmd, l, cps, pub)
+			}
 			res, err := l.Verify(cmd.Context())
 			if err != nil {
 				return err
@@ -26,22 +56,89 @@ func (a *app) verifyCmd() *cobra.Command {
 			if a.asJSON {
 				return a.printJSON(res)
 			}
-			if res.OK {
-				a.printf("ledger verified: %d records on %d hull chains, every link holds\n", res.Records, res.Hulls)
-				return nil
-			}
-			if b := res.FirstBroken; b != nil && b.Kind != "append_only_guard" {
-				a.printf("LEDGER BROKEN: %d records checked; first broken link: hull %s, record %d (%s %s): %s\n", res.Records, b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
-			} else {
-				a.printf("LEDGER BROKEN: %s\n", res.Problem)
-			}
-			for _, g := range res.Guards {
-				a.printf("  guard: %s\n", g.Detail)
-			}
-			if len(res.Guards) > 0 {
-				a.printf("  (hulltally db migrate restores the guards; the chain shows whether anything was changed while they were down)\n")
-			}
+			a.printChain(res)
 			return nil
 		},
 	}
+	c.Flags().StringVar(&cpFile, "checkpoint", "", "check the signed checkpoints in this file (JSON lines) as well")
+	c.Flags().StringVar(&keyFile, "key", "", "the operator's certificate or public key (PEM, from 'hulltally key export'), with --checkpoint")
+	return c
+}
+
+func (a *app) printChain(res *ledger.VerifyResult) {
+	if res.OK {
+		a.printf("ledger verified: %d records on %d hull chains, every link holds\n", res.Records, res.Hulls)
+		return
+	}
+	if b := res.FirstBroken; b != nil && b.Kind != "append_only_guard" {
+		a.printf("LEDGER BROKEN: %d records checked; first broken link: hull %s, record %d (%s %s): %s\n", res.Records, b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
+	} else {
+		a.printf("LEDGER BROKEN: %s\n", res.Problem)
+	}
+	for _, g := range res.Guards {
+		a.printf("  guard: %s\n", g.Detail)
+	}
+	if len(res.Guards) > 0 {
+		a.printf("  (hulltally db migrate restores the guards; the chain shows whether anything was changed while they were down)\n")
+	}
+}
+
+// checkpointReport is verify's JSON document with --checkpoint.
+type checkpointReport struct {
+	OK          bool                       `json:"ok"`
+	Chain       *ledger.VerifyResult       `json:"chain"`
+	Checkpoints []*ledger.CheckpointResult `json:"checkpoints"`
+}
+
+func (a *app) verifyCheckpoints(cmd *cobra.Command, l *ledger.Ledger, cps []*ledger.Checkpoint, pub crypto.PublicKey) error {
+	rs, err := l.VerifyCheckpoints(cmd.Context(), cps, pub)
+	if err != nil {
+		return err
+	}
+	rep := checkpointReport{OK: true, Checkpoints: rs}
+	for _, r := range rs {
+		if r.Chain != nil {
+			rep.Chain = r.Chain
+		}
+		if !r.OK {
+			rep.OK = false
+		}
+	}
+	if rep.Chain == nil {
+		// No checkpoint's signature held: the chains were not read.
+		rep.OK = false
+	}
+	if !rep.OK {
+		a.exit = exitFailed
+	}
+	// Results do not repeat the chain; the report holds it once.
+	for _, r := range rs {
+		r.Chain = nil
+	}
+	if a.asJSON {
+		return a.printJSON(rep)
+	}
+	if rep.Chain != nil {
+		a.printChain(rep.Chain)
+	}
+	for _, r := range rs {
+		if r.OK {
+			grown := 0
+			for _, h := range r.Hulls {
+				if h.LengthNow > h.Length {
+					grown++
+				}
+			}
+			a.printf("checkpoint %d (%s) holds: signature good, %d hull chains extend their checkpointed heads (%d grew since), %d hulls added since\n",
+				r.Seq, r.Time.Format("2006-01-02T15:04:05Z07:00"), len(r.Hulls), grown, len(r.New))
+			continue
+		}
+		a.printf("CHECKPOINT %d (%s) FAILS: %s\n", r.Seq, r.Time.Format("2006-01-02T15:04:05Z07:00"), r.Reason)
+		for _, h := range r.Hulls {
+			if h.State != ledger.CheckpointExtends {
+				a.printf("  hull %s: %s: %s\n", h.Serial, h.State, h.Reason)
+			}
+		}
+	}
+	return nil
 }
