@@ -578,3 +578,19 @@ func parsePublicKeyBytes(b []byte) crypto.PublicKey {
 	}
 	return k
 }
+
+// LatestCheckpoint names the newest checkpoint in the ledger as
+// "seq:hash" (hex), "" when there is none: what a report carries so that
+// an inspector knows which checkpoint covers it.
+func (l *Ledger) LatestCheckpoint(ctx context.Context) (string, error) {
+	var id int64
+	var h []byte
+	err := l.db.QueryRow(ctx, "SELECT id, hash FROM checkpoints ORDER BY id DESC LIMIT 1").Scan(&id, &h)
+	if errors.Is(err, pgx.ErrNoRows) {
+		return "", nil
+	}
+	if err != nil {
+		return "", fmt.Errorf("latest checkpoint: %w", err)
+	}
+	return fmt.Sprintf("%d:%s", id, hex.EncodeToString(h)), nil
+}

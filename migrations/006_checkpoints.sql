@@ -1,5 +1,7 @@
 -- Signed checkpoints: a statement of every hull's chain head and length,
--- with a Merkle root over the hulls, signed by the operator's Ed25519 key.
+-- with a Merkle root over the hulls, signed by the operator's key (the
+-- report-signing ECDSA P-256 key, public key as PKIX DER, signature ASN.1;
+-- or an Ed25519 key, 32-byte public key, 64-byte signature).
 -- A copy kept outside the database (the checkpoint log file) lets a later
 -- `verify --checkpoint` find a chain that was truncated, removed, or
 -- rewritten with its hashes recomputed before the checkpoint.
@@ -14,8 +16,8 @@ CREATE TABLE checkpoints (
     root        bytea NOT NULL CHECK (length(root) = 32),
     prev_hash   bytea NOT NULL CHECK (length(prev_hash) = 32),
     hash        bytea NOT NULL UNIQUE CHECK (length(hash) = 32),
-    signature   bytea NOT NULL CHECK (length(signature) = 64),
-    public_key  bytea NOT NULL CHECK (length(public_key) = 32),
+    signature   bytea NOT NULL CHECK (length(signature) BETWEEN 64 AND 80),
+    public_key  bytea NOT NULL CHECK (length(public_key) BETWEEN 32 AND 128),
     recorded_at timestamptz NOT NULL
 );
 

@@ -1,7 +1,10 @@
 package main
 
 import (
+	"encoding/json"
+	"errors"
 	"fmt"
+	"hulltally/reports/sign"
 	"os"
 	"path/filepath"
 	"time"
@@ -80,8 +83,31 @@ func (a *app) demoReports(cmd *cobra.Command, l *ledger.Ledger) ([]*reports.Writ
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return nil, err
 	}
+	// The invented operator's report-signing key (made once, in the
+	// demo's home), a checkpoint of every chain, and signed reports that
+	// carry it.
+	signer, err := a.demoSigner()
+	if err != nil {
+		return nil, err
+	}
+	ck, err := l.Checkpoint(cmd.Context(), signer.Key)
+	if err != nil {
+		return nil, err
+	}
+	line, err := json.Marshal(ck)
+	if err != nil {
+		return nil, err
+	}
+	if err := appendLine(filepath.Join(a.cfg.Home, checkpointLogName), append(line, '\n')); err != nil {
+		return nil, fmt.Errorf("demo: checkpoint %d recorded but not logged: %w", ck.Seq, err)
+	}
+	cp, err := l.LatestCheckpoint(cmd.Context())
+	if err != nil {
+		return nil, err
+	}
+	opt := reports.WriteOptions{Signer: signer, Checkpoint: cp}
 	now := time.Now()
-	w, err := reports.Write(cmd.Context(), l, reports.KindFleet, "fleet", filepath.Join(dir, "fleet-summary.pdf"), now)
+	w, err := reports.WriteWith(cmd.Context(), l, reports.KindFleet, "fleet", filepath.Join(dir, "fleet-summary.pdf"), now, opt)
 	if err != nil {
 		return nil, err
 	}
@@ -91,7 +117,7 @@ func (a *app) demoReports(cmd *cobra.Command, l *ledger.Ledger) ([]*reports.Writ
 		return nil, err
 	}
 	for _, h := range hs {
-		w, err := reports.Write(cmd.Context(), l, reports.KindHull, h.Serial, filepath.Join(dir, h.Serial+".pdf"), now)
+		w, err := reports.WriteWith(cmd.Context(), l, reports.KindHull, h.Serial, filepath.Join(dir, h.Serial+".pdf"), now, opt)
 		if err != nil {
 			return nil, err
 		}
@@ -126,11 +152,27 @@ func (a *app) demoReports(cmd *cobra.Command, l *ledger.Ledger) ([]*reports.Writ
 			continue
 		}
 		name := fmt.Sprintf("%s-dive-%.8s.pdf", h.Serial, dive)
-		w, err := reports.Write(cmd.Context(), l, reports.KindDive, dive, filepath.Join(dir, name), now)
+		w, err := reports.WriteWith(cmd.Context(), l, reports.KindDive, dive, filepath.Join(dir, name), now, opt)
 		if err != nil {
 			return nil, err
 		}
 		out = append(out, w)
 	}
 	return out, nil
+}
+
+// demoSigner is the demo operator's report-signing key: the one in the
+// home when there is one, else made now for the invented cooperative.
+func (a *app) demoSigner() (*sign.Signer, error) {
+	s, err := sign.LoadFile(a.keyPath(""))
+	if err == nil {
+		return s, nil
+	}
+	if !errors.Is(err, sign.ErrNoKey) {
+		return nil, err
+	}
+	if err := sign.Init(filepath.Dir(a.keyPath("")), "Corrigan Shelf Survey Cooperative (invented)", sign.DefaultYears); err != nil {
+		return nil, fmt.Errorf("demo: making the demo operator's signing key: %w", err)
+	}
+	return sign.LoadFile(a.keyPath(""))
 }

@@ -43,7 +43,11 @@ func (a *app) reportCmd() *cobra.Command {
 					return err
 				}
 				defer l.Close()
-				w, err := reports.WriteWith(cmd.Context(), l, kind, subject, out, time.Now(), reports.WriteOptions{Signer: signer})
+				cp, err := l.LatestCheckpoint(cmd.Context())
+				if err != nil {
+					return err
+				}
+				w, err := reports.WriteWith(cmd.Context(), l, kind, subject, out, time.Now(), reports.WriteOptions{Signer: signer, Checkpoint: cp})
 				if err != nil {
 					return err
 				}
