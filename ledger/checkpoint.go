@@ -35,8 +35,16 @@ import (
 // checkpoint is beyond it: only a later checkpoint, or the report
 // fingerprints, can show it.
 
-// CheckpointVersion is the first line of every checkpoint statement.
-const CheckpointVersion = "hulltally checkpoint v1"
+// CheckpointVersion is the first line of every checkpoint statement
+// made now. A v2 statement adds, after the hull lines, the register of
+// issued reports: "register <length> <head hex>" and "legacy <count>
+// <digest hex>" (the legacy seal, see migration 007).
+const CheckpointVersion = "hulltally checkpoint v2"
+
+// CheckpointVersionV1 is the first line of a checkpoint statement made
+// before the register was chained: it covers the hulls' chains only, and
+// still verifies.
+const CheckpointVersionV1 = "hulltally checkpoint v1"
 
 // lockCheckpoint is the pg_advisory_xact_lock class that keeps the
 // checkpoints table's own chain linear (key 0).
@@ -75,6 +83,9 @@ type Checkpoint struct {
 	Root string `json:"root"`
 	// Hulls are the hulls' entries, sorted by hull id.
 	Hulls []CheckpointHull `json:"hulls"`
+	// Register is the register of issued reports as checkpointed; nil in
+	// a v1 checkpoint (which does not cover the register).
+	Register *CheckpointRegister `json:"register,omitempty"`
 	// Statement is the signed text.
 	Statement string `json:"statement"`
 	// Signature is the standard base64 Ed25519 signature of Statement.
@@ -83,6 +94,20 @@ type Checkpoint struct {
 	PublicKey string `json:"public_key"`
 	// Hash is the hex SHA-256 of Statement: the next checkpoint's Prev.
 	Hash string `json:"hash"`
+}
+
+// CheckpointRegister is the register of issued reports in a checkpoint.
+type CheckpointRegister struct {
+	// Length is the number of chained entries (the seq of the newest).
+	Length int64 `json:"length"`
+	// Head is the hex hash of the newest chained entry (64 zeros when
+	// none).
+	Head string `json:"head"`
+	// LegacyCount and LegacyDigest are the legacy seal: the number of
+	// entries issued before the register was chained, and the hex digest
+	// over them.
+	LegacyCount  int64  `json:"legacy_count"`
+	LegacyDigest string `json:"legacy_digest"`
 }
 
 // checkpointLeaf is the canonical bytes of one hull's entry: a Merkle
@@ -122,7 +147,11 @@ func checkpointRoot(hulls []CheckpointHull) (merkle.Hash, error) {
 // in a newline. Serials hold no spaces (the hulls table's check).
 func (cp *Checkpoint) statement() string {
 	var b strings.Builder
-	b.WriteString(CheckpointVersion + "\n")
+	if cp.Register == nil {
+		b.WriteString(CheckpointVersionV1 + "\n")
+	} else {
+		b.WriteString(CheckpointVersion + "\n")
+	}
 	fmt.Fprintf(&b, "seq %d\n", cp.Seq)
 	fmt.Fprintf(&b, "time %s\n", cp.Time.UTC().Format("2006-01-02T15:04:05.000000Z"))
 	fmt.Fprintf(&b, "prev %s\n", cp.Prev)
@@ -130,6 +159,10 @@ func (cp *Checkpoint) statement() string {
 	fmt.Fprintf(&b, "hulls %d\n", len(cp.Hulls))
 	for _, h := range cp.Hulls {
 		fmt.Fprintf(&b, "hull %s %s %d %s\n", h.Hull, h.Serial, h.Length, h.Head)
+	}
+	if r := cp.Register; r != nil {
+		fmt.Fprintf(&b, "register %d %s\n", r.Length, r.Head)
+		fmt.Fprintf(&b, "legacy %d %s\n", r.LegacyCount, r.LegacyDigest)
 	}
 	return b.String()
 }
@@ -156,6 +189,11 @@ func (cp *Checkpoint) checkStatement(pub crypto.PublicKey) string {
 	if err != nil {
 		return "the checkpoint's hull list is malformed: " + err.Error()
 	}
+	if r := cp.Register; r != nil {
+		if !isHexHash(r.Head) || !isHexHash(r.LegacyDigest) || r.Length < 0 || r.LegacyCount < 0 {
+			return "the checkpoint's register entry is malformed"
+		}
+	}
 	if hex.EncodeToString(root[:]) != cp.Root {
 		return "the checkpoint's Merkle root is not that of its hulls"
 	}
@@ -167,6 +205,12 @@ func (cp *Checkpoint) checkStatement(pub crypto.PublicKey) string {
 		return "the checkpoint's hash is not the SHA-256 of its statement"
 	}
 	return ""
+}
+
+// isHexHash: s is a lower-case hex SHA-256.
+func isHexHash(s string) bool {
+	b, err := hex.DecodeString(s)
+	return err == nil && len(b) == sha256.Size && hex.EncodeToString(b) == s
 }
 
 // readHeads reads every hull's chain head and length in one statement
@@ -213,6 +257,7 @@ func (l *Ledger) Checkpoint(ctx context.Context, key crypto.Signer) (*Checkpoint
 	}
 	at := now()
 	var heads []CheckpointHull
+	var reg *CheckpointRegister
 	err = l.Snapshot(ctx, func(s *Ledger) error {
 		res, err := s.Verify(ctx)
 		if err != nil {
@@ -222,6 +267,14 @@ func (l *Ledger) Checkpoint(ctx context.Context, key crypto.Signer) (*Checkpoint
 			b := res.FirstBroken
 			return fmt.Errorf("checkpoint refused: %w (hull %s, record %d, %s %s: %s); a checkpoint would vouch for it", ErrChainBroken, b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
 		}
+		st, err := walkRegister(ctx, s.db)
+		if err != nil {
+			return err
+		}
+		if !st.ok {
+			return fmt.Errorf("checkpoint refused: %w: %s; a checkpoint would vouch for it", ErrRegisterBroken, st.why)
+		}
+		reg = &CheckpointRegister{Length: st.length, Head: st.head, LegacyCount: st.seal.Count, LegacyDigest: st.seal.Digest}
 		heads, err = readHeads(ctx, s.db)
 		return err
 	})
@@ -232,7 +285,7 @@ func (l *Ledger) Checkpoint(ctx context.Context, key crypto.Signer) (*Checkpoint
 	if err != nil {
 		return nil, fmt.Errorf("checkpoint: %w", err)
 	}
-	cp := &Checkpoint{Time: at, Root: hex.EncodeToString(root[:]), Hulls: heads, PublicKey: base64.StdEncoding.EncodeToString(pubBytes)}
+	cp := &Checkpoint{Time: at, Root: hex.EncodeToString(root[:]), Hulls: heads, Register: reg, PublicKey: base64.StdEncoding.EncodeToString(pubBytes)}
 	if cp.Hulls == nil {
 		cp.Hulls = []CheckpointHull{}
 	}
@@ -321,6 +374,24 @@ type CheckpointResult struct {
 	// Recorded: the ledger's checkpoints table holds this checkpoint
 	// (same seq, same hash) and the table's own chain holds.
 	Recorded bool `json:"recorded"`
+	// Register is what became of the register of issued reports; nil for
+	// a v1 checkpoint, which does not cover it.
+	Register *CheckpointRegisterResult `json:"register,omitempty"`
+}
+
+// CheckpointRegisterResult is what became of the checkpointed register of
+// issued reports.
+type CheckpointRegisterResult struct {
+	// Length, Head and the legacy seal are the checkpoint's.
+	CheckpointRegister
+	// LengthNow is the register's chained length now.
+	LengthNow int64 `json:"length_now"`
+	// State is CheckpointExtends, CheckpointTruncated or
+	// CheckpointRewritten (also for a changed legacy seal, or a register
+	// that no longer verifies).
+	State string `json:"state"`
+	// Reason says what differs, for any state but extends.
+	Reason string `json:"reason,omitempty"`
 }
 
 // VerifyCheckpoint checks cp against the ledger: the signature by pub
@@ -375,6 +446,10 @@ func (l *Ledger) VerifyCheckpoints(ctx context.Context, cps []*Checkpoint, pub c
 		if err != nil {
 			return err
 		}
+		reg, err := walkRegister(ctx, s.db)
+		if err != nil {
+			return err
+		}
 		for i, cp := range cps {
 			if !out[i].SignatureOK {
 				continue
@@ -383,6 +458,13 @@ func (l *Ledger) VerifyCheckpoints(ctx context.Context, cps []*Checkpoint, pub c
 				return err
 			}
 			r := out[i]
+			if cp.Register != nil {
+				r.Register = checkRegister(cp.Register, reg)
+				if r.Register.State != CheckpointExtends && r.OK {
+					r.OK = false
+					r.Reason = r.Register.Reason
+				}
+			}
 			r.Recorded = tableWhy == "" && table[cp.Seq] == cp.Hash
 			if !r.Recorded && r.OK {
 				r.OK = false
@@ -474,6 +556,32 @@ func checkAgainst(ctx context.Context, q querier, cp *Checkpoint, r *CheckpointR
 		r.Reason = fmt.Sprintf("the ledger does not verify: hull %s, record %d (%s %s): %s", b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
 	}
 	return nil
+}
+
+// checkRegister compares the checkpointed register with the register as
+// walkRegister found it now.
+func checkRegister(want *CheckpointRegister, now *registerState) *CheckpointRegisterResult {
+	r := &CheckpointRegisterResult{CheckpointRegister: *want, LengthNow: now.length, State: CheckpointExtends}
+	switch {
+	case now.seal.Count != want.LegacyCount || now.seal.Digest != want.LegacyDigest:
+		r.State = CheckpointRewritten
+		r.Reason = fmt.Sprintf("the register's legacy seal is now %d entries, digest %s; the checkpoint says %d, %s: the legacy entries or their seal were rewritten", now.seal.Count, now.seal.Digest, want.LegacyCount, want.LegacyDigest)
+	case !now.ok && now.length < want.Length:
+		// The walk stopped at the first fault, before the checkpointed
+		// entry: whatever follows cannot be vouched for.
+		r.State = CheckpointRewritten
+		r.Reason = fmt.Sprintf("the register of issued reports does not verify before its checkpointed entry %d: %s", want.Length, now.why)
+	case want.Length > 0 && now.length < want.Length:
+		r.State = CheckpointTruncated
+		r.Reason = fmt.Sprintf("the register of issued reports holds %d chained entries; the checkpoint says %d: entries were removed", now.length, want.Length)
+	case want.Length > 0 && now.hashes[want.Length] != want.Head:
+		r.State = CheckpointRewritten
+		r.Reason = fmt.Sprintf("the register's entry %d has hash %s; the checkpoint says %s: entries up to it were rewritten", want.Length, now.hashes[want.Length], want.Head)
+	case !now.ok:
+		r.State = CheckpointRewritten
+		r.Reason = "the register of issued reports does not verify after the checkpointed entry: " + now.why
+	}
+	return r
 }
 
 // checkpointTable walks the ledger's checkpoints table: ids from 1 without
