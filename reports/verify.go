@@ -272,6 +272,12 @@ func VerifyWith(ctx context.Context, l *ledger.Ledger, path string, o VerifyOpti
 	}
 	sum := sha256.Sum256(b)
 	issued, err := l.IssuedReportOf(ctx, sum[:])
+	if errors.Is(err, ledger.ErrRegisterBroken) {
+		// The register itself does not verify: no entry in it can vouch
+		// for the file.
+		v.Reason = err.Error()
+		return v, nil
+	}
 	if err != nil {
 		return nil, err
 	}
@@ -304,6 +310,9 @@ func VerifyWith(ctx context.Context, l *ledger.Ledger, path string, o VerifyOpti
 	v.OK, v.Reason = true, "the report is as issued and matches the ledger"
 	if signed != "" {
 		v.Reason = "the report is " + signed + "as issued, and matches the ledger"
+	}
+	if !issued.Chained && issued.Note != "" {
+		v.Reason += "; note: " + issued.Note
 	}
 	return v, nil
 }

@@ -131,9 +131,15 @@ func (a *app) verifyCheckpoints(cmd *cobra.Command, l *ledger.Ledger, cps []*led
 			}
 			a.printf("checkpoint %d (%s) holds: signature good, %d hull chains extend their checkpointed heads (%d grew since), %d hulls added since\n",
 				r.Seq, r.Time.Format("2006-01-02T15:04:05Z07:00"), len(r.Hulls), grown, len(r.New))
+			if r.Register != nil {
+				a.printf("  register of issued reports: %s (%d entries at the checkpoint, %d now)\n", r.Register.State, r.Register.Length, r.Register.LengthNow)
+			}
 			continue
 		}
 		a.printf("CHECKPOINT %d (%s) FAILS: %s\n", r.Seq, r.Time.Format("2006-01-02T15:04:05Z07:00"), r.Reason)
+		if r.Register != nil && r.Register.State != ledger.CheckpointExtends {
+			a.printf("  register of issued reports: %s: %s\n", r.Register.State, r.Register.Reason)
+		}
 		for _, h := range r.Hulls {
 			if h.State != ledger.CheckpointExtends {
 				a.printf("  hull %s: %s: %s\n", h.Serial, h.State, h.Reason)
