@@ -273,3 +273,21 @@ func TestBundleNotABundle(t *testing.T) {
 		}
 	}
 }
+
+// FuzzVerifyBundle: any input is a result or an error, never a panic,
+// and never OK under a key that signed nothing.
+func FuzzVerifyBundle(f *testing.F) {
+	f.Add([]byte(`{"type":"header","format":"hulltally-bundle","version":1}` + "\n" + `{"type":"link","seq":1,"kind":"hull","canon":"cwRodWxs"}` + "\n"))
+	f.Add([]byte(`{"type":"signature"}` + "\n" + `{"type":"checkpoint"}` + "\n"))
+	f.Add([]byte(`{"type":"header"}` + "\n" + `{"type":"checkpoint","checkpoint":{"statement":"x"}}` + "\n"))
+	key, err := ecdsa.GenerateKey(elliptic.P256(), rand.Reader)
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Fuzz(func(t *testing.T, b []byte) {
+		r, err := ledger.VerifyBundle(bytes.NewReader(b), &key.PublicKey)
+		if err == nil && r.OK {
+			t.Fatalf("a bundle nobody signed verified: %q", b)
+		}
+	})
+}
