@@ -10,7 +10,7 @@ import (
 )
 
 func (a *app) verifyCmd() *cobra.Command {
-	var cpFile, keyFile string
+	var cpFile, keyFile, bundleFile string
 	c := &cobra.Command{
 		Use:   "verify",
 		Short: "Recompute every hull's audit chain; exit 1 at the first broken link",
@@ -19,10 +19,17 @@ func (a *app) verifyCmd() *cobra.Command {
 			"(PEM, from 'hulltally key export'): every checkpointed hull must still exist and its chain must still hold the checkpointed head at the " +
 			"checkpointed length. This finds a chain cut short, a hull removed, and records rewritten with every later hash recomputed, " +
 			"which the recomputation alone cannot see, as long as the rewritten records are older than the checkpoint; records appended " +
-			"after the newest checkpoint are beyond its reach.",
-		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem",
+			"after the newest checkpoint are beyond its reach. With --bundle FILE --key CERT.pem, checks one hull's bundle (from " +
+			"'hulltally export') instead, without opening any database: its signature, its chain, every reading block's data and its checkpoint.",
+		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem\n  hulltally verify --bundle ex-c4000-01.bundle --key operator.pem",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			if bundleFile != "" {
+				if cpFile != "" || keyFile == "" {
+					return usageError{errors.New("--bundle takes --key (the operator's certificate) and not --checkpoint")}
+				}
+				return a.verifyBundle(bundleFile, keyFile)
+			}
 			if (cpFile == "") != (keyFile == "") {
 				return usageError{errors.New("--checkpoint and --key go together")}
 			}
@@ -61,7 +68,8 @@ func (a *app) verifyCmd() *cobra.Command {
 		},
 	}
 	c.Flags().StringVar(&cpFile, "checkpoint", "", "check the signed checkpoints in this file (JSON lines) as well")
-	c.Flags().StringVar(&keyFile, "key", "", "the operator's certificate or public key (PEM, from 'hulltally key export'), with --checkpoint")
+	c.Flags().StringVar(&keyFile, "key", "", "the operator's certificate or public key (PEM, from 'hulltally key export'), with --checkpoint or --bundle")
+	c.Flags().StringVar(&bundleFile, "bundle", "", "check this hull bundle (from 'hulltally export') against --key instead, without opening the database")
 	return c
 }
 
