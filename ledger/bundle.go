@@ -380,8 +380,13 @@ func latestCheckpointBy(ctx context.Context, q querier, pub []byte) (*Checkpoint
 // parseStatement reads a checkpoint statement back into its fields.
 func parseStatement(stmt string) (*Checkpoint, error) {
 	lines := strings.Split(stmt, "\n")
-	if len(lines) < 7 || lines[0] != CheckpointVersion || lines[len(lines)-1] != "" {
+	if len(lines) < 7 || (lines[0] != CheckpointVersion && lines[0] != CheckpointVersionV1) || lines[len(lines)-1] != "" {
 		return nil, errors.New("not a checkpoint statement")
+	}
+	// A v2 statement ends with the register's and the legacy seal's lines.
+	tail := 0
+	if lines[0] == CheckpointVersion {
+		tail = 2
 	}
 	cp := &Checkpoint{Statement: stmt, Hulls: []CheckpointHull{}}
 	field := func(i int, name string) (string, error) {
@@ -415,7 +420,7 @@ func parseStatement(stmt string) (*Checkpoint, error) {
 		return nil, err
 	}
 	n, err := strconv.Atoi(v)
-	if err != nil || n < 0 || n != len(lines)-7 {
+	if err != nil || n < 0 || n != len(lines)-7-tail {
 		return nil, errors.New("statement hull count does not match its hull lines")
 	}
 	for i := 6; i < 6+n; i++ {
@@ -432,6 +437,21 @@ func parseStatement(stmt string) (*Checkpoint, error) {
 			return nil, fmt.Errorf("statement line %d: %w", i+1, err)
 		}
 		cp.Hulls = append(cp.Hulls, ch)
+	}
+	if tail == 2 {
+		reg := strings.Split(lines[6+n], " ")
+		leg := strings.Split(lines[7+n], " ")
+		if len(reg) != 3 || reg[0] != "register" || len(leg) != 3 || leg[0] != "legacy" {
+			return nil, errors.New("statement register lines malformed")
+		}
+		r := &CheckpointRegister{Head: reg[2], LegacyDigest: leg[2]}
+		if r.Length, err = strconv.ParseInt(reg[1], 10, 64); err != nil {
+			return nil, fmt.Errorf("statement register length: %w", err)
+		}
+		if r.LegacyCount, err = strconv.ParseInt(leg[1], 10, 64); err != nil {
+			return nil, fmt.Errorf("statement legacy count: %w", err)
+		}
+		cp.Register = r
 	}
 	return cp, nil
 }
