@@ -5,7 +5,8 @@ package ledger
 // VerifyBundle checks it; `hulltally export` and `hulltally verify
 // --bundle`).
 //
-// Format "hulltally-bundle", version 1. The file is JSON lines: UTF-8, one
+// Format "hulltally-bundle", version 2 (version 1, without the hit rows
+// on ae_hits links, is still read). The file is JSON lines: UTF-8, one
 // JSON object a line, each line ending in "\n"; the whole file may be
 // gzip-compressed (recognised by its magic bytes; everything below is of
 // the uncompressed bytes). Every object has a "type"; unknown fields are
@@ -33,7 +34,10 @@ package ledger
 //     them from the stored rows (DEVELOPERS.md, "The audit chain"), so
 //     that hash = SHA-256(prev ‖ canon). A reading_block link also
 //     carries data, the block's encoded readings, whose SHA-256 is the
-//     last field of its canonical bytes.
+//     last field of its canonical bytes. An ae_hits link (version 2)
+//     carries data too: the canonical bytes of every hit of the dive in
+//     seq order (seq from 0), concatenated, exactly the bytes whose
+//     SHA-256 and count its canonical bytes hold.
 //  4. signature (exactly one, last; nothing may follow it):
 //     {"type":"signature","algorithm":"ecdsa-p256-sha256"|"ed25519-sha256",
 //     "content_sha256":HEX,"public_key":BASE64,"signature":BASE64}
@@ -58,8 +62,16 @@ package ledger
 // checkpointed head at the checkpointed length for this hull. What a
 // bundle cannot show: records appended after its checkpoint are vouched
 // for only by the bundle's own signature (the operator's word at export
-// time), as in the ledger; and the acoustic-emission hits are in the
-// bundle only as the digest inside their record's canonical bytes.
+// time), as in the ledger.
+//
+// Version 2 adds: every ae_hits link's hit rows are decoded and checked
+// against the count and SHA-256 in its canonical bytes; and the damage of
+// every assessed dive is computed again from the bundle alone (its
+// dive_cycles "pressure" series and dive_holds, the spec of the
+// assessment's hull revision, the assessment's configuration and the
+// shipped curve library) and compared with the figures of the dive's
+// newest assessment (bundle_damage.go). A figure that disagrees refuses
+// the bundle.
 
 import (
 	"bufio"
@@ -86,6 +98,8 @@ import (
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
+
+	"hulltally/ledger/logfile"
 )
 
 // BundleFormat is the header's format name of a bundle.
@@ -93,7 +107,11 @@ const BundleFormat = "hulltally-bundle"
 
 // BundleVersion is the bundle format version ExportBundle writes and the
 // only one VerifyBundle reads.
-const BundleVersion = 1
+const BundleVersion = 2
+
+// bundleVersionNoHits is the earlier version VerifyBundle still reads:
+// its ae_hits links carry no hit rows.
+const bundleVersionNoHits = 1
 
 // Bundle signature algorithms (the trailer's "algorithm").
 const (
@@ -140,7 +158,8 @@ type BundleLink struct {
 	Hash string `json:"hash"`
 	// Canon is the record's canonical bytes (base64 in JSON).
 	Canon []byte `json:"canon"`
-	// Data is a reading block's encoded readings (reading_block only).
+	// Data is a reading block's encoded readings (reading_block), or the
+	// concatenated canonical bytes of a dive's hits (ae_hits).
 	Data []byte `json:"data,omitempty"`
 }
 
@@ -160,10 +179,13 @@ type BundleSummary struct {
 	Serial string    `json:"serial"`
 	// Records is the number of chain links; Blocks of them reading blocks
 	// (with their data); DataBytes the blocks' data in bytes.
-	Records   int64  `json:"records"`
-	Blocks    int64  `json:"blocks"`
-	DataBytes int64  `json:"data_bytes"`
-	Head      string `json:"head"`
+	Records   int64 `json:"records"`
+	Blocks    int64 `json:"blocks"`
+	DataBytes int64 `json:"data_bytes"`
+	// HitRows is the number of acoustic-emission hits written with their
+	// ae_hits links.
+	HitRows int64  `json:"hit_rows"`
+	Head    string `json:"head"`
 	// Checkpoint is the seq of the included checkpoint, 0 when none.
 	Checkpoint int64 `json:"checkpoint"`
 	// ContentSHA256 is the signed digest.
@@ -259,9 +281,14 @@ func (l *Ledger) ExportBundle(ctx context.Context, serial string, w io.Writer, k
 			k := &links[i]
 			bl := BundleLink{Type: "link", Seq: k.seq, Kind: k.kind, Key: k.key, Prev: hex.EncodeToString(k.prev), Hash: hex.EncodeToString(k.hash)}
 			var why string
-			if k.kind == "reading_block" {
+			switch k.kind {
+			case "reading_block":
 				bl.Canon, bl.Data, why, err = blockWithData(ctx, q, k.key)
-			} else {
+			case "ae_hits":
+				var n int64
+				bl.Canon, bl.Data, n, why, err = hitsWithData(ctx, q, k.key)
+				sum.HitRows += n
+			default:
 				bl.Canon, _, why, err = recordCanon(ctx, q, k.kind, k.key)
 			}
 			if err != nil {
@@ -272,7 +299,7 @@ func (l *Ledger) ExportBundle(ctx context.Context, serial string, w io.Writer, k
 				// unless the two reads disagree. Refuse rather than sign.
 				return fmt.Errorf("export refused: %w (hull %s, record %d, %s %s: %s)", ErrChainBroken, serial, k.seq, k.kind, k.key, orStr(why, "record content does not match its hash"))
 			}
-			if bl.Data != nil {
+			if bl.Data != nil && k.kind == "reading_block" {
 				sum.Blocks++
 				sum.DataBytes += int64(len(bl.Data))
 			}
@@ -353,6 +380,42 @@ func blockWithData(ctx context.Context, q querier, key string) ([]byte, []byte, 
 		data = []byte{}
 	}
 	return blockCanon(id, hullID, int32(no), first, n, t0, t1, actual[:]), data, "", nil
+}
+
+// hitsWithData is recordCanon's ae_hits case, keeping the hits' canonical
+// bytes (concatenated in seq order) and their number.
+func hitsWithData(ctx context.Context, q querier, key string) ([]byte, []byte, int64, string, error) {
+	id, err := uuid.Parse(key)
+	if err != nil {
+		return nil, nil, 0, "bad record key", nil
+	}
+	rows, err := q.Query(ctx, "SELECT seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 ORDER BY seq", id)
+	if err != nil {
+		return nil, nil, 0, "", err
+	}
+	defer rows.Close()
+	data := []byte{}
+	var n int32
+	for rows.Next() {
+		var seq, ch int32
+		var h logfile.Hit
+		var ev string
+		if err := rows.Scan(&seq, &h.TimeNS, &ch, &h.AmplitudeDB, &h.Energy, &h.Counts, &h.DurationUS, &h.RiseUS, &ev); err != nil {
+			return nil, nil, 0, "", err
+		}
+		e, ok := logfile.ParseEvent(ev)
+		if !ok {
+			return nil, nil, 0, fmt.Sprintf("hit %d has an unknown event %q", seq, ev), nil
+		}
+		h.Channel, h.Event = int(ch), e
+		data = hitBytes(data, seq, &h)
+		n++
+	}
+	if err := rows.Err(); err != nil {
+		return nil, nil, 0, "", err
+	}
+	sum := sha256.Sum256(data)
+	return hitsCanon(id, n, sum[:]), data, int64(n), "", nil
 }
 
 // latestCheckpointBy is the newest checkpoint of the checkpoints table
@@ -525,6 +588,16 @@ type BundleResult struct {
 	Serial  string `json:"serial"`
 	Records int64  `json:"records"`
 	Blocks  int64  `json:"blocks"`
+	// HitRows is the number of acoustic-emission hits re-checked against
+	// their records' count and SHA-256; HitsUnchecked the ae_hits records
+	// of a version 1 bundle, which carries no hit rows (their hits are
+	// vouched for by the digest alone).
+	HitRows       int64 `json:"hit_rows"`
+	HitsUnchecked int64 `json:"hits_unchecked"`
+	// Damage is the damage re-computed from the bundle's own cycles and
+	// compared with its assessments (nil when the chain did not verify,
+	// so that nothing was re-computed).
+	Damage *BundleDamageResult `json:"damage"`
 	// Kinds counts the records by kind.
 	Kinds map[string]int64 `json:"kinds"`
 	Head  string           `json:"head"`
@@ -563,7 +636,7 @@ func VerifyBundle(r io.Reader, pub crypto.PublicKey) (*BundleResult, error) {
 		defer zr.Close()
 		br = bufio.NewReaderSize(zr, 1<<16)
 	}
-	v := &bundleVerifier{res: &BundleResult{Kinds: map[string]int64{}}, pub: pub, digest: sha256.New(), prev: make([]byte, sha256.Size)}
+	v := &bundleVerifier{res: &BundleResult{Kinds: map[string]int64{}}, pub: pub, digest: sha256.New(), prev: make([]byte, sha256.Size), dmg: newDamageCollector()}
 	if err := v.run(br); err != nil {
 		return nil, err
 	}
@@ -582,6 +655,7 @@ type bundleVerifier struct {
 	n      int64
 	sig    *BundleSignature
 	spec   bool // the spec was found in its revision record
+	dmg    *damageCollector
 }
 
 // fail records the first content failure.
@@ -693,8 +767,8 @@ func (v *bundleVerifier) header(b []byte, lineNo int) {
 	v.res.Hull, v.res.Serial, v.res.CreatedAt = h.Hull.String(), h.Serial, h.CreatedAt
 	if h.Format != BundleFormat {
 		v.fail(0, "", "", "the header names format %q, not %q", h.Format, BundleFormat)
-	} else if h.Version != BundleVersion {
-		v.fail(0, "", "", "bundle version %d is not one this hulltally reads (version %d)", h.Version, BundleVersion)
+	} else if h.Version != BundleVersion && h.Version != bundleVersionNoHits {
+		v.fail(0, "", "", "bundle version %d is not one this hulltally reads (versions %d and %d)", h.Version, bundleVersionNoHits, BundleVersion)
 	}
 }
 
@@ -768,8 +842,9 @@ func (v *bundleVerifier) link(b []byte, lineNo int) {
 		brk("the canonical bytes are of another kind than the link's")
 		return
 	}
-	if (k.Data != nil) != (k.Kind == "reading_block") {
-		brk("block data on a record that is not a reading block, or a reading block without its data")
+	withData := k.Kind == "reading_block" || (k.Kind == "ae_hits" && v.hdr.Version >= BundleVersion)
+	if (k.Data != nil) != withData {
+		brk("data on a record that carries none, or a reading block or acoustic-emission hits record without its data")
 		return
 	}
 	switch k.Kind {
@@ -790,6 +865,21 @@ func (v *bundleVerifier) link(b []byte, lineNo int) {
 			return
 		}
 		v.res.Blocks++
+	case "ae_hits":
+		if len(fields) != 4 || fields[1].tag != 'u' || k.Key != fields[1].u.String() || fields[2].tag != 'i' || fields[3].tag != 'b' {
+			brk("the acoustic-emission hits record's canonical bytes do not name its key's dive")
+			return
+		}
+		if k.Data == nil {
+			v.res.HitsUnchecked++
+			break
+		}
+		n, why := checkHitRows(k.Data, fields[2].i, []byte(fields[3].s))
+		if why != "" {
+			brk("%s", why)
+			return
+		}
+		v.res.HitRows += n
 	case "hull_revision":
 		if len(fields) > 13 && fields[1].u == v.hdr.Hull && fields[2].i == int64(v.hdr.Revision) && fields[13].tag == 's' {
 			if fields[13].s != v.hdr.SpecJSON {
@@ -805,6 +895,10 @@ func (v *bundleVerifier) link(b []byte, lineNo int) {
 	}
 	if v.cp != nil && want == v.cpLen && hex.EncodeToString(hsh) != v.cpHead {
 		brk("record %d has hash %x; checkpoint %d says %s: records up to it were rewritten", want, hsh, v.cp.Seq, v.cpHead)
+		return
+	}
+	if why := v.dmg.add(want, k.Kind, fields); why != "" {
+		brk("%s", why)
 		return
 	}
 	v.n++
@@ -829,6 +923,12 @@ func (v *bundleVerifier) finish() {
 			v.fail(v.n+1, "", "", "the chain holds %d records; checkpoint %d says the hull's chain had %d (records were removed)", v.n, v.cp.Seq, v.cpLen)
 		case !v.spec:
 			v.fail(0, "hull_revision", "", "no hull revision %d record in the chain carries the header's spec", h.Revision)
+		default:
+			d := v.dmg.result()
+			res.Damage = d
+			if x := d.FirstDisagreement; x != nil {
+				v.fail(x.Seq, "assessment", x.Assessment, "%s", x.String())
+			}
 		}
 	}
 	if res.Head == "" {

@@ -9,9 +9,12 @@ import (
 	"crypto/rand"
 	"crypto/sha256"
 	"crypto/x509"
+	"encoding/binary"
 	"encoding/hex"
 	"encoding/json"
 	"errors"
+	"fmt"
+	"math"
 	"strings"
 	"testing"
 
@@ -290,4 +293,164 @@ func FuzzVerifyBundle(f *testing.F) {
 			t.Fatalf("a bundle nobody signed verified: %q", b)
 		}
 	})
+}
+
+// rechain recomputes every link's prev and hash and the header's head,
+// as a forger holding the key would after editing a record.
+func rechain(t *testing.T, ls []string) []string {
+	t.Helper()
+	out := append([]string(nil), ls...)
+	prev := make([]byte, sha256.Size)
+	for i, s := range out {
+		var k ledger.BundleLink
+		if json.Unmarshal([]byte(s), &k) != nil || k.Type != "link" {
+			continue
+		}
+		h := sha256.Sum256(append(append([]byte(nil), prev...), k.Canon...))
+		k.Prev, k.Hash = hex.EncodeToString(prev), hex.EncodeToString(h[:])
+		prev = h[:]
+		b, _ := json.Marshal(k)
+		out[i] = string(b)
+	}
+	var hdr ledger.BundleHeader
+	if err := json.Unmarshal([]byte(out[0]), &hdr); err != nil {
+		t.Fatal(err)
+	}
+	hdr.Head = hex.EncodeToString(prev)
+	b, _ := json.Marshal(hdr)
+	out[0] = string(b)
+	return out
+}
+
+// TestBundleDamageRecomputed: the damage re-computed from a bundle's own
+// cycles and time at pressure agrees with the ledger's, and every hit is
+// re-checked against its record.
+func TestBundleDamageRecomputed(t *testing.T) {
+	ctx := context.Background()
+	key := ecKey(t)
+	l := bundleLedger(t, key)
+	b, sum := export(t, l, key)
+	var hits int64
+	if err := l.Pool().QueryRow(ctx, "SELECT count(*) FROM ae_hits").Scan(&hits); err != nil {
+		t.Fatal(err)
+	}
+	r := verifyB(t, b, &key.PublicKey)
+	if !r.OK || hits == 0 || r.HitRows != hits || sum.HitRows != hits || r.HitsUnchecked != 0 {
+		t.Fatalf("hits: %d in the ledger, %d exported, %d re-checked (%d unchecked): %s", hits, sum.HitRows, r.HitRows, r.HitsUnchecked, r.Problem)
+	}
+	d := r.Damage
+	if d == nil || !d.AllAgree || d.Assessed != 2 || d.Recomputed != 2 || d.Disagreements != 0 || len(d.NotRecomputed) != 0 || len(d.Components) == 0 {
+		t.Fatalf("damage: %+v", d)
+	}
+	// The ledger's figures: each dive's own assessment (no reassessment
+	// was run), summed per component.
+	rows, err := l.Pool().Query(ctx, `SELECT component, sum(c), sum(s) FROM assessment_damage a, unnest(a.cyclic, a.sustained) AS u(c, s) GROUP BY component ORDER BY component`)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer rows.Close()
+	i := 0
+	for rows.Next() {
+		var name string
+		var cy, su float64
+		if err := rows.Scan(&name, &cy, &su); err != nil {
+			t.Fatal(err)
+		}
+		if i >= len(d.Components) {
+			t.Fatalf("component %s is not in the bundle's damage", name)
+		}
+		c := d.Components[i]
+		i++
+		rel := func(a, b float64) bool { return a == b || math.Abs(a-b) <= 1e-9*math.Max(math.Abs(a), math.Abs(b)) }
+		if c.Component != name || !c.Agree || !rel(c.RecordedCyclic, cy) || !rel(c.RecomputedCyclic, cy) || !rel(c.RecordedSustained, su) ||
+			!rel(c.RecomputedSustained, su) || c.RecomputedCyclic <= 0 || !rel(c.RecordedTotal, cy+su) {
+			t.Fatalf("component %s: ledger cyclic %g sustained %g; bundle %+v", name, cy, su, c)
+		}
+	}
+	if i != len(d.Components) {
+		t.Fatalf("%d components in the ledger, %d in the bundle", i, len(d.Components))
+	}
+	if got, err := ledger.BundleDamage(bytes.NewReader(b), &key.PublicKey); err != nil || !got.AllAgree {
+		t.Fatalf("BundleDamage: %+v %v", got, err)
+	}
+}
+
+// TestBundleDamageForged: the operator halves one dive's recorded damage,
+// recomputes the chain and signs again (the bundle's own signature holds,
+// no checkpoint by this key). The re-computation from the dive's cycles
+// finds it.
+func TestBundleDamageForged(t *testing.T) {
+	key := ecKey(t)
+	l := bundleLedger(t, ecKey(t)) // the checkpoint is by another key
+	b, _ := export(t, l, key)
+	ls := bundleLines(b)
+	// The last assessment: the newest of its dive.
+	last := -1
+	for i, s := range ls {
+		var k ledger.BundleLink
+		if json.Unmarshal([]byte(s), &k) == nil && k.Type == "link" && k.Kind == "assessment" {
+			last = i
+		}
+	}
+	if last < 0 {
+		t.Fatal("no assessment in the bundle")
+	}
+	var k ledger.BundleLink
+	json.Unmarshal([]byte(ls[last]), &k)
+	forged, old, now, err := ledger.ForgeAssessmentCyclic(k.Canon, 0.5)
+	if err != nil || old <= 0 {
+		t.Fatalf("forging: %v (figure %g)", err, old)
+	}
+	k.Canon = forged
+	kb, _ := json.Marshal(k)
+	ls[last] = string(kb)
+	r := verifyB(t, resign(t, rechain(t, ls), key), &key.PublicKey)
+	if r.OK || !r.SignatureOK || r.Damage == nil || r.Damage.AllAgree || r.Damage.Disagreements != 1 {
+		t.Fatalf("forged damage not found: ok %v signature %v damage %+v: %s", r.OK, r.SignatureOK, r.Damage, r.Problem)
+	}
+	x := r.Damage.FirstDisagreement
+	if x.Figure != "cyclic damage" || x.Recorded != now || x.Recomputed != old || x.Assessment != k.Key {
+		t.Fatalf("disagreement %+v; forged %g from %g", x, now, old)
+	}
+	if want := fmt.Sprintf("recorded %.6g, re-computed %.6g", now, old); !strings.Contains(r.Problem, want) {
+		t.Fatalf("problem %q does not say %q", r.Problem, want)
+	}
+	var comp ledger.BundleComponentDamage
+	for _, c := range r.Damage.Components {
+		if c.Component == x.Component {
+			comp = c
+		}
+	}
+	if comp.Agree || !(comp.RecordedCyclic < comp.RecomputedCyclic) {
+		t.Fatalf("component %+v", comp)
+	}
+	if _, err := ledger.BundleDamage(bytes.NewReader(resign(t, rechain(t, ls), key)), &key.PublicKey); err == nil {
+		t.Fatal("BundleDamage of a forged bundle: no error")
+	}
+}
+
+// TestBundleHitChanged: a hit made quieter in the bundle is refused,
+// signed again or not; so is a hit removed.
+func TestBundleHitChanged(t *testing.T) {
+	key := ecKey(t)
+	l := bundleLedger(t, key)
+	b, _ := export(t, l, key)
+	ls := bundleLines(b)
+	quieter := editLink(t, ls, "ae_hits", func(k *ledger.BundleLink) {
+		// The first hit's amplitude: fields seq, t_ns, channel (9 bytes
+		// each), then 'f' and its 8 bytes.
+		a := math.Float64frombits(binary.BigEndian.Uint64(k.Data[28:36]))
+		binary.BigEndian.PutUint64(k.Data[28:36], math.Float64bits(a-10))
+	})
+	fewer := editLink(t, ls, "ae_hits", func(k *ledger.BundleLink) { k.Data = k.Data[:len(k.Data)/2] })
+	for name, bundle := range map[string][]byte{
+		"quieter":           joinLines(quieter),
+		"quieter re-signed": resign(t, quieter, key),
+		"removed re-signed": resign(t, fewer, key),
+	} {
+		r := verifyB(t, bundle, &key.PublicKey)
+		if r.OK || !strings.Contains(r.Problem, "hit rows do not match the SHA-256") {
+			t.Fatalf("%s: want refused for the hit rows; got ok %v: %s", name, r.OK, r.Problem)
+		}
+	}
 }

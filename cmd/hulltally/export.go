@@ -22,10 +22,10 @@ func (a *app) exportCmd() *cobra.Command {
 		Use:   "export SERIAL -o FILE",
 		Short: "Write one hull's record as one signed bundle that inspectors verify without the database",
 		Long: "Writes the hull's whole audit chain — every record's canonical bytes as verify rebuilds them, the raw readings' blocks, " +
-			"the hull's spec and the latest checkpoint signed by the key — read at one snapshot, as one file (JSON lines; gzip with --gzip " +
+			"the acoustic-emission hits, the hull's spec and the latest checkpoint signed by the key — read at one snapshot, as one file (JSON lines; gzip with --gzip " +
 			"or a name ending in .gz), signed with the operator's report-signing key. A hull whose chain does not verify, or no longer " +
 			"holds the checkpointed head, is not exported. Inspectors check it with 'hulltally verify --bundle FILE --key operator.pem', " +
-			"which opens no database.",
+			"which opens no database, re-checks the hits and re-computes every assessed dive's damage from the bundle's own cycles.",
 		Example:           "  hulltally export EX-C4000-01 -o ex-c4000-01.bundle\n  hulltally export EX-C4000-01 -o ex-c4000-01.bundle.gz --key /secure/signing.pem",
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeSerialArg,
@@ -75,7 +75,7 @@ func (a *app) exportCmd() *cobra.Command {
 			if sum.Checkpoint > 0 {
 				cp = fmt.Sprintf("checkpoint %d", sum.Checkpoint)
 			}
-			a.printf("wrote %s: hull %s, %d records (%d reading blocks, %d bytes of readings), head %s, %s\n", out, sum.Serial, sum.Records, sum.Blocks, sum.DataBytes, sum.Head, cp)
+			a.printf("wrote %s: hull %s, %d records (%d reading blocks, %d bytes of readings, %d acoustic-emission hits), head %s, %s\n", out, sum.Serial, sum.Records, sum.Blocks, sum.DataBytes, sum.HitRows, sum.Head, cp)
 			a.printf("signed by %s, key %s\n", signer.Org(), signer.Fingerprint())
 			return nil
 		},
@@ -119,7 +119,11 @@ func (a *app) verifyBundle(path, keyFile string) error {
 		case res.Checkpoint > 0:
 			cp = fmt.Sprintf("checkpoint %d is signed but does not name this hull", res.Checkpoint)
 		}
-		a.printf("bundle verified: hull %s, %d records (%d reading blocks re-hashed), head %s; signature good; %s\n", res.Serial, res.Records, res.Blocks, res.Head, cp)
+		a.printf("bundle verified: hull %s, %d records (%d reading blocks re-hashed, %d acoustic-emission hits re-checked), head %s; signature good; %s\n", res.Serial, res.Records, res.Blocks, res.HitRows, res.Head, cp)
+		if res.HitsUnchecked > 0 {
+			a.printf("  %d acoustic-emission hit records carry no hit rows (a version 1 bundle): only their digest is in the bundle\n", res.HitsUnchecked)
+		}
+		a.printBundleDamage(res.Damage)
 		return nil
 	}
 	a.printf("BUNDLE REFUSED: %s\n", res.Problem)
@@ -127,4 +131,41 @@ func (a *app) verifyBundle(path, keyFile string) error {
 		a.printf("  signature: %s\n", res.SignatureReason)
 	}
 	return nil
+}
+
+// printBundleDamage says what the damage re-computed from a verified
+// bundle's own cycles found.
+func (a *app) printBundleDamage(d *ledger.BundleDamageResult) {
+	if d == nil {
+		a.printf("damage not re-computed\n")
+		return
+	}
+	switch {
+	case d.Assessed == 0:
+		a.printf("damage: the bundle holds no assessed dive\n")
+	case d.AllAgree:
+		a.printf("damage re-computed from the bundle's cycles: %d dives, every figure agrees\n", d.Recomputed)
+	case d.FirstDisagreement != nil:
+		a.printf("%s\n", d.FirstDisagreement.String())
+	default:
+		a.printf("damage re-computed from the bundle's cycles: %d of %d dives, every figure re-computed agrees; %d dives NOT re-computed\n", d.Recomputed, d.Assessed, len(d.NotRecomputed))
+	}
+	for i, n := range d.NotRecomputed {
+		if i == 3 {
+			a.printf("  … and %d more\n", len(d.NotRecomputed)-i)
+			break
+		}
+		a.printf("  dive %s: %s\n", n.Dive, n.Reason)
+	}
+	if d.TransferUnchecked > 0 {
+		a.printf("  %d component figures use a gauge-calibrated transfer factor, which the bundle cannot re-derive: re-computed with the recorded factor\n", d.TransferUnchecked)
+	}
+	for _, c := range d.Components {
+		agree := "agrees"
+		if !c.Agree {
+			agree = "DISAGREES"
+		}
+		a.printf("  %-16s recorded %.6g, re-computed %.6g (cyclic %.6g / %.6g, sustained %.6g / %.6g): %s\n", c.Component, c.RecordedTotal, c.RecomputedTotal,
+			c.RecordedCyclic, c.RecomputedCyclic, c.RecordedSustained, c.RecomputedSustained, agree)
+	}
 }
