@@ -69,6 +69,11 @@ func TestExportVerifyBundleCLI(t *testing.T) {
 		if code != 0 || !strings.Contains(out, "bundle verified: hull EX-C4000-01") || !strings.Contains(out, "checkpoint 1 holds") {
 			t.Fatalf("verify --bundle %s: exit %d\n%s%s", f, code, out, errs)
 		}
+		// The damage re-computed from the bundle's own cycles agrees with
+		// what its assessments record.
+		if !strings.Contains(out, "damage re-computed from the bundle's cycles") || !strings.Contains(out, "every figure agrees") {
+			t.Fatalf("verify --bundle %s: no agreeing damage re-computation in\n%s", f, out)
+		}
 	}
 	var res struct {
 		OK      bool  `json:"ok"`
