@@ -598,6 +598,9 @@ type BundleResult struct {
 	// compared with its assessments (nil when the chain did not verify,
 	// so that nothing was re-computed).
 	Damage *BundleDamageResult `json:"damage"`
+	// hashes are the chain's link hashes in order (seq 1 first), for
+	// HashAt.
+	hashes [][]byte
 	// Kinds counts the records by kind.
 	Kinds map[string]int64 `json:"kinds"`
 	Head  string           `json:"head"`
@@ -904,6 +907,7 @@ func (v *bundleVerifier) link(b []byte, lineNo int) {
 	v.n++
 	v.res.Records = v.n
 	v.res.Kinds[k.Kind]++
+	v.res.hashes = append(v.res.hashes, hsh)
 	v.prev = hsh
 	v.res.Head = hex.EncodeToString(hsh)
 }
@@ -1038,4 +1042,14 @@ func decodeCanon(b []byte) ([]canonField, error) {
 		out = append(out, f)
 	}
 	return out, nil
+}
+
+// HashAt is the hex hash of the bundle's chain link seq (from 1); false
+// when the bundle's chain (as far as it verified) has no such link. A
+// report's signed chain head for the hull can be checked against it.
+func (r *BundleResult) HashAt(seq int64) (string, bool) {
+	if r == nil || seq < 1 || seq > int64(len(r.hashes)) {
+		return "", false
+	}
+	return hex.EncodeToString(r.hashes[seq-1]), true
 }

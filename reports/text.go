@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"fmt"
 	"hulltally/ledger"
+	"sort"
 	"strings"
 	"time"
 
@@ -77,7 +78,25 @@ func newDoc(m *Model, title, notice string) (*doc, error) {
 
 // keywords carries what verification needs, in the PDF's metadata.
 func keywords(m *Model, fp string) string {
-	return fmt.Sprintf("hulltally-report kind=%s subject=%s generated=%s records=%d fingerprint=%s", m.Kind, m.Subject, m.GeneratedAt.UTC().Format(time.RFC3339Nano), m.records(), fp)
+	return fmt.Sprintf("hulltally-report kind=%s subject=%s generated=%s records=%d chains=%s fingerprint=%s", m.Kind, m.Subject, m.GeneratedAt.UTC().Format(time.RFC3339Nano), m.records(), chainsText(m), fp)
+}
+
+// chainsText states, in the signed metadata, each hull's audit-chain
+// length and head the report draws on ("SERIAL:length:head,…", by serial):
+// an inspector holding a hull's bundle can check the report against the
+// record without the database.
+func chainsText(m *Model) string {
+	serials := make([]string, 0, len(m.Chains))
+	for s := range m.Chains {
+		serials = append(serials, s)
+	}
+	sort.Strings(serials)
+	parts := make([]string, len(serials))
+	for i, s := range serials {
+		c := m.Chains[s]
+		parts[i] = fmt.Sprintf("%s:%d:%s", s, c.Records, c.Head)
+	}
+	return strings.Join(parts, ",")
 }
 
 // records is the number of audit-chain records the report draws on.

@@ -8,6 +8,7 @@ import (
 	"fmt"
 	"io"
 	"regexp"
+	"strings"
 	"time"
 
 	"hulltally/ledger"
@@ -140,7 +141,7 @@ func WriteWith(ctx context.Context, l *ledger.Ledger, kind, subject, path string
 }
 
 var (
-	keywordsRE = regexp.MustCompile(`/Keywords \(hulltally-report kind=(\w+) subject=([^ ]+) generated=([^ ]+) records=(\d+) fingerprint=([0-9a-f]{64})\)`)
+	keywordsRE = regexp.MustCompile(`/Keywords \(hulltally-report kind=(\w+) subject=([^ ]+) generated=([^ ]+) records=(\d+)(?: chains=([A-Za-z0-9._:,-]*))? fingerprint=([0-9a-f]{64})\)`)
 	pagesRE    = regexp.MustCompile(`/Type /Page\b`)
 )
 
@@ -165,6 +166,9 @@ type Verification struct {
 	SignerFingerprint string `json:"signer_fingerprint,omitempty"`
 	// Checkpoint is the ledger checkpoint in the signed content.
 	Checkpoint string `json:"checkpoint,omitempty"`
+	// Chains are the audit-chain lengths and heads the report states it
+	// draws on (in its signed metadata), by serial.
+	Chains map[string]Chain `json:"chains,omitempty"`
 	// Offline: the ledger was not consulted.
 	Offline bool `json:"offline"`
 	// Outdated: an authentic report (as issued, and signed by the key
@@ -240,7 +244,8 @@ func VerifyWith(ctx context.Context, l *ledger.Ledger, path string, o VerifyOpti
 	if mm == nil {
 		return &Verification{Reason: "the file carries no hulltally fingerprint: not a hulltally report, or its metadata was altered", Signature: SigNotChecked, Offline: o.Offline}, nil
 	}
-	v := &Verification{Kind: string(mm[1]), Subject: string(mm[2]), Fingerprint: string(mm[5]), Signature: SigNotChecked, Offline: o.Offline}
+	v := &Verification{Kind: string(mm[1]), Subject: string(mm[2]), Fingerprint: string(mm[6]), Signature: SigNotChecked, Offline: o.Offline,
+		Chains: parseChains(string(mm[5]))}
 	var then int64
 	fmt.Sscan(string(mm[4]), &then)
 	at, err := time.Parse(time.RFC3339Nano, string(mm[3]))
@@ -360,4 +365,71 @@ func what(m *Model, then int64) string {
 		return fmt.Sprintf("the ledger holds %d fewer records than when it was made: records were removed", then-now)
 	}
 	return "the same number of records, but a record, the configuration (curves, rules, settings) or the file's fingerprint changed"
+}
+
+// parseChains reads the chains= field of a report's metadata.
+func parseChains(s string) map[string]Chain {
+	if s == "" {
+		return nil
+	}
+	out := map[string]Chain{}
+	for _, p := range strings.Split(s, ",") {
+		f := strings.Split(p, ":")
+		if len(f) != 3 {
+			continue
+		}
+		var n int64
+		if _, err := fmt.Sscan(f[1], &n); err != nil {
+			continue
+		}
+		out[f[0]] = Chain{Records: n, Head: f[2]}
+	}
+	return out
+}
+
+// VerifyWithBundle checks a report offline against a hull's bundle, with
+// no database: the report's signature by pub (as VerifyOffline), the
+// bundle's (ledger.VerifyBundle), and that the chain head the report
+// states for the bundle's hull is the bundle's link at that length — the
+// report is consistent with the hull's record — and whether records were
+// added after it (outdated).
+func VerifyWithBundle(ctx context.Context, path string, pub *ecdsa.PublicKey, bundle io.Reader) (*Verification, *ledger.BundleResult, error) {
+	v, err := VerifyOffline(ctx, path, pub)
+	if err != nil || !v.OK {
+		return v, nil, err
+	}
+	br, err := ledger.VerifyBundle(bundle, pub)
+	if err != nil {
+		return v, nil, err
+	}
+	if !br.OK {
+		v.OK = false
+		v.Reason = "the report is signed, but the bundle does not verify: " + br.Problem
+		return v, br, nil
+	}
+	c, ok := v.Chains[br.Serial]
+	switch {
+	case v.Chains == nil:
+		v.OK = false
+		v.Reason = "the report states no chain heads (issued before they were signed into reports): it cannot be checked against a bundle"
+	case !ok:
+		v.OK = false
+		v.Reason = fmt.Sprintf("the report does not draw on hull %s, the bundle's hull", br.Serial)
+	case br.Records < c.Records:
+		v.OK = false
+		v.Reason = fmt.Sprintf("the bundle of %s holds %d records, fewer than the %d the report was made from: an older bundle, or the record was cut short", br.Serial, br.Records, c.Records)
+	default:
+		h, _ := br.HashAt(c.Records)
+		switch {
+		case h != c.Head:
+			v.OK = false
+			v.Reason = fmt.Sprintf("INCONSISTENT: the report was made from record %d of %s with hash %s, but the bundle's record %d has hash %s: the record was rewritten, or the report is forged", c.Records, br.Serial, c.Head, c.Records, h)
+		case br.Records > c.Records:
+			v.OK, v.Outdated = false, true
+			v.Reason = fmt.Sprintf("authentic and consistent with the hull's record, but outdated: the report was made from %d records of %s and the bundle holds %d (records added since)", c.Records, br.Serial, br.Records)
+		default:
+			v.Reason = fmt.Sprintf("authentic, consistent with the hull's record and current: the report was made from all %d records of %s in the bundle", c.Records, br.Serial)
+		}
+	}
+	return v, br, nil
 }

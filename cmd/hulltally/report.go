@@ -1,7 +1,9 @@
 package main
 
 import (
+	"errors"
 	"fmt"
+	"hulltally/ledger/files"
 	"time"
 
 	"hulltally/reports/sign"
@@ -77,12 +79,12 @@ func (a *app) reportCmd() *cobra.Command {
 		must(c.MarkFlagFilename("output", "pdf"))
 		return c
 	}
-	var pubFile string
+	var pubFile, bundleFile string
 	var offline bool
 	verify := &cobra.Command{
-		Use:     "verify FILE.pdf [--key PUBKEY.pem [--offline]]",
+		Use:     "verify FILE.pdf [--key PUBKEY.pem [--offline | --bundle HULL.bundle]]",
 		Short:   "Check a report: its signature by the operator's key, and against the ledger (exit 0 when every check passes, 1 with the reason when not)",
-		Example: "  hulltally report verify hull.pdf\n  hulltally report verify hull.pdf --key operator.pem\n  hulltally report verify hull.pdf --key operator.pem --offline --json",
+		Example: "  hulltally report verify hull.pdf\n  hulltally report verify hull.pdf --key operator.pem\n  hulltally report verify hull.pdf --key operator.pem --offline --json\n  hulltally report verify hull.pdf --key operator.pem --bundle hull.bundle",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			var o reports.VerifyOptions
@@ -95,6 +97,38 @@ func (a *app) reportCmd() *cobra.Command {
 					return &ledger.InputError{Err: err}
 				}
 				o = reports.VerifyOptions{Key: pub, Offline: offline}
+			}
+			if bundleFile != "" {
+				// Offline against the hull's bundle: no database.
+				if o.Key == nil {
+					return usageError{errors.New("--bundle needs --key")}
+				}
+				f, err := files.OpenRegular(cmd.Context(), bundleFile)
+				if err != nil {
+					return &ledger.InputError{Err: err}
+				}
+				defer f.Close()
+				v, _, err := reports.VerifyWithBundle(cmd.Context(), args[0], o.Key, f)
+				if err != nil {
+					return err
+				}
+				if !v.OK {
+					a.exit = exitFailed
+				}
+				if a.asJSON {
+					return a.printJSON(v)
+				}
+				verdict := "report verified against the bundle"
+				switch {
+				case v.Signature == reports.SigUnsigned || v.Signature == reports.SigAltered || v.Signature == reports.SigOtherKey:
+					verdict = "REPORT NOT AUTHENTIC"
+				case v.Outdated:
+					verdict = "REPORT OUTDATED"
+				case !v.OK:
+					verdict = "REPORT DOES NOT MATCH THE BUNDLE"
+				}
+				a.printf("%s: %s %s generated %s: %s\n", verdict, v.Kind, v.Subject, v.GeneratedAt.Format(time.RFC3339), v.Reason)
+				return nil
 			}
 			var v *reports.Verification
 			var err error
@@ -135,6 +169,8 @@ func (a *app) reportCmd() *cobra.Command {
 	}
 	verify.Flags().StringVar(&pubFile, "key", "", "the operator's public key or certificate (PEM, from 'hulltally key export'): the report must be signed by it")
 	verify.Flags().BoolVar(&offline, "offline", false, "check the signature and the signed fingerprint only, without the ledger (needs --key)")
+	verify.Flags().StringVar(&bundleFile, "bundle", "", "check the report, without the ledger, against a hull's bundle from 'hulltally export' (needs --key)")
+	verify.MarkFlagsMutuallyExclusive("offline", "bundle")
 	must(verify.MarkFlagFilename("key", "pem"))
 	verify.ValidArgsFunction = func(*cobra.Command, []string, string) ([]cobra.Completion, cobra.ShellCompDirective) {
 		return []cobra.Completion{"pdf"}, cobra.ShellCompDirectiveFilterFileExt
