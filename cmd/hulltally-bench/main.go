@@ -1,42 +1,112 @@
-// Command hulltally-bench measures dive logging against psql's \copy of
-// the same file into a plain table of the same columns, on the same server
-// in the same run: it generates a long dive (default 10 h at 100 Hz with 8
-// strain gauges: 3.6 million rows), logs it with the hulltally binary, loads
-// it with psql, and prints rows per second for both, their ratio and
-// hulltally's peak resident memory.
+// Command hulltally-bench measures dive logging against psql's \copy on the
+// same server in the same run, over several interleaved rounds.
+//
+// Each round generates a long dive (default 10 h at 100 Hz with 8 strain
+// gauges: 3.6 million rows; a new seed each round, so that every round is a
+// new dive), then times three loads of that same file, in an order that
+// alternates from round to round:
+//
+//   - hulltally: `hulltally dive log` of the file into its own hull (parse,
+//     count, check, encode into compact blocks, store, audit chain);
+//   - psql-plain: psql \copy of the file into a plain table of the same
+//     columns (one row per sample);
+//   - psql-blocks: psql \copy into a table of the same layout as
+//     reading_blocks (without its foreign key) of a CSV holding, one row per
+//     block, exactly the encoded blocks hulltally stores for that file
+//     (made from the file with ledger/logfile and ledger/blocks before the
+//     timing, data and sha256 as hex bytea): the like-for-like load of the
+//     same stored bytes.
+//
+// It prints, per side, min/median/max of wall time and rows per second, the
+// child process's CPU use ((user+system CPU time)/wall, from its
+// os.ProcessState; 2.0 would be both cores busy), the database server's CPU
+// use over the same wall time where the server is the managed cluster on
+// this machine (CPU of the backends, reaped by the postmaster), and the
+// child's peak resident memory; and min/median/max over rounds of the
+// per-round ratios of rows per second.
 package main
 
 import (
+	"bufio"
 	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
 	"flag"
 	"fmt"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 	"syscall"
 	"time"
 
+	"github.com/google/uuid"
+
 	"hulltally/configs"
 	"hulltally/ledger"
+	"hulltally/ledger/blocks"
+	"hulltally/ledger/logfile"
 	"hulltally/ledger/spec"
 	"hulltally/ledger/synth"
 )
 
+// options are the command's flags.
+type options struct {
+	hours  float64
+	rows   int
+	hz     float64
+	gauges int
+	rounds int
+	bin    string
+	keep   bool
+}
+
 func main() {
-	hours := flag.Float64("hours", 10, "dive length, hours")
-	hz := flag.Float64("hz", 100, "sample rate, Hz")
-	gauges := flag.Int("gauges", 8, "strain gauges")
-	bin := flag.String("hulltally", "", "hulltally binary (default: build it)")
-	keep := flag.Bool("keep", false, "keep the work folder")
+	var o options
+	flag.Float64Var(&o.hours, "hours", 10, "dive length, hours (10 h at 100 Hz: 3.6 million rows)")
+	flag.IntVar(&o.rows, "rows", 0, "dive length in rows (overrides -hours when positive)")
+	flag.Float64Var(&o.hz, "hz", 100, "sample rate, Hz")
+	flag.IntVar(&o.gauges, "gauges", 8, "strain gauges")
+	flag.IntVar(&o.rounds, "rounds", 3, "interleaved rounds of every side (the order alternates each round)")
+	flag.StringVar(&o.bin, "hulltally", "", "hulltally binary (default: build it)")
+	flag.BoolVar(&o.keep, "keep", false, "keep the work folder")
 	flag.Parse()
-	if err := run(context.Background(), *hours, *hz, *gauges, *bin, *keep); err != nil {
+	if o.rows > 0 {
+		o.hours = float64(o.rows) / (3600 * o.hz)
+	}
+	if o.rounds < 1 || o.hours <= 0 || o.hz <= 0 || o.gauges < 0 {
+		fmt.Fprintln(os.Stderr, "hulltally-bench: -rounds must be ≥ 1, -hours/-rows and -hz positive, -gauges ≥ 0")
+		os.Exit(2)
+	}
+	if err := run(context.Background(), o); err != nil {
 		fmt.Fprintln(os.Stderr, "hulltally-bench:", err)
 		os.Exit(1)
 	}
 }
 
-func run(ctx context.Context, hours, hz float64, gauges int, bin string, keep bool) error {
+// Sides of the comparison, in the order of the first round.
+const (
+	sideHT = iota
+	sidePlain
+	sideBlocks
+	nSides
+)
+
+var sideNames = [nSides]string{"hulltally dive log", "psql \\copy plain", "psql \\copy blocks"}
+
+// measure is one timed load.
+type measure struct {
+	wallS   float64
+	cpuS    float64 // child user+system CPU, s
+	serverS float64 // server backends' CPU, s (negative: not measured)
+	rssKB   int64   // child peak RSS, KiB
+}
+
+func run(ctx context.Context, o options) error {
 	work, err := os.MkdirTemp("", "htbench-")
 	if err != nil {
 		return err
@@ -44,31 +114,16 @@ func run(ctx context.Context, hours, hz float64, gauges int, bin string, keep bo
 	if err := os.Chmod(work, 0o755); err != nil {
 		return err
 	}
-	if !keep {
+	if !o.keep {
 		defer os.RemoveAll(work)
 	}
-	if bin == "" {
-		bin = filepath.Join(work, "hulltally")
-		out, err := exec.Command("go", "build", "-o", bin, "./cmd/hulltally").CombinedOutput()
+	if o.bin == "" {
+		o.bin = filepath.Join(work, "hulltally")
+		out, err := exec.Command("go", "build", "-o", o.bin, "./cmd/hulltally").CombinedOutput()
 		if err != nil {
 			return fmt.Errorf("building hulltally (run from the project root or give -hulltally): %v\n%s", err, out)
 		}
 	}
-	file := filepath.Join(work, "bench-dive.csv")
-	f, err := os.Create(file)
-	if err != nil {
-		return err
-	}
-	t0 := time.Now()
-	rows, err := synth.BenchFile(f, hours, hz, gauges, 1)
-	if err == nil {
-		err = f.Close()
-	}
-	if err != nil {
-		return err
-	}
-	st, _ := os.Stat(file)
-	fmt.Printf("generated %d rows (%.0f MB) in %.1f s: %s\n", rows, float64(st.Size())/1e6, time.Since(t0).Seconds(), file)
 
 	env := os.Environ()
 	home := filepath.Join(work, "home")
@@ -87,80 +142,355 @@ func run(ctx context.Context, hours, hz float64, gauges int, bin string, keep bo
 		return err
 	}
 	defer l.Close()
-	if cfg.Database.URL == "" {
+	dbURL := cfg.Database.URL
+	var pmPID int
+	if dbURL == "" {
 		defer ledger.StopManaged(context.Background(), cfg)
+		dbURL = managedURL(home)
+		pmPID = postmasterPID(ledger.DBStatus(ctx, cfg).Dir)
 	}
-	sp := &spec.Hull{Serial: "BENCH-01", Name: "benchmark hull (invented)", MaterialSystem: "carbon/epoxy", Shape: "cylinder",
+
+	// Plain table of the same columns for psql; a table of the same layout
+	// as reading_blocks (LIKE copies the checks, primary key and storage,
+	// never the foreign key).
+	cols := []string{"t_s double precision", "pressure_mpa double precision"}
+	for g := 0; g < o.gauges; g++ {
+		cols = append(cols, fmt.Sprintf("strain_g%d_ue double precision", g+1))
+	}
+	cols = append(cols, "temp_c double precision")
+	if _, err := l.Pool().Exec(ctx, "DROP TABLE IF EXISTS bench_plain; CREATE TABLE bench_plain ("+strings.Join(cols, ", ")+"); "+
+		"DROP TABLE IF EXISTS bench_blocks; CREATE TABLE bench_blocks (LIKE reading_blocks INCLUDING ALL)"); err != nil {
+		return err
+	}
+
+	start, _ := time.Parse(time.RFC3339, "2026-06-01T00:00:00Z")
+	if time.Now().Before(start.Add(time.Duration(o.hours * float64(time.Hour)))) {
+		start = time.Now().Add(-time.Duration((o.hours + 24) * float64(time.Hour))).UTC().Truncate(time.Hour)
+	}
+	var res [nSides][]measure
+	var rowsPerRound []int
+	var plainBytes, blockBytes, htBytes int64
+	for r := 0; r < o.rounds; r++ {
+		// A new dive each round (new seed, its own hull): a re-log of the
+		// same samples would be recognised as a duplicate.
+		file := filepath.Join(work, fmt.Sprintf("bench-dive-%d.csv", r+1))
+		t0 := time.Now()
+		rows, err := writeDive(file, o, uint64(r+1))
+		if err != nil {
+			return err
+		}
+		st, _ := os.Stat(file)
+		serial := fmt.Sprintf("BENCH-%02d", r+1)
+		if err := addHull(ctx, l, serial, o.gauges); err != nil {
+			return err
+		}
+		blockCSV := file + ".blocks.csv"
+		nBlocks, err := writeBlocksCSV(blockCSV, file, start, cfg.Ingest.BlockSamples)
+		if err != nil {
+			return err
+		}
+		fmt.Printf("round %d: %d rows (%.0f MB, %d blocks of %d) generated in %.1f s\n", r+1, rows, float64(st.Size())/1e6, nBlocks, blockSamples(cfg.Ingest.BlockSamples), time.Since(t0).Seconds())
+		rowsPerRound = append(rowsPerRound, rows)
+		if _, err := l.Pool().Exec(ctx, "TRUNCATE bench_plain, bench_blocks"); err != nil {
+			return err
+		}
+		// Warm the page cache for every side alike.
+		if err := readAll(file); err != nil {
+			return err
+		}
+		if err := readAll(blockCSV); err != nil {
+			return err
+		}
+		order := []int{sideHT, sidePlain, sideBlocks}
+		if r%2 == 1 {
+			slices.Reverse(order)
+		}
+		for _, side := range order {
+			var cmd *exec.Cmd
+			switch side {
+			case sideHT:
+				cmd = exec.CommandContext(ctx, o.bin, "dive", "log", "--hull", serial, "--start", start.Format(time.RFC3339), "--lat", "45", "--json", file)
+				cmd.Env = env
+			case sidePlain:
+				cmd = psqlCopy(ctx, dbURL, "bench_plain", file)
+			case sideBlocks:
+				cmd = psqlCopy(ctx, dbURL, "bench_blocks", blockCSV)
+			}
+			m, err := timeChild(cmd, pmPID)
+			if err != nil {
+				return fmt.Errorf("round %d, %s: %w", r+1, sideNames[side], err)
+			}
+			res[side] = append(res[side], m)
+			fmt.Printf("  %-20s %8.2f s  %10.0f rows/s  cpu %4.2f%s  peak RSS %6.1f MB\n", sideNames[side], m.wallS, float64(rows)/m.wallS, m.cpuS/m.wallS, serverUse(m), float64(m.rssKB)/1024)
+		}
+		_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('bench_plain')").Scan(&plainBytes)
+		_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('bench_blocks')").Scan(&blockBytes)
+		_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('reading_blocks')").Scan(&htBytes)
+		if !o.keep {
+			os.Remove(file)
+			os.Remove(blockCSV)
+		}
+	}
+
+	fmt.Printf("\n%d rounds, order alternating (round 1: %s, %s, %s; round 2 reversed; …)\n", o.rounds, sideNames[0], sideNames[1], sideNames[2])
+	fmt.Printf("%-20s %26s  %32s  %17s  %17s  %s\n", "", "wall s min/median/max", "rows/s min/median/max", "cpu (child)", "cpu (server)", "peak RSS MB max")
+	for side := 0; side < nSides; side++ {
+		var wall, rps, cpu, srv []float64
+		var rss int64
+		for i, m := range res[side] {
+			wall = append(wall, m.wallS)
+			rps = append(rps, float64(rowsPerRound[i])/m.wallS)
+			cpu = append(cpu, m.cpuS/m.wallS)
+			if m.serverS >= 0 {
+				srv = append(srv, m.serverS/m.wallS)
+			}
+			rss = max(rss, m.rssKB)
+		}
+		fmt.Printf("%-20s %26s  %32s  %17s  %17s  %.1f\n", sideNames[side], mmm(wall, "%.2f"), mmm(rps, "%.0f"), mmm(cpu, "%.2f"), mmm(srv, "%.2f"), float64(rss)/1024)
+	}
+	fmt.Println("cpu = (user+system CPU time)/wall time; 2.00 = both cores busy the whole time. Server: the backends' CPU (managed cluster only).")
+	fmt.Println("\nratio of rows per second, per round (min/median/max):")
+	ratio := func(a, b int) []float64 {
+		var out []float64
+		for i := range res[a] {
+			out = append(out, res[b][i].wallS/res[a][i].wallS)
+		}
+		return out
+	}
+	fmt.Printf("  hulltally / psql \\copy plain:  %s\n", mmm(ratio(sideHT, sidePlain), "%.2f"))
+	fmt.Printf("  hulltally / psql \\copy blocks: %s   (same stored bytes, like for like)\n", mmm(ratio(sideHT, sideBlocks), "%.2f"))
+	fmt.Printf("  psql blocks / psql plain:      %s\n", mmm(ratio(sideBlocks, sidePlain), "%.2f"))
+	fmt.Printf("\nstored size of the last round: plain table %.0f MB, blocks table %.1f MB; hulltally reading_blocks (all %d rounds) %.1f MB\n",
+		float64(plainBytes)/1e6, float64(blockBytes)/1e6, o.rounds, float64(htBytes)/1e6)
+	return nil
+}
+
+// mmm formats min/median/max of v (the median of an even count is the
+// mean of the middle two); "n/a" when v is empty.
+func mmm(v []float64, f string) string {
+	if len(v) == 0 {
+		return "n/a"
+	}
+	s := slices.Clone(v)
+	slices.Sort(s)
+	n := len(s)
+	med := s[n/2]
+	if n%2 == 0 {
+		med = (s[n/2-1] + s[n/2]) / 2
+	}
+	return fmt.Sprintf(f+"/"+f+"/"+f, s[0], med, s[n-1])
+}
+
+func serverUse(m measure) string {
+	if m.serverS < 0 {
+		return ""
+	}
+	return fmt.Sprintf("  server %4.2f", m.serverS/m.wallS)
+}
+
+func writeDive(file string, o options, seed uint64) (int, error) {
+	f, err := os.Create(file)
+	if err != nil {
+		return 0, err
+	}
+	rows, err := synth.BenchFile(f, o.hours, o.hz, o.gauges, seed)
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	return rows, err
+}
+
+func addHull(ctx context.Context, l *ledger.Ledger, serial string, gauges int) error {
+	sp := &spec.Hull{Serial: serial, Name: "benchmark hull (invented)", MaterialSystem: "carbon/epoxy", Shape: "cylinder",
 		InnerRadiusM: 0.5, WallThicknessM: 0.1, LengthM: 2, RatedDepthM: 4000, DesignPressureMPa: 44, ProofPressureMPa: 50, CollapsePressureMPa: 90,
 		Components: []spec.Component{{Name: "laminate", Kind: "laminate_cylinder", Transfer: spec.Transfer{Basis: "lame"}, Curve: "carbon-epoxy-cc-illustrative"}}}
 	for g := 0; g < gauges; g++ {
 		sp.Gauges = append(sp.Gauges, spec.Gauge{Name: fmt.Sprintf("g%d", g+1), Kind: "strain", Component: "laminate"})
 	}
-	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
-		return err
-	}
-	dbURL := cfg.Database.URL
-	if dbURL == "" {
-		dbURL = managedURL(home)
-	}
-	// Plain table of the same columns for psql.
-	cols := []string{"t_s double precision", "pressure_mpa double precision"}
-	for g := 0; g < gauges; g++ {
-		cols = append(cols, fmt.Sprintf("strain_g%d_ue double precision", g+1))
-	}
-	cols = append(cols, "temp_c double precision")
-	if _, err := l.Pool().Exec(ctx, "DROP TABLE IF EXISTS bench_plain; CREATE TABLE bench_plain ("+strings.Join(cols, ", ")+")"); err != nil {
-		return err
-	}
-	// Warm the page cache for both.
-	_, _, _ = readAll(file)
+	_, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"})
+	return err
+}
 
-	// psql \copy.
-	t1 := time.Now()
-	cmd := exec.CommandContext(ctx, "psql", "-X", "-q", "-v", "ON_ERROR_STOP=1", dbURL, "-c", fmt.Sprintf(`\copy bench_plain FROM '%s' WITH (FORMAT csv, HEADER true)`, file))
-	if out, err := cmd.CombinedOutput(); err != nil {
-		return fmt.Errorf("psql \\copy: %v\n%s", err, out)
+func blockSamples(n int) int {
+	if n <= 0 {
+		return 8192
 	}
-	psqlS := time.Since(t1).Seconds()
+	return n
+}
 
-	// hulltally dive log.
-	t2 := time.Now()
-	cmd = exec.CommandContext(ctx, bin, "dive", "log", "--hull", "BENCH-01", "--start", "2026-06-01T00:00:00Z", "--lat", "45", "--json", file)
-	cmd.Env = env
-	out, err := cmd.CombinedOutput()
+// writeBlocksCSV writes, one row per block, the blocks hulltally stores
+// for the samples file (read with the same reader and block size, encoded
+// with ledger/blocks), in the columns of reading_blocks: dive_id, hull_id,
+// block_no, first_sample, samples, t_first_ns, t_last_ns, data, sha256,
+// the bytea columns as hex. It returns the number of blocks.
+func writeBlocksCSV(dst, src string, start time.Time, perBlock int) (int, error) {
+	in, err := os.Open(src)
 	if err != nil {
-		return fmt.Errorf("hulltally dive log: %v\n%s", err, out)
+		return 0, err
 	}
-	htS := time.Since(t2).Seconds()
-	rss := cmd.ProcessState.SysUsage().(*syscall.Rusage).Maxrss // KiB on Linux
+	defer in.Close()
+	sr, err := logfile.NewSampleReader(bufio.NewReaderSize(in, 1<<20), src, logfile.SampleOptions{Start: &start, BlockSamples: perBlock})
+	if err != nil {
+		return 0, err
+	}
+	out, err := os.Create(dst)
+	if err != nil {
+		return 0, err
+	}
+	defer out.Close()
+	w := bufio.NewWriterSize(out, 1<<20)
+	w.WriteString("dive_id,hull_id,block_no,first_sample,samples,t_first_ns,t_last_ns,data,sha256\n")
+	dive, hull := uuid.New().String(), uuid.New().String()
+	b := sr.NewBlock()
+	var enc, line []byte
+	var first int64
+	n := 0
+	for {
+		err := sr.ReadBlock(b)
+		if errors.Is(err, io.EOF) {
+			break
+		}
+		if err != nil {
+			return n, err
+		}
+		enc = blocks.Encode(enc[:0], b)
+		sum := sha256.Sum256(enc)
+		k := b.Len()
+		line = append(line[:0], dive...)
+		line = append(line, ',')
+		line = append(line, hull...)
+		line = append(line, ',')
+		line = strconv.AppendInt(line, int64(n), 10)
+		line = append(line, ',')
+		line = strconv.AppendInt(line, first, 10)
+		line = append(line, ',')
+		line = strconv.AppendInt(line, int64(k), 10)
+		line = append(line, ',')
+		line = strconv.AppendInt(line, b.TimeNS[0], 10)
+		line = append(line, ',')
+		line = strconv.AppendInt(line, b.TimeNS[k-1], 10)
+		line = append(line, ",\\x"...)
+		line = hex.AppendEncode(line, enc)
+		line = append(line, ",\\x"...)
+		line = hex.AppendEncode(line, sum[:])
+		line = append(line, '\n')
+		if _, err := w.Write(line); err != nil {
+			return n, err
+		}
+		first += int64(k)
+		n++
+	}
+	if err := w.Flush(); err != nil {
+		return n, err
+	}
+	return n, out.Close()
+}
 
-	var plainBytes, blockBytes int64
-	_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('bench_plain')").Scan(&plainBytes)
-	_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('reading_blocks')").Scan(&blockBytes)
-	fmt.Printf("psql \\copy:        %8.2f s  %10.0f rows/s  (plain table %.0f MB)\n", psqlS, float64(rows)/psqlS, float64(plainBytes)/1e6)
-	fmt.Printf("hulltally dive log: %8.2f s  %10.0f rows/s  (reading blocks %.0f MB)\n", htS, float64(rows)/htS, float64(blockBytes)/1e6)
-	fmt.Printf("ratio hulltally/psql rows per second: %.2f\n", psqlS/htS)
-	fmt.Printf("hulltally peak RSS: %.1f MB\n", float64(rss)/1024)
-	return nil
+func psqlCopy(ctx context.Context, dbURL, table, file string) *exec.Cmd {
+	return exec.CommandContext(ctx, "psql", "-X", "-q", "-v", "ON_ERROR_STOP=1", dbURL, "-c",
+		fmt.Sprintf(`\copy %s FROM '%s' WITH (FORMAT csv, HEADER true)`, table, file))
+}
+
+// timeChild runs cmd and measures its wall time, its CPU time and peak
+// RSS, and (when pmPID > 0) the CPU its server backends used.
+func timeChild(cmd *exec.Cmd, pmPID int) (measure, error) {
+	m := measure{serverS: -1}
+	srv0, srvOK := settledServerCPU(pmPID)
+	t0 := time.Now()
+	out, err := cmd.CombinedOutput()
+	m.wallS = time.Since(t0).Seconds()
+	if err != nil {
+		return m, fmt.Errorf("%v\n%s", err, out)
+	}
+	ps := cmd.ProcessState
+	m.cpuS = (ps.UserTime() + ps.SystemTime()).Seconds()
+	if ru, ok := ps.SysUsage().(*syscall.Rusage); ok {
+		m.rssKB = ru.Maxrss // KiB on Linux
+	}
+	if srv1, ok := settledServerCPU(pmPID); ok && srvOK {
+		m.serverS = srv1 - srv0
+	}
+	return m, nil
+}
+
+// settledServerCPU reads the postmaster's CPU including its reaped
+// children (the backends of finished sessions) once it has stopped
+// changing, so a backend that is still exiting is counted.
+func settledServerCPU(pid int) (float64, bool) {
+	if pid <= 0 {
+		return 0, false
+	}
+	prev, ok := serverCPU(pid)
+	for i := 0; ok && i < 20; i++ {
+		time.Sleep(50 * time.Millisecond)
+		cur, ok2 := serverCPU(pid)
+		if !ok2 {
+			return 0, false
+		}
+		if cur == prev {
+			return cur, true
+		}
+		prev = cur
+	}
+	return prev, ok
+}
+
+// serverCPU is utime+stime+cutime+cstime of pid from /proc, seconds
+// (clock ticks assumed 100 a second, the Linux USER_HZ).
+func serverCPU(pid int) (float64, bool) {
+	b, err := os.ReadFile(fmt.Sprintf("/proc/%d/stat", pid))
+	if err != nil {
+		return 0, false
+	}
+	s := string(b)
+	i := strings.LastIndexByte(s, ')')
+	if i < 0 {
+		return 0, false
+	}
+	f := strings.Fields(s[i+1:])
+	// After the command: state is field 3; utime 14 … cstime 17.
+	if len(f) < 15 {
+		return 0, false
+	}
+	var ticks int64
+	for _, k := range f[11:15] {
+		v, err := strconv.ParseInt(k, 10, 64)
+		if err != nil {
+			return 0, false
+		}
+		ticks += v
+	}
+	return float64(ticks) / 100, true
+}
+
+// postmasterPID reads the managed server's process id from the
+// postmaster.pid of its data folder (<dir>/data); 0 when not found.
+func postmasterPID(dir string) int {
+	if dir == "" {
+		return 0
+	}
+	b, err := os.ReadFile(filepath.Join(dir, "data", "postmaster.pid"))
+	if err != nil {
+		return 0
+	}
+	line, _, _ := strings.Cut(string(b), "\n")
+	pid, err := strconv.Atoi(strings.TrimSpace(line))
+	if err != nil {
+		return 0
+	}
+	return pid
 }
 
 func managedURL(home string) string {
 	return "postgresql:///hulltally?host=" + filepath.Join(home, "postgres") + "&port=5432&user=hulltally"
 }
 
-func readAll(p string) (int64, int, error) {
+func readAll(p string) error {
 	f, err := os.Open(p)
 	if err != nil {
-		return 0, 0, err
+		return err
 	}
 	defer f.Close()
-	buf := make([]byte, 1<<20)
-	var n int64
-	for {
-		k, err := f.Read(buf)
-		n += int64(k)
-		if err != nil {
-			return n, 0, nil
-		}
-	}
+	_, err = io.Copy(io.Discard, f)
+	return err
 }
