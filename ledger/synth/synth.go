@@ -256,7 +256,9 @@ func round(v float64, places int) float64 {
 // BenchFile writes the benchmark's dive: hours at hz with gauges strain
 // columns and a temperature, t_s times and pressure in MPa (for 10 h: 1 h
 // descent to 40 MPa, 4 h hold with ±0.2 MPa swell of 60 s period, 1 h
-// ascent, 4 h at the surface; 0.01 MPa noise throughout).
+// ascent, 4 h at the surface; Gaussian pressure noise N(0, σ = 0.01 MPa)
+// on every sample, the configured sensor noise, and N(0, 2 µε) on the
+// gauges).
 func BenchFile(w io.Writer, hours, hz float64, gauges int, seed uint64) (int, error) {
 	rng := rand.New(rand.NewPCG(seed, 7))
 	bw := bufio.NewWriterSize(w, 1<<20)
