@@ -10,7 +10,7 @@ import (
 )
 
 func (a *app) verifyCmd() *cobra.Command {
-	var cpFile, keyFile, bundleFile string
+	var cpFile, keyFile, bundleFile, sinceFile string
 	c := &cobra.Command{
 		Use:   "verify",
 		Short: "Recompute every hull's audit chain; exit 1 at the first broken link",
@@ -20,15 +20,24 @@ func (a *app) verifyCmd() *cobra.Command {
 			"checkpointed length. This finds a chain cut short, a hull removed, and records rewritten with every later hash recomputed, " +
 			"which the recomputation alone cannot see, as long as the rewritten records are older than the checkpoint; records appended " +
 			"after the newest checkpoint are beyond its reach. With --bundle FILE --key CERT.pem, checks one hull's bundle (from " +
-			"'hulltally export') instead, without opening any database: its signature, its chain, every reading block's data and its checkpoint.",
-		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem\n  hulltally verify --bundle ex-c4000-01.bundle --key operator.pem",
+			"'hulltally export') instead, without opening any database: its signature, its chain, every reading block's data and its checkpoint. " +
+			"With --since FILE, verifies only the records added since the newest checkpoint in FILE (and every hull added since), " +
+			"after checking that each chain still holds that checkpoint's head; with --key, the checkpoint's signature is checked first. " +
+			"Records before the checkpoint are not re-read: run the full verify as well, less often.",
+		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem\n  hulltally verify --bundle ex-c4000-01.bundle --key operator.pem\n  hulltally verify --since ~/.local/share/hulltally/checkpoints.log --key operator.pem",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			if bundleFile != "" {
-				if cpFile != "" || keyFile == "" {
-					return usageError{errors.New("--bundle takes --key (the operator's certificate) and not --checkpoint")}
+				if cpFile != "" || sinceFile != "" || keyFile == "" {
+					return usageError{errors.New("--bundle takes --key (the operator's certificate) and not --checkpoint or --since")}
 				}
 				return a.verifyBundle(bundleFile, keyFile)
+			}
+			if sinceFile != "" {
+				if cpFile != "" {
+					return usageError{errors.New("--since and --checkpoint do not go together")}
+				}
+				return a.verifySince(cmd, sinceFile, keyFile)
 			}
 			if (cpFile == "") != (keyFile == "") {
 				return usageError{errors.New("--checkpoint and --key go together")}
@@ -69,6 +78,7 @@ func (a *app) verifyCmd() *cobra.Command {
 	}
 	c.Flags().StringVar(&cpFile, "checkpoint", "", "check the signed checkpoints in this file (JSON lines) as well")
 	c.Flags().StringVar(&keyFile, "key", "", "the operator's certificate or public key (PEM, from 'hulltally key export'), with --checkpoint or --bundle")
+	c.Flags().StringVar(&sinceFile, "since", "", "verify only what was added since the newest checkpoint in this file (JSON lines); with --key its signature is checked first")
 	c.Flags().StringVar(&bundleFile, "bundle", "", "check this hull bundle (from 'hulltally export') against --key instead, without opening the database")
 	return c
 }
@@ -153,6 +163,93 @@ func (a *app) verifyCheckpoints(cmd *cobra.Command, l *ledger.Ledger, cps []*led
 				a.printf("  hull %s: %s: %s\n", h.Serial, h.State, h.Reason)
 			}
 		}
+	}
+	return nil
+}
+
+// sinceReport is verify's JSON document with --since.
+type sinceReport struct {
+	OK bool `json:"ok"`
+	// Since is the sequence number of the checkpoint whose heads were the
+	// starting point.
+	Since int64 `json:"since"`
+	// SignatureChecked is true when --key was given.
+	SignatureChecked bool                     `json:"signature_checked"`
+	Chain            *ledger.VerifyResult     `json:"chain"`
+	Checkpoint       *ledger.CheckpointResult `json:"checkpoint,omitempty"`
+}
+
+// verifySince verifies what was added since the newest checkpoint in
+// file, checking its signature first when keyFile is given.
+func (a *app) verifySince(cmd *cobra.Command, file, keyFile string) error {
+	cps, err := readCheckpoints(file)
+	if err != nil {
+		return err
+	}
+	cp := cps[0]
+	for _, c := range cps[1:] {
+		if c.Seq > cp.Seq {
+			cp = c
+		}
+	}
+	var pub crypto.PublicKey
+	if keyFile != "" {
+		if pub, err = readPublicKey(keyFile); err != nil {
+			return err
+		}
+	}
+	l, err := a.open(cmd.Context())
+	if err != nil {
+		return err
+	}
+	defer l.Close()
+	rep := sinceReport{Since: cp.Seq, SignatureChecked: pub != nil}
+	if pub != nil {
+		r, err := l.VerifyCheckpointSince(cmd.Context(), cp, pub)
+		if err != nil {
+			return err
+		}
+		rep.Chain, rep.Checkpoint, rep.OK = r.Chain, r, r.OK && r.Chain != nil && r.Chain.OK
+		r.Chain = nil // the report holds it once
+	} else {
+		since, err := ledger.SinceCheckpoint(cp)
+		if err != nil {
+			return err
+		}
+		if rep.Chain, err = l.VerifySince(cmd.Context(), since); err != nil {
+			return err
+		}
+		rep.OK = rep.Chain.OK
+	}
+	if !rep.OK {
+		a.exit = exitFailed
+	}
+	if a.asJSON {
+		return a.printJSON(rep)
+	}
+	if rep.Checkpoint != nil && !rep.Checkpoint.SignatureOK {
+		a.printf("CHECKPOINT %d (%s) FAILS: %s; nothing else was checked\n", cp.Seq, cp.Time.Format("2006-01-02T15:04:05Z07:00"), rep.Checkpoint.Reason)
+		return nil
+	}
+	if rep.Chain.OK {
+		a.printf("ledger verified since checkpoint %d (%s): %d records added on %d hull chains, every link holds\n",
+			cp.Seq, cp.Time.Format("2006-01-02T15:04:05Z07:00"), rep.Chain.Records, rep.Chain.Hulls)
+	} else {
+		a.printChain(rep.Chain)
+	}
+	if r := rep.Checkpoint; r != nil {
+		if r.OK {
+			a.printf("checkpoint %d holds: signature good, %d hull chains extend their checkpointed heads, %d hulls added since\n", r.Seq, len(r.Hulls), len(r.New))
+		} else {
+			a.printf("CHECKPOINT %d (%s) FAILS: %s\n", r.Seq, r.Time.Format("2006-01-02T15:04:05Z07:00"), r.Reason)
+			for _, h := range r.Hulls {
+				if h.State != ledger.CheckpointExtends {
+					a.printf("  hull %s: %s: %s\n", h.Serial, h.State, h.Reason)
+				}
+			}
+		}
+	} else {
+		a.printf("(checkpoint signature not checked: give --key to check it)\n")
 	}
 	return nil
 }
