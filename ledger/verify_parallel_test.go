@@ -11,8 +11,8 @@ import (
 
 	"github.com/google/uuid"
 
-	"hulltally/ledger"
 	"hulltally/fatigue/seawater"
+	"hulltally/ledger"
 )
 
 // fleetLedger is a ledger of the example hull and four more, each with
