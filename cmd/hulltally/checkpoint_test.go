@@ -131,6 +131,39 @@ func TestCheckpointCLI(t *testing.T) {
 		t.Fatalf("--checkpoint alone: exit %d", code)
 	}
 
+	// --since: nothing added after checkpoint 2, then one dive's records.
+	type sinceRep struct {
+		OK               bool  `json:"ok"`
+		Since            int64 `json:"since"`
+		SignatureChecked bool  `json:"signature_checked"`
+		Chain            struct {
+			OK      bool  `json:"ok"`
+			Records int64 `json:"records"`
+		} `json:"chain"`
+	}
+	var sr sinceRep
+	e.jsonOK(&sr, "verify", "--since", logPath, "--key", pub)
+	if !sr.OK || sr.Since != 2 || !sr.SignatureChecked || sr.Chain.Records != 0 {
+		t.Fatalf("verify --since before a dive: %+v", sr)
+	}
+	e.logDive(t, 3, 300)
+	sr = sinceRep{}
+	e.jsonOK(&sr, "verify", "--since", logPath, "--key", pub)
+	if !sr.OK || sr.Since != 2 || sr.Chain.Records < 1 {
+		t.Fatalf("verify --since after a dive: %+v", sr)
+	}
+	if out = e.ok("verify", "--since", logPath); !strings.Contains(out, "ledger verified since checkpoint 2") || !strings.Contains(out, "signature not checked") {
+		t.Fatalf("verify --since without --key:\n%s", out)
+	}
+	// Another operator's key: the checkpoint is refused, exit 1.
+	out, _, code = e.run("verify", "--since", logPath, "--key", otherPub)
+	if code != exitFailed || !strings.Contains(out, "CHECKPOINT 2") {
+		t.Fatalf("--since, other key: exit %d\n%s", code, out)
+	}
+	if _, _, code = e.run("verify", "--since", logPath, "--checkpoint", logPath, "--key", pub); code != exitInput {
+		t.Fatalf("--since with --checkpoint: exit %d", code)
+	}
+
 	// The hull removed with its chain: plain verify passes, the
 	// checkpoint does not.
 	ctx := context.Background()
