@@ -84,9 +84,18 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			return nil, inputErr(fmt.Errorf("hull %s: %w", h.Serial, err))
 		}
 	}
-	prev, err := l.hullDamages(ctx, hulls)
-	if err != nil {
-		return nil, err
+	// The damage in force before, read a few hulls at a time and kept as
+	// totals only: memory is bounded by the largest hull, not the fleet.
+	prev := make([]*Damages, len(hulls))
+	for lo := 0; lo < len(hulls); lo += assessChunk {
+		p, err := l.hullDamages(ctx, hulls[lo:min(lo+assessChunk, len(hulls))])
+		if err != nil {
+			return nil, err
+		}
+		for k := range p {
+			p[k].PerDive = nil
+			prev[lo+k] = p[k]
+		}
 	}
 	out := make([]AssessResult, len(hulls))
 	// Dives logged before cycles were stored are counted from their raw
@@ -101,20 +110,75 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			return nil, fmt.Errorf("assess %s: %w", hulls[i].Serial, err)
 		}
 	}
-	dmg := make([][]compDamage, len(hulls))
-	for i := range hulls {
-		dmg[i] = newColumns(comps[i], 1024)
-		for k, e := range asr[i].Settings() {
-			dmg[i][k].rec.setSettings(e)
-		}
+	// Every new assessment is appended in one transaction, each hull's as
+	// soon as its last dive has been read, so only one hull's dives are
+	// held at a time.
+	tx, err := l.pool.Begin(ctx)
+	if err != nil {
+		return nil, err
 	}
-	perDive := make([][]DiveDamage, len(hulls))
-	// One goroutine reads and decodes the stored cycles, this one computes.
+	defer tx.Rollback(ctx)
+	at := now()
+	store := func(i int, cols []compDamage, perDive []DiveDamage) error {
+		h := hulls[i]
+		sort.Slice(perDive, func(a, b int) bool {
+			x, y := perDive[a], perDive[b]
+			if !x.Start.Equal(y.Start) {
+				return x.Start.Before(y.Start)
+			}
+			return bytes.Compare(x.Dive[:], y.Dive[:]) < 0
+		})
+		head := &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "reassess", configHash: l.fat.hash,
+			configJSON: l.fat.json, reason: o.Reason, actor: o.Actor, at: at}
+		rec, err := storeAssessment(ctx, tx, head, cols)
+		if err != nil {
+			return fmt.Errorf("assess %s: %w", h.Serial, err)
+		}
+		if _, err := appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
+			return err
+		}
+		cur := l.newDamages(h)
+		cur.PerDive = perDive
+		for ci, c := range comps[i] {
+			m := &cur.Components[ci]
+			m.Basis, m.Factor, m.Curve = string(c.Transfer.Transfer.Basis), c.Transfer.Transfer.Factor, c.Curve.Name
+			if c.Rupture != nil {
+				m.RuptureCurve = c.Rupture.Name
+			}
+			// cols is sorted by component now; find this one's record.
+			for k := range cols {
+				if cols[k].component == c.Name {
+					m.setRecord(cols[k].rec)
+				}
+			}
+		}
+		cur.Assessments = prev[i].Assessments + 1
+		cur.ConfigHash = fmt.Sprintf("%x", l.fat.hash)
+		if err := l.finishDamages(h, cur); err != nil {
+			return err
+		}
+		cur.PerDive = nil
+		out[i].Hull, out[i].AssessmentID, out[i].ConfigHash = h.Serial, head.id, cur.ConfigHash
+		out[i].Dives, out[i].Previous, out[i].Current = len(perDive), prev[i], cur
+		return nil
+	}
+	newCols := func(i int) []compDamage {
+		cols := newColumns(comps[i], 1024)
+		for k, e := range asr[i].Settings() {
+			cols[k].rec.setSettings(e)
+		}
+		return cols
+	}
+	// One goroutine reads and decodes the stored cycles, assessChunk hulls
+	// at a time (each chunk's rows as they come, unsorted, so reading
+	// starts at once and overlaps the computing), then sends a marker; this
+	// one computes and, at the marker, stores the chunk's hulls.
 	type item struct {
-		hull  int
-		id    uuid.UUID
-		start time.Time
-		dive  assess.Dive
+		hull     int // -1: the chunk ending at chunkEnd has been read whole
+		id       uuid.UUID
+		start    time.Time
+		dive     assess.Dive
+		chunkEnd int
 	}
 	items := make(chan item, 256)
 	readErr := make(chan error, 1)
@@ -126,116 +190,108 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			if _, err := tx.Exec(rctx, "SET LOCAL work_mem = '64MB'"); err != nil {
 				return err
 			}
-			rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
-				FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
-				LEFT JOIN dive_holds h ON h.dive_id = d.id
-				WHERE d.hull_id = ANY($1)`, ids)
-			if err != nil {
-				return fmt.Errorf("assess: reading cycles: %w", err)
-			}
-			defer rows.Close()
-			var rg, mn, ct, lv, sec []float64
-			var hullID uuid.UUID
-			for rows.Next() {
-				var it item
-				if err := rows.Scan(&hullID, &it.id, &it.start, &rg, &mn, &ct, &lv, &sec); err != nil {
-					return err
-				}
-				it.hull = byID[hullID]
-				it.dive.PressureCycles = joinCyclesInto(nil, rg, mn, ct)
-				it.dive.Holds = make([]assess.Hold, len(lv))
-				for k := range lv {
-					it.dive.Holds[k] = assess.Hold{LevelMPa: lv[k], Seconds: sec[k]}
-				}
+			send := func(it item) error {
 				select {
 				case items <- it:
+					return nil
 				case <-rctx.Done():
 					return rctx.Err()
 				}
 			}
-			return rows.Err()
+			var rg, mn, ct, lv, sec []float64
+			var hullID uuid.UUID
+			for lo := 0; lo < len(ids); lo += assessChunk {
+				hi := min(lo+assessChunk, len(ids))
+				rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
+					FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
+					LEFT JOIN dive_holds h ON h.dive_id = d.id
+					WHERE d.hull_id = ANY($1)`, ids[lo:hi])
+				if err != nil {
+					return fmt.Errorf("assess: reading cycles: %w", err)
+				}
+				for rows.Next() {
+					var it item
+					if err := rows.Scan(&hullID, &it.id, &it.start, &rg, &mn, &ct, &lv, &sec); err != nil {
+						rows.Close()
+						return err
+					}
+					it.hull = byID[hullID]
+					it.dive.PressureCycles = joinCyclesInto(nil, rg, mn, ct)
+					it.dive.Holds = make([]assess.Hold, len(lv))
+					for k := range lv {
+						it.dive.Holds[k] = assess.Hold{LevelMPa: lv[k], Seconds: sec[k]}
+					}
+					if err := send(it); err != nil {
+						rows.Close()
+						return err
+					}
+				}
+				rows.Close()
+				if err := rows.Err(); err != nil {
+					return fmt.Errorf("assess: reading cycles: %w", err)
+				}
+				if err := send(item{hull: -1, chunkEnd: hi}); err != nil {
+					return err
+				}
+			}
+			return nil
 		})
 	}()
 	var cerr error
+	cols := make([][]compDamage, len(hulls))
+	perDive := make([][]DiveDamage, len(hulls))
+	stored := 0
 	for it := range items {
 		if cerr != nil {
 			continue
 		}
-		res, err := asr[it.hull].Dive(it.dive)
+		if it.hull < 0 {
+			for ; stored < it.chunkEnd && cerr == nil; stored++ {
+				if cols[stored] == nil {
+					cols[stored] = newCols(stored)
+				}
+				cerr = store(stored, cols[stored], perDive[stored])
+				cols[stored], perDive[stored] = nil, nil
+			}
+			if cerr != nil {
+				cancel()
+			}
+			continue
+		}
+		i := it.hull
+		if cols[i] == nil {
+			cols[i] = newCols(i)
+		}
+		res, err := asr[i].Dive(it.dive)
 		if err != nil {
-			cerr = fmt.Errorf("assess %s dive %s: %w", hulls[it.hull].Serial, it.id, err)
+			cerr = fmt.Errorf("assess %s dive %s: %w", hulls[i].Serial, it.id, err)
 			cancel()
 			continue
 		}
-		addDive(dmg[it.hull], it.id, res)
+		addDive(cols[i], it.id, res)
 		dd := DiveDamage{Dive: it.id, Start: it.start, Damage: make(map[string]damage.Damage, len(res))}
 		for _, r := range res {
 			dd.Damage[r.Component] = r.Damage
 		}
-		perDive[it.hull] = append(perDive[it.hull], dd)
+		perDive[i] = append(perDive[i], dd)
 	}
 	if err := <-readErr; cerr == nil && err != nil {
 		cerr = err
 	}
+	if cerr == nil && stored != len(hulls) {
+		cerr = fmt.Errorf("assess: %d of %d hulls were read", stored, len(hulls))
+	}
 	if cerr != nil {
 		return nil, cerr
-	}
-	for i := range perDive {
-		sort.Slice(perDive[i], func(a, b int) bool {
-			x, y := perDive[i][a], perDive[i][b]
-			if !x.Start.Equal(y.Start) {
-				return x.Start.Before(y.Start)
-			}
-			return bytes.Compare(x.Dive[:], y.Dive[:]) < 0
-		})
-	}
-	tx, err := l.pool.Begin(ctx)
-	if err != nil {
-		return nil, err
-	}
-	defer tx.Rollback(ctx)
-	at := now()
-	heads := make([]*assessmentHead, len(hulls))
-	for i, h := range hulls {
-		heads[i] = &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "reassess", configHash: l.fat.hash,
-			configJSON: l.fat.json, reason: o.Reason, actor: o.Actor, at: at}
-		rec, err := storeAssessment(ctx, tx, heads[i], dmg[i])
-		if err != nil {
-			return nil, fmt.Errorf("assess %s: %w", h.Serial, err)
-		}
-		if _, err := appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
-			return nil, err
-		}
 	}
 	if err := tx.Commit(ctx); err != nil {
 		return nil, fmt.Errorf("assess: commit: %w", err)
 	}
-	for i, h := range hulls {
-		cur := l.newDamages(h)
-		cur.PerDive = perDive[i]
-		for ci, c := range comps[i] {
-			m := &cur.Components[ci]
-			m.Basis, m.Factor, m.Curve = string(c.Transfer.Transfer.Basis), c.Transfer.Transfer.Factor, c.Curve.Name
-			if c.Rupture != nil {
-				m.RuptureCurve = c.Rupture.Name
-			}
-			// dmg[i] is sorted by component now; find this one's record.
-			for k := range dmg[i] {
-				if dmg[i][k].component == c.Name {
-					m.setRecord(dmg[i][k].rec)
-				}
-			}
-		}
-		cur.Assessments = prev[i].Assessments + 1
-		cur.ConfigHash = fmt.Sprintf("%x", l.fat.hash)
-		if err := l.finishDamages(h, cur); err != nil {
-			return nil, err
-		}
-		out[i].Hull, out[i].AssessmentID, out[i].ConfigHash = h.Serial, heads[i].id, cur.ConfigHash
-		out[i].Dives, out[i].Previous, out[i].Current = len(perDive[i]), prev[i], cur
-	}
 	return out, nil
 }
+
+// assessChunk is how many hulls' damage in force Assess reads at once.
+const assessChunk = 32
 
 // hullsMissingCounts lists the hulls that have dives without stored cycles.
 func (l *Ledger) hullsMissingCounts(ctx context.Context, ids [][16]byte) ([]uuid.UUID, error) {

@@ -6,6 +6,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"runtime"
 	"testing"
 	"time"
 
@@ -34,18 +35,45 @@ func BenchmarkReassessFleet(b *testing.B) {
 		b.Fatal(err)
 	}
 	defer l.Close()
-	base := exampleSpec(b)
-	rng := rand.New(rand.NewPCG(1, 2))
-	for h := 0; h < hulls; h++ {
-		sp := *base
-		sp.Serial = fmt.Sprintf("FLEET-%03d", h)
-		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"})
+	copyFleet(b, l, "FLEET", hulls, func(int) int { return dives })
+	if _, err := l.Pool().Exec(ctx, "ANALYZE"); err != nil {
+		b.Fatal(err)
+	}
+	runtime.GC()
+	peak := watchHeap()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "bench", Reason: "benchmark"})
 		if err != nil {
 			b.Fatal(err)
 		}
+		if len(res) != hulls || res[0].Dives != dives {
+			b.Fatalf("assessed %d hulls, %d dives", len(res), res[0].Dives)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N), "s/fleet")
+	b.ReportMetric(float64(hulls*dives)*float64(b.N)/b.Elapsed().Seconds(), "dives/s")
+	b.ReportMetric(float64(peak())/(1<<20), "peak-heap-MB")
+}
+
+// copyFleet adds hulls example hulls named PREFIX-NNN and, with COPY,
+// dives(h) dives of stored cycles and holds for hull h (no readings: the
+// fleet is for re-assessment). The cycles are random but seeded.
+func copyFleet(tb testing.TB, l *ledger.Ledger, prefix string, hulls int, dives func(h int) int) {
+	tb.Helper()
+	ctx := context.Background()
+	base := exampleSpec(tb)
+	rng := rand.New(rand.NewPCG(1, 2))
+	for h := 0; h < hulls; h++ {
+		sp := *base
+		sp.Serial = fmt.Sprintf("%s-%03d", prefix, h)
+		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"})
+		if err != nil {
+			tb.Fatal(err)
+		}
 		var diveRows, cycleRows, holdRows [][]any
 		t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
-		for d := 0; d < dives; d++ {
+		for d := 0; d < dives(h); d++ {
 			id := uuid.New()
 			peak := 20 + 20*rng.Float64()
 			st := t0.Add(time.Duration(d) * 30 * time.Hour)
@@ -77,24 +105,40 @@ func BenchmarkReassessFleet(b *testing.B) {
 			return err
 		})
 		if err != nil {
-			b.Fatal(err)
+			tb.Fatal(err)
 		}
 	}
-	if _, err := l.Pool().Exec(ctx, "ANALYZE"); err != nil {
-		b.Fatal(err)
-	}
-	b.ResetTimer()
-	for i := 0; i < b.N; i++ {
-		res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "bench", Reason: "benchmark"})
-		if err != nil {
-			b.Fatal(err)
+}
+
+// watchHeap samples the heap in use every 5 ms until the returned
+// function is called, which returns the largest sample (a lower bound of
+// the true peak; the process's RSS is what hulltally-bench reports).
+func watchHeap() func() uint64 {
+	stop, done := make(chan struct{}), make(chan uint64)
+	go func() {
+		var m runtime.MemStats
+		var max uint64
+		t := time.NewTicker(5 * time.Millisecond)
+		defer t.Stop()
+		for {
+			runtime.ReadMemStats(&m)
+			max = maxU(max, m.HeapInuse)
+			select {
+			case <-stop:
+				done <- max
+				return
+			case <-t.C:
+			}
 		}
-		if len(res) != hulls || res[0].Dives != dives {
-			b.Fatalf("assessed %d hulls, %d dives", len(res), res[0].Dives)
-		}
+	}()
+	return func() uint64 { close(stop); return <-done }
+}
+
+func maxU(a, b uint64) uint64 {
+	if a > b {
+		return a
 	}
-	b.ReportMetric(float64(b.Elapsed().Seconds())/float64(b.N), "s/fleet")
-	b.ReportMetric(float64(hulls*dives)*float64(b.N)/b.Elapsed().Seconds(), "dives/s")
+	return b
 }
 
 // BenchmarkLogDive logs a one-hour, 100 Hz dive with 8 strain gauges
