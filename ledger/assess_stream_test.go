@@ -6,6 +6,8 @@ import (
 	"math"
 	"testing"
 
+	"github.com/google/uuid"
+
 	"hulltally/ledger"
 )
 
@@ -72,5 +74,44 @@ func TestAssessHullByHull(t *testing.T) {
 				t.Errorf("%s: governing ratio %s %v, fleet assessment %v", serial, name, got, want)
 			}
 		}
+	}
+}
+
+// TestAssessLeavesVoidedDivesOut: a voided dive counts for nothing, so
+// the figures a re-assessment returns must be those read back afterwards,
+// not ones that still add the voided dive's damage.
+func TestAssessLeavesVoidedDivesOut(t *testing.T) {
+	ctx := context.Background()
+	l, err := ledger.Open(ctx, testConfig(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer l.Close()
+	copyFleet(t, l, "VOIDED", 1, func(int) int { return 3 })
+	var id uuid.UUID
+	if err := l.Pool().QueryRow(ctx, `SELECT d.id FROM dives d JOIN hulls h ON h.id = d.hull_id WHERE h.serial = 'VOIDED-000' ORDER BY d.max_pressure_mpa DESC LIMIT 1`).Scan(&id); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := l.VoidDive(ctx, id.String(), "logger fault", "test"); err != nil {
+		t.Fatal(err)
+	}
+	res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "test", Reason: "after the void"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	h, err := l.Hull(ctx, "VOIDED-000")
+	if err != nil {
+		t.Fatal(err)
+	}
+	inForce, err := l.HullDamage(ctx, h)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res[0].Dives != 2 || res[0].Current.DiveCount != 2 || inForce.DiveCount != 2 {
+		t.Errorf("dives assessed %d, counted %d, in force %d; want 2 (one of 3 voided)", res[0].Dives, res[0].Current.DiveCount, inForce.DiveCount)
+	}
+	got, want := float64(res[0].Current.GoverningRatio), float64(inForce.GoverningRatio)
+	if math.Abs(got-want) > 1e-12*math.Max(1, want) {
+		t.Errorf("assess returned governing ratio %v, the damage in force is %v", got, want)
 	}
 }

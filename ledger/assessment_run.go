@@ -39,10 +39,11 @@ type AssessResult struct {
 	Current        *Damages `json:"current"`
 }
 
-// Assess re-assesses hulls from their stored cycles (no raw readings are
-// read, except to count dives logged before cycles were stored) with the
-// configuration in force, appending a new assessment per hull in one
-// transaction; the earlier ones stay on record.
+// Assess re-assesses hulls from their stored cycles, voided dives left out
+// as in the damage in force (no raw readings are read, except to count
+// dives logged before cycles were stored), with the configuration in
+// force, appending a new assessment per hull in one transaction; the
+// earlier ones stay on record.
 func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, error) {
 	if err := l.writable("Assess"); err != nil {
 		return nil, err
@@ -205,7 +206,7 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 				rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
 					FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
 					LEFT JOIN dive_holds h ON h.dive_id = d.id
-					WHERE d.hull_id = ANY($1)`, ids[lo:hi])
+					WHERE d.hull_id = ANY($1) AND `+notVoided, ids[lo:hi])
 				if err != nil {
 					return fmt.Errorf("assess: reading cycles: %w", err)
 				}
