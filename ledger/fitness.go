@@ -280,10 +280,12 @@ func (l *Ledger) specOfRevision(ctx context.Context, hull uuid.UUID, rev int32) 
 func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, error) {
 	min := 0.1 * h.Spec.DesignPressureMPa
 	var n float64
-	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(cnt), 0) FROM (
-		SELECT c.counts[i] AS cnt FROM dive_cycles c JOIN dives d ON d.id = c.dive_id,
-		generate_subscripts(c.ranges, 1) AS i
-		WHERE c.hull_id = $1 AND c.series = 'pressure' AND c.ranges[i] >= $2 AND `+notVoided+`) x`, h.ID, min).Scan(&n)
+	// unnest, not c.ranges[i] over generate_subscripts: a subscript
+	// de-TOASTs the whole array each time, which made this quadratic in a
+	// dive's cycles (1.3 s for one 10 h dive with sensor noise).
+	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0) FROM dive_cycles c JOIN dives d ON d.id = c.dive_id,
+		unnest(c.ranges, c.counts) AS u(rng, cnt)
+		WHERE c.hull_id = $1 AND c.series = 'pressure' AND u.rng >= $2 AND `+notVoided, h.ID, min).Scan(&n)
 	if err != nil {
 		return 0, fmt.Errorf("pressure cycles of %s: %w", h.Serial, err)
 	}
