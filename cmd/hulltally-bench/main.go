@@ -3,11 +3,15 @@
 //
 // Each round generates a long dive (default 10 h at 100 Hz with 8 strain
 // gauges: 3.6 million rows; a new seed each round, so that every round is a
-// new dive), then times three loads of that same file, in an order that
+// new dive), then times four loads of that same file, in an order that
 // alternates from round to round:
 //
 //   - hulltally: `hulltally dive log` of the file into its own hull (parse,
 //     count, check, encode into compact blocks, store, audit chain);
+//   - hulltally on one core: the same with GOMAXPROCS=1, into a second
+//     hull, of a second file of the same length (another seed), since the
+//     same samples are refused on a second hull; how much the second core
+//     gives;
 //   - psql-plain: psql \copy of the file into a plain table of the same
 //     columns (one row per sample);
 //   - psql-blocks: psql \copy into a table of the same layout as
@@ -93,10 +97,11 @@ const (
 	sideHT = iota
 	sidePlain
 	sideBlocks
+	sideHT1
 	nSides
 )
 
-var sideNames = [nSides]string{"hulltally dive log", "psql \\copy plain", "psql \\copy blocks"}
+var sideNames = [nSides]string{"hulltally dive log", "psql \\copy plain", "psql \\copy blocks", "hulltally GOMAXPROCS=1"}
 
 // measure is one timed load.
 type measure struct {
@@ -179,9 +184,19 @@ func run(ctx context.Context, o options) error {
 		if err != nil {
 			return err
 		}
+		// The one-core side logs a dive of its own (same length and noise,
+		// another seed): the same file again would be refused as the same
+		// samples on another hull.
+		file1 := filepath.Join(work, fmt.Sprintf("bench-dive-%d-1.csv", r+1))
+		if _, err := writeDive(file1, o, uint64(1000+r+1)); err != nil {
+			return err
+		}
 		st, _ := os.Stat(file)
 		serial := fmt.Sprintf("BENCH-%02d", r+1)
 		if err := addHull(ctx, l, serial, o.gauges); err != nil {
+			return err
+		}
+		if err := addHull(ctx, l, serial+"-1", o.gauges); err != nil {
 			return err
 		}
 		blockCSV := file + ".blocks.csv"
@@ -201,7 +216,10 @@ func run(ctx context.Context, o options) error {
 		if err := readAll(blockCSV); err != nil {
 			return err
 		}
-		order := []int{sideHT, sidePlain, sideBlocks}
+		if err := readAll(file1); err != nil {
+			return err
+		}
+		order := []int{sideHT, sidePlain, sideBlocks, sideHT1}
 		if r%2 == 1 {
 			slices.Reverse(order)
 		}
@@ -211,6 +229,10 @@ func run(ctx context.Context, o options) error {
 			case sideHT:
 				cmd = exec.CommandContext(ctx, o.bin, "dive", "log", "--hull", serial, "--start", start.Format(time.RFC3339), "--lat", "45", "--json", file)
 				cmd.Env = env
+			case sideHT1:
+				// The same file into a second hull, on one core.
+				cmd = exec.CommandContext(ctx, o.bin, "dive", "log", "--hull", serial+"-1", "--start", start.Format(time.RFC3339), "--lat", "45", "--json", file1)
+				cmd.Env = append(slices.Clone(env), "GOMAXPROCS=1")
 			case sidePlain:
 				cmd = psqlCopy(ctx, dbURL, "bench_plain", file)
 			case sideBlocks:
@@ -228,11 +250,12 @@ func run(ctx context.Context, o options) error {
 		_ = l.Pool().QueryRow(ctx, "SELECT pg_total_relation_size('reading_blocks')").Scan(&htBytes)
 		if !o.keep {
 			os.Remove(file)
+			os.Remove(file1)
 			os.Remove(blockCSV)
 		}
 	}
 
-	fmt.Printf("\n%d rounds, order alternating (round 1: %s, %s, %s; round 2 reversed; …)\n", o.rounds, sideNames[0], sideNames[1], sideNames[2])
+	fmt.Printf("\n%d rounds, order alternating (round 1: %s, %s, %s, %s; round 2 reversed; …)\n", o.rounds, sideNames[0], sideNames[1], sideNames[2], sideNames[3])
 	fmt.Printf("%-20s %26s  %32s  %17s  %17s  %s\n", "", "wall s min/median/max", "rows/s min/median/max", "cpu (child)", "cpu (server)", "peak RSS MB max")
 	for side := 0; side < nSides; side++ {
 		var wall, rps, cpu, srv []float64
@@ -260,7 +283,8 @@ func run(ctx context.Context, o options) error {
 	fmt.Printf("  hulltally / psql \\copy plain:  %s\n", mmm(ratio(sideHT, sidePlain), "%.2f"))
 	fmt.Printf("  hulltally / psql \\copy blocks: %s   (same stored bytes, like for like)\n", mmm(ratio(sideHT, sideBlocks), "%.2f"))
 	fmt.Printf("  psql blocks / psql plain:      %s\n", mmm(ratio(sideBlocks, sidePlain), "%.2f"))
-	fmt.Printf("\nstored size of the last round: plain table %.0f MB, blocks table %.1f MB; hulltally reading_blocks (all %d rounds) %.1f MB\n",
+	fmt.Printf("  hulltally / hulltally on one core (GOMAXPROCS=1): %s\n", mmm(ratio(sideHT, sideHT1), "%.2f"))
+	fmt.Printf("\nstored size of the last round: plain table %.0f MB, blocks table %.1f MB; hulltally reading_blocks (all %d rounds, both hulltally sides) %.1f MB\n",
 		float64(plainBytes)/1e6, float64(blockBytes)/1e6, o.rounds, float64(htBytes)/1e6)
 	return nil
 }
