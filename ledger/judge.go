@@ -94,7 +94,7 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 		if err := lockHullDives(ctx, tx, h); err != nil {
 			return err
 		}
-		tag, err := tx.Exec(ctx, `INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at) VALUES ($1,$2,$3,$4,$5,$6) ON CONFLICT (dive_id) DO NOTHING`,
+		tag, err := tx.Exec(ctx, `INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at) VALUES ($1,$2,$3,$4,$5,$6) ON CONFLICT (hull_id, dive_id) DO NOTHING`,
 			v.ID, h.ID, v.Dive, v.Reason, v.Actor, v.RecordedAt)
 		if err != nil {
 			return fmt.Errorf("voiding dive %s: %w", d.ID, err)

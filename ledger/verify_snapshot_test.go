@@ -170,10 +170,24 @@ func judgedLedger(t *testing.T) *ledger.Ledger {
 // administrator would, and fails the test when it changed nothing.
 func tamper(t *testing.T, l *ledger.Ledger, sql string, args ...any) {
 	t.Helper()
+	if err := tamperWith(l, "USER", sql, args...); err != nil {
+		t.Fatalf("%s: %v", sql, err)
+	}
+}
+
+// tamperWith is tamper with the triggers of scope switched off: USER (the
+// append-only guards) or ALL (the foreign keys as well, which takes a
+// superuser).
+func tamperWith(l *ledger.Ledger, scope, sql string, args ...any) error {
 	ctx := context.Background()
-	err := pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
+	return pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
+		// Deferred foreign keys are checked at each statement, as the
+		// guards are switched back on before the commit.
+		if _, err := tx.Exec(ctx, "SET CONSTRAINTS ALL IMMEDIATE"); err != nil {
+			return err
+		}
 		for _, tb := range ledgerTables {
-			if _, err := tx.Exec(ctx, "ALTER TABLE "+tb+" DISABLE TRIGGER USER"); err != nil {
+			if _, err := tx.Exec(ctx, "ALTER TABLE "+tb+" DISABLE TRIGGER "+scope); err != nil {
 				return err
 			}
 		}
@@ -187,15 +201,12 @@ func tamper(t *testing.T, l *ledger.Ledger, sql string, args ...any) {
 		// An administrator covering their tracks switches the guards back
 		// on: only the chain can then tell.
 		for _, tb := range ledgerTables {
-			if _, err := tx.Exec(ctx, "ALTER TABLE "+tb+" ENABLE TRIGGER USER"); err != nil {
+			if _, err := tx.Exec(ctx, "ALTER TABLE "+tb+" ENABLE TRIGGER "+scope); err != nil {
 				return err
 			}
 		}
 		return nil
 	})
-	if err != nil {
-		t.Fatalf("%s: %v", sql, err)
-	}
 }
 
 // TestTamperJudgedRecords: edits, removals and additions behind the
@@ -236,7 +247,18 @@ func TestTamperJudgedRecords(t *testing.T) {
 			if err != nil || !res.OK {
 				t.Fatalf("clean ledger: %v %+v", err, res)
 			}
-			tamper(t, l, tc.sql)
+			// A row moved to another hull is refused by the foreign keys
+			// by hull while they are on; the attacker switches them off.
+			if strings.HasPrefix(tc.name, "move ") {
+				if err := tamperWith(l, "USER", tc.sql); err == nil || !strings.Contains(err.Error(), "foreign key") {
+					t.Fatalf("moving a row to another hull with the foreign keys on: %v, want refused by a foreign key", err)
+				}
+				if err := tamperWith(l, "ALL", tc.sql); err != nil {
+					t.Fatalf("%s: %v", tc.sql, err)
+				}
+			} else {
+				tamper(t, l, tc.sql)
+			}
 			res, err = l.Verify(ctx)
 			if err != nil {
 				t.Fatal(err)
