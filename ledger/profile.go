@@ -47,7 +47,11 @@ func (l *Ledger) ProfileOf(ctx context.Context, dive uuid.UUID) (*Profile, error
 // HullCycles returns every pressure cycle of a hull's dives (range, count
 // pairs), for the histogram of its load.
 func (l *Ledger) HullCycles(ctx context.Context, hull uuid.UUID) (ranges, counts []float64, err error) {
-	rows, err := l.db.Query(ctx, "SELECT ranges, counts FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'", hull)
+	// In dive order: the report's fingerprint covers these lists, so their
+	// order must not follow the table's physical order (which a migration,
+	// VACUUM FULL or CLUSTER changes).
+	rows, err := l.db.Query(ctx, `SELECT c.ranges, c.counts FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id
+		WHERE c.hull_id = $1 AND c.series = 'pressure' ORDER BY d.start_time, d.id`, hull)
 	if err != nil {
 		return nil, nil, err
 	}
