@@ -438,15 +438,7 @@ func (l *Ledger) VerifyCheckpoints(ctx context.Context, cps []*Checkpoint, pub c
 		if err != nil {
 			return err
 		}
-		heads, err := readHeads(ctx, s.db)
-		if err != nil {
-			return err
-		}
-		table, tableWhy, err := checkpointTable(ctx, s.db)
-		if err != nil {
-			return err
-		}
-		reg, err := walkRegister(ctx, s.db)
+		st, err := readCheckpointState(ctx, s.db)
 		if err != nil {
 			return err
 		}
@@ -454,24 +446,8 @@ func (l *Ledger) VerifyCheckpoints(ctx context.Context, cps []*Checkpoint, pub c
 			if !out[i].SignatureOK {
 				continue
 			}
-			if err := checkAgainst(ctx, s.db, cp, out[i], heads, chain); err != nil {
+			if err := st.judge(ctx, s.db, cp, out[i], chain); err != nil {
 				return err
-			}
-			r := out[i]
-			if cp.Register != nil {
-				r.Register = checkRegister(cp.Register, reg)
-				if r.Register.State != CheckpointExtends && r.OK {
-					r.OK = false
-					r.Reason = r.Register.Reason
-				}
-			}
-			r.Recorded = tableWhy == "" && table[cp.Seq] == cp.Hash
-			if !r.Recorded && r.OK {
-				r.OK = false
-				r.Reason = "the ledger's checkpoints table does not hold this checkpoint"
-				if tableWhy != "" {
-					r.Reason = "the ledger's checkpoints table is broken: " + tableWhy
-				}
 			}
 		}
 		return nil
@@ -480,6 +456,56 @@ func (l *Ledger) VerifyCheckpoints(ctx context.Context, cps []*Checkpoint, pub c
 		return nil, err
 	}
 	return out, nil
+}
+
+// checkpointState is what checkpoints are checked against, read at one
+// snapshot: every hull's chain head, the checkpoints table and the
+// register of issued reports.
+type checkpointState struct {
+	heads    []CheckpointHull
+	table    map[int64]string
+	tableWhy string
+	reg      *registerState
+}
+
+func readCheckpointState(ctx context.Context, q querier) (*checkpointState, error) {
+	st := &checkpointState{}
+	var err error
+	if st.heads, err = readHeads(ctx, q); err != nil {
+		return nil, err
+	}
+	if st.table, st.tableWhy, err = checkpointTable(ctx, q); err != nil {
+		return nil, err
+	}
+	if st.reg, err = walkRegister(ctx, q); err != nil {
+		return nil, err
+	}
+	return st, nil
+}
+
+// judge fills r, the result of the signed checkpoint cp, with what became
+// of its hulls (against chain, the verify result of the same snapshot),
+// of the register it states, and whether the checkpoints table holds it.
+func (st *checkpointState) judge(ctx context.Context, q querier, cp *Checkpoint, r *CheckpointResult, chain *VerifyResult) error {
+	if err := checkAgainst(ctx, q, cp, r, st.heads, chain); err != nil {
+		return err
+	}
+	if cp.Register != nil {
+		r.Register = checkRegister(cp.Register, st.reg)
+		if r.Register.State != CheckpointExtends && r.OK {
+			r.OK = false
+			r.Reason = r.Register.Reason
+		}
+	}
+	r.Recorded = st.tableWhy == "" && st.table[cp.Seq] == cp.Hash
+	if !r.Recorded && r.OK {
+		r.OK = false
+		r.Reason = "the ledger's checkpoints table does not hold this checkpoint"
+		if st.tableWhy != "" {
+			r.Reason = "the ledger's checkpoints table is broken: " + st.tableWhy
+		}
+	}
+	return nil
 }
 
 // checkAgainst fills r with what became of each of cp's hulls.

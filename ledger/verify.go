@@ -1731,37 +1731,11 @@ func (l *Ledger) VerifyCheckpointSince(ctx context.Context, cp *Checkpoint, pub 
 		if err != nil {
 			return err
 		}
-		heads, err := readHeads(ctx, s.db)
+		st, err := readCheckpointState(ctx, s.db)
 		if err != nil {
 			return err
 		}
-		table, tableWhy, err := checkpointTable(ctx, s.db)
-		if err != nil {
-			return err
-		}
-		reg, err := walkRegister(ctx, s.db)
-		if err != nil {
-			return err
-		}
-		if err := checkAgainst(ctx, s.db, cp, r, heads, chain); err != nil {
-			return err
-		}
-		if cp.Register != nil {
-			r.Register = checkRegister(cp.Register, reg)
-			if r.Register.State != CheckpointExtends && r.OK {
-				r.OK = false
-				r.Reason = r.Register.Reason
-			}
-		}
-		r.Recorded = tableWhy == "" && table[cp.Seq] == cp.Hash
-		if !r.Recorded && r.OK {
-			r.OK = false
-			r.Reason = "the ledger's checkpoints table does not hold this checkpoint"
-			if tableWhy != "" {
-				r.Reason = "the ledger's checkpoints table is broken: " + tableWhy
-			}
-		}
-		return nil
+		return st.judge(ctx, s.db, cp, r, chain)
 	})
 	if err != nil {
 		return nil, err

@@ -261,10 +261,14 @@ func BenchmarkVerifyWorkers(b *testing.B) {
 	}
 }
 
-// benchVerifyLedger builds BenchmarkVerify's ledger: 20 hulls × 50 short
-// dives, logged four hulls at a time.
+// The size of the verify benchmarks' ledger.
+const benchVerifyHulls, benchVerifyDives = 20, 50
+
+// benchVerifyLedger builds the verify benchmarks' ledger: 20 hulls × 50
+// short dives (each with its readings, hits, cycles, profile, evidence
+// and assessment), logged four hulls at a time.
 func benchVerifyLedger(b *testing.B) *ledger.Ledger {
-	const hulls, dives = 20, 50
+	const hulls, dives = benchVerifyHulls, benchVerifyDives
 	ctx := context.Background()
 	l, err := ledger.Open(ctx, testConfig(b))
 	if err != nil {

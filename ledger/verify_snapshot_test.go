@@ -328,50 +328,10 @@ func TestEveryByteOfABlock(t *testing.T) {
 //
 //	go test -run XXX -bench Verify -benchtime 5x ./ledger/
 func BenchmarkVerify(b *testing.B) {
-	const hulls, dives = 20, 50
+	const hulls, dives = benchVerifyHulls, benchVerifyDives
 	ctx := context.Background()
-	l, err := ledger.Open(ctx, testConfig(b))
-	if err != nil {
-		b.Fatal(err)
-	}
-	defer l.Close()
-	base := exampleSpec(b)
-	dir := b.TempDir()
-	lat := 45.0
-	t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
 	setup := time.Now()
-	var wg sync.WaitGroup
-	errs := make([]error, hulls)
-	for h := 0; h < hulls; h++ {
-		sp := *base
-		sp.Serial = fmt.Sprintf("VER-%03d", h)
-		if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
-			b.Fatal(err)
-		}
-		wg.Add(1)
-		go func(h int, serial string) {
-			defer wg.Done()
-			for d := 0; d < dives; d++ {
-				s, hits := writeSynth(b, dir, fmt.Sprintf("h%02d-d%02d", h, d), shortDive(t0.Add(time.Duration(d)*time.Hour), 300+float64(d*20)), uint64(h*1000+d))
-				if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: s, AE: hits, Latitude: &lat}); err != nil {
-					errs[h] = err
-					return
-				}
-			}
-		}(h, sp.Serial)
-		if h%4 == 3 {
-			wg.Wait()
-		}
-	}
-	wg.Wait()
-	for _, err := range errs {
-		if err != nil {
-			b.Fatal(err)
-		}
-	}
-	if _, err := l.Pool().Exec(ctx, "ANALYZE"); err != nil {
-		b.Fatal(err)
-	}
+	l := benchVerifyLedger(b)
 	b.Logf("setup: %d hulls × %d dives in %s", hulls, dives, time.Since(setup).Round(time.Second))
 	b.Run(fmt.Sprintf("%dx%d", hulls, dives), func(b *testing.B) {
 		var records int64
