@@ -140,10 +140,12 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err := tx.Commit(ctx); err != nil {
 		return nil, fmt.Errorf("logging dive: commit: %w", err)
 	}
-	if err := l.noteStatusAfter(ctx, h.Serial); err != nil {
+	status, err := l.statusAfter(ctx, h.Serial)
+	if err != nil {
 		return nil, err
 	}
 	d := diveFromRow(row, h.Serial, h.Spec.RatedDepthM, false)
+	d.status = status
 	d.Rejudged, d.Replaces = rejudged, replaces
 	d.Evidence, d.ProofTest = row.evidence.View(), req.proof != nil
 	d.BeyondRated = d.BeyondRated && !d.ProofTest

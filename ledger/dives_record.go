@@ -73,7 +73,16 @@ type Dive struct {
 	// Replaces names a void dive of another hull recorded from the same
 	// samples (dive log only).
 	Replaces *uuid.UUID `json:"replaces_void_dive,omitempty"`
+
+	// status is the hull's status noted right after LogDive recorded the
+	// dive.
+	status *Fitness
 }
+
+// StatusAfter is the hull's status as LogDive evaluated and noted it right
+// after recording the dive (nil for a dive that was not newly recorded,
+// or one not returned by LogDive).
+func (d *Dive) StatusAfter() *Fitness { return d.status }
 
 // diveRow is the stored dive row, for canonical bytes.
 type diveRow struct {

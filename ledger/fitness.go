@@ -739,12 +739,19 @@ func (l *Ledger) SurfaceToleranceMPa() float64 { return l.cfg.Ingest.SurfaceTole
 // to the status history when it changed, so that every change is kept
 // whoever wrote (the CLI, the demo, a script).
 func (l *Ledger) noteStatusAfter(ctx context.Context, serial string) error {
+	_, err := l.statusAfter(ctx, serial)
+	return err
+}
+
+// statusAfter is noteStatusAfter returning the status it noted.
+func (l *Ledger) statusAfter(ctx context.Context, serial string) (*Fitness, error) {
 	h, err := l.Hull(ctx, serial)
 	if err != nil {
-		return err
+		return nil, err
 	}
-	if _, err := l.FitnessOf(ctx, h, now()); err != nil {
-		return fmt.Errorf("recorded; noting the hull's status failed: %w", err)
+	f, err := l.FitnessOf(ctx, h, now())
+	if err != nil {
+		return nil, fmt.Errorf("recorded; noting the hull's status failed: %w", err)
 	}
-	return nil
+	return f, nil
 }

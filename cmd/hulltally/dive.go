@@ -60,9 +60,11 @@ func (a *app) diveCmd() *cobra.Command {
 				a.printf("already recorded: dive %s of hull %s (recorded %s); nothing added\n", d.ID, d.Hull, d.RecordedAt.Format(time.RFC3339))
 				return nil
 			}
-			after, err := l.FitnessOf(cmd.Context(), h, time.Now().UTC())
-			if err != nil {
-				return err
+			after := d.StatusAfter() // evaluated and noted by LogDive
+			if after == nil {
+				if after, err = l.FitnessOf(cmd.Context(), h, time.Now().UTC()); err != nil {
+					return err
+				}
 			}
 			load, err := l.LoadOf(cmd.Context(), d.ID)
 			if err != nil {
