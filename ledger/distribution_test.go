@@ -16,7 +16,7 @@ import (
 var fleetWideTables = []string{"checkpoints", "hulltally_schema_version", "issued_reports"}
 
 // TestKeysIncludeHull checks the rules a scale-out needs to distribute the
-// ledger by hull, against the catalog of a migrated database: every table
+// ledger by hull (from memory of PostgreSQL scale-out documentation), against the catalog of a migrated database: every table
 // but the fleet-wide ones has hull_id; every primary key, unique
 // constraint and foreign key of those tables includes it (hulls: its id),
 // and every foreign key maps hull_id to hull_id, so no row can reference a
