@@ -6,6 +6,7 @@ import (
 	"crypto/rand"
 	"encoding/json"
 	"errors"
+	"slices"
 	"strings"
 	"testing"
 	"time"
@@ -91,8 +92,10 @@ func rogue(t *testing.T, l *ledger.Ledger, fn func(tx pgx.Tx) error) {
 // deleteWhere deletes the rows of every ledger table whose column col
 // equals v, the referring tables first.
 func deleteWhere(ctx context.Context, tx pgx.Tx, col string, v any) error {
-	for i := len(ledgerTables) - 1; i >= 0; i-- {
-		tb := ledgerTables[i]
+	// The derived fleet summary goes too (it references the hull).
+	tables := append(slices.Clone(ledgerTables), "fleet_summary")
+	for i := len(tables) - 1; i >= 0; i-- {
+		tb := tables[i]
 		var has bool
 		if err := tx.QueryRow(ctx, "SELECT EXISTS (SELECT 1 FROM information_schema.columns WHERE table_schema = current_schema() AND table_name = $1 AND column_name = $2)", tb, col).Scan(&has); err != nil {
 			return err

@@ -35,9 +35,13 @@ type Fitness struct {
 	// MaxPressureMPa is the highest pressure the hull was ever recorded
 	// at, proof tests included.
 	MaxPressureMPa float64 `json:"max_pressure_ever_mpa"`
-	facts          fitness.HullFacts
-	verdict        fitness.Verdict
-	hull           *Hull
+	// EvaluatedAt is the moment the status was evaluated at (a hull-level
+	// flag is dated then).
+	EvaluatedAt time.Time `json:"-"`
+	facts       fitness.HullFacts
+	verdict     fitness.Verdict
+	decisions   []fitness.Decision
+	hull        *Hull
 }
 
 func (l *Ledger) loadRules() error {
@@ -53,22 +57,23 @@ func (l *Ledger) loadRules() error {
 	return nil
 }
 
-// FitnessOf evaluates the hull's rules and status at now, and appends the
-// status to the hull's history when it changed.
+// FitnessOf evaluates the hull's rules and status at now (in one
+// snapshot), appends the status to the hull's history when it changed and
+// writes the hull's fleet summary.
 func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitness, error) {
 	if err := l.writable("FitnessOf"); err != nil {
 		return nil, err
 	}
-	return l.fitnessOf(ctx, h, now, true)
+	return l.evaluateAndNote(ctx, h.Serial, now, true)
 }
 
 // FitnessAt evaluates the hull's status at a time without recording
 // anything (for reports and their verification).
 func (l *Ledger) FitnessAt(ctx context.Context, h *Hull, at time.Time) (*Fitness, error) {
-	return l.fitnessOf(ctx, h, at, false)
+	return l.fitnessOf(ctx, h, at)
 }
 
-func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note bool) (*Fitness, error) {
+func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitness, error) {
 	r, src := l.rulesSet, l.rulesSrc
 	dmg, err := l.HullDamage(ctx, h)
 	if err != nil {
@@ -90,15 +95,10 @@ func (l *Ledger) fitnessOf(ctx context.Context, h *Hull, now time.Time, note boo
 	v := fitness.Status(flags, decisions, fitness.Records{Inspections: facts.Inspections, ProofTests: facts.ProofTests}, now)
 	voidLife(dmg, v, r)
 	f := &Fitness{Hull: h.Serial, Status: string(v.State), Reasons: reasonViews(v.Reasons), Flags: flagViews(flags), Damage: dmg, RulesSource: src,
-		facts: facts, verdict: v, hull: h, MaxPressureMPa: facts.MaxPressureMPa}
+		facts: facts, verdict: v, hull: h, decisions: decisions, MaxPressureMPa: facts.MaxPressureMPa, EvaluatedAt: now}
 	if n := len(dmg.PerDive); n > 0 {
 		t := dmg.PerDive[n-1].Start
 		f.LastDive = &t
-	}
-	if note {
-		if err := l.noteStatus(ctx, h, f); err != nil {
-			return nil, err
-		}
 	}
 	return f, nil
 }
@@ -357,25 +357,6 @@ func setF(m *map[string]float64, k string, v float64) {
 		*m = map[string]float64{}
 	}
 	(*m)[k] = v
-}
-
-// noteStatus appends the status to the hull's history when it changed.
-func (l *Ledger) noteStatus(ctx context.Context, h *Hull, f *Fitness) error {
-	var last string
-	err := l.db.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
-	if err == nil && last == f.Status {
-		return nil
-	}
-	reasons, _ := json.Marshal(f.Reasons)
-	return l.record(ctx, h.Serial, func(tx pgx.Tx, hh *Hull) (chainRec, error) {
-		var seq int64
-		at := now()
-		if err := tx.QueryRow(ctx, "INSERT INTO status_history (hull_id, status, reasons_json, recorded_at) VALUES ($1,$2,$3,$4) RETURNING seq",
-			hh.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
-			return chainRec{}, fmt.Errorf("status history of %s: %w", hh.Serial, err)
-		}
-		return chainRec{"status", fmt.Sprintf("%s/%d", hh.ID, seq), statusCanon(hh.ID, seq, f.Status, string(reasons), at)}, nil
-	})
 }
 
 func statusCanon(hull uuid.UUID, seq int64, status, reasons string, at time.Time) []byte {
@@ -745,11 +726,7 @@ func (l *Ledger) noteStatusAfter(ctx context.Context, serial string) error {
 
 // statusAfter is noteStatusAfter returning the status it noted.
 func (l *Ledger) statusAfter(ctx context.Context, serial string) (*Fitness, error) {
-	h, err := l.Hull(ctx, serial)
-	if err != nil {
-		return nil, err
-	}
-	f, err := l.FitnessOf(ctx, h, now())
+	f, err := l.evaluateAndNote(ctx, serial, now(), true)
 	if err != nil {
 		return nil, fmt.Errorf("recorded; noting the hull's status failed: %w", err)
 	}

@@ -52,6 +52,26 @@ type VerifyResult struct {
 	// Problem is the first thing to say when OK is false: the first
 	// broken link, else the first guard finding.
 	Problem string `json:"problem,omitempty"`
+	// FleetSummary is the check of the derived fleet summary against the
+	// ledger (AddSummaryCheck), when it was made.
+	FleetSummary *SummaryCheck `json:"fleet_summary,omitempty"`
+}
+
+// AddSummaryCheck adds the check of the fleet summary to the result: a
+// row in use that disagrees with the ledger makes the result not OK (a
+// read would show the hull as the row says, not as the ledger does).
+func (r *VerifyResult) AddSummaryCheck(sc *SummaryCheck) {
+	r.FleetSummary = sc
+	if sc == nil || len(sc.Disagree) == 0 {
+		return
+	}
+	r.OK = false
+	p := fmt.Sprintf("the fleet summary of hull %s disagrees with the ledger (%d hulls in all): run `hulltally fleet rebuild`, after finding out who changed it", sc.Disagree[0].Serial, len(sc.Disagree))
+	if r.Problem == "" {
+		r.Problem = p
+	} else {
+		r.Problem += "; and " + p
+	}
 }
 
 // Verify recomputes every hull's audit chain from the stored records: each

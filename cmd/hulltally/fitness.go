@@ -80,10 +80,10 @@ func (a *app) clearCmd() *cobra.Command {
 }
 
 func (a *app) fleetCmd() *cobra.Command {
-	return &cobra.Command{
+	c := &cobra.Command{
 		Use:     "fleet",
 		Short:   "Every hull with status, damage, remaining dives, last dive and open flags; most urgent first",
-		Example: "  hulltally fleet\n  hulltally fleet --json",
+		Example: "  hulltally fleet\n  hulltally fleet --json\n  hulltally fleet rebuild",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
 			l, err := a.open(cmd.Context())
@@ -91,11 +91,10 @@ func (a *app) fleetCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			fv, err := view.FleetOf(cmd.Context(), l, time.Now().UTC())
+			fl, err := view.FleetRowsOf(cmd.Context(), l, time.Now().UTC())
 			if err != nil {
 				return err
 			}
-			fl := fv.Rows()
 			if a.asJSON {
 				return a.printJSON(map[string]any{"hulls": fl, "caution": cautionText()})
 			}
@@ -103,6 +102,34 @@ func (a *app) fleetCmd() *cobra.Command {
 			return nil
 		},
 	}
+	c.AddCommand(&cobra.Command{
+		Use:   "rebuild",
+		Short: "Evaluate every hull and write the fleet summary the fleet view reads (derived data: nothing is added to the ledger)",
+		Long: "The fleet view reads each hull from a derived summary written after every write, and evaluates from the ledger any hull " +
+			"whose summary no longer stands for it (a write since, another configuration or build, or a verdict that changes with the time, " +
+			"such as an inspection falling due). This command writes every hull's summary afresh, for example after an assess, an upgrade or a " +
+			"configuration change; verify checks the summaries in use against the ledger.",
+		Example: "  hulltally fleet rebuild\n  hulltally fleet rebuild --json",
+		Args:    cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, _ []string) error {
+			l, err := a.open(cmd.Context())
+			if err != nil {
+				return err
+			}
+			defer l.Close()
+			t0 := time.Now()
+			n, err := l.RebuildFleetSummary(cmd.Context(), time.Now().UTC().Truncate(time.Microsecond), 0)
+			if err != nil {
+				return err
+			}
+			if a.asJSON {
+				return a.printJSON(map[string]any{"written": n, "seconds": time.Since(t0).Seconds()})
+			}
+			a.printf("fleet summary rebuilt: %d hulls written in %.1f s\n", n, time.Since(t0).Seconds())
+			return nil
+		},
+	})
+	return c
 }
 
 // printFleet prints the fleet view, most urgent first, with each hull's

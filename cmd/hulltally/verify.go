@@ -3,10 +3,12 @@ package main
 import (
 	"crypto"
 	"errors"
+	"time"
 
 	"github.com/spf13/cobra"
 
 	"hulltally/ledger"
+	"hulltally/reports/view"
 )
 
 func (a *app) verifyCmd() *cobra.Command {
@@ -66,6 +68,11 @@ func (a *app) verifyCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
+			sc, err := l.CheckFleetSummary(cmd.Context(), time.Now().UTC())
+			if err != nil {
+				return err
+			}
+			res.AddSummaryCheck(sc)
 			if !res.OK {
 				a.exit = exitFailed
 			}
@@ -84,6 +91,7 @@ func (a *app) verifyCmd() *cobra.Command {
 }
 
 func (a *app) printChain(res *ledger.VerifyResult) {
+	defer a.printSummaryCheck(res.FleetSummary)
 	if res.OK {
 		a.printf("ledger verified: %d records on %d hull chains, every link holds\n", res.Records, res.Hulls)
 		return
@@ -252,4 +260,15 @@ func (a *app) verifySince(cmd *cobra.Command, file, keyFile string) error {
 		a.printf("(checkpoint signature not checked: give --key to check it)\n")
 	}
 	return nil
+}
+
+// printSummaryCheck prints verify's check of the fleet summary.
+func (a *app) printSummaryCheck(sc *ledger.SummaryCheck) {
+	if sc == nil {
+		return
+	}
+	a.printf("fleet summary: %d of %d hulls read from it, each evaluated again from the ledger; %d not in use (evaluated from the ledger when read)\n", sc.Current, sc.Hulls, sc.NotInUse)
+	for _, d := range sc.Disagree {
+		a.printf("  FLEET SUMMARY DISAGREES for hull %s:\n    stored: %s\n    ledger: %s\n", view.TerminalSafe(d.Serial), view.TerminalSafe(d.Stored), view.TerminalSafe(d.Ledger))
+	}
 }

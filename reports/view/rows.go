@@ -1,6 +1,8 @@
 package view
 
 import (
+	"context"
+	"math"
 	"time"
 
 	"hulltally/ledger"
@@ -37,15 +39,39 @@ type FleetRow struct {
 
 // Row is the hull's fleet row.
 func (h *Hull) Row() FleetRow {
-	r := FleetRow{Serial: h.Record.Serial, Name: h.Record.Spec.Name, Status: h.Fitness.Status, Ratio: h.Ratio(),
-		LastDive: h.Fitness.LastDive, OpenFlags: OpenFlags(h.Fitness.Reasons), Reasons: h.Fitness.Reasons}
-	r.DamagePercent, r.DamageOverload = PercentJSON(r.Ratio)
-	if h.Damage != nil {
-		r.Governing = h.Damage.Governing
+	return rowOf(h.Record.Serial, h.Record.Spec.Name, h.Fitness.Status, h.Fitness.Reasons, h.Fitness.LastDive, h.Fitness.Damage)
+}
+
+// rowOf is a fleet row from a hull's status, reasons, last dive and the
+// ledger's damage (before the view voids a life: ShownDamage, LifeOf).
+func rowOf(serial, name, status string, reasons []ledger.Reason, lastDive *time.Time, dmg *ledger.Damages) FleetRow {
+	shown, life := ShownDamage(status, dmg), LifeOf(status, dmg)
+	r := FleetRow{Serial: serial, Name: name, Status: status, Ratio: math.NaN(),
+		LastDive: lastDive, OpenFlags: OpenFlags(reasons), Reasons: reasons}
+	if shown != nil {
+		r.Ratio, r.Governing = float64(shown.GoverningRatio), shown.Governing
 	}
-	r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason = h.Life.Dives, h.Life.MoreThan, h.Life.Status, h.Life.Reason
-	r.Remaining = h.Life.Short()
+	r.DamagePercent, r.DamageOverload = PercentJSON(r.Ratio)
+	r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason = life.Dives, life.MoreThan, life.Status, life.Reason
+	r.Remaining = life.Short()
 	return r
+}
+
+// FleetRowsOf are the fleet's rows at a moment, most urgent first, read
+// through the ledger's fleet summary (ledger.Fleet): hulls whose summary
+// no longer stands for them are evaluated from the ledger. A read: nothing
+// is recorded.
+func FleetRowsOf(ctx context.Context, l *ledger.Ledger, at time.Time) ([]FleetRow, error) {
+	es, err := l.Fleet(ctx, at)
+	if err != nil {
+		return nil, err
+	}
+	out := make([]FleetRow, 0, len(es))
+	for _, e := range es {
+		out = append(out, rowOf(e.Serial, e.Name, e.Status, e.Reasons, e.LastDive, e.Damage))
+	}
+	SortByUrgency(out, func(r *FleetRow) Rank { return Rank{Status: r.Status, Ratio: r.Ratio, Serial: r.Serial} })
+	return out, nil
 }
 
 // Rows are the fleet's rows, most urgent first.

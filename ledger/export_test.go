@@ -1,0 +1,20 @@
+package ledger
+
+import (
+	"context"
+	"time"
+)
+
+// EvaluateAcross evaluates a hull at at in a snapshot, runs between (a
+// write by someone else, say) and then notes the evaluation as every
+// write does: the race a derived summary must not lose.
+func (l *Ledger) EvaluateAcross(ctx context.Context, serial string, at time.Time, between func() error) error {
+	e, err := l.evaluate(ctx, serial, at)
+	if err != nil {
+		return err
+	}
+	if err := between(); err != nil {
+		return err
+	}
+	return l.noteFitness(ctx, e, true)
+}

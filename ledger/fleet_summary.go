@@ -1,0 +1,486 @@
+package ledger
+
+import (
+	"bytes"
+	"context"
+	"crypto/sha256"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"math"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+	"golang.org/x/sync/errgroup"
+
+	"hulltally/configs"
+	"hulltally/fatigue/fitness"
+)
+
+// The fleet summary (migration 009) is derived, not ledger: one row per
+// hull with what the fleet view shows, written after the writes that
+// evaluate a hull, so that the fleet is read in one query instead of
+// evaluating every hull. A row is used only while it still describes the
+// hull (summaryRow.currentAt); any other hull is evaluated from the ledger
+// as before. A missing, stale or altered row therefore makes the view
+// slower, never better; verify checks the rows in use against the ledger.
+
+// FleetEntry is one hull of the fleet view: its status with every
+// reason, its damage against the allowable and its remaining life as the
+// ledger gives them (before the view voids a life on hold), and its last
+// dive.
+type FleetEntry struct {
+	Serial string
+	Name   string
+	// Status, Reasons and LastDive are those of the hull's Fitness.
+	Status   string
+	Reasons  []Reason
+	LastDive *time.Time
+	// Damage carries the governing component and ratio and the remaining
+	// life; the other fields of Damages are not set.
+	Damage *Damages
+	// EvaluatedAt is when the figures were evaluated.
+	EvaluatedAt time.Time
+	// Derived is true when the entry was read from the fleet summary, false
+	// when the hull was evaluated for this read.
+	Derived bool
+}
+
+// summaryDoc is what a fleet summary row keeps (summary_json). The
+// governing ratio keeps its infinity (a static overload) or NaN apart
+// from a number, which JSON cannot.
+type summaryDoc struct {
+	Status                 string     `json:"status"`
+	Reasons                []Reason   `json:"reasons"`
+	LastDive               *time.Time `json:"last_dive"`
+	Governing              string     `json:"governing_component"`
+	Ratio                  *float64   `json:"governing_ratio"`
+	RatioNotFinite         string     `json:"governing_ratio_not_finite,omitempty"`
+	DiveCount              int        `json:"dive_count"`
+	RemainingDives         *int64     `json:"remaining_dives"`
+	RemainingMoreThan      bool       `json:"remaining_more_than"`
+	RemainingStatus        string     `json:"remaining_status"`
+	RemainingReason        string     `json:"remaining_reason"`
+	RemainingBasis         string     `json:"remaining_basis,omitempty"`
+	RemainingAtRecentMean  *int64     `json:"remaining_at_recent_mean"`
+	RemainingAtDesignDive  *int64     `json:"remaining_at_design_dive"`
+	RemainingRecentMore    bool       `json:"remaining_at_recent_mean_more_than"`
+	RemainingDesignDiveMor bool       `json:"remaining_at_design_dive_more_than"`
+}
+
+func docOf(f *Fitness) summaryDoc {
+	d := summaryDoc{Status: f.Status, Reasons: f.Reasons, LastDive: f.LastDive}
+	if g := f.Damage; g != nil {
+		r := float64(g.GoverningRatio)
+		switch {
+		case math.IsInf(r, 1):
+			d.RatioNotFinite = "+inf"
+		case math.IsInf(r, -1):
+			d.RatioNotFinite = "-inf"
+		case math.IsNaN(r):
+			d.RatioNotFinite = "nan"
+		default:
+			d.Ratio = &r
+		}
+		d.Governing, d.DiveCount = g.Governing, g.DiveCount
+		d.RemainingDives, d.RemainingMoreThan, d.RemainingStatus, d.RemainingReason, d.RemainingBasis = g.RemainingDives, g.RemainingMoreThan, g.RemainingStatus, g.RemainingReason, g.RemainingBasis
+		d.RemainingAtRecentMean, d.RemainingAtDesignDive = g.RemainingAtRecentMean, g.RemainingAtDesignDive
+		d.RemainingRecentMore, d.RemainingDesignDiveMor = g.RemainingAtRecentMeanMoreThan, g.RemainingAtDesignDiveMoreThan
+	}
+	return d
+}
+
+func (d summaryDoc) entry(serial, name string, at time.Time, derived bool) FleetEntry {
+	r := math.NaN()
+	switch {
+	case d.Ratio != nil:
+		r = *d.Ratio
+	case d.RatioNotFinite == "+inf":
+		r = math.Inf(1)
+	case d.RatioNotFinite == "-inf":
+		r = math.Inf(-1)
+	}
+	g := &Damages{Governing: d.Governing, GoverningRatio: Num(r), DiveCount: d.DiveCount,
+		RemainingDives: d.RemainingDives, RemainingMoreThan: d.RemainingMoreThan, RemainingStatus: d.RemainingStatus,
+		RemainingReason: d.RemainingReason, RemainingBasis: d.RemainingBasis,
+		RemainingAtRecentMean: d.RemainingAtRecentMean, RemainingAtDesignDive: d.RemainingAtDesignDive,
+		RemainingAtRecentMeanMoreThan: d.RemainingRecentMore, RemainingAtDesignDiveMoreThan: d.RemainingDesignDiveMor}
+	return FleetEntry{Serial: serial, Name: name, Status: d.Status, Reasons: d.Reasons, LastDive: d.LastDive, Damage: g, EvaluatedAt: at, Derived: derived}
+}
+
+// summaryBasis fingerprints everything besides the ledger that a hull's
+// evaluation may depend on: the whole configuration but where the ledger
+// and the files live (a setting added later is covered without a
+// change here), the contents of the rule set and of the curve library
+// (in the fatigue hash), and the build. A row written under another basis
+// is not used.
+func (l *Ledger) summaryBasis() ([]byte, error) {
+	rules, _, err := l.cfg.Rules()
+	if err != nil {
+		return nil, err
+	}
+	rs := sha256.Sum256(rules)
+	c := *l.cfg
+	c.Home, c.Database, c.Source = "", configs.Database{}, nil
+	js, err := json.Marshal(map[string]any{
+		"config": c, "fatigue": fmt.Sprintf("%x", l.fat.hash), "rules": fmt.Sprintf("%x", rs), "software": software(),
+	})
+	if err != nil {
+		return nil, err
+	}
+	b := sha256.Sum256(js)
+	return b[:], nil
+}
+
+// stableUntil is how long f's verdict holds with nothing recorded
+// (fitness.StableUntil); nil when it holds until the facts change.
+func (l *Ledger) stableUntil(f *Fitness) *time.Time {
+	until, bounded := fitness.StableUntil(l.rulesSet, f.facts, f.decisions)
+	if !bounded {
+		return nil
+	}
+	return &until
+}
+
+// noteFitness is the write after an evaluation made in a snapshot whose
+// chain head was head: in one transaction holding the hull's chain lock,
+// when nothing was added to the hull's chain since the snapshot, it
+// appends the status to the hull's history when it changed (note) and
+// writes the hull's fleet summary with the head that includes the status
+// record. When something was added meanwhile it writes nothing: the
+// evaluation is already old (it may be better than the hull now), and the
+// writer of the newer record notes its own, which sees this one's record
+// too.
+func (l *Ledger) noteFitness(ctx context.Context, e *evaluation, note bool) error {
+	h, f := e.h, e.f
+	basis, err := l.summaryBasis()
+	if err != nil {
+		return err
+	}
+	doc, err := json.Marshal(docOf(f))
+	if err != nil {
+		return fmt.Errorf("fleet summary of %s: %w", h.Serial, err)
+	}
+	until := l.stableUntil(f)
+	return pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
+		if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock($1, hashtext($2))", lockChain, h.ID.String()); err != nil {
+			return fmt.Errorf("status of %s: locking the chain: %w", h.Serial, err)
+		}
+		curHash, curSeq, err := chainHeadIn(ctx, tx, h.ID)
+		if err != nil {
+			return fmt.Errorf("status of %s: %w", h.Serial, err)
+		}
+		if curSeq != e.seq || !bytes.Equal(curHash, e.head) {
+			return nil
+		}
+		if note {
+			var last string
+			err := tx.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
+			if err != nil && !errors.Is(err, pgx.ErrNoRows) {
+				return fmt.Errorf("status history of %s: %w", h.Serial, err)
+			}
+			if errors.Is(err, pgx.ErrNoRows) || last != f.Status {
+				reasons, _ := json.Marshal(f.Reasons)
+				var seq int64
+				at := now()
+				if err := tx.QueryRow(ctx, "INSERT INTO status_history (hull_id, status, reasons_json, recorded_at) VALUES ($1,$2,$3,$4) RETURNING seq",
+					h.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
+					return fmt.Errorf("status history of %s: %w", h.Serial, err)
+				}
+				rec := chainRec{"status", fmt.Sprintf("%s/%d", h.ID, seq), statusCanon(h.ID, seq, f.Status, string(reasons), at)}
+				if curHash, err = appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
+					return err
+				}
+				curSeq++
+			}
+		}
+		_, err = tx.Exec(ctx, `INSERT INTO fleet_summary (hull_id, chain_seq, chain_hash, basis, evaluated_at, stable_until, status, summary_json)
+			VALUES ($1,$2,$3,$4,$5,$6,$7,$8)
+			ON CONFLICT (hull_id) DO UPDATE SET chain_seq = EXCLUDED.chain_seq, chain_hash = EXCLUDED.chain_hash, basis = EXCLUDED.basis,
+				evaluated_at = EXCLUDED.evaluated_at, stable_until = EXCLUDED.stable_until, status = EXCLUDED.status, summary_json = EXCLUDED.summary_json`,
+			h.ID, curSeq, curHash, basis, f.facts.Now, until, f.Status, string(doc))
+		if err != nil {
+			return fmt.Errorf("fleet summary of %s: %w", h.Serial, err)
+		}
+		return nil
+	})
+}
+
+// chainHeadIn reads a hull's chain head inside a transaction (zero hash
+// and length 0 for an empty chain).
+func chainHeadIn(ctx context.Context, q querier, hull uuid.UUID) ([]byte, int64, error) {
+	var seq int64
+	var h []byte
+	err := q.QueryRow(ctx, "SELECT seq, hash FROM audit_chain WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", hull).Scan(&seq, &h)
+	if errors.Is(err, pgx.ErrNoRows) {
+		return make([]byte, 32), 0, nil
+	}
+	if err != nil {
+		return nil, 0, fmt.Errorf("reading the chain head: %w", err)
+	}
+	return h, seq, nil
+}
+
+// evaluation is a hull evaluated in a snapshot whose chain head was
+// head (length seq).
+type evaluation struct {
+	f    *Fitness
+	h    *Hull
+	head []byte
+	seq  int64
+}
+
+// evaluate evaluates a hull at at in one snapshot, with its chain head.
+func (l *Ledger) evaluate(ctx context.Context, serial string, at time.Time) (*evaluation, error) {
+	e := &evaluation{}
+	err := l.Snapshot(ctx, func(s *Ledger) error {
+		var err error
+		if e.h, err = s.Hull(ctx, serial); err != nil {
+			return err
+		}
+		if e.head, e.seq, err = chainHeadIn(ctx, s.db, e.h.ID); err != nil {
+			return err
+		}
+		e.f, err = s.fitnessOf(ctx, e.h, at)
+		return err
+	})
+	return e, err
+}
+
+// evaluateAndNote evaluates a hull at at in one snapshot and notes the
+// result (noteFitness): the status when note is true, and the fleet
+// summary. It is what every write ends with.
+func (l *Ledger) evaluateAndNote(ctx context.Context, serial string, at time.Time, note bool) (*Fitness, error) {
+	if err := l.writable("evaluating a hull"); err != nil {
+		return nil, err
+	}
+	e, err := l.evaluate(ctx, serial, at)
+	if err != nil {
+		return nil, err
+	}
+	if err := l.noteFitness(ctx, e, note); err != nil {
+		return nil, err
+	}
+	return e.f, nil
+}
+
+// summaryRow is a stored fleet summary row with the hull's chain head
+// now.
+type summaryRow struct {
+	hullID             uuid.UUID
+	serial, name       string
+	present            bool
+	seq, headSeq       int64
+	hash, headHash     []byte
+	basis              []byte
+	evaluated          time.Time
+	stableUntil        *time.Time
+	doc                []byte
+	stored             summaryDoc
+	currentAt          bool
+	currentWhy         string
+	storedStatusColumn string
+	// noted is the hull's last status in its (chained) status history.
+	noted string
+}
+
+// readSummaries reads every hull with its fleet summary row (if any) and
+// its chain head now, in one query, and says which rows may stand for
+// the hull at at.
+func (l *Ledger) readSummaries(ctx context.Context, at time.Time) ([]*summaryRow, error) {
+	basis, err := l.summaryBasis()
+	if err != nil {
+		return nil, err
+	}
+	rows, err := l.db.Query(ctx, `
+		SELECT h.id, h.serial, r.name, s.hull_id IS NOT NULL, coalesce(s.chain_seq, 0), coalesce(s.chain_hash, ''::bytea),
+		       coalesce(s.basis, ''::bytea), coalesce(s.evaluated_at, 'epoch'), s.stable_until, coalesce(s.status, ''),
+		       coalesce(s.summary_json::text, ''), coalesce(c.seq, 0), coalesce(c.hash, ''::bytea), coalesce(n.status, '')
+		FROM hulls h
+		JOIN LATERAL (SELECT name FROM hull_revisions r WHERE r.hull_id = h.id ORDER BY revision DESC LIMIT 1) r ON true
+		LEFT JOIN fleet_summary s ON s.hull_id = h.id
+		LEFT JOIN LATERAL (SELECT seq, hash FROM audit_chain c WHERE c.hull_id = h.id ORDER BY seq DESC LIMIT 1) c ON true
+		LEFT JOIN LATERAL (SELECT status FROM status_history n WHERE n.hull_id = h.id ORDER BY seq DESC LIMIT 1) n ON true
+		ORDER BY h.serial COLLATE "C"`)
+	if err != nil {
+		return nil, fmt.Errorf("reading the fleet summary: %w", err)
+	}
+	out, err := pgx.CollectRows(rows, func(r pgx.CollectableRow) (*summaryRow, error) {
+		var s summaryRow
+		var doc string
+		err := r.Scan(&s.hullID, &s.serial, &s.name, &s.present, &s.seq, &s.hash, &s.basis, &s.evaluated, &s.stableUntil,
+			&s.storedStatusColumn, &doc, &s.headSeq, &s.headHash, &s.noted)
+		s.doc = []byte(doc)
+		return &s, err
+	})
+	if err != nil {
+		return nil, fmt.Errorf("reading the fleet summary: %w", err)
+	}
+	for _, s := range out {
+		s.currentAt, s.currentWhy = s.judge(basis, at)
+	}
+	return out, nil
+}
+
+// judge says whether a row may stand for its hull at at, and if not why.
+func (s *summaryRow) judge(basis []byte, at time.Time) (bool, string) {
+	switch {
+	case !s.present:
+		return false, "no summary row"
+	case s.seq != s.headSeq || !bytes.Equal(s.hash, s.headHash):
+		return false, fmt.Sprintf("written at chain record %d, the hull's chain is at %d", s.seq, s.headSeq)
+	case !bytes.Equal(s.basis, basis):
+		return false, "written under another configuration, rule set or build"
+	case at.Before(s.evaluated):
+		return false, "evaluated after the moment read"
+	case s.stableUntil != nil && !at.Before(*s.stableUntil):
+		return false, fmt.Sprintf("the verdict may change with the time from %s", s.stableUntil.UTC().Format(time.RFC3339))
+	}
+	if err := json.Unmarshal(s.doc, &s.stored); err != nil {
+		return false, "summary does not parse: " + err.Error()
+	}
+	if s.stored.Status != s.storedStatusColumn {
+		return false, "summary status and its column disagree"
+	}
+	// A write that can better a status (an inspection, a decision) notes
+	// it in the chained history; a summary better than the last status
+	// noted contradicts the ledger.
+	if s.noted != "" && severity(s.stored.Status) < severity(s.noted) {
+		return false, fmt.Sprintf("summary says %s, the status last noted is %s", s.stored.Status, s.noted)
+	}
+	return true, ""
+}
+
+// severity orders the states from fit (0) to withdrawn (3); a state not
+// known counts as the worst.
+func severity(state string) int {
+	switch fitness.State(state) {
+	case fitness.Fit:
+		return 0
+	case fitness.Watch:
+		return 1
+	case fitness.Hold:
+		return 2
+	}
+	return 3
+}
+
+// Fleet returns every hull of the fleet view at at, by serial: each from
+// its fleet summary row where the row still stands for the hull, else
+// evaluated from the ledger (nothing is written: the summary is the
+// writes'). All in one snapshot.
+func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) {
+	var out []FleetEntry
+	err := l.Snapshot(ctx, func(s *Ledger) error {
+		rows, err := s.readSummaries(ctx, at)
+		if err != nil {
+			return err
+		}
+		out = make([]FleetEntry, 0, len(rows))
+		for _, r := range rows {
+			if r.currentAt {
+				out = append(out, r.stored.entry(r.serial, r.name, r.evaluated, true))
+				continue
+			}
+			h, err := s.Hull(ctx, r.serial)
+			if err != nil {
+				return err
+			}
+			f, err := s.fitnessOf(ctx, h, at)
+			if err != nil {
+				return fmt.Errorf("status of hull %s: %w", r.serial, err)
+			}
+			out = append(out, docOf(f).entry(r.serial, h.Spec.Name, at, false))
+		}
+		return nil
+	})
+	return out, err
+}
+
+// RebuildFleetSummary evaluates every hull at at and writes its fleet
+// summary (derived data only: no status is noted, nothing is chained),
+// over up to workers hulls at once (0: GOMAXPROCS, bounded by the
+// connection pool). It returns the number of rows written; a hull whose
+// chain moved during its evaluation is left for its writer.
+func (l *Ledger) RebuildFleetSummary(ctx context.Context, at time.Time, workers int) (int, error) {
+	if err := l.writable("RebuildFleetSummary"); err != nil {
+		return 0, err
+	}
+	hs, err := l.allHulls(ctx)
+	if err != nil {
+		return 0, err
+	}
+	g, gctx := errgroup.WithContext(ctx)
+	g.SetLimit(verifyWorkers(workers, l.pool.Config().MaxConns, len(hs)))
+	for _, h := range hs {
+		g.Go(func() error {
+			_, err := l.evaluateAndNote(gctx, h.Serial, at, false)
+			return err
+		})
+	}
+	if err := g.Wait(); err != nil {
+		return 0, fmt.Errorf("rebuilding the fleet summary: %w", err)
+	}
+	var n int
+	err = l.pool.QueryRow(ctx, "SELECT count(*) FROM fleet_summary WHERE evaluated_at = $1", at).Scan(&n)
+	return n, err
+}
+
+// SummaryCheck is what verify found of the fleet summary: how many rows
+// stand for their hull now (and were evaluated again from the ledger at
+// their moment and compared), how many do not and are therefore not used
+// (a hull read without a current row is evaluated from the ledger), and
+// every row in use that disagrees with the ledger.
+type SummaryCheck struct {
+	Hulls    int `json:"hulls"`
+	Current  int `json:"current"`
+	NotInUse int `json:"not_in_use"`
+	// Disagree names each hull whose current row differs from the
+	// ledger's evaluation, with what differs.
+	Disagree []SummaryDisagreement `json:"disagree"`
+}
+
+// SummaryDisagreement is a fleet summary row in use whose figures are
+// not the ledger's.
+type SummaryDisagreement struct {
+	Serial string `json:"serial"`
+	Stored string `json:"stored"`
+	Ledger string `json:"ledger"`
+}
+
+// CheckFleetSummary evaluates again, from the ledger, every hull whose
+// fleet summary row stands for it at at (the rows a read would use), at
+// the row's own moment, and compares the figures. One snapshot; a read.
+func (l *Ledger) CheckFleetSummary(ctx context.Context, at time.Time) (*SummaryCheck, error) {
+	res := &SummaryCheck{Disagree: []SummaryDisagreement{}}
+	err := l.Snapshot(ctx, func(s *Ledger) error {
+		rows, err := s.readSummaries(ctx, at)
+		if err != nil {
+			return err
+		}
+		res.Hulls = len(rows)
+		for _, r := range rows {
+			if !r.currentAt {
+				res.NotInUse++
+				continue
+			}
+			res.Current++
+			h, err := s.Hull(ctx, r.serial)
+			if err != nil {
+				return err
+			}
+			f, err := s.fitnessOf(ctx, h, r.evaluated)
+			if err != nil {
+				return fmt.Errorf("status of hull %s: %w", r.serial, err)
+			}
+			want, _ := json.Marshal(docOf(f))
+			got, _ := json.Marshal(r.stored)
+			if !bytes.Equal(want, got) {
+				res.Disagree = append(res.Disagree, SummaryDisagreement{Serial: r.serial, Stored: string(got), Ledger: string(want)})
+			}
+		}
+		return nil
+	})
+	return res, err
+}
