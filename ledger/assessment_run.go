@@ -204,8 +204,8 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			for lo := 0; lo < len(ids); lo += assessChunk {
 				hi := min(lo+assessChunk, len(ids))
 				rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
-					FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
-					LEFT JOIN dive_holds h ON h.dive_id = d.id
+					FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure'
+					LEFT JOIN dive_holds h ON h.hull_id = d.hull_id AND h.dive_id = d.id
 					WHERE d.hull_id = ANY($1) AND `+notVoided, ids[lo:hi])
 				if err != nil {
 					return fmt.Errorf("assess: reading cycles: %w", err)
@@ -296,7 +296,7 @@ const assessChunk = 32
 
 // hullsMissingCounts lists the hulls that have dives without stored cycles.
 func (l *Ledger) hullsMissingCounts(ctx context.Context, ids [][16]byte) ([]uuid.UUID, error) {
-	rows, err := l.db.Query(ctx, `SELECT DISTINCT d.hull_id FROM dives d LEFT JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure'
+	rows, err := l.db.Query(ctx, `SELECT DISTINCT d.hull_id FROM dives d LEFT JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure'
 		WHERE d.hull_id = ANY($1) AND c.dive_id IS NULL`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("looking for dives without counted cycles: %w", err)

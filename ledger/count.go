@@ -119,7 +119,7 @@ func (c *diveCounter) finish() ([]series, []assess.Hold) {
 // their cycles and time at pressure as new records.
 func (l *Ledger) backfillCounts(ctx context.Context, h *Hull) (int, error) {
 	rows, err := l.db.Query(ctx, `SELECT id, columns, latitude FROM dives d WHERE hull_id = $1
-		AND NOT EXISTS (SELECT 1 FROM dive_cycles c WHERE c.dive_id = d.id) ORDER BY start_time`, h.ID)
+		AND NOT EXISTS (SELECT 1 FROM dive_cycles c WHERE c.hull_id = d.hull_id AND c.dive_id = d.id) ORDER BY start_time`, h.ID)
 	if err != nil {
 		return 0, fmt.Errorf("looking for dives without counted cycles: %w", err)
 	}

@@ -205,7 +205,7 @@ func (l *Ledger) hullDamages(ctx context.Context, hulls []*Hull) ([]*Damages, er
 	// smaller figure in force, and an assessment inserted behind the chain
 	// (no chain record) ranks oldest of all.
 	rows, err = l.db.Query(ctx, `SELECT a.hull_id, `+chainSeq+`, a.id, ad.component, ad.basis, ad.factor, ad.curve, ad.rupture_curve, ad.dive_ids, ad.cyclic, ad.sustained
-		FROM assessments a JOIN assessment_damage ad ON ad.assessment_id = a.id
+		FROM assessments a JOIN assessment_damage ad ON ad.hull_id = a.hull_id AND ad.assessment_id = a.id
 		WHERE a.hull_id = ANY($1) ORDER BY a.hull_id, 2 DESC, a.id, ad.component`, ids)
 	if err != nil {
 		return nil, fmt.Errorf("reading damage: %w", err)
@@ -509,14 +509,14 @@ type DiveComponentDamage struct {
 // chainSeq is an assessment's (aliased a) position in its hull's audit
 // chain, 0 when it has no chain record: the order of assessments that the
 // chain's hashes protect.
-const chainSeq = `coalesce((SELECT c.seq FROM audit_chain c WHERE c.kind = 'assessment' AND c.record_key = a.id::text), 0)`
+const chainSeq = `coalesce((SELECT c.seq FROM audit_chain c WHERE c.hull_id = a.hull_id AND c.kind = 'assessment' AND c.record_key = a.id::text), 0)`
 
 // DiveDamageOf returns the dive's damage per component in the assessment
 // in force (the newest that covers the dive).
 func (l *Ledger) DiveDamageOf(ctx context.Context, dive uuid.UUID) (map[string]DiveComponentDamage, error) {
 	rows, err := l.db.Query(ctx, `
 		SELECT `+chainSeq+`, ad.component, ad.cyclic[array_position(ad.dive_ids, $1)], ad.sustained[array_position(ad.dive_ids, $1)], ad.basis, ad.curve, ad.factor, a.config_json
-		FROM assessment_damage ad JOIN assessments a ON a.id = ad.assessment_id
+		FROM assessment_damage ad JOIN assessments a ON a.hull_id = ad.hull_id AND a.id = ad.assessment_id
 		WHERE ad.hull_id = (SELECT hull_id FROM dives WHERE id = $1) AND $1 = ANY(ad.dive_ids)
 		ORDER BY 1 DESC, a.id`, dive)
 	if err != nil {

@@ -179,7 +179,7 @@ func (l *Ledger) checkPlace(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp, aeSHA []byte) (*Dive, error) {
 	var r diveRow
 	var void bool
-	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 ORDER BY 26 LIMIT 1", h.ID, fp).Scan(append(r.scanArgs(), &void)...)
+	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" FROM dives d JOIN dive_fingerprints f ON f.hull_id = d.hull_id AND f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 ORDER BY 26 LIMIT 1", h.ID, fp).Scan(append(r.scanArgs(), &void)...)
 	if err == pgx.ErrNoRows {
 		return nil, nil
 	}
@@ -203,10 +203,10 @@ func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp, aeSHA 
 func (l *Ledger) elsewhere(ctx context.Context, q querier, h *Hull, column string, sum []byte, what string) (*uuid.UUID, error) {
 	var sql string
 	if column == "fingerprint" {
-		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.dive_id = d.id) FROM dives d JOIN dive_fingerprints f ON f.dive_id = d.id JOIN hulls hs ON hs.id = d.hull_id
+		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.hull_id = d.hull_id AND v.dive_id = d.id) FROM dives d JOIN dive_fingerprints f ON f.hull_id = d.hull_id AND f.dive_id = d.id JOIN hulls hs ON hs.id = d.hull_id
 			WHERE f.fingerprint = $2 AND d.hull_id <> $1 ORDER BY 3, d.recorded_at`
 	} else {
-		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.dive_id = d.id) FROM dives d JOIN hulls hs ON hs.id = d.hull_id
+		sql = `SELECT d.id, hs.serial, EXISTS (SELECT 1 FROM dive_voids v WHERE v.hull_id = d.hull_id AND v.dive_id = d.id) FROM dives d JOIN hulls hs ON hs.id = d.hull_id
 			WHERE d.source_sha256 = $2 AND d.hull_id <> $1 ORDER BY 3, d.recorded_at`
 	}
 	rows, err := q.Query(ctx, sql, h.ID, sum)

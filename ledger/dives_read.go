@@ -18,7 +18,7 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	if err != nil {
 		return nil, err
 	}
-	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" AS voided, EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) AS proof_test FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
+	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" AS voided, EXISTS (SELECT 1 FROM proof_tests p WHERE p.hull_id = d.hull_id AND p.dive_id = d.id) AS proof_test FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time, d.id", h.ID)
 	if err != nil {
 		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}

@@ -346,7 +346,7 @@ func (l *Ledger) baseline(ctx context.Context, q querier, h *Hull, start time.Ti
 	if err != pgx.ErrNoRows {
 		return nil, "", fmt.Errorf("evidence: baseline: %w", err)
 	}
-	rows, err := q.Query(ctx, `SELECT e.evidence_json FROM dive_evidence e JOIN dives d ON d.id = e.dive_id
+	rows, err := q.Query(ctx, `SELECT e.evidence_json FROM dive_evidence e JOIN dives d ON d.hull_id = e.hull_id AND d.id = e.dive_id
 		WHERE d.hull_id = $1 AND d.start_time < $2 AND `+notVoided+` ORDER BY d.recorded_at, d.start_time LIMIT $3`, h.ID, start, l.cfg.Evidence.BaselineDives)
 	if err != nil {
 		return nil, "", fmt.Errorf("evidence: baseline dives: %w", err)

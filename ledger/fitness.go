@@ -143,7 +143,7 @@ func (l *Ledger) hullFacts(ctx context.Context, h *Hull, dmg *Damages, m *Mainte
 		js          string
 	}
 	rows, err := l.db.Query(ctx, `SELECT d.id, d.hull_revision, d.start_time, d.recorded_at, d.max_depth_m, d.max_pressure_mpa,
-		v.reason, v.actor, v.recorded_at, `+effectiveEvidence+` FROM dives d LEFT JOIN dive_voids v ON v.dive_id = d.id
+		v.reason, v.actor, v.recorded_at, `+effectiveEvidence+` FROM dives d LEFT JOIN dive_voids v ON v.hull_id = d.hull_id AND v.dive_id = d.id
 		WHERE d.hull_id = $1 ORDER BY d.start_time, d.id`, h.ID)
 	if err != nil {
 		return f, fmt.Errorf("facts of %s: %w", h.Serial, err)
@@ -283,7 +283,7 @@ func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, erro
 	// unnest, not c.ranges[i] over generate_subscripts: a subscript
 	// de-TOASTs the whole array each time, which made this quadratic in a
 	// dive's cycles (1.3 s for one 10 h dive with sensor noise).
-	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0) FROM dive_cycles c JOIN dives d ON d.id = c.dive_id,
+	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0) FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id,
 		unnest(c.ranges, c.counts) AS u(rng, cnt)
 		WHERE c.hull_id = $1 AND c.series = 'pressure' AND u.rng >= $2 AND `+notVoided, h.ID, min).Scan(&n)
 	if err != nil {
@@ -502,7 +502,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		return math.Inf(1), "", inputErr(err)
 	}
 	rows, err := l.db.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
-		FROM dives d JOIN dive_cycles c ON c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.dive_id = d.id
+		FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
 		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {
 		return 0, "", err

@@ -285,10 +285,10 @@ type summaryRow struct {
 	noted string
 }
 
-// readSummaries reads every hull with its fleet summary row (if any) and
-// its chain head now, in one query, and says which rows may stand for
-// the hull at at.
-func (l *Ledger) readSummaries(ctx context.Context, at time.Time) ([]*summaryRow, error) {
+// readSummaries reads every hull (or the one hull given) with its fleet
+// summary row (if any), its chain head now and its last noted status, in
+// one query, and says which rows may stand for the hull at at.
+func (l *Ledger) readSummaries(ctx context.Context, at time.Time, hull *uuid.UUID) ([]*summaryRow, error) {
 	basis, err := l.summaryBasis()
 	if err != nil {
 		return nil, err
@@ -302,7 +302,8 @@ func (l *Ledger) readSummaries(ctx context.Context, at time.Time) ([]*summaryRow
 		LEFT JOIN fleet_summary s ON s.hull_id = h.id
 		LEFT JOIN LATERAL (SELECT seq, hash FROM audit_chain c WHERE c.hull_id = h.id ORDER BY seq DESC LIMIT 1) c ON true
 		LEFT JOIN LATERAL (SELECT status FROM status_history n WHERE n.hull_id = h.id ORDER BY seq DESC LIMIT 1) n ON true
-		ORDER BY h.serial COLLATE "C"`)
+		WHERE $1::uuid IS NULL OR h.id = $1
+		ORDER BY h.serial COLLATE "C"`, hull)
 	if err != nil {
 		return nil, fmt.Errorf("reading the fleet summary: %w", err)
 	}
@@ -373,7 +374,7 @@ func severity(state string) int {
 func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) {
 	var out []FleetEntry
 	err := l.Snapshot(ctx, func(s *Ledger) error {
-		rows, err := s.readSummaries(ctx, at)
+		rows, err := s.readSummaries(ctx, at, nil)
 		if err != nil {
 			return err
 		}
@@ -451,36 +452,78 @@ type SummaryDisagreement struct {
 
 // CheckFleetSummary evaluates again, from the ledger, every hull whose
 // fleet summary row stands for it at at (the rows a read would use), at
-// the row's own moment, and compares the figures. One snapshot; a read.
+// the row's own moment, and compares the figures. One snapshot, one hull
+// after another; verify makes the same check in its parallel workers
+// (VerifyOptions.FleetSummary). A read.
 func (l *Ledger) CheckFleetSummary(ctx context.Context, at time.Time) (*SummaryCheck, error) {
 	res := &SummaryCheck{Disagree: []SummaryDisagreement{}}
 	err := l.Snapshot(ctx, func(s *Ledger) error {
-		rows, err := s.readSummaries(ctx, at)
+		rows, err := s.readSummaries(ctx, at, nil)
 		if err != nil {
 			return err
 		}
-		res.Hulls = len(rows)
 		for _, r := range rows {
-			if !r.currentAt {
-				res.NotInUse++
-				continue
-			}
-			res.Current++
-			h, err := s.Hull(ctx, r.serial)
+			d, err := s.checkSummaryRow(ctx, r)
 			if err != nil {
 				return err
 			}
-			f, err := s.fitnessOf(ctx, h, r.evaluated)
-			if err != nil {
-				return fmt.Errorf("status of hull %s: %w", r.serial, err)
-			}
-			want, _ := json.Marshal(docOf(f))
-			got, _ := json.Marshal(r.stored)
-			if !bytes.Equal(want, got) {
-				res.Disagree = append(res.Disagree, SummaryDisagreement{Serial: r.serial, Stored: string(got), Ledger: string(want)})
-			}
+			res.add(r, d)
 		}
 		return nil
 	})
 	return res, err
+}
+
+// add counts one hull's row and what its check found.
+func (sc *SummaryCheck) add(r *summaryRow, d *SummaryDisagreement) {
+	sc.Hulls++
+	if !r.currentAt {
+		sc.NotInUse++
+		return
+	}
+	sc.Current++
+	if d != nil {
+		sc.Disagree = append(sc.Disagree, *d)
+	}
+}
+
+// checkSummaryRow evaluates the hull of a row in use at the row's moment
+// and says how the row disagrees, if it does (nil for a row not in use).
+func (l *Ledger) checkSummaryRow(ctx context.Context, r *summaryRow) (*SummaryDisagreement, error) {
+	if !r.currentAt {
+		return nil, nil
+	}
+	h, err := l.Hull(ctx, r.serial)
+	if err != nil {
+		return nil, err
+	}
+	f, err := l.fitnessOf(ctx, h, r.evaluated)
+	if err != nil {
+		return nil, fmt.Errorf("status of hull %s: %w", r.serial, err)
+	}
+	want, _ := json.Marshal(docOf(f))
+	got, _ := json.Marshal(r.stored)
+	if bytes.Equal(want, got) {
+		return nil, nil
+	}
+	return &SummaryDisagreement{Serial: r.serial, Stored: string(got), Ledger: string(want)}, nil
+}
+
+// summaryOf is verify's check of one hull's fleet summary with the reads
+// of q (a worker's transaction at verify's snapshot).
+func (l *Ledger) summaryOf(ctx context.Context, q querier, hull uuid.UUID, at time.Time) (*summaryOutcome, error) {
+	s := *l
+	s.db, s.snapshot = q, true
+	rows, err := s.readSummaries(ctx, at, &hull)
+	if err != nil || len(rows) != 1 {
+		return nil, errors.Join(err, fmt.Errorf("fleet summary of hull %s: %d rows", hull, len(rows)))
+	}
+	d, err := s.checkSummaryRow(ctx, rows[0])
+	return &summaryOutcome{row: rows[0], disagree: d}, err
+}
+
+// summaryOutcome is what verify found of one hull's fleet summary.
+type summaryOutcome struct {
+	row      *summaryRow
+	disagree *SummaryDisagreement
 }

@@ -201,16 +201,21 @@ func TestFleetSummaryNeverBetter(t *testing.T) {
 	if len(sc.Disagree) != 1 || sc.Disagree[0].Serial != serial || !strings.Contains(sc.Disagree[0].Stored, `"governing_ratio":0.001`) {
 		t.Fatalf("altered summary: check %+v", sc)
 	}
-	res := &ledger.VerifyResult{OK: true}
-	res.AddSummaryCheck(sc)
-	if res.OK || !strings.Contains(res.Problem, "fleet rebuild") {
-		t.Fatalf("verify with an altered summary: ok %v, problem %q", res.OK, res.Problem)
+	// Verify makes the same check in its workers (two hulls, two at once).
+	addSecondHull(t, l)
+	res, err := l.VerifyWith(ctx, ledger.VerifyOptions{FleetSummary: true, Workers: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if fs := res.FleetSummary; res.OK || !strings.Contains(res.Problem, "fleet rebuild") || fs == nil || fs.Hulls != 2 || fs.Current != 2 ||
+		len(fs.Disagree) != 1 || fs.Disagree[0].Serial != serial {
+		t.Fatalf("verify with an altered summary: ok %v, problem %q, summary %+v", res.OK, res.Problem, res.FleetSummary)
 	}
 	// A rebuild writes it afresh.
-	if n, err := l.RebuildFleetSummary(ctx, time.Now().UTC().Truncate(time.Microsecond), 0); err != nil || n != 1 {
+	if n, err := l.RebuildFleetSummary(ctx, time.Now().UTC().Truncate(time.Microsecond), 0); err != nil || n != 2 {
 		t.Fatalf("rebuild: %d, %v", n, err)
 	}
-	if sc, err := l.CheckFleetSummary(ctx, time.Now().UTC()); err != nil || sc.Current != 1 || len(sc.Disagree) != 0 {
+	if sc, err := l.CheckFleetSummary(ctx, time.Now().UTC()); err != nil || sc.Current != 2 || len(sc.Disagree) != 0 {
 		t.Fatalf("after rebuild: %+v, %v", sc, err)
 	}
 }

@@ -314,7 +314,7 @@ func attachProof(ctx context.Context, q querier, h *Hull) error {
 	var at time.Time
 	var dive uuid.UUID
 	var bj string
-	err := q.QueryRow(ctx, `SELECT p.at, p.dive_id, p.baseline_json FROM proof_tests p JOIN dives d ON d.id = p.dive_id
+	err := q.QueryRow(ctx, `SELECT p.at, p.dive_id, p.baseline_json FROM proof_tests p JOIN dives d ON d.hull_id = p.hull_id AND d.id = p.dive_id
 		WHERE p.hull_id = $1 AND p.result = 'pass' AND p.baseline_json <> '{}' AND `+notVoided+`
 		ORDER BY p.at DESC, p.recorded_at DESC LIMIT 1`, h.ID).Scan(&at, &dive, &bj)
 	if err == pgx.ErrNoRows {
@@ -369,7 +369,7 @@ func (l *Ledger) hullSummaries(ctx context.Context, id *uuid.UUID) ([]HullSummar
 	rows, err := l.db.Query(ctx, `
 		SELECT h.serial, r.name, r.material_system, r.shape, r.rated_depth_m, r.revision,
 		       count(d.id) AS dive_count, coalesce(max(d.max_pressure_mpa), 0) AS max_pressure_mpa, coalesce(max(d.max_depth_m), 0) AS max_depth_m,
-		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id)) AS dives_beyond_rated,
+		       count(d.id) FILTER (WHERE d.beyond_rated AND NOT EXISTS (SELECT 1 FROM proof_tests p WHERE p.hull_id = d.hull_id AND p.dive_id = d.id)) AS dives_beyond_rated,
 		       max(d.start_time) AS last_dive
 		FROM hulls h
 		JOIN LATERAL (SELECT * FROM hull_revisions r WHERE r.hull_id = h.id ORDER BY revision DESC LIMIT 1) r ON true

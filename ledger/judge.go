@@ -16,12 +16,12 @@ import (
 
 // notVoided is the SQL condition that keeps a dive (aliased d) that no
 // void record takes out of damage, evidence and status.
-const notVoided = `NOT EXISTS (SELECT 1 FROM dive_voids v WHERE v.dive_id = d.id)`
+const notVoided = `NOT EXISTS (SELECT 1 FROM dive_voids v WHERE v.hull_id = d.hull_id AND v.dive_id = d.id)`
 
 // effectiveEvidence is the SQL expression of a dive's evidence in force
 // (aliased d): its newest revision, else the evidence stored at logging.
-const effectiveEvidence = `coalesce((SELECT r.evidence_json FROM evidence_revisions r WHERE r.dive_id = d.id ORDER BY r.seq DESC LIMIT 1),
-	(SELECT e.evidence_json FROM dive_evidence e WHERE e.dive_id = d.id), '')`
+const effectiveEvidence = `coalesce((SELECT r.evidence_json FROM evidence_revisions r WHERE r.hull_id = d.hull_id AND r.dive_id = d.id ORDER BY r.seq DESC LIMIT 1),
+	(SELECT e.evidence_json FROM dive_evidence e WHERE e.hull_id = d.hull_id AND e.dive_id = d.id), '')`
 
 // Void is a record that takes a dive out of damage, evidence and status
 // from the time it is recorded (the dive and its readings stay).

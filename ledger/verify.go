@@ -106,13 +106,22 @@ type VerifyOptions struct {
 	// one hull after another on one transaction. Any value is bounded by
 	// the pool size less one and by the number of hulls.
 	Workers int
+	// FleetSummary asks for each hull's fleet summary row in use to be
+	// evaluated again from the ledger and compared (FleetSummary in the
+	// result), in the same workers at the same snapshot.
+	FleetSummary bool
 }
 
 // VerifyWith is Verify with options; the result does not depend on them.
 func (l *Ledger) VerifyWith(ctx context.Context, opt VerifyOptions) (*VerifyResult, error) {
+	at := now()
 	return l.verifyRun(ctx, opt, func(ctx context.Context, q querier, h hullRef) (hullOutcome, error) {
 		n, head, broken, err := verifyHull(ctx, q, h.id, h.serial, h.at)
-		return hullOutcome{n: n, head: head, broken: broken}, err
+		o := hullOutcome{n: n, head: head, broken: broken}
+		if err == nil && opt.FleetSummary {
+			o.summary, err = l.summaryOf(ctx, q, h.id, at)
+		}
+		return o, err
 	}, nil)
 }
 
@@ -129,6 +138,8 @@ type hullOutcome struct {
 	n      int64
 	head   []byte
 	broken *Broken
+	// summary is the check of the hull's fleet summary, when asked for.
+	summary *summaryOutcome
 }
 
 // hullCheck verifies one hull with the reads of q.
@@ -307,8 +318,15 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 			}
 		}
 	}
+	var sc *SummaryCheck
 	for i, h := range hulls {
 		o := outs[i]
+		if o.summary != nil {
+			if sc == nil {
+				sc = &SummaryCheck{Disagree: []SummaryDisagreement{}}
+			}
+			sc.add(o.summary.row, o.summary.disagree)
+		}
 		res.Records += o.n
 		res.Heads[h.serial] = fmt.Sprintf("%x", o.head)
 		if o.broken != nil && res.FirstBroken == nil {
@@ -346,6 +364,9 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 		} else {
 			res.Problem += "; and ledger guard down: " + g.Detail + more
 		}
+	}
+	if sc != nil {
+		res.AddSummaryCheck(sc)
 	}
 	return res, nil
 }

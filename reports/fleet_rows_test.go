@@ -31,6 +31,7 @@ func TestFleetRowsFromSummary(t *testing.T) {
 	}
 	undated := func(rows []view.FleetRow) string {
 		for i := range rows {
+			rows[i].EvaluatedAt, rows[i].FromSummary = time.Time{}, false
 			for _, rs := range [][]ledger.Reason{rows[i].Reasons, rows[i].OpenFlags} {
 				for k := range rs {
 					if rs[k].Kind == "flag" && rs[k].Code != "" && rs[k].At != nil && !rs[k].At.Before(time.Now().Add(-time.Hour)) {
@@ -56,6 +57,11 @@ func TestFleetRowsFromSummary(t *testing.T) {
 		got, err := view.FleetRowsOf(ctx, l, at)
 		if err != nil {
 			t.Fatal(err)
+		}
+		for _, r := range got {
+			if want := !at.After(time.Now().Add(time.Hour)); r.FromSummary != want || (!want && !r.EvaluatedAt.Equal(at)) {
+				t.Errorf("at %s: hull %s from_summary %v evaluated_at %s", at, r.Serial, r.FromSummary, r.EvaluatedAt)
+			}
 		}
 		fv, err := view.FleetOf(ctx, l, at)
 		if err != nil {

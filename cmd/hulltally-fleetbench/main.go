@@ -112,7 +112,9 @@ type command struct {
 var commands = []command{
 	{"fleet", func(string, string) []string { return []string{"fleet"} }},
 	{"hull show", func(s, _ string) []string { return []string{"hull", "show", s} }},
-	{"report hull", func(s, dir string) []string { return []string{"report", "hull", s, "-o", filepath.Join(dir, "hull.pdf")} }},
+	{"report hull", func(s, dir string) []string {
+		return []string{"report", "hull", s, "-o", filepath.Join(dir, "hull.pdf")}
+	}},
 	{"clear", func(s, _ string) []string { return []string{"clear", s, "--depth", "1000"} }},
 	{"verify", func(string, string) []string { return []string{"verify"} }},
 	{"assess", func(string, string) []string { return []string{"assess", "--reason", "benchmark", "--actor", "bench"} }},
@@ -255,7 +257,10 @@ func fillHull(ctx context.Context, l *ledger.Ledger, specYAML []byte, serial str
 		return err
 	}
 	lat := 45.0
-	t0 := time.Date(2026, 1, 1, 6, 0, 0, 0, time.UTC)
+	// Recent dives and records, so that no inspection or proof test has
+	// fallen due (a hull whose verdict changes with the time is evaluated
+	// at every read, by design).
+	t0 := time.Now().UTC().Truncate(time.Hour).Add(-time.Duration(dives)*20*time.Hour - 48*time.Hour)
 	for i := 0; i < dives; i++ {
 		d := synth.Dive{Start: t0.Add(time.Duration(i) * 20 * time.Hour), SampleHz: 0.2, Latitude: lat, MaxDepthM: float64(500 + (i*37+h*11)%3000),
 			DescentMPS: 1, AscentMPS: 1, BottomS: 1800, SurfaceS: 120, WanderM: 5, DepthNoiseM: 0.05,

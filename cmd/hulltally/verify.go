@@ -3,7 +3,6 @@ package main
 import (
 	"crypto"
 	"errors"
-	"time"
 
 	"github.com/spf13/cobra"
 
@@ -64,15 +63,10 @@ func (a *app) verifyCmd() *cobra.Command {
 			if cps != nil {
 				return a.verifyCheckpoints(cmd, l, cps, pub)
 			}
-			res, err := l.Verify(cmd.Context())
+			res, err := l.VerifyWith(cmd.Context(), ledger.VerifyOptions{FleetSummary: true})
 			if err != nil {
 				return err
 			}
-			sc, err := l.CheckFleetSummary(cmd.Context(), time.Now().UTC())
-			if err != nil {
-				return err
-			}
-			res.AddSummaryCheck(sc)
 			if !res.OK {
 				a.exit = exitFailed
 			}

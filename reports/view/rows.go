@@ -32,6 +32,11 @@ type FleetRow struct {
 	LastDive          *time.Time      `json:"last_dive"`
 	OpenFlags         []ledger.Reason `json:"open_flags"`
 	Reasons           []ledger.Reason `json:"reasons"`
+	// EvaluatedAt is when the figures were evaluated; FromSummary is true
+	// when they were read from the fleet summary the last write left
+	// (ledger.Fleet), false when the hull was evaluated for this read.
+	EvaluatedAt time.Time `json:"evaluated_at"`
+	FromSummary bool      `json:"from_summary"`
 	// Ratio is the governing damage ratio, for the order and the text
 	// (Percent); not in the JSON, which carries DamagePercent.
 	Ratio float64 `json:"-"`
@@ -39,7 +44,9 @@ type FleetRow struct {
 
 // Row is the hull's fleet row.
 func (h *Hull) Row() FleetRow {
-	return rowOf(h.Record.Serial, h.Record.Spec.Name, h.Fitness.Status, h.Fitness.Reasons, h.Fitness.LastDive, h.Fitness.Damage)
+	r := rowOf(h.Record.Serial, h.Record.Spec.Name, h.Fitness.Status, h.Fitness.Reasons, h.Fitness.LastDive, h.Fitness.Damage)
+	r.EvaluatedAt = h.Fitness.EvaluatedAt
+	return r
 }
 
 // rowOf is a fleet row from a hull's status, reasons, last dive and the
@@ -68,7 +75,9 @@ func FleetRowsOf(ctx context.Context, l *ledger.Ledger, at time.Time) ([]FleetRo
 	}
 	out := make([]FleetRow, 0, len(es))
 	for _, e := range es {
-		out = append(out, rowOf(e.Serial, e.Name, e.Status, e.Reasons, e.LastDive, e.Damage))
+		r := rowOf(e.Serial, e.Name, e.Status, e.Reasons, e.LastDive, e.Damage)
+		r.EvaluatedAt, r.FromSummary = e.EvaluatedAt, e.Derived
+		out = append(out, r)
 	}
 	SortByUrgency(out, func(r *FleetRow) Rank { return Rank{Status: r.Status, Ratio: r.Ratio, Serial: r.Serial} })
 	return out, nil
