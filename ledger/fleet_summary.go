@@ -8,6 +8,8 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"runtime"
+	"strings"
 	"time"
 
 	"github.com/google/uuid"
@@ -51,26 +53,87 @@ type FleetEntry struct {
 // governing ratio keeps its infinity (a static overload) or NaN apart
 // from a number, which JSON cannot.
 type summaryDoc struct {
-	Status                 string     `json:"status"`
-	Reasons                []Reason   `json:"reasons"`
-	LastDive               *time.Time `json:"last_dive"`
-	Governing              string     `json:"governing_component"`
-	Ratio                  *float64   `json:"governing_ratio"`
-	RatioNotFinite         string     `json:"governing_ratio_not_finite,omitempty"`
-	DiveCount              int        `json:"dive_count"`
-	RemainingDives         *int64     `json:"remaining_dives"`
-	RemainingMoreThan      bool       `json:"remaining_more_than"`
-	RemainingStatus        string     `json:"remaining_status"`
-	RemainingReason        string     `json:"remaining_reason"`
-	RemainingBasis         string     `json:"remaining_basis,omitempty"`
-	RemainingAtRecentMean  *int64     `json:"remaining_at_recent_mean"`
-	RemainingAtDesignDive  *int64     `json:"remaining_at_design_dive"`
-	RemainingRecentMore    bool       `json:"remaining_at_recent_mean_more_than"`
-	RemainingDesignDiveMor bool       `json:"remaining_at_design_dive_more_than"`
+	Status string `json:"status"`
+	// Reasons are the hull's reasons with each text's rule part ("[rule
+	// …; basis: …; source: …]", the same for every dive that raised the
+	// rule) kept once in Tails: decoding the documents is most of a fleet
+	// read, and a hull on hold may carry a reason per dive.
+	Reasons                []storedReason `json:"reasons"`
+	Tails                  []string       `json:"tails,omitempty"`
+	LastDive               *time.Time     `json:"last_dive"`
+	Governing              string         `json:"governing_component"`
+	Ratio                  *float64       `json:"governing_ratio"`
+	RatioNotFinite         string         `json:"governing_ratio_not_finite,omitempty"`
+	DiveCount              int            `json:"dive_count"`
+	RemainingDives         *int64         `json:"remaining_dives"`
+	RemainingMoreThan      bool           `json:"remaining_more_than"`
+	RemainingStatus        string         `json:"remaining_status"`
+	RemainingReason        string         `json:"remaining_reason"`
+	RemainingBasis         string         `json:"remaining_basis,omitempty"`
+	RemainingAtRecentMean  *int64         `json:"remaining_at_recent_mean"`
+	RemainingAtDesignDive  *int64         `json:"remaining_at_design_dive"`
+	RemainingRecentMore    bool           `json:"remaining_at_recent_mean_more_than"`
+	RemainingDesignDiveMor bool           `json:"remaining_at_design_dive_more_than"`
+}
+
+// storedReason is a Reason whose text is Head followed by the Tail-th
+// (1-based) of the document's tails, or Head alone when Tail is 0.
+type storedReason struct {
+	Kind  string     `json:"kind"`
+	Code  string     `json:"code,omitempty"`
+	State string     `json:"state"`
+	NoGo  bool       `json:"no_go,omitempty"`
+	Head  string     `json:"head"`
+	Tail  int        `json:"tail,omitempty"`
+	At    *time.Time `json:"at,omitempty"`
+}
+
+// ruleTail marks where a reason's rule part begins.
+const ruleTail = " [rule "
+
+// packReasons splits each reason's text at its last rule part and keeps
+// every distinct rule part once, in the order met.
+func packReasons(rs []Reason) ([]storedReason, []string) {
+	out := make([]storedReason, len(rs))
+	var tails []string
+	index := map[string]int{}
+	for i, r := range rs {
+		sr := storedReason{Kind: r.Kind, Code: r.Code, State: r.State, NoGo: r.NoGo, Head: r.Text, At: r.At}
+		if k := strings.LastIndex(r.Text, ruleTail); k >= 0 {
+			tail := r.Text[k:]
+			n, ok := index[tail]
+			if !ok {
+				tails = append(tails, tail)
+				n = len(tails)
+				index[tail] = n
+			}
+			sr.Head, sr.Tail = r.Text[:k], n
+		}
+		out[i] = sr
+	}
+	return out, tails
+}
+
+// unpackReasons is packReasons undone; a tail index out of range is an
+// error (the row is then not used).
+func unpackReasons(rs []storedReason, tails []string) ([]Reason, error) {
+	out := make([]Reason, len(rs))
+	for i, r := range rs {
+		text := r.Head
+		if r.Tail != 0 {
+			if r.Tail < 0 || r.Tail > len(tails) {
+				return nil, fmt.Errorf("reason %d names rule part %d of %d", i+1, r.Tail, len(tails))
+			}
+			text += tails[r.Tail-1]
+		}
+		out[i] = Reason{Kind: r.Kind, Code: r.Code, State: r.State, NoGo: r.NoGo, Text: text, At: r.At}
+	}
+	return out, nil
 }
 
 func docOf(f *Fitness) summaryDoc {
-	d := summaryDoc{Status: f.Status, Reasons: f.Reasons, LastDive: f.LastDive}
+	d := summaryDoc{Status: f.Status, LastDive: f.LastDive}
+	d.Reasons, d.Tails = packReasons(f.Reasons)
 	if g := f.Damage; g != nil {
 		r := float64(g.GoverningRatio)
 		switch {
@@ -91,7 +154,11 @@ func docOf(f *Fitness) summaryDoc {
 	return d
 }
 
-func (d summaryDoc) entry(serial, name string, at time.Time, derived bool) FleetEntry {
+func (d summaryDoc) entry(serial, name string, at time.Time, derived bool) (FleetEntry, error) {
+	reasons, err := unpackReasons(d.Reasons, d.Tails)
+	if err != nil {
+		return FleetEntry{}, err
+	}
 	r := math.NaN()
 	switch {
 	case d.Ratio != nil:
@@ -106,7 +173,7 @@ func (d summaryDoc) entry(serial, name string, at time.Time, derived bool) Fleet
 		RemainingReason: d.RemainingReason, RemainingBasis: d.RemainingBasis,
 		RemainingAtRecentMean: d.RemainingAtRecentMean, RemainingAtDesignDive: d.RemainingAtDesignDive,
 		RemainingAtRecentMeanMoreThan: d.RemainingRecentMore, RemainingAtDesignDiveMoreThan: d.RemainingDesignDiveMor}
-	return FleetEntry{Serial: serial, Name: name, Status: d.Status, Reasons: d.Reasons, LastDive: d.LastDive, Damage: g, EvaluatedAt: at, Derived: derived}
+	return FleetEntry{Serial: serial, Name: name, Status: d.Status, Reasons: reasons, LastDive: d.LastDive, Damage: g, EvaluatedAt: at, Derived: derived}, nil
 }
 
 // summaryBasis fingerprints everything besides the ledger that a hull's
@@ -283,6 +350,8 @@ type summaryRow struct {
 	storedStatusColumn string
 	// noted is the hull's last status in its (chained) status history.
 	noted string
+	// entry is the row as a fleet entry, when it stands for the hull.
+	entry FleetEntry
 }
 
 // readSummaries reads every hull (or the one hull given) with its fleet
@@ -296,7 +365,7 @@ func (l *Ledger) readSummaries(ctx context.Context, at time.Time, hull *uuid.UUI
 	rows, err := l.db.Query(ctx, `
 		SELECT h.id, h.serial, r.name, s.hull_id IS NOT NULL, coalesce(s.chain_seq, 0), coalesce(s.chain_hash, ''::bytea),
 		       coalesce(s.basis, ''::bytea), coalesce(s.evaluated_at, 'epoch'), s.stable_until, coalesce(s.status, ''),
-		       coalesce(s.summary_json::text, ''), coalesce(c.seq, 0), coalesce(c.hash, ''::bytea), coalesce(n.status, '')
+		       coalesce(s.summary_json, ''), coalesce(c.seq, 0), coalesce(c.hash, ''::bytea), coalesce(n.status, '')
 		FROM hulls h
 		JOIN LATERAL (SELECT name FROM hull_revisions r WHERE r.hull_id = h.id ORDER BY revision DESC LIMIT 1) r ON true
 		LEFT JOIN fleet_summary s ON s.hull_id = h.id
@@ -318,10 +387,20 @@ func (l *Ledger) readSummaries(ctx context.Context, at time.Time, hull *uuid.UUI
 	if err != nil {
 		return nil, fmt.Errorf("reading the fleet summary: %w", err)
 	}
-	for _, s := range out {
-		s.currentAt, s.currentWhy = s.judge(basis, at)
+	// Decoding the rows' documents is most of a fleet read (the reasons'
+	// texts): spread over the cores, 64 rows at a time.
+	var g errgroup.Group
+	g.SetLimit(runtime.GOMAXPROCS(0))
+	for lo := 0; lo < len(out); lo += 64 {
+		chunk := out[lo:min(lo+64, len(out))]
+		g.Go(func() error {
+			for _, s := range chunk {
+				s.currentAt, s.currentWhy = s.judge(basis, at)
+			}
+			return nil
+		})
 	}
-	return out, nil
+	return out, g.Wait()
 }
 
 // judge says whether a row may stand for its hull at at, and if not why.
@@ -341,6 +420,11 @@ func (s *summaryRow) judge(basis []byte, at time.Time) (bool, string) {
 	if err := json.Unmarshal(s.doc, &s.stored); err != nil {
 		return false, "summary does not parse: " + err.Error()
 	}
+	e, err := s.stored.entry(s.serial, s.name, s.evaluated, true)
+	if err != nil {
+		return false, "summary does not unpack: " + err.Error()
+	}
+	s.entry = e
 	if s.stored.Status != s.storedStatusColumn {
 		return false, "summary status and its column disagree"
 	}
@@ -381,7 +465,7 @@ func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) 
 		out = make([]FleetEntry, 0, len(rows))
 		for _, r := range rows {
 			if r.currentAt {
-				out = append(out, r.stored.entry(r.serial, r.name, r.evaluated, true))
+				out = append(out, r.entry)
 				continue
 			}
 			h, err := s.Hull(ctx, r.serial)
@@ -392,7 +476,11 @@ func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) 
 			if err != nil {
 				return fmt.Errorf("status of hull %s: %w", r.serial, err)
 			}
-			out = append(out, docOf(f).entry(r.serial, h.Spec.Name, at, false))
+			e, err := docOf(f).entry(r.serial, h.Spec.Name, at, false)
+			if err != nil {
+				return err
+			}
+			out = append(out, e)
 		}
 		return nil
 	})

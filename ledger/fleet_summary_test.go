@@ -160,7 +160,7 @@ func TestFleetSummaryNeverBetter(t *testing.T) {
 	}
 
 	// A status better than the one the chained history noted.
-	exec(`UPDATE fleet_summary SET status = 'fit', summary_json = jsonb_set(summary_json, '{status}', '"fit"')`)
+	exec(`UPDATE fleet_summary SET status = 'fit', summary_json = jsonb_set(summary_json::jsonb, '{status}', '"fit"')::text`)
 	if e, f := entryOf(t, l, time.Now().UTC()); e.Derived || e.Status != "hold" {
 		t.Fatalf("summary flipped to fit: derived %v status %s", e.Derived, e.Status)
 	} else {
@@ -193,7 +193,7 @@ func TestFleetSummaryNeverBetter(t *testing.T) {
 
 	// Altered in place, head and status kept: used by a read, and caught
 	// by the check verify makes.
-	exec(`UPDATE fleet_summary SET summary_json = jsonb_set(summary_json, '{governing_ratio}', '0.001')`)
+	exec(`UPDATE fleet_summary SET summary_json = jsonb_set(summary_json::jsonb, '{governing_ratio}', '0.001')::text`)
 	sc, err := l.CheckFleetSummary(ctx, time.Now().UTC())
 	if err != nil {
 		t.Fatal(err)

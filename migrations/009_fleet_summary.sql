@@ -20,5 +20,5 @@ CREATE TABLE fleet_summary (
     evaluated_at timestamptz NOT NULL,
     stable_until timestamptz,
     status       text NOT NULL,
-    summary_json jsonb NOT NULL
+    summary_json text NOT NULL
 );

@@ -43,12 +43,16 @@ func TestFleetSummaryCommands(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer conn.Close(ctx)
-	if _, err := conn.Exec(ctx, `UPDATE fleet_summary SET summary_json = jsonb_set(summary_json, '{governing_ratio}', '0.5')`); err != nil {
+	if _, err := conn.Exec(ctx, `UPDATE fleet_summary SET summary_json = jsonb_set(summary_json::jsonb, '{governing_ratio}', '0.5')::text`); err != nil {
 		t.Fatal(err)
 	}
 	out, _, code := e.run("verify")
 	if code != exitFailed || !strings.Contains(out, "FLEET SUMMARY DISAGREES for hull "+lifeSerial) || !strings.Contains(out, "fleet rebuild") {
 		t.Fatalf("verify with an altered summary: exit %d\n%s", code, out)
+	}
+	// --chain-only leaves the summary out, and says so.
+	if out := e.ok("verify", "--chain-only"); !strings.Contains(out, "fleet summary: not checked") {
+		t.Fatalf("verify --chain-only:\n%s", out)
 	}
 	e.ok("fleet", "rebuild")
 	if out := e.ok("verify"); !strings.Contains(out, "fleet summary: 1 of 1 hulls read from it") {
