@@ -25,10 +25,6 @@ func TestFleetRowsFromSummary(t *testing.T) {
 	if _, err := demo.Run(ctx, l, demo.Options{Dir: t.TempDir(), DivesPerHull: 4, SampleHz: 0.1}); err != nil {
 		t.Fatal(err)
 	}
-	// The demo's assess moved every hull's chain past its summary.
-	if _, err := l.RebuildFleetSummary(ctx, time.Now().UTC().Truncate(time.Microsecond), 0); err != nil {
-		t.Fatal(err)
-	}
 	undated := func(rows []view.FleetRow) string {
 		for i := range rows {
 			rows[i].EvaluatedAt, rows[i].FromSummary = time.Time{}, false

@@ -13,7 +13,8 @@
 //   - fleet: the fleet view as read after the writes (every hull from
 //     its fleet summary);
 //   - hull show, report hull, clear: one hull, the last serial;
-//   - verify: every chain and every fleet summary in use;
+//   - verify: every chain and every fleet summary in use; verify
+//     --chain-only: the chains alone;
 //   - assess: a re-assessment of every hull (it moves every chain, so no
 //     summary stands after it);
 //   - fleet after assess: the fleet view with every hull evaluated from
@@ -117,6 +118,7 @@ var commands = []command{
 	}},
 	{"clear", func(s, _ string) []string { return []string{"clear", s, "--depth", "1000"} }},
 	{"verify", func(string, string) []string { return []string{"verify"} }},
+	{"verify --chain-only", func(string, string) []string { return []string{"verify", "--chain-only"} }},
 	{"assess", func(string, string) []string { return []string{"assess", "--reason", "benchmark", "--actor", "bench"} }},
 	{"fleet after assess", func(string, string) []string { return []string{"fleet"} }},
 	{"fleet rebuild", func(string, string) []string { return []string{"fleet", "rebuild"} }},
