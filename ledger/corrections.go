@@ -87,7 +87,7 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 	if err != nil {
 		return nil, err
 	}
-	if _, err := l.evaluateAndNote(ctx, d.Hull, now(), false); err != nil {
+	if _, err := l.evaluateAndNote(ctx, d.Hull, now()); err != nil {
 		return nil, fmt.Errorf("correction recorded; writing the hull's fleet summary failed: %w", err)
 	}
 	return c, nil

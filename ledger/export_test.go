@@ -16,5 +16,5 @@ func (l *Ledger) EvaluateAcross(ctx context.Context, serial string, at time.Time
 	if err := between(); err != nil {
 		return err
 	}
-	return l.noteFitness(ctx, e, true)
+	return l.noteFitness(ctx, e)
 }

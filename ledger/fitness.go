@@ -2,6 +2,7 @@ package ledger
 
 import (
 	"context"
+	"crypto/sha256"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -53,7 +54,7 @@ func (l *Ledger) loadRules() error {
 	if err != nil {
 		return fmt.Errorf("fitness rules %s: %w", src, err)
 	}
-	l.rulesSet, l.rulesSrc = r, src
+	l.rulesSet, l.rulesSrc, l.rulesSHA = r, src, sha256.Sum256(b)
 	return nil
 }
 
@@ -64,7 +65,7 @@ func (l *Ledger) FitnessOf(ctx context.Context, h *Hull, now time.Time) (*Fitnes
 	if err := l.writable("FitnessOf"); err != nil {
 		return nil, err
 	}
-	return l.evaluateAndNote(ctx, h.Serial, now, true)
+	return l.evaluateAndNote(ctx, h.Serial, now)
 }
 
 // FitnessAt evaluates the hull's status at a time without recording
@@ -726,7 +727,7 @@ func (l *Ledger) noteStatusAfter(ctx context.Context, serial string) error {
 
 // statusAfter is noteStatusAfter returning the status it noted.
 func (l *Ledger) statusAfter(ctx context.Context, serial string) (*Fitness, error) {
-	f, err := l.evaluateAndNote(ctx, serial, now(), true)
+	f, err := l.evaluateAndNote(ctx, serial, now())
 	if err != nil {
 		return nil, fmt.Errorf("recorded; noting the hull's status failed: %w", err)
 	}

@@ -7,9 +7,12 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io"
 	"math"
+	"os"
 	"runtime"
 	"strings"
+	"sync"
 	"time"
 
 	"github.com/google/uuid"
@@ -179,25 +182,60 @@ func (d summaryDoc) entry(serial, name string, at time.Time, derived bool) (Flee
 // summaryBasis fingerprints everything besides the ledger that a hull's
 // evaluation may depend on: the whole configuration but where the ledger
 // and the files live (a setting added later is covered without a
-// change here), the contents of the rule set and of the curve library
-// (in the fatigue hash), and the build. A row written under another basis
-// is not used.
+// change here), the rule set and the curve library as parsed at Open
+// (their bytes' hashes), and the build: the SHA-256 of the running
+// executable, since a build without version control stamps (go run, a
+// source tree, -buildvcs=false) names no revision, and two builds of the
+// same revision may differ (a modified tree, another architecture). A row
+// written under another basis is not used. Computed once per Ledger.
 func (l *Ledger) summaryBasis() ([]byte, error) {
-	rules, _, err := l.cfg.Rules()
-	if err != nil {
-		return nil, err
-	}
-	rs := sha256.Sum256(rules)
-	c := *l.cfg
-	c.Home, c.Database, c.Source = "", configs.Database{}, nil
-	js, err := json.Marshal(map[string]any{
-		"config": c, "fatigue": fmt.Sprintf("%x", l.fat.hash), "rules": fmt.Sprintf("%x", rs), "software": software(),
+	l.basis.once.Do(func() {
+		c := *l.cfg
+		c.Home, c.Database, c.Source = "", configs.Database{}, nil
+		js, err := json.Marshal(map[string]any{
+			"config": c, "fatigue": fmt.Sprintf("%x", l.fat.hash), "rules": fmt.Sprintf("%x", l.rulesSHA),
+			"software": software(), "executable": executableSHA(),
+		})
+		if err != nil {
+			l.basis.err = err
+			return
+		}
+		b := sha256.Sum256(js)
+		l.basis.b = b[:]
 	})
+	return l.basis.b, l.basis.err
+}
+
+// basisCache holds a Ledger's summary basis once computed (shared by the
+// Ledgers a Snapshot hands out).
+type basisCache struct {
+	once sync.Once
+	b    []byte
+	err  error
+}
+
+// executableSHA is the hex SHA-256 of the running executable; when it
+// cannot be read, a random value, so that this process's rows match no
+// other's (slower reads, never a row of another build).
+func executableSHA() string {
+	h := sha256.New()
+	err := func() error {
+		p, err := os.Executable()
+		if err != nil {
+			return err
+		}
+		f, err := os.Open(p)
+		if err != nil {
+			return err
+		}
+		defer f.Close()
+		_, err = io.Copy(h, f)
+		return err
+	}()
 	if err != nil {
-		return nil, err
+		return "unreadable executable " + uuid.NewString()
 	}
-	b := sha256.Sum256(js)
-	return b[:], nil
+	return fmt.Sprintf("%x", h.Sum(nil))
 }
 
 // stableUntil is how long f's verdict holds with nothing recorded
@@ -213,13 +251,14 @@ func (l *Ledger) stableUntil(f *Fitness) *time.Time {
 // noteFitness is the write after an evaluation made in a snapshot whose
 // chain head was head: in one transaction holding the hull's chain lock,
 // when nothing was added to the hull's chain since the snapshot, it
-// appends the status to the hull's history when it changed (note) and
-// writes the hull's fleet summary with the head that includes the status
+// appends the status to the hull's history when it changed and writes
+// the hull's fleet summary (so a row's status is always the one last
+// noted) with the head that includes the status
 // record. When something was added meanwhile it writes nothing: the
 // evaluation is already old (it may be better than the hull now), and the
 // writer of the newer record notes its own, which sees this one's record
 // too.
-func (l *Ledger) noteFitness(ctx context.Context, e *evaluation, note bool) error {
+func (l *Ledger) noteFitness(ctx context.Context, e *evaluation) error {
 	h, f := e.h, e.f
 	basis, err := l.summaryBasis()
 	if err != nil {
@@ -231,6 +270,12 @@ func (l *Ledger) noteFitness(ctx context.Context, e *evaluation, note bool) erro
 	}
 	until := l.stableUntil(f)
 	return pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
+		// The hull's summary row first, then its chain: the order of every
+		// write (its inserts take the row away through the trigger, then it
+		// appends to the chain), so that the two never wait on each other.
+		if _, err := tx.Exec(ctx, "SELECT 1 FROM fleet_summary WHERE hull_id = $1 FOR UPDATE", h.ID); err != nil {
+			return fmt.Errorf("fleet summary of %s: locking it: %w", h.Serial, err)
+		}
 		if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock($1, hashtext($2))", lockChain, h.ID.String()); err != nil {
 			return fmt.Errorf("status of %s: locking the chain: %w", h.Serial, err)
 		}
@@ -241,26 +286,24 @@ func (l *Ledger) noteFitness(ctx context.Context, e *evaluation, note bool) erro
 		if curSeq != e.seq || !bytes.Equal(curHash, e.head) {
 			return nil
 		}
-		if note {
-			var last string
-			err := tx.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
-			if err != nil && !errors.Is(err, pgx.ErrNoRows) {
+		var last string
+		err = tx.QueryRow(ctx, "SELECT status FROM status_history WHERE hull_id = $1 ORDER BY seq DESC LIMIT 1", h.ID).Scan(&last)
+		if err != nil && !errors.Is(err, pgx.ErrNoRows) {
+			return fmt.Errorf("status history of %s: %w", h.Serial, err)
+		}
+		if errors.Is(err, pgx.ErrNoRows) || last != f.Status {
+			reasons, _ := json.Marshal(f.Reasons)
+			var seq int64
+			at := now()
+			if err := tx.QueryRow(ctx, "INSERT INTO status_history (hull_id, status, reasons_json, recorded_at) VALUES ($1,$2,$3,$4) RETURNING seq",
+				h.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
 				return fmt.Errorf("status history of %s: %w", h.Serial, err)
 			}
-			if errors.Is(err, pgx.ErrNoRows) || last != f.Status {
-				reasons, _ := json.Marshal(f.Reasons)
-				var seq int64
-				at := now()
-				if err := tx.QueryRow(ctx, "INSERT INTO status_history (hull_id, status, reasons_json, recorded_at) VALUES ($1,$2,$3,$4) RETURNING seq",
-					h.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
-					return fmt.Errorf("status history of %s: %w", h.Serial, err)
-				}
-				rec := chainRec{"status", fmt.Sprintf("%s/%d", h.ID, seq), statusCanon(h.ID, seq, f.Status, string(reasons), at)}
-				if curHash, err = appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
-					return err
-				}
-				curSeq++
+			rec := chainRec{"status", fmt.Sprintf("%s/%d", h.ID, seq), statusCanon(h.ID, seq, f.Status, string(reasons), at)}
+			if curHash, err = appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
+				return err
 			}
+			curSeq++
 		}
 		_, err = tx.Exec(ctx, `INSERT INTO fleet_summary (hull_id, chain_seq, chain_hash, basis, evaluated_at, stable_until, status, summary_json)
 			VALUES ($1,$2,$3,$4,$5,$6,$7,$8)
@@ -316,9 +359,9 @@ func (l *Ledger) evaluate(ctx context.Context, serial string, at time.Time) (*ev
 }
 
 // evaluateAndNote evaluates a hull at at in one snapshot and notes the
-// result (noteFitness): the status when note is true, and the fleet
+// result (noteFitness): the status when it changed, and the fleet
 // summary. It is what every write ends with.
-func (l *Ledger) evaluateAndNote(ctx context.Context, serial string, at time.Time, note bool) (*Fitness, error) {
+func (l *Ledger) evaluateAndNote(ctx context.Context, serial string, at time.Time) (*Fitness, error) {
 	if err := l.writable("evaluating a hull"); err != nil {
 		return nil, err
 	}
@@ -326,7 +369,7 @@ func (l *Ledger) evaluateAndNote(ctx context.Context, serial string, at time.Tim
 	if err != nil {
 		return nil, err
 	}
-	if err := l.noteFitness(ctx, e, note); err != nil {
+	if err := l.noteFitness(ctx, e); err != nil {
 		return nil, err
 	}
 	return e.f, nil
@@ -428,27 +471,27 @@ func (s *summaryRow) judge(basis []byte, at time.Time) (bool, string) {
 	if s.stored.Status != s.storedStatusColumn {
 		return false, "summary status and its column disagree"
 	}
-	// A write that can better a status (an inspection, a decision) notes
-	// it in the chained history; a summary better than the last status
-	// noted contradicts the ledger.
-	if s.noted != "" && severity(s.stored.Status) < severity(s.noted) {
-		return false, fmt.Sprintf("summary says %s, the status last noted is %s", s.stored.Status, s.noted)
+	// Every write of a row notes its status in the chained history in the
+	// same transaction: a row whose status is not the one last noted, or
+	// not one of the four, contradicts the ledger.
+	if !knownState(s.stored.Status) || s.stored.Status != s.noted {
+		return false, fmt.Sprintf("summary says %q, the status last noted is %q", s.stored.Status, s.noted)
+	}
+	for _, r := range s.stored.Reasons {
+		if !knownState(r.State) {
+			return false, fmt.Sprintf("a reason's state %q is not a status", r.State)
+		}
 	}
 	return true, ""
 }
 
-// severity orders the states from fit (0) to withdrawn (3); a state not
-// known counts as the worst.
-func severity(state string) int {
-	switch fitness.State(state) {
-	case fitness.Fit:
-		return 0
-	case fitness.Watch:
-		return 1
-	case fitness.Hold:
-		return 2
+// knownState reports whether s is exactly one of the four statuses.
+func knownState(s string) bool {
+	switch fitness.State(s) {
+	case fitness.Fit, fitness.Watch, fitness.Hold, fitness.Withdrawn:
+		return true
 	}
-	return 3
+	return false
 }
 
 // Fleet returns every hull of the fleet view at at, by serial: each from
@@ -488,8 +531,8 @@ func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) 
 }
 
 // RebuildFleetSummary evaluates every hull at at and writes its fleet
-// summary (derived data only: no status is noted, nothing is chained),
-// over up to workers hulls at once (0: GOMAXPROCS, bounded by the
+// summary, noting its status where it changed (an inspection fallen due,
+// as `status record` does), over up to workers hulls at once (0: GOMAXPROCS, bounded by the
 // connection pool). It returns the number of rows written; a hull whose
 // chain moved during its evaluation is left for its writer.
 func (l *Ledger) RebuildFleetSummary(ctx context.Context, at time.Time, workers int) (int, error) {
@@ -504,7 +547,7 @@ func (l *Ledger) RebuildFleetSummary(ctx context.Context, at time.Time, workers 
 	g.SetLimit(verifyWorkers(workers, l.pool.Config().MaxConns, len(hs)))
 	for _, h := range hs {
 		g.Go(func() error {
-			_, err := l.evaluateAndNote(gctx, h.Serial, at, false)
+			_, err := l.evaluateAndNote(gctx, h.Serial, at)
 			return err
 		})
 	}

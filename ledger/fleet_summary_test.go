@@ -168,6 +168,14 @@ func TestFleetSummaryNeverBetter(t *testing.T) {
 	}
 	restore()
 
+	// A status that is none of the four, printed upper-cased as FIT
+	// (found by review).
+	exec(`UPDATE fleet_summary SET status = 'Fit', summary_json = jsonb_set(summary_json::jsonb, '{status}', '"Fit"')::text`)
+	if e, _ := entryOf(t, l, time.Now().UTC()); e.Derived || e.Status != "hold" {
+		t.Fatalf("summary set to Fit: derived %v status %s", e.Derived, e.Status)
+	}
+	restore()
+
 	// A record added to the chain since the row was written.
 	exec("UPDATE fleet_summary SET chain_seq = chain_seq - 1")
 	if e, _ := entryOf(t, l, time.Now().UTC()); e.Derived {
@@ -249,4 +257,33 @@ func TestFleetSummaryRace(t *testing.T) {
 		t.Fatalf("fleet after the race: derived %v status %s", e.Derived, e.Status)
 	}
 	sameAsLedger(t, "after the race", e, f)
+}
+
+// TestFleetSummaryForgottenOnInsert: a record inserted straight into the
+// database, behind the application and its chain (a failed inspection
+// here), takes the hull's summary away: the fleet shows the hull as the
+// ledger has it, with the new record among the reasons.
+func TestFleetSummaryForgottenOnInsert(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	if e, _ := entryOf(t, l, time.Now().UTC()); !e.Derived {
+		t.Fatal("setup: the hull was not read from its summary")
+	}
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		t.Fatal(err)
+	}
+	at := time.Now().UTC().Add(-time.Minute)
+	if _, err := l.Pool().Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, findings, result, actor, recorded_at)
+		VALUES (gen_random_uuid(), $1, $2, 'visual', 'inserted behind the chain', 'fail', 'nobody', $2)`, h.ID, at); err != nil {
+		t.Fatal(err)
+	}
+	e, f := entryOf(t, l, time.Now().UTC())
+	if e.Derived {
+		t.Fatal("a summary written before the inserted inspection was used")
+	}
+	if !slices.ContainsFunc(e.Reasons, func(r ledger.Reason) bool { return strings.Contains(r.Text, "inserted behind the chain") }) {
+		t.Fatalf("the inserted inspection is not among the reasons: %+v", e.Reasons)
+	}
+	sameAsLedger(t, "after the insert", e, f)
 }

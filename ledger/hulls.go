@@ -196,7 +196,7 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 	if err := tx.Commit(ctx); err != nil {
 		return nil, fmt.Errorf("adding hull %s: %w", h.Serial, err)
 	}
-	if _, err := l.evaluateAndNote(ctx, h.Serial, now(), false); err != nil {
+	if _, err := l.evaluateAndNote(ctx, h.Serial, now()); err != nil {
 		return nil, fmt.Errorf("hull %s recorded; writing its fleet summary failed: %w", h.Serial, err)
 	}
 	return l.Hull(ctx, h.Serial)

@@ -35,6 +35,10 @@ type Ledger struct {
 	// rulesSet is the fitness rule set, parsed once at Open.
 	rulesSet *fitness.Rules
 	rulesSrc string
+	// rulesSHA is the SHA-256 of the rule set's bytes as parsed.
+	rulesSHA [32]byte
+	// basis is the fleet summary's basis, computed once (summaryBasis).
+	basis *basisCache
 }
 
 // Info says where the ledger is.
@@ -56,7 +60,7 @@ type Info struct {
 // Open connects to the configured database, or creates and starts the
 // managed cluster, and applies pending migrations.
 func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
-	l := &Ledger{cfg: cfg}
+	l := &Ledger{cfg: cfg, basis: &basisCache{}}
 	if err := l.loadFatigue(); err != nil {
 		return nil, err
 	}

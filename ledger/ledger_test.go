@@ -488,7 +488,9 @@ func TestHullRevision(t *testing.T) {
 		t.Fatalf("revision %+v", r)
 	}
 	res, err := l.Verify(ctx)
-	if err != nil || !res.OK || res.Records != 3 {
+	// Hull, revision 1 and its first status, revision 2 (the status did
+	// not change).
+	if err != nil || !res.OK || res.Records != 4 {
 		t.Fatalf("verify: %v %+v", err, res)
 	}
 }

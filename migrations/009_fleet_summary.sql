@@ -22,3 +22,28 @@ CREATE TABLE fleet_summary (
     status       text NOT NULL,
     summary_json text NOT NULL
 );
+
+-- A row inserted into a table the evaluation reads takes the hull's
+-- summary away in the same statement, even an insert that bypasses the
+-- application (and so the chain): the hull is then evaluated from the
+-- ledger until its next write leaves a new summary. (An update or delete
+-- is refused by the append-only guards; a row added behind the chain is
+-- also found by verify.)
+CREATE FUNCTION fleet_summary_forget() RETURNS trigger LANGUAGE plpgsql AS $$
+BEGIN
+    DELETE FROM fleet_summary s USING (SELECT DISTINCT hull_id FROM new_rows) n WHERE s.hull_id = n.hull_id;
+    RETURN NULL;
+END
+$$;
+
+DO $$
+DECLARE t text;
+BEGIN
+    FOREACH t IN ARRAY ARRAY['hull_revisions', 'hull_components', 'gauges', 'dives', 'dive_voids', 'dive_evidence',
+        'evidence_revisions', 'dive_cycles', 'dive_holds', 'assessments', 'assessment_damage', 'inspections',
+        'proof_tests', 'decisions'] LOOP
+        EXECUTE format('CREATE TRIGGER %I AFTER INSERT ON %I REFERENCING NEW TABLE AS new_rows FOR EACH STATEMENT EXECUTE FUNCTION fleet_summary_forget()',
+            t || '_forgets_summary', t);
+    END LOOP;
+END
+$$;

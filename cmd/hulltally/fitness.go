@@ -104,7 +104,7 @@ func (a *app) fleetCmd() *cobra.Command {
 	}
 	c.AddCommand(&cobra.Command{
 		Use:   "rebuild",
-		Short: "Evaluate every hull and write the fleet summary the fleet view reads (derived data: nothing is added to the ledger)",
+		Short: "Evaluate every hull and write the fleet summary the fleet view reads (and note any status that changed, as status record does)",
 		Long: "The fleet view reads each hull from a derived summary written after every write, and evaluates from the ledger any hull " +
 			"whose summary no longer stands for it (a write since, another configuration or build, or a verdict that changes with the time, " +
 			"such as an inspection falling due). This command writes every hull's summary afresh, for example after an assess, an upgrade or a " +

@@ -269,7 +269,8 @@ func TestExitCodes(t *testing.T) {
 	}
 	var v map[string]any
 	e.jsonOK(&v, "verify")
-	if v["ok"] != true || v["records"].(float64) != 2 {
+	// The hull, its revision and its first status (noted at hull add).
+	if v["ok"] != true || v["records"].(float64) != 3 {
 		t.Fatalf("verify: %v", v)
 	}
 	if _, ok := v["first_broken"]; !ok {
@@ -352,8 +353,8 @@ func TestCrashMidLog(t *testing.T) {
 			t.Fatalf("%s has %d rows after the crash", tb, n)
 		}
 	}
-	if n := e.count("audit_chain"); n != 2 {
-		t.Fatalf("audit chain has %d records, want the hull's 2", n)
+	if n := e.count("audit_chain"); n != 3 {
+		t.Fatalf("audit chain has %d records, want the hull's 3 (hull, revision, first status)", n)
 	}
 	var d map[string]any
 	e.jsonOK(&d, "dive", "log", "--hull", "EX-C4000-01", "--start", "2026-06-01T00:00:00Z", p)
