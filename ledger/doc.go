@@ -7,7 +7,8 @@
 // fitness rules) lives in the pure packages under hulltally/fatigue.
 //
 // Every ledger table is append-only (database triggers refuse UPDATE,
-// DELETE and TRUNCATE) and every record is chained per hull:
+// DELETE and TRUNCATE) and every record is chained per hull (the derived
+// fleet_summary table is neither):
 // hash = SHA-256(previous hash ‖ canonical bytes of the record).
 //
 // # Writes
@@ -24,6 +25,9 @@
 //   - Assess: a new assessment of every (or one) hull;
 //   - FitnessOf: evaluates the rules and records the status in the
 //     hull's status history when it changed (FitnessAt is its read);
+//   - RebuildFleetSummary: every hull's fleet summary afresh (derived
+//     data, not chained; every write above that evaluates a hull also
+//     writes that hull's summary after its commit).
 //   - RegisterReport: the record of an issued report;
 //   - Migrate (and Open, which calls it): the schema.
 //
@@ -31,7 +35,9 @@
 // ReadBlocks, HullDamage, DiveCycles, DiveDamageOf, LoadOf, HullCycles,
 // ProfileOf, EvidenceOf, HullEvidence, HitsOf, VoidOf, FitnessAt, Clear,
 // StatusHistory, MaintenanceOf, ReportBasis, ChainHead, Verify,
-// IssuedReportOf, SchemaVersion.
+// IssuedReportOf, SchemaVersion, Fleet (reads the fleet summary, and
+// evaluates without recording any hull whose summary does not stand),
+// CheckFleetSummary.
 //
 // # Snapshots
 //
