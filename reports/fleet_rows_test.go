@@ -12,7 +12,8 @@ import (
 )
 
 // TestFleetRowsFromSummary: the fleet view read through the fleet summary
-// (FleetRowsOf, what `hulltally fleet` prints) is the fleet view walked
+// (FleetRowsOf, what `hulltally fleet` prints; HullRowsOf, `hull list`)
+// is the fleet view walked
 // hull by hull from the ledger (FleetOf), row for row and in the same
 // order, on the demo fleet (one hull on hold, one on watch, one fit) —
 // now, where the demo's writes left a summary for each hull, and a year
@@ -64,6 +65,14 @@ func TestFleetRowsFromSummary(t *testing.T) {
 			t.Fatal(err)
 		}
 		want := fv.Rows()
+		// hull list reads the same way.
+		hr, err := view.HullRowsOf(ctx, l, at)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if a, b := mustJSON(t, hr), mustJSON(t, fv.HullRows()); a != b {
+			t.Fatalf("at %s: hull rows through the summary\n%s\nwalked\n%s", at, a, b)
+		}
 		if len(got) != 3 || undated(got) != undated(want) {
 			t.Fatalf("at %s (%d hulls from the summary):\nsummary %s\nwalked  %s", at, derived, undated(got), undated(want))
 		}
@@ -75,4 +84,13 @@ func TestFleetRowsFromSummary(t *testing.T) {
 		}
 		t.Logf("at %s: %d hulls from the summary; order %s %s %s", at.Format(time.DateOnly), derived, got[0].Serial, got[1].Serial, got[2].Serial)
 	}
+}
+
+func mustJSON(t *testing.T, v any) string {
+	t.Helper()
+	b, err := json.Marshal(v)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return string(b)
 }

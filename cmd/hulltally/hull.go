@@ -128,14 +128,14 @@ func (a *app) hullCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			fl, err := view.FleetOf(cmd.Context(), l, time.Now().UTC())
+			rows, err := view.HullRowsOf(cmd.Context(), l, time.Now().UTC())
 			if err != nil {
 				return err
 			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"hulls": fl.HullRows(), "caution": cautionText()})
+				return a.printJSON(map[string]any{"hulls": rows, "caution": cautionText()})
 			}
-			a.printHulls(fl.HullRows(), true)
+			a.printHulls(rows, true)
 			return nil
 		},
 	}

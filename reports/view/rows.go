@@ -118,11 +118,42 @@ type HullRow struct {
 
 // HullRows are the fleet's hulls in the ledger's order (hull list).
 func (f *Fleet) HullRows() []HullRow {
+	rows := map[string]FleetRow{}
+	for serial, h := range f.Hulls {
+		rows[serial] = h.Row()
+	}
+	return hullRows(f.Summaries, rows)
+}
+
+// HullRowsOf are the hulls in the ledger's order (hull list) at a moment,
+// their status and damage read through the fleet summary as FleetRowsOf
+// does; one snapshot. A read.
+func HullRowsOf(ctx context.Context, l *ledger.Ledger, at time.Time) ([]HullRow, error) {
+	var out []HullRow
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		hs, err := s.Hulls(ctx)
+		if err != nil {
+			return err
+		}
+		fr, err := FleetRowsOf(ctx, s, at)
+		if err != nil {
+			return err
+		}
+		rows := map[string]FleetRow{}
+		for _, r := range fr {
+			rows[r.Serial] = r
+		}
+		out = hullRows(hs, rows)
+		return nil
+	})
+	return out, err
+}
+
+func hullRows(hs []ledger.HullSummary, rows map[string]FleetRow) []HullRow {
 	out := []HullRow{}
-	for _, s := range f.Summaries {
+	for _, s := range hs {
 		r := HullRow{HullSummary: s, LastDive: s.LastDive}
-		if h := f.Hulls[s.Serial]; h != nil {
-			fr := h.Row()
+		if fr, ok := rows[s.Serial]; ok {
 			r.Status, r.Governing, r.Ratio = fr.Status, fr.Governing, fr.Ratio
 			r.DamagePercent, r.DamageOverload = fr.DamagePercent, fr.DamageOverload
 			r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason, r.Remaining = fr.RemainingDives, fr.RemainingMoreThan, fr.RemainingStatus, fr.RemainingReason, fr.Remaining
