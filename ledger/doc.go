@@ -36,8 +36,7 @@
 // ProfileOf, EvidenceOf, HullEvidence, HitsOf, VoidOf, FitnessAt, Clear,
 // StatusHistory, MaintenanceOf, ReportBasis, ChainHead, Verify,
 // IssuedReportOf, SchemaVersion, Fleet (reads the fleet summary, and
-// evaluates without recording any hull whose summary does not stand),
-// CheckFleetSummary.
+// evaluates without recording any hull whose summary does not stand).
 //
 // # Snapshots
 //

@@ -581,30 +581,6 @@ type SummaryDisagreement struct {
 	Ledger string `json:"ledger"`
 }
 
-// CheckFleetSummary evaluates again, from the ledger, every hull whose
-// fleet summary row stands for it at at (the rows a read would use), at
-// the row's own moment, and compares the figures. One snapshot, one hull
-// after another; verify makes the same check in its parallel workers
-// (VerifyOptions.FleetSummary). A read.
-func (l *Ledger) CheckFleetSummary(ctx context.Context, at time.Time) (*SummaryCheck, error) {
-	res := &SummaryCheck{Disagree: []SummaryDisagreement{}}
-	err := l.Snapshot(ctx, func(s *Ledger) error {
-		rows, err := s.readSummaries(ctx, at, nil)
-		if err != nil {
-			return err
-		}
-		for _, r := range rows {
-			d, err := s.checkSummaryRow(ctx, r)
-			if err != nil {
-				return err
-			}
-			res.add(r, d)
-		}
-		return nil
-	})
-	return res, err
-}
-
 // add counts one hull's row and what its check found.
 func (sc *SummaryCheck) add(r *summaryRow, d *SummaryDisagreement) {
 	sc.Hulls++

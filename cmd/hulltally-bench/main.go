@@ -45,12 +45,12 @@ import (
 	"slices"
 	"strconv"
 	"strings"
-	"syscall"
 	"time"
 
 	"github.com/google/uuid"
 
 	"hulltally/configs"
+	"hulltally/internal/benchproc"
 	"hulltally/ledger"
 	"hulltally/ledger/blocks"
 	"hulltally/ledger/logfile"
@@ -112,22 +112,13 @@ type measure struct {
 }
 
 func run(ctx context.Context, o options) error {
-	work, err := os.MkdirTemp("", "htbench-")
+	work, cleanup, err := benchproc.WorkDir("htbench-", o.keep)
 	if err != nil {
 		return err
 	}
-	if err := os.Chmod(work, 0o755); err != nil {
+	defer cleanup()
+	if o.bin, err = benchproc.Hulltally(o.bin, work); err != nil {
 		return err
-	}
-	if !o.keep {
-		defer os.RemoveAll(work)
-	}
-	if o.bin == "" {
-		o.bin = filepath.Join(work, "hulltally")
-		out, err := exec.Command("go", "build", "-o", o.bin, "./cmd/hulltally").CombinedOutput()
-		if err != nil {
-			return fmt.Errorf("building hulltally (run from the project root or give -hulltally): %v\n%s", err, out)
-		}
 	}
 
 	env := os.Environ()
@@ -269,7 +260,7 @@ func run(ctx context.Context, o options) error {
 			}
 			rss = max(rss, m.rssKB)
 		}
-		fmt.Printf("%-20s %26s  %32s  %17s  %17s  %.1f\n", sideNames[side], mmm(wall, "%.2f"), mmm(rps, "%.0f"), mmm(cpu, "%.2f"), mmm(srv, "%.2f"), float64(rss)/1024)
+		fmt.Printf("%-20s %26s  %32s  %17s  %17s  %.1f\n", sideNames[side], benchproc.MinMedMax(wall, "%.2f"), benchproc.MinMedMax(rps, "%.0f"), benchproc.MinMedMax(cpu, "%.2f"), benchproc.MinMedMax(srv, "%.2f"), float64(rss)/1024)
 	}
 	fmt.Println("cpu = (user+system CPU time)/wall time; 2.00 = both cores busy the whole time. Server: the backends' CPU (managed cluster only).")
 	fmt.Println("\nratio of rows per second, per round (min/median/max):")
@@ -280,10 +271,10 @@ func run(ctx context.Context, o options) error {
 		}
 		return out
 	}
-	fmt.Printf("  hulltally / psql \\copy plain:  %s\n", mmm(ratio(sideHT, sidePlain), "%.2f"))
-	fmt.Printf("  hulltally / psql \\copy blocks: %s   (same stored bytes, like for like)\n", mmm(ratio(sideHT, sideBlocks), "%.2f"))
-	fmt.Printf("  psql blocks / psql plain:      %s\n", mmm(ratio(sideBlocks, sidePlain), "%.2f"))
-	fmt.Printf("  hulltally / hulltally on one core (GOMAXPROCS=1): %s\n", mmm(ratio(sideHT, sideHT1), "%.2f"))
+	fmt.Printf("  hulltally / psql \\copy plain:  %s\n", benchproc.MinMedMax(ratio(sideHT, sidePlain), "%.2f"))
+	fmt.Printf("  hulltally / psql \\copy blocks: %s   (same stored bytes, like for like)\n", benchproc.MinMedMax(ratio(sideHT, sideBlocks), "%.2f"))
+	fmt.Printf("  psql blocks / psql plain:      %s\n", benchproc.MinMedMax(ratio(sideBlocks, sidePlain), "%.2f"))
+	fmt.Printf("  hulltally / hulltally on one core (GOMAXPROCS=1): %s\n", benchproc.MinMedMax(ratio(sideHT, sideHT1), "%.2f"))
 	fmt.Printf("\nstored size of the last round: plain table %.0f MB, blocks table %.1f MB; hulltally reading_blocks (all %d rounds, both hulltally sides) %.1f MB\n",
 		float64(plainBytes)/1e6, float64(blockBytes)/1e6, o.rounds, float64(htBytes)/1e6)
 	return nil
@@ -291,20 +282,6 @@ func run(ctx context.Context, o options) error {
 
 // mmm formats min/median/max of v (the median of an even count is the
 // mean of the middle two); "n/a" when v is empty.
-func mmm(v []float64, f string) string {
-	if len(v) == 0 {
-		return "n/a"
-	}
-	s := slices.Clone(v)
-	slices.Sort(s)
-	n := len(s)
-	med := s[n/2]
-	if n%2 == 0 {
-		med = (s[n/2-1] + s[n/2]) / 2
-	}
-	return fmt.Sprintf(f+"/"+f+"/"+f, s[0], med, s[n-1])
-}
-
 func serverUse(m measure) string {
 	if m.serverS < 0 {
 		return ""
@@ -420,16 +397,10 @@ func psqlCopy(ctx context.Context, dbURL, table, file string) *exec.Cmd {
 func timeChild(cmd *exec.Cmd, pmPID int) (measure, error) {
 	m := measure{serverS: -1}
 	srv0, srvOK := settledServerCPU(pmPID)
-	t0 := time.Now()
-	out, err := cmd.CombinedOutput()
-	m.wallS = time.Since(t0).Seconds()
+	r, err := benchproc.Run(cmd)
+	m.wallS, m.cpuS, m.rssKB = r.WallS, r.CPUS, r.RSSKB
 	if err != nil {
-		return m, fmt.Errorf("%v\n%s", err, out)
-	}
-	ps := cmd.ProcessState
-	m.cpuS = (ps.UserTime() + ps.SystemTime()).Seconds()
-	if ru, ok := ps.SysUsage().(*syscall.Rusage); ok {
-		m.rssKB = ru.Maxrss // KiB on Linux
+		return m, fmt.Errorf("%v\n%s", err, r.Output)
 	}
 	if srv1, ok := settledServerCPU(pmPID); ok && srvOK {
 		m.serverS = srv1 - srv0

@@ -38,15 +38,14 @@ import (
 	"os/exec"
 	"path/filepath"
 	"runtime"
-	"slices"
 	"strconv"
 	"strings"
-	"syscall"
 	"time"
 
 	"golang.org/x/sync/errgroup"
 
 	"hulltally/configs"
+	"hulltally/internal/benchproc"
 	"hulltally/ledger"
 	"hulltally/ledger/spec"
 	"hulltally/ledger/synth"
@@ -131,22 +130,13 @@ type measure struct {
 }
 
 func run(ctx context.Context, o options) error {
-	work, err := os.MkdirTemp("", "htfleet-")
+	work, cleanup, err := benchproc.WorkDir("htfleet-", o.keep)
 	if err != nil {
 		return err
 	}
-	if err := os.Chmod(work, 0o755); err != nil {
+	defer cleanup()
+	if o.bin, err = benchproc.Hulltally(o.bin, work); err != nil {
 		return err
-	}
-	if !o.keep {
-		defer os.RemoveAll(work)
-	}
-	if o.bin == "" {
-		o.bin = filepath.Join(work, "hulltally")
-		out, err := exec.Command("go", "build", "-o", o.bin, "./cmd/hulltally").CombinedOutput()
-		if err != nil {
-			return fmt.Errorf("building hulltally (run from the project root or give -hulltally): %v\n%s", err, out)
-		}
 	}
 	specYAML, err := os.ReadFile("testdata/hulls/example-cylinder.yaml")
 	if err != nil {
@@ -183,8 +173,8 @@ func run(ctx context.Context, o options) error {
 			for _, m := range res[c.name] {
 				w, rss = append(w, m.wallS), append(rss, float64(m.rssKB)/1024)
 			}
-			medians[sz][c.name] = median(w)
-			fmt.Printf("  %-19s %s s   peak RSS %s MB\n", c.name, mmm(w, "%.3f"), mmm(rss, "%.1f"))
+			medians[sz][c.name] = benchproc.Median(w)
+			fmt.Printf("  %-19s %s s   peak RSS %s MB\n", c.name, benchproc.MinMedMax(w, "%.3f"), benchproc.MinMedMax(rss, "%.1f"))
 		}
 		stop := exec.Command(o.bin, "db", "stop")
 		stop.Env = append(os.Environ(), "HULLTALLY_HOME="+home)
@@ -311,32 +301,12 @@ func writeDive(d synth.Dive, samples, hits string, seed uint64) error {
 func timeChild(bin, home string, args []string) (measure, error) {
 	cmd := exec.Command(bin, args...)
 	cmd.Env = append(os.Environ(), "HULLTALLY_HOME="+home)
-	t0 := time.Now()
-	out, err := cmd.CombinedOutput()
-	m := measure{wallS: time.Since(t0).Seconds()}
+	r, err := benchproc.Run(cmd)
+	m := measure{wallS: r.WallS, rssKB: r.RSSKB}
 	// clear answers a no-go with exit 3: an answer, not a failure.
 	var ee *exec.ExitError
 	if err != nil && !(args[0] == "clear" && errors.As(err, &ee) && ee.ExitCode() == 3) {
-		return m, fmt.Errorf("%s: %v\n%s", strings.Join(args, " "), err, out)
-	}
-	if ru, ok := cmd.ProcessState.SysUsage().(*syscall.Rusage); ok {
-		m.rssKB = ru.Maxrss // KiB on Linux
+		return m, fmt.Errorf("%s: %v\n%s", strings.Join(args, " "), err, r.Output)
 	}
 	return m, nil
-}
-
-func median(v []float64) float64 {
-	s := slices.Clone(v)
-	slices.Sort(s)
-	n := len(s)
-	if n%2 == 0 {
-		return (s[n/2-1] + s[n/2]) / 2
-	}
-	return s[n/2]
-}
-
-func mmm(v []float64, f string) string {
-	s := slices.Clone(v)
-	slices.Sort(s)
-	return fmt.Sprintf(f+"/"+f+"/"+f, s[0], median(s), s[len(s)-1])
 }

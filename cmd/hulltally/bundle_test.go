@@ -16,16 +16,7 @@ func (e *env) offline(args ...string) (string, string, int) {
 	e.t.Helper()
 	c := exec.Command(bin, args...)
 	c.Env = append(os.Environ(), "HULLTALLY_DATABASE_URL=postgres://nobody@127.0.0.1:1/none?connect_timeout=2", "HULLTALLY_HOME="+e.t.TempDir())
-	var out, errb bytes.Buffer
-	c.Stdout, c.Stderr = &out, &errb
-	err := c.Run()
-	code := 0
-	if ee, ok := err.(*exec.ExitError); ok {
-		code = ee.ExitCode()
-	} else if err != nil {
-		e.t.Fatal(err)
-	}
-	return out.String(), errb.String(), code
+	return e.capture(c)
 }
 
 func TestExportVerifyBundleCLI(t *testing.T) {

@@ -166,14 +166,7 @@ func TestDatabaseUnavailable(t *testing.T) {
 		run := func(args ...string) (string, string, int) {
 			c := exec.Command(bin, args...)
 			c.Env = append(os.Environ(), "HULLTALLY_DATABASE_URL="+u, "HULLTALLY_HOME="+t.TempDir())
-			var out, errb bytes.Buffer
-			c.Stdout, c.Stderr = &out, &errb
-			err := c.Run()
-			code := 0
-			if ee, ok := err.(*exec.ExitError); ok {
-				code = ee.ExitCode()
-			}
-			return out.String(), errb.String(), code
+			return runCmd(t, c)
 		}
 		out, errs, code := run("hull", "list")
 		if code != 1 || !strings.Contains(errs, "database is not available") {

@@ -64,7 +64,20 @@ func (e *env) cmd(args ...string) *exec.Cmd {
 // run returns stdout, stderr and the exit code.
 func (e *env) run(args ...string) (string, string, int) {
 	e.t.Helper()
-	c := e.cmd(args...)
+	return e.capture(e.cmd(args...))
+}
+
+// capture runs c and returns its stdout, stderr and exit code; a failure
+// to run it at all fails the test.
+func (e *env) capture(c *exec.Cmd) (string, string, int) {
+	e.t.Helper()
+	return runCmd(e.t, c)
+}
+
+// runCmd runs c and returns its stdout, stderr and exit code; a failure
+// to run it at all fails the test.
+func runCmd(t testing.TB, c *exec.Cmd) (string, string, int) {
+	t.Helper()
 	var out, errb bytes.Buffer
 	c.Stdout, c.Stderr = &out, &errb
 	err := c.Run()
@@ -72,7 +85,7 @@ func (e *env) run(args ...string) (string, string, int) {
 	if ee, ok := err.(*exec.ExitError); ok {
 		code = ee.ExitCode()
 	} else if err != nil {
-		e.t.Fatal(err)
+		t.Fatal(err)
 	}
 	return out.String(), errb.String(), code
 }
@@ -409,14 +422,7 @@ func TestManagedCluster(t *testing.T) {
 		c := exec.Command(bin, args...)
 		c.Env = append(os.Environ(), "HULLTALLY_HOME="+home)
 		c.Env = append(c.Env, "HULLTALLY_DATABASE_URL=")
-		var out, errb bytes.Buffer
-		c.Stdout, c.Stderr = &out, &errb
-		err := c.Run()
-		code := 0
-		if ee, ok := err.(*exec.ExitError); ok {
-			code = ee.ExitCode()
-		}
-		return out.String(), errb.String(), code
+		return runCmd(t, c)
 	}
 	defer run("db", "stop")
 	out, errs, code := run("hull", "add", "-f", "../../testdata/hulls/example-cylinder.yaml")

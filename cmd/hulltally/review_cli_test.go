@@ -11,12 +11,10 @@ package main
 // evidence_cli_test.go (writeSamples, writeHits, stdKnots, …).
 
 import (
-	"bytes"
 	"encoding/json"
 	"fmt"
 	"math"
 	"os"
-	"os/exec"
 	"strconv"
 	"strings"
 	"testing"
@@ -38,16 +36,7 @@ func (e *env) runEnv(extra []string, args ...string) (string, string, int) {
 	e.t.Helper()
 	c := e.cmd(args...)
 	c.Env = append(c.Env, extra...)
-	var out, errb bytes.Buffer
-	c.Stdout, c.Stderr = &out, &errb
-	err := c.Run()
-	code := 0
-	if ee, ok := err.(*exec.ExitError); ok {
-		code = ee.ExitCode()
-	} else if err != nil {
-		e.t.Fatal(err)
-	}
-	return out.String(), errb.String(), code
+	return e.capture(c)
 }
 
 // scaleColumn multiplies every value of a column of a written samples
