@@ -203,8 +203,12 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 			var hullID uuid.UUID
 			for lo := 0; lo < len(ids); lo += assessChunk {
 				hi := min(lo+assessChunk, len(ids))
+				later, err := laterPressureParts(rctx, tx, ids[lo:hi], nil)
+				if err != nil {
+					return fmt.Errorf("assess: %w", err)
+				}
 				rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
-					FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure'
+					FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0
 					LEFT JOIN dive_holds h ON h.hull_id = d.hull_id AND h.dive_id = d.id
 					WHERE d.hull_id = ANY($1) AND `+notVoided, ids[lo:hi])
 				if err != nil {
@@ -217,7 +221,7 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 						return err
 					}
 					it.hull = byID[hullID]
-					it.dive.PressureCycles = joinCyclesInto(nil, rg, mn, ct)
+					it.dive.PressureCycles = append(joinCyclesInto(nil, rg, mn, ct), later[it.id]...)
 					it.dive.Holds = make([]assess.Hold, len(lv))
 					for k := range lv {
 						it.dive.Holds[k] = assess.Hold{LevelMPa: lv[k], Seconds: sec[k]}

@@ -182,5 +182,5 @@ func storeAssessment(ctx context.Context, tx pgx.Tx, a *assessmentHead, cols []c
 	if _, err := tx.CopyFrom(ctx, pgx.Identifier{"assessment_damage"}, []string{"assessment_id", "hull_id", "component", "basis", "factor", "curve", "rupture_curve", "dive_ids", "cyclic", "sustained"}, pgx.CopyFromRows(rows)); err != nil {
 		return chainRec{}, fmt.Errorf("storing assessment rows: %w", err)
 	}
-	return chainRec{"assessment", a.id.String(), assessmentCanon(a, cols)}, nil
+	return chainRec{kind: "assessment", key: a.id.String(), canon: assessmentCanon(a, cols)}, nil
 }

@@ -5,6 +5,7 @@ import (
 	"crypto/sha256"
 	"encoding/binary"
 	"fmt"
+	"io"
 	"math"
 	"time"
 
@@ -73,10 +74,26 @@ func (c *canon) strs(ss []string) {
 	}
 }
 
-// chainRec is a record to append to a hull's chain.
+// chainRec is a record to append to a hull's chain: its canonical bytes,
+// or, for a record too large to hold (a long dive's counted cycles), a
+// function that writes them.
 type chainRec struct {
 	kind, key string
 	canon     []byte
+	write     func(io.Writer) error
+}
+
+// hash is the record's chain hash after prev.
+func (r chainRec) hash(prev []byte) ([]byte, error) {
+	if r.write == nil {
+		return chainHash(prev, r.canon), nil
+	}
+	h := sha256.New()
+	h.Write(prev)
+	if err := r.write(h); err != nil {
+		return nil, fmt.Errorf("audit chain: %s %s: %w", r.kind, r.key, err)
+	}
+	return h.Sum(nil), nil
 }
 
 // lock classes for pg_advisory_xact_lock(class, key).
@@ -101,7 +118,10 @@ func appendChain(ctx context.Context, tx pgx.Tx, hull uuid.UUID, recs []chainRec
 	rows := make([][]any, len(recs))
 	for i, r := range recs {
 		seq++
-		h := chainHash(prev, r.canon)
+		h, err := r.hash(prev)
+		if err != nil {
+			return nil, err
+		}
 		rows[i] = []any{[16]byte(hull), seq, r.kind, r.key, prev, h, now}
 		prev = h
 	}

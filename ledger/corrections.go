@@ -82,7 +82,7 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 	err = l.record(ctx, d.Hull, func(tx pgx.Tx, h *Hull) (chainRec, error) {
 		_, err := tx.Exec(ctx, `INSERT INTO corrections (id, hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at)
 			VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9)`, c.ID, h.ID, correctionDive, c.Dive.String(), field, string(vj), reason, actor, c.RecordedAt)
-		return chainRec{"correction", c.ID.String(), correctionCanon(h.ID, c, correctionDive, c.Dive.String(), string(vj))}, err
+		return chainRec{kind: "correction", key: c.ID.String(), canon: correctionCanon(h.ID, c, correctionDive, c.Dive.String(), string(vj))}, err
 	})
 	if err != nil {
 		return nil, err

@@ -8,6 +8,7 @@ import (
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/fatigue/assess"
+	"hulltally/fatigue/rainflow"
 	"hulltally/fatigue/seawater"
 	"hulltally/fatigue/stream"
 	"hulltally/ledger/logfile"
@@ -38,10 +39,18 @@ type diveCounter struct {
 	quality *quality
 	// profile is the decimated profile, filled by finish.
 	profile *profileAcc
+	// spill takes each series' cycles part by part as they are counted
+	// (cyclePart at a time), spilled[i] says where series i's parts are,
+	// and err is the first error spilling.
+	spill   *cycleSpill
+	spilled [][]spillPart
+	err     error
 }
 
-func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64) *diveCounter {
-	c := &diveCounter{loadIdx: loadIdx, load: cols[loadIdx], gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE, tempIdx: -1}
+// newDiveCounter makes a dive's counter; the cycles of a long dive go to
+// sp part by part.
+func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64, sp *cycleSpill) *diveCounter {
+	c := &diveCounter{loadIdx: loadIdx, load: cols[loadIdx], gateMPa: l.fat.gateMPa, gateUE: l.fat.gateUE, tempIdx: -1, spill: sp}
 	if c.load.Load == logfile.LoadDepth {
 		c.depth = seawater.NewDepthTable(lat)
 	}
@@ -60,6 +69,7 @@ func (l *Ledger) newDiveCounter(cols []logfile.Column, loadIdx int, lat float64)
 		SurfaceToleranceMPa: in.SurfaceToleranceMPa, MaxGapS: in.MaxGapS, MaxIntervalS: in.MaxIntervalS, CutLegMPaPerS: in.CutLegMPaPerS}, c.gauges)
 	c.quality = &quality{c.dive.Quality()}
 	c.profile = &profileAcc{step: 1, gauges: c.gauges}
+	c.spilled = make([][]spillPart, 1+len(c.gauges))
 	return c
 }
 
@@ -100,18 +110,35 @@ func (c *diveCounter) add(timeNS []int64, col func(int) []float64) {
 		c.sbuf[i] = col(k)
 	}
 	c.dive.Add(c.tbuf, c.pbuf, c.sbuf, temp)
+	if c.err == nil {
+		c.dive.Drain(cyclePart, func(i int, cs []rainflow.Cycle) {
+			if c.err != nil {
+				return
+			}
+			p, err := c.spill.put(cs)
+			if err != nil {
+				c.err = err
+				return
+			}
+			c.spilled[i] = append(c.spilled[i], p)
+		})
+	}
 }
 
-// finish closes the residues and returns the series (pressure first) and
-// the time at pressure; the decimated profile is then in c.profile.
-func (c *diveCounter) finish() ([]series, []assess.Hold) {
+// finish closes the residues and returns the series (pressure first, each
+// with its spilled parts) and the time at pressure; the decimated profile
+// is then in c.profile. It fails if a part could not be spilled.
+func (c *diveCounter) finish() ([]series, []assess.Hold, error) {
+	if c.err != nil {
+		return nil, nil, c.err
+	}
 	r := c.dive.Finish()
 	*c.profile = profileAcc{step: r.Profile.StepS, gauges: r.Profile.Gauges, TimeS: r.Profile.TimeS, Press: r.Profile.PressureMPa, Strain: r.Profile.Strain}
-	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: r.Pressure}}
+	ss := []series{{name: "pressure", unit: "MPa", gate: c.gateMPa, cycles: r.Pressure, spilled: c.spilled[0]}}
 	for i, g := range c.gauges {
-		ss = append(ss, series{name: "strain:" + g, unit: "microstrain", gate: c.gateUE, cycles: r.Strain[i]})
+		ss = append(ss, series{name: "strain:" + g, unit: "microstrain", gate: c.gateUE, cycles: r.Strain[i], spilled: c.spilled[i+1]})
 	}
-	return ss, r.Holds
+	return ss, r.Holds, nil
 }
 
 // backfillCounts counts, from the raw readings, the dives of a hull that
@@ -146,32 +173,43 @@ func (l *Ledger) backfillCounts(ctx context.Context, h *Hull) (int, error) {
 		if err != nil {
 			return 0, fmt.Errorf("dive %s: stored columns: %w", t.id, err)
 		}
-		c := l.newDiveCounter(hdr.Columns, hdr.Load, t.lat)
-		err = l.ReadBlocks(ctx, t.id, func(b *DecodedBlock) error {
-			c.add(b.TimeNS, func(i int) []float64 { return b.Values[i] })
-			return nil
-		})
-		if err != nil {
-			return 0, err
-		}
-		ss, holds := c.finish()
-		tx, err := l.pool.Begin(ctx)
-		if err != nil {
-			return 0, err
-		}
-		recs, err := storeCounts(ctx, tx, t.id, h.ID, ss, l.fat.binMPa, holds)
-		if err == nil {
-			_, err = appendChain(ctx, tx, h.ID, recs, now())
-		}
-		if err == nil {
-			err = tx.Commit(ctx)
-		}
-		tx.Rollback(ctx)
-		if err != nil {
+		if err := l.backfillDive(ctx, h, t.id, hdr, t.lat); err != nil {
 			return 0, fmt.Errorf("dive %s: storing counted cycles: %w", t.id, err)
 		}
 	}
 	return len(list), nil
+}
+
+// backfillDive counts one dive from its stored readings and stores its
+// cycles and time at pressure.
+func (l *Ledger) backfillDive(ctx context.Context, h *Hull, dive uuid.UUID, hdr logfile.Header, lat float64) error {
+	sp := &cycleSpill{}
+	defer sp.Close()
+	c := l.newDiveCounter(hdr.Columns, hdr.Load, lat, sp)
+	err := l.ReadBlocks(ctx, dive, func(b *DecodedBlock) error {
+		c.add(b.TimeNS, func(i int) []float64 { return b.Values[i] })
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	ss, holds, err := c.finish()
+	if err != nil {
+		return err
+	}
+	tx, err := l.pool.Begin(ctx)
+	if err != nil {
+		return err
+	}
+	defer tx.Rollback(ctx)
+	recs, err := storeCounts(ctx, tx, dive, h.ID, ss, sp, l.fat.binMPa, holds, nil)
+	if err != nil {
+		return err
+	}
+	if _, err := appendChain(ctx, tx, h.ID, recs, now()); err != nil {
+		return err
+	}
+	return tx.Commit(ctx)
 }
 
 func profileCanon(dive uuid.UUID, p *profileAcc) []byte {
@@ -211,7 +249,7 @@ func storeProfile(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, p *profi
 	if err != nil {
 		return chainRec{}, fmt.Errorf("storing the dive profile: %w", err)
 	}
-	return chainRec{"dive_profile", dive.String(), profileCanon(dive, p)}, nil
+	return chainRec{kind: "dive_profile", key: dive.String(), canon: profileCanon(dive, p)}, nil
 }
 
 // loadProfile reads a dive's stored profile.

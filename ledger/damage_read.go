@@ -8,7 +8,6 @@ import (
 	"time"
 
 	"github.com/google/uuid"
-	"github.com/jackc/pgx/v5"
 
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/damage"
@@ -473,17 +472,33 @@ type Cycle struct {
 
 // DiveCycles returns the rainflow cycles of gauge pressure of a dive.
 func (l *Ledger) DiveCycles(ctx context.Context, dive uuid.UUID) ([]Cycle, error) {
-	var r, m, n []float64
-	err := l.db.QueryRow(ctx, "SELECT ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND series = 'pressure'", dive).Scan(&r, &m, &n)
-	if err == pgx.ErrNoRows {
-		return []Cycle{}, nil
-	}
+	rows, err := l.db.Query(ctx, "SELECT series, unit, gate, chunk, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND series = 'pressure' ORDER BY chunk", dive)
 	if err != nil {
 		return nil, err
 	}
-	out := make([]Cycle, len(r))
-	for i := range r {
-		out[i] = Cycle{RangeMPa: r[i], MeanMPa: m[i], Count: n[i]}
+	defer rows.Close()
+	var j seriesJoiner
+	for rows.Next() {
+		var name, unit string
+		var gate float64
+		var chunk int32
+		var r, m, n []float64
+		if err := rows.Scan(&name, &unit, &gate, &chunk, &r, &m, &n); err != nil {
+			return nil, err
+		}
+		j.add(name, unit, gate, chunk, r, m, n)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, err
+	}
+	if j.why != "" {
+		return nil, fmt.Errorf("dive %s: %s (run hulltally verify)", dive, j.why)
+	}
+	out := []Cycle{}
+	if len(j.ss) == 1 {
+		for _, c := range j.ss[0].cycles {
+			out = append(out, Cycle{RangeMPa: c.Range, MeanMPa: c.Mean, Count: c.Count})
+		}
 	}
 	return out, nil
 }

@@ -71,7 +71,11 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		return d, err
 	}
 
-	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA)
+	// A long dive's counted cycles wait on disk, not in memory, until
+	// they are stored and chained.
+	sp := &cycleSpill{}
+	defer sp.Close()
+	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA, sp)
 	if err != nil {
 		return nil, err
 	}
@@ -90,7 +94,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		if _, err := tx.Exec(ctx, "INSERT INTO dive_fingerprints (dive_id, hull_id, fingerprint) VALUES ($1,$2,$3)", row.ID, h.ID, row.fingerprint); err != nil {
 			return nil, fmt.Errorf("logging dive: storing the samples' fingerprint: %w", err)
 		}
-		recs = append(recs, chainRec{"dive_fingerprint", row.ID.String(), fingerprintCanon(row.ID, row.fingerprint)})
+		recs = append(recs, chainRec{kind: "dive_fingerprint", key: row.ID.String(), canon: fingerprintCanon(row.ID, row.fingerprint)})
 	}
 	// After the fingerprint: the same samples under another file are the
 	// same dive (a duplicate), not an overlapping one.
@@ -105,7 +109,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		tx.Rollback(ctx)
 		return l.existingDive(ctx, l.db, h, sha, aeSHA)
 	}
-	recs = append([]chainRec{{"dive", row.ID.String(), row.canon()}}, recs...)
+	recs = append([]chainRec{{kind: "dive", key: row.ID.String(), canon: row.canon()}}, recs...)
 	if p := req.proof; p != nil {
 		p.DiveID = &row.ID
 		if p.At.IsZero() {
@@ -321,7 +325,7 @@ type parsed struct {
 
 // ingest parses the samples (and hits) and stores blocks and hits in tx,
 // returning the dive row (not yet inserted) and the chain records.
-func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte) (*diveRow, []chainRec, error) {
+func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte, sp *cycleSpill) (*diveRow, []chainRec, error) {
 	f, err := files.OpenRegular(ctx, req.Samples)
 	if err != nil {
 		return nil, nil, fileErr(ctx, err)
@@ -388,7 +392,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		}
 	}()
 	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress,
-		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat), fp: logfile.NewFingerprint(hdr)}
+		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat, sp), fp: logfile.NewFingerprint(hdr)}
 	src.maxLoad = math.Inf(-1)
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)
 	if src.perr != nil {
@@ -420,10 +424,22 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	row.Beyond = row.MaxDepth > h.Spec.RatedDepthM
 	recs := src.recs
 
-	// The counted cycles and time at pressure, then the dive's damage.
-	ss, holds := src.counter.finish()
-	pcycles := ss[0].cycles
-	crecs, err := storeCounts(ctx, tx, row.ID, h.ID, ss, l.fat.binMPa, holds)
+	// The counted cycles and time at pressure, stored part by part with
+	// the dive's damage summed as the pressure parts pass.
+	ss, holds, err := src.counter.finish()
+	if err != nil {
+		return nil, nil, err
+	}
+	comps, err := l.resolve(h.Spec)
+	if err != nil {
+		return nil, nil, inputErr(fmt.Errorf("assessing the dive on hull %s: %w (the dive was not recorded; fix the hull spec or the curve library)", h.Serial, err))
+	}
+	asr, err := assess.NewAssessor(comps, l.fat.settings)
+	if err != nil {
+		return nil, nil, fmt.Errorf("assessing the dive: %w", err)
+	}
+	dsum := asr.Begin()
+	crecs, err := storeCounts(ctx, tx, row.ID, h.ID, ss, sp, l.fat.binMPa, holds, dsum.Add)
 	if err != nil {
 		return nil, nil, err
 	}
@@ -433,11 +449,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		return nil, nil, err
 	}
 	recs = append(recs, prec)
-	comps, err := l.resolve(h.Spec)
-	if err != nil {
-		return nil, nil, inputErr(fmt.Errorf("assessing the dive on hull %s: %w (the dive was not recorded; fix the hull spec or the curve library)", h.Serial, err))
-	}
-	res, err := assess.DiveDamage(assess.Dive{PressureCycles: pcycles, Holds: holds}, comps, l.fat.settings)
+	res, err := dsum.Finish(holds)
 	if err != nil {
 		return nil, nil, fmt.Errorf("assessing the dive: %w", err)
 	}
@@ -459,7 +471,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		}
 		hits = kept
 		row.AEName, row.AESHA, row.AEHits = filepath.Base(req.AE), aeSHA, n
-		recs = append(recs, chainRec{"ae_hits", row.ID.String(), hitsCanon(row.ID, n, digest)})
+		recs = append(recs, chainRec{kind: "ae_hits", key: row.ID.String(), canon: hitsCanon(row.ID, n, digest)})
 	}
 	q := src.counter.quality
 	in := evidenceInput{dive: row.ID, start: row.Start, prof: src.counter.profile, hadAE: req.AE != "", gauges: hdr.Gauges, quality: q.findings()}

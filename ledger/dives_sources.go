@@ -87,7 +87,7 @@ func (s *blockSource) Next() bool {
 	data := make([]byte, len(s.buf))
 	copy(data, s.buf)
 	s.vals = []any{[16]byte(s.row.ID), [16]byte(s.row.HullID), s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], data, sum}
-	s.recs = append(s.recs, chainRec{"reading_block", fmt.Sprintf("%s/%d", s.row.ID, s.blockNo), blockCanon(s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], sum)})
+	s.recs = append(s.recs, chainRec{kind: "reading_block", key: fmt.Sprintf("%s/%d", s.row.ID, s.blockNo), canon: blockCanon(s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], sum)})
 	s.rows += int64(n)
 	s.blockNo++
 	s.free <- b

@@ -400,7 +400,7 @@ func storeEvidence(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, ev *Evi
 	if _, err := tx.Exec(ctx, "INSERT INTO dive_evidence (dive_id, hull_id, evidence_json) VALUES ($1,$2,$3)", dive, hull, js); err != nil {
 		return chainRec{}, fmt.Errorf("storing evidence: %w", err)
 	}
-	return chainRec{"dive_evidence", dive.String(), evidenceCanon(dive, js)}, nil
+	return chainRec{kind: "dive_evidence", key: dive.String(), canon: evidenceCanon(dive, js)}, nil
 }
 
 // EvidenceOf returns a dive's stored evidence (nil for dives logged before

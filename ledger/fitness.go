@@ -503,7 +503,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		return math.Inf(1), "", inputErr(err)
 	}
 	rows, err := l.db.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
-		FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
+		FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0 LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
 		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {
 		return 0, "", err
@@ -527,6 +527,17 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		return 0, "", err
 	}
 	rows.Close()
+	ids := make([]uuid.UUID, len(recent))
+	for i, r := range recent {
+		ids[i] = uuid.MustParse(r.ID)
+	}
+	later, err := laterPressureParts(ctx, l.db, []uuid.UUID{h.ID}, ids)
+	if err != nil {
+		return 0, "", err
+	}
+	for i := range recent {
+		recent[i].Cycles = append(recent[i].Cycles, later[ids[i]]...)
+	}
 	d, basis := plan.Predict(recent, target, bottomMin)
 	res, err := assess.DiveDamage(d, comps, l.fat.settings)
 	if err != nil {

@@ -299,7 +299,7 @@ func (l *Ledger) noteFitness(ctx context.Context, e *evaluation) error {
 				h.ID, f.Status, string(reasons), at).Scan(&seq); err != nil {
 				return fmt.Errorf("status history of %s: %w", h.Serial, err)
 			}
-			rec := chainRec{"status", fmt.Sprintf("%s/%d", h.ID, seq), statusCanon(h.ID, seq, f.Status, string(reasons), at)}
+			rec := chainRec{kind: "status", key: fmt.Sprintf("%s/%d", h.ID, seq), canon: statusCanon(h.ID, seq, f.Status, string(reasons), at)}
 			if curHash, err = appendChain(ctx, tx, h.ID, []chainRec{rec}, at); err != nil {
 				return err
 			}

@@ -272,6 +272,9 @@ func equalFindings(a, b []ledger.GuardFinding) bool {
 //   - assessments.seq: NOT chained (see the report: it orders which
 //     assessment is in force).
 //   - audit_chain.recorded_at: the link's own time, not a record.
+//   - dive_cycles.chunk: not in the bytes as a number; the bytes are the
+//     series joined in chunk order, and verify refuses chunks not numbered
+//     0, 1, 2, ... (TestLongDiveInParts).
 func TestChainedColumns(t *testing.T) {
 	ctx := context.Background()
 	l := newLedger(t, 0)
@@ -284,7 +287,7 @@ func TestChainedColumns(t *testing.T) {
 		"reading_blocks":     "block_no data dive_id first_sample hull_id samples sha256 t_first_ns t_last_ns",
 		"ae_hits":            "amplitude_db channel counts dive_id duration_us energy event hull_id rise_us seq t_ns",
 		"corrections":        "actor field hull_id id reason recorded_at target_key target_kind value_json",
-		"dive_cycles":        "counts dive_id gate hull_id means ranges series unit",
+		"dive_cycles":        "chunk counts dive_id gate hull_id means ranges series unit",
 		"dive_holds":         "bin_mpa dive_id hull_id levels seconds",
 		"assessments":        "actor config_hash config_json hull_id hull_revision id kind reason recorded_at seq",
 		"assessment_damage":  "assessment_id basis component curve cyclic dive_ids factor hull_id rupture_curve sustained",

@@ -179,7 +179,7 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 		if _, err := tx.Exec(ctx, "INSERT INTO hulls (id, serial, recorded_at) VALUES ($1, $2, $3)", id, h.Serial, t); err != nil {
 			return nil, fmt.Errorf("adding hull %s: %w", h.Serial, err)
 		}
-		recs = append(recs, chainRec{"hull", id.String(), hullCanon(id, h.Serial, t)})
+		recs = append(recs, chainRec{kind: "hull", key: id.String(), canon: hullCanon(id, h.Serial, t)})
 	case err != nil:
 		return nil, fmt.Errorf("adding hull %s: %w", h.Serial, err)
 	case !o.Revise:
@@ -189,7 +189,7 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 	if err := insertRevision(ctx, tx, r); err != nil {
 		return nil, fmt.Errorf("adding hull %s: %w", h.Serial, err)
 	}
-	recs = append(recs, chainRec{"hull_revision", fmt.Sprintf("%s/%d", id, r.Revision), r.canon()})
+	recs = append(recs, chainRec{kind: "hull_revision", key: fmt.Sprintf("%s/%d", id, r.Revision), canon: r.canon()})
 	if _, err := appendChain(ctx, tx, id, recs, t); err != nil {
 		return nil, err
 	}

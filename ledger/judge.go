@@ -102,7 +102,7 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 		if tag.RowsAffected() == 0 {
 			return inputErr(fmt.Errorf("dive %s: %w", d.ID, ErrAlreadyVoid))
 		}
-		recs := []chainRec{{"dive_void", v.ID.String(), voidCanon(h.ID, v)}}
+		recs := []chainRec{{kind: "dive_void", key: v.ID.String(), canon: voidCanon(h.ID, v)}}
 		ids, rrecs, err := l.rejudge(ctx, tx, h, d.Start, fmt.Sprintf("dive %s voided: %s", d.ID, reason))
 		if err != nil {
 			return err
@@ -212,7 +212,7 @@ func (l *Ledger) rejudge(ctx context.Context, tx pgx.Tx, h *Hull, from time.Time
 			x.id, h.ID, js, reason, cause, at).Scan(&seq); err != nil {
 			return nil, nil, fmt.Errorf("dive %s: storing the evidence judged again: %w", x.id, err)
 		}
-		recs = append(recs, chainRec{"evidence_revision", fmt.Sprintf("%s/%d", x.id, seq), revisionCanon(x.id, seq, js, reason, cause, at)})
+		recs = append(recs, chainRec{kind: "evidence_revision", key: fmt.Sprintf("%s/%d", x.id, seq), canon: revisionCanon(x.id, seq, js, reason, cause, at)})
 		out = append(out, x.id)
 	}
 	return out, recs, nil

@@ -182,7 +182,7 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
 		_, err := tx.Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, findings, result, actor, recorded_at) VALUES ($1,$2,$3,$4,$5,$6,$7,$8)`,
 			in.ID, h.ID, in.At, in.Method, in.Findings, in.Result, in.Actor, in.RecordedAt)
-		return chainRec{"inspection", in.ID.String(), inspectionCanon(h.ID, &in)}, err
+		return chainRec{kind: "inspection", key: in.ID.String(), canon: inspectionCanon(h.ID, &in)}, err
 	})
 	if err != nil {
 		return nil, err
@@ -272,7 +272,7 @@ func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTe
 		VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10)`, p.ID, h.ID, p.At, p.PressureMPa, p.Result, p.Notes, p.Actor, p.DiveID, bj, p.RecordedAt); err != nil {
 		return nil, fmt.Errorf("proof test of %s: %w", h.Serial, err)
 	}
-	recs := []chainRec{{"proof_test", p.ID.String(), proofCanon(h.ID, p, bj)}}
+	recs := []chainRec{{kind: "proof_test", key: p.ID.String(), canon: proofCanon(h.ID, p, bj)}}
 	_, rrecs, err := l.rejudge(ctx, tx, h, p.At, fmt.Sprintf("proof test of %s at %.4g MPa recorded", p.At.Format(time.RFC3339), p.PressureMPa))
 	if err != nil {
 		return nil, err
@@ -303,7 +303,7 @@ func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) 
 	err := l.record(ctx, serial, func(tx pgx.Tx, h *Hull) (chainRec, error) {
 		_, err := tx.Exec(ctx, `INSERT INTO decisions (id, hull_id, at, kind, actor, reason, recorded_at) VALUES ($1,$2,$3,$4,$5,$6,$7)`,
 			d.ID, h.ID, d.At, d.Kind, d.Actor, d.Reason, d.RecordedAt)
-		return chainRec{"decision", d.ID.String(), decisionCanon(h.ID, &d)}, err
+		return chainRec{kind: "decision", key: d.ID.String(), canon: decisionCanon(h.ID, &d)}, err
 	})
 	if err != nil {
 		return nil, err

@@ -51,7 +51,7 @@ func (l *Ledger) HullCycles(ctx context.Context, hull uuid.UUID) (ranges, counts
 	// order must not follow the table's physical order (which a migration,
 	// VACUUM FULL or CLUSTER changes).
 	rows, err := l.db.Query(ctx, `SELECT c.ranges, c.counts FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id
-		WHERE c.hull_id = $1 AND c.series = 'pressure' ORDER BY d.start_time, d.id`, hull)
+		WHERE c.hull_id = $1 AND c.series = 'pressure' ORDER BY d.start_time, d.id, c.chunk`, hull)
 	if err != nil {
 		return nil, nil, err
 	}

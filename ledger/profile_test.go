@@ -40,7 +40,7 @@ func TestDiveCounterConversion(t *testing.T) {
 			l := &Ledger{fat: &fatigueEnv{gateMPa: 0.05, gateUE: 5, binMPa: 0.5},
 				cfg: &configs.Config{Ingest: configs.Ingest{SurfaceToleranceMPa: 0.05, MaxGapS: 60, MaxIntervalS: 10, CutLegMPaPerS: 0.01}}}
 			cols := []logfile.Column{{Kind: logfile.KindTime}, tt.load, {Kind: logfile.KindStrain, Gauge: "g1"}, {Kind: logfile.KindTemp}}
-			c := l.newDiveCounter(cols, 1, lat)
+			c := l.newDiveCounter(cols, 1, lat, nil)
 			const t0 = int64(1_700_000_000_000_000_000)
 			data := [][]float64{nil, tt.vals, {0, -300, 0}, {20, 4, 19}}
 			// Two blocks: the first sample, then the rest.
@@ -51,7 +51,10 @@ func TestDiveCounterConversion(t *testing.T) {
 				}
 				c.add(ns, func(k int) []float64 { return data[k][r[0]:r[1]] })
 			}
-			ss, holds := c.finish()
+			ss, holds, err := c.finish()
+			if err != nil {
+				t.Fatal(err)
+			}
 			p := c.profile
 			if p.step != 1 || len(p.TimeS) != 3 || len(p.gauges) != 1 || p.gauges[0] != "g1" {
 				t.Fatalf("profile step %v, %d points, gauges %v", p.step, len(p.TimeS), p.gauges)

@@ -744,26 +744,31 @@ func batchHits(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) err
 
 func batchCycles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
 	var cur uuid.UUID
-	var ss []series
+	var j *seriesJoiner
 	flush := func() {
-		if len(ss) > 0 {
+		if j != nil {
 			b.stored["dive_cycles"]++
-			b.settle("dive_cycles", cur.String(), cyclesCanon(cur, ss), 0, "", nil)
+			if j.why != "" {
+				b.settle("dive_cycles", cur.String(), nil, 0, j.why, nil)
+			} else {
+				b.settle("dive_cycles", cur.String(), cyclesCanon(cur, j.ss), 0, "", nil)
+			}
 		}
 	}
-	err := each(ctx, q, "counted cycles", `SELECT dive_id, series, unit, gate, ranges, means, counts FROM dive_cycles WHERE hull_id = $1 ORDER BY dive_id, series COLLATE "C"`, hull, func(rows pgx.Rows) error {
+	err := each(ctx, q, "counted cycles", `SELECT dive_id, series, unit, gate, chunk, ranges, means, counts FROM dive_cycles WHERE hull_id = $1 ORDER BY dive_id, series COLLATE "C", chunk`, hull, func(rows pgx.Rows) error {
 		var id uuid.UUID
-		var s series
+		var name, unit string
+		var gate float64
+		var chunk int32
 		var r, m, n []float64
-		if err := rows.Scan(&id, &s.name, &s.unit, &s.gate, &r, &m, &n); err != nil {
+		if err := rows.Scan(&id, &name, &unit, &gate, &chunk, &r, &m, &n); err != nil {
 			return err
 		}
-		if len(ss) == 0 || id != cur {
+		if j == nil || id != cur {
 			flush()
-			cur, ss = id, nil
+			cur, j = id, &seriesJoiner{}
 		}
-		s.cycles = joinCycles(r, m, n)
-		ss = append(ss, s)
+		j.add(name, unit, gate, chunk, r, m, n)
 		return nil
 	})
 	if err != nil {
@@ -1108,27 +1113,32 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		rows, err := q.Query(ctx, `SELECT series, unit, gate, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 ORDER BY series COLLATE "C"`, id)
+		rows, err := q.Query(ctx, `SELECT series, unit, gate, chunk, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 ORDER BY series COLLATE "C", chunk`, id)
 		if err != nil {
 			return nil, 0, "", err
 		}
 		defer rows.Close()
-		var ss []series
+		var j seriesJoiner
 		for rows.Next() {
-			var s series
+			var name, unit string
+			var gate float64
+			var chunk int32
 			var r, m, n []float64
-			if err := rows.Scan(&s.name, &s.unit, &s.gate, &r, &m, &n); err != nil {
+			if err := rows.Scan(&name, &unit, &gate, &chunk, &r, &m, &n); err != nil {
 				return nil, 0, "", err
 			}
-			s.cycles = joinCycles(r, m, n)
-			ss = append(ss, s)
+			j.add(name, unit, gate, chunk, r, m, n)
 		}
 		if err := rows.Err(); err != nil {
 			return nil, 0, "", err
 		}
-		if len(ss) == 0 {
+		if len(j.ss) == 0 {
 			return nil, 0, "counted cycles are missing", nil
 		}
+		if j.why != "" {
+			return nil, 0, j.why, nil
+		}
+		ss := j.ss
 		return cyclesCanon(id, ss), 0, "", nil
 	case "correction":
 		id, err := uuid.Parse(key)

@@ -395,27 +395,75 @@ func DiveDamage(d Dive, comps []Component, s Settings) ([]Result, error) {
 
 // Dive assesses one dive on every component, in the components' order.
 func (a *Assessor) Dive(d Dive) ([]Result, error) {
-	out := make([]Result, 0, len(a.comps))
+	s := a.Begin()
+	if err := s.Add(d.PressureCycles); err != nil {
+		return nil, err
+	}
+	return s.Finish(d.Holds)
+}
+
+// DiveSum assesses one dive whose pressure cycles arrive in parts (a long
+// record counted while it streams), in bounded memory. It gives exactly
+// what Assessor.Dive gives for the whole dive: every component's Miner
+// sum is continued term by term in the cycles' order.
+type DiveSum struct {
+	a   *Assessor
+	cy  []damage.Cyclic
+	err error
+}
+
+// Begin starts assessing one dive. The Assessor must not assess another
+// dive until the DiveSum is finished.
+func (a *Assessor) Begin() *DiveSum {
+	s := &DiveSum{a: a, cy: make([]damage.Cyclic, len(a.comps))}
+	for i, m := range a.miners {
+		s.cy[i] = m.Start()
+	}
+	return s
+}
+
+// Add takes the next pressure cycles of the dive, in counting order. After
+// an error every later call returns it.
+func (s *DiveSum) Add(cycles []rainflow.Cycle) error {
+	if s.err != nil {
+		return s.err
+	}
+	a := s.a
 	for ci, c := range a.comps {
 		f := c.Transfer.Transfer.Factor
 		buf := a.buf[:0]
-		for _, pc := range d.PressureCycles {
+		for _, pc := range cycles {
 			buf = append(buf, damage.Cycle{Range: math.Abs(f) * pc.Range, Mean: f * pc.Mean, Count: pc.Count})
 		}
 		a.buf = buf
-		cy, err := a.miners[ci].Sum(buf)
-		if err != nil {
-			return nil, fmt.Errorf("component %s: %w", c.Name, err)
+		if err := a.miners[ci].Add(&s.cy[ci], buf); err != nil {
+			s.err = fmt.Errorf("component %s: %w", c.Name, err)
+			return s.err
 		}
+	}
+	return nil
+}
+
+// Finish ends the dive with its time at pressure and returns every
+// component's damage, in the components' order.
+func (s *DiveSum) Finish(holds []Hold) ([]Result, error) {
+	if s.err != nil {
+		return nil, s.err
+	}
+	a := s.a
+	out := make([]Result, 0, len(a.comps))
+	for ci, c := range a.comps {
+		f := c.Transfer.Transfer.Factor
+		cy := s.cy[ci]
 		r := Result{Component: c.Name, Cyclic: cy, Factor: f, Basis: c.Transfer.Transfer.Basis, Settings: a.eff[ci]}
 		r.Damage.Cyclic = cy.Damage
 		if c.Rupture != nil {
-			holds := a.holds[:0]
-			for _, h := range d.Holds {
-				holds = append(holds, damage.Hold{Stress: f * h.LevelMPa, Duration: h.Seconds})
+			hs := a.holds[:0]
+			for _, h := range holds {
+				hs = append(hs, damage.Hold{Stress: f * h.LevelMPa, Duration: h.Seconds})
 			}
-			a.holds = holds
-			su, err := damage.Robinson(holds, *c.Rupture)
+			a.holds = hs
+			su, err := damage.Robinson(hs, *c.Rupture)
 			if err != nil {
 				return nil, fmt.Errorf("component %s: %w", c.Name, err)
 			}

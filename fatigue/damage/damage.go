@@ -107,11 +107,27 @@ func NewMinerSum(c sn.Curve, ms sn.MeanStress, dff float64) (*MinerSum, error) {
 
 // Sum is Miner's rule on cycles (see Miner).
 func (m *MinerSum) Sum(cycles []Cycle) (Cyclic, error) {
+	out := m.Start()
+	if err := m.Add(&out, cycles); err != nil {
+		return Cyclic{}, err
+	}
+	return out, nil
+}
+
+// Start returns an empty sum, to be continued by Add.
+func (m *MinerSum) Start() Cyclic {
+	return Cyclic{DFF: m.dff, Curve: m.c.Name, MeanStress: m.ms}
+}
+
+// Add continues the sum out with more cycles of the same record. The terms
+// are added one by one in the order given, so a record summed in parts
+// gives exactly (bit for bit) what Sum gives for the whole. On an error
+// out is left part-summed and must not be used.
+func (m *MinerSum) Add(out *Cyclic, cycles []Cycle) error {
 	c, ms, dff := m.c, m.ms, m.dff
-	out := Cyclic{DFF: dff, Curve: c.Name, MeanStress: ms}
 	for i, cy := range cycles {
 		if err := cy.validate(); err != nil {
-			return Cyclic{}, fmt.Errorf("miner on curve %q: cycle %d: %w", c.Name, i+1, err)
+			return fmt.Errorf("miner on curve %q: cycle %d: %w", c.Name, i+1, err)
 		}
 		out.Cycles += cy.Count
 		if cy.Count == 0 || cy.Range == 0 {
@@ -119,7 +135,7 @@ func (m *MinerSum) Sum(cycles []Cycle) (Cyclic, error) {
 		}
 		n, err := c.CyclesToFailure(cy.Range, cy.Mean, ms)
 		if err != nil {
-			return Cyclic{}, fmt.Errorf("miner: cycle %d: %w", i+1, err)
+			return fmt.Errorf("miner: cycle %d: %w", i+1, err)
 		}
 		if math.IsInf(n, 1) {
 			continue
@@ -135,7 +151,7 @@ func (m *MinerSum) Sum(cycles []Cycle) (Cyclic, error) {
 		out.Unfactored += cy.Count / n
 	}
 	out.Damage = out.Unfactored * dff
-	return out, nil
+	return nil
 }
 
 func (c Cycle) validate() error {

@@ -148,9 +148,24 @@ func (c *Counter) Cycles() []Cycle {
 	return c.cycles[:len(c.cycles):len(c.cycles)]
 }
 
+// Pending is the number of cycles counted and not yet drained.
+func (c *Counter) Pending() int { return len(c.cycles) }
+
+// Drain returns the cycles counted since the last Drain (or the start), in
+// counting order, and forgets them, so that a long record can be counted
+// in bounded memory: the caller stores or sums each part as it comes.
+// Finish then returns only the cycles not drained. The slice is a view
+// into the Counter, valid until the next Add, Drain, Finish or Reset.
+func (c *Counter) Drain() []Cycle {
+	out := c.cycles[:len(c.cycles):len(c.cycles)]
+	c.cycles = c.cycles[:0]
+	return out
+}
+
 // Finish ends the record: the running extreme of the last leg becomes the
 // last turning point, the residue is counted as half cycles, and all the
-// cycles of the record are returned (the same as Count). The slice belongs
+// cycles of the record are returned (the same as Count), less any drained
+// (see Drain). The slice belongs
 // to the Counter and is valid until the next Reset. Calling Finish again
 // returns the same cycles; call Reset to count another record.
 func (c *Counter) Finish() []Cycle {

@@ -108,8 +108,24 @@ func (d *Dive) Quality() *Quality { return d.quality }
 // from pressure p to the surface.
 func (d *Dive) cutLegS(p float64) float64 { return math.Max(p, 0) / d.cfg.CutLegMPaPerS }
 
-// Finish closes the residues and returns the counts. Call it once, after
-// the last Add.
+// Drain hands over the cycles counted so far of every series holding at
+// least atLeast of them, and forgets them (see rainflow.Counter.Drain):
+// series 0 is gauge pressure, series i > 0 the strain of gauge i-1. The
+// slice given to fn is valid only during the call. Finish then returns
+// only the cycles not drained.
+func (d *Dive) Drain(atLeast int, fn func(series int, cs []rainflow.Cycle)) {
+	if d.pressure.Pending() >= max(atLeast, 1) {
+		fn(0, d.pressure.Drain())
+	}
+	for i, c := range d.strains {
+		if c.Pending() >= max(atLeast, 1) {
+			fn(i+1, c.Drain())
+		}
+	}
+}
+
+// Finish closes the residues and returns the counts (the cycles not
+// drained). Call it once, after the last Add.
 func (d *Dive) Finish() Counts {
 	prof := d.profile.Finish()
 	q := d.quality
