@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"path/filepath"
+	"runtime"
 	"strings"
 	"time"
 
@@ -16,7 +17,6 @@ import (
 
 	"hulltally/fatigue/assess"
 	"hulltally/fatigue/seawater"
-	"hulltally/ledger/blocks"
 	"hulltally/ledger/files"
 	"hulltally/ledger/logfile"
 )
@@ -318,11 +318,6 @@ func fileErr(ctx context.Context, err error) error {
 	return inputErr(err)
 }
 
-type parsed struct {
-	b   *blocks.Block
-	err error
-}
-
 // ingest parses the samples (and hits) and stores blocks and hits in tx,
 // returning the dive row (not yet inserted) and the chain records.
 func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte, sp *cycleSpill) (*diveRow, []chainRec, error) {
@@ -360,38 +355,14 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		row.Columns = append(row.Columns, c.Name)
 	}
 
-	// Parse in one goroutine, encode and store in this one.
+	// Parse over every core (logfile.BlockStream: one goroutine reads
+	// and hashes the lines, GOMAXPROCS workers parse them, the blocks come
+	// back in file order), count, encode and store in this one.
 	ctx, cancel := context.WithCancel(ctx)
 	defer cancel()
-	free := make(chan *blocks.Block, 3)
-	for i := 0; i < 3; i++ {
-		free <- sr.NewBlock()
-	}
-	full := make(chan parsed, 2)
-	go func() {
-		defer close(full)
-		for {
-			var b *blocks.Block
-			select {
-			case b = <-free:
-			case <-ctx.Done():
-				return
-			}
-			err := sr.ReadBlock(b)
-			if err == io.EOF {
-				return
-			}
-			select {
-			case full <- parsed{b, err}:
-			case <-ctx.Done():
-				return
-			}
-			if err != nil {
-				return
-			}
-		}
-	}()
-	src := &blockSource{ctx: ctx, full: full, free: free, row: row, loadIdx: hdr.Load, progress: req.Progress,
+	stream := sr.Stream(ctx, runtime.GOMAXPROCS(0))
+	defer stream.Close()
+	src := &blockSource{ctx: ctx, stream: stream, row: row, loadIdx: hdr.Load, progress: req.Progress,
 		counter: l.newDiveCounter(hdr.Columns, hdr.Load, lat, sp), fp: logfile.NewFingerprint(hdr)}
 	src.maxLoad = math.Inf(-1)
 	_, err = tx.CopyFrom(ctx, pgx.Identifier{"reading_blocks"}, []string{"dive_id", "hull_id", "block_no", "first_sample", "samples", "t_first_ns", "t_last_ns", "data", "sha256"}, src)

@@ -19,8 +19,7 @@ import (
 // blockSource feeds encoded blocks to COPY and keeps the dive's summary.
 type blockSource struct {
 	ctx      context.Context
-	full     chan parsed
-	free     chan *blocks.Block
+	stream   *logfile.BlockStream
 	row      *diveRow
 	loadIdx  int
 	progress func(int64)
@@ -56,15 +55,14 @@ func (s *blockSource) Next() bool {
 	if s.progress != nil && s.blockNo > 0 {
 		s.progress(s.rows)
 	}
-	p, ok := <-s.full
-	if !ok {
+	b, err := s.stream.Next()
+	if err == io.EOF {
 		return false
 	}
-	if p.err != nil {
-		s.perr = p.err
+	if err != nil {
+		s.perr = err
 		return false
 	}
-	b := p.b
 	n := b.Len()
 	if s.rows == 0 {
 		s.firstNS = b.TimeNS[0]
@@ -90,7 +88,6 @@ func (s *blockSource) Next() bool {
 	s.recs = append(s.recs, chainRec{kind: "reading_block", key: fmt.Sprintf("%s/%d", s.row.ID, s.blockNo), canon: blockCanon(s.row.ID, s.row.HullID, s.blockNo, s.rows, int32(n), b.TimeNS[0], b.TimeNS[n-1], sum)})
 	s.rows += int64(n)
 	s.blockNo++
-	s.free <- b
 	return true
 }
 

@@ -300,16 +300,84 @@ type SampleOptions struct {
 
 // SampleReader streams a samples file block by block.
 type SampleReader struct {
-	lr     *lineReader
-	h      Header
-	opt    SampleOptions
+	lr    *lineReader
+	h     Header
+	opt   SampleOptions
+	p     rowParser
+	prevT int64
+	rows  int64
+	done  bool
+	// streaming: Stream has taken the reader over.
+	streaming bool
+}
+
+// rowParser parses data lines into blocks; it holds no state between
+// rows (the order of times across rows is the caller's to check), so each
+// goroutine of a parallel parse has its own copy.
+type rowParser struct {
+	h      *Header
 	lim    Limits
-	fields [][]byte
-	prevT  int64
-	rows   int64
 	start  time.Time // t_s = 0, for t_s files
 	win    window
-	done   bool
+	file   string
+	fields [][]byte
+}
+
+func (p *rowParser) errf(line, col int, name, format string, a ...any) error {
+	return &Error{File: p.file, Line: line, Column: col, Name: name, Msg: fmt.Sprintf(format, a...)}
+}
+
+// row parses data line number lineNo into b, fields in column order. When
+// have is true the row's time must come after prevT (checked where the
+// time column is reached, as a reader going left to right would). It
+// returns the row's time and whether the time was parsed (true also when
+// an error came later in the row).
+func (p *rowParser) row(b *blocks.Block, line []byte, lineNo int, have bool, prevT int64) (int64, bool, error) {
+	p.fields = splitFields(p.fields, line)
+	ncol := len(p.h.Columns)
+	if len(p.fields) != ncol {
+		return 0, false, p.errf(lineNo, 0, "", "%d fields, the header has %d", len(p.fields), ncol)
+	}
+	var t int64
+	parsed := false
+	for i, f := range p.fields {
+		c := &p.h.Columns[i]
+		if i == p.h.Time {
+			ns, msg := parseTimeField(f, c.Kind == KindTRel, p.start, &p.win)
+			if msg != "" {
+				return 0, false, p.errf(lineNo, i+1, c.Name, "%s", msg)
+			}
+			t, parsed = ns, true
+			if have {
+				if err := p.order(lineNo, t, prevT); err != nil {
+					return t, true, err
+				}
+			}
+			b.TimeNS = append(b.TimeNS, t)
+			continue
+		}
+		col := &b.Cols[i]
+		v, err := p.number(f, lineNo, i, col)
+		if err != nil {
+			return t, parsed, err
+		}
+		if msg := p.check(c, v); msg != "" {
+			return t, parsed, p.errf(lineNo, i+1, c.Name, "%s", msg)
+		}
+	}
+	return t, true, nil
+}
+
+// order checks that time t of line lineNo comes after the previous row's.
+func (p *rowParser) order(lineNo int, t, prevT int64) error {
+	c := &p.h.Columns[p.h.Time]
+	if t < prevT {
+		return p.errf(lineNo, p.h.Time+1, c.Name, "time goes backwards (%s after %s)", fmtNS(t), fmtNS(prevT))
+	}
+	if t == prevT {
+		return p.errf(lineNo, p.h.Time+1, c.Name, "duplicate time stamp %s", fmtNS(t))
+	}
+	return nil
 }
 
 // NewSampleReader reads and checks the header.
@@ -322,24 +390,25 @@ func NewSampleReader(r io.Reader, file string, opt SampleOptions) (*SampleReader
 	if err != nil {
 		return nil, err
 	}
-	sr := &SampleReader{lr: lr, opt: opt, lim: DefaultLimits, win: newWindow(opt.MinTime, opt.MaxTime)}
+	sr := &SampleReader{lr: lr, opt: opt}
+	sr.p = rowParser{lim: DefaultLimits, win: newWindow(opt.MinTime, opt.MaxTime), file: file}
 	if opt.Limits != nil {
-		sr.lim = *opt.Limits
+		sr.p.lim = *opt.Limits
 	}
 	if sr.opt.BlockSamples <= 0 {
 		sr.opt.BlockSamples = 8192
 	}
-	sr.fields = splitFields(nil, line)
-	sr.h, err = parseHeader(sr.fields, lr)
+	sr.h, err = parseHeader(splitFields(nil, line), lr)
 	if err != nil {
 		return nil, err
 	}
+	sr.p.h = &sr.h
 	if sr.h.Columns[sr.h.Time].Kind == KindTRel {
 		if opt.Start == nil {
 			return nil, &Error{File: file, Line: lr.line, Column: sr.h.Time + 1, Name: "t_s", Msg: "times are relative (t_s): give the dive's start time (--start, RFC 3339)"}
 		}
-		sr.start = *opt.Start
-		if msg := sr.win.checkStart(sr.start); msg != "" {
+		sr.p.start = *opt.Start
+		if msg := sr.p.win.checkStart(sr.p.start); msg != "" {
 			return nil, &Error{File: file, Line: lr.line, Column: sr.h.Time + 1, Name: "t_s", Msg: msg + " (--start)"}
 		}
 	}
@@ -357,21 +426,28 @@ func (sr *SampleReader) NewBlock() *blocks.Block {
 	return blocks.NewBlock(len(sr.h.Columns), sr.opt.BlockSamples)
 }
 
+// errHeaderOnly is the error of a file with a header and no samples.
+func (sr *SampleReader) errHeaderOnly() error {
+	return &Error{File: sr.lr.file, Msg: "header only: the file has no samples"}
+}
+
 // ReadBlock resets b and fills it with up to BlockSamples rows. It returns
 // io.EOF (with b empty) when the file is exhausted; a file with a header
-// and no samples is an error.
+// and no samples is an error. It must not be called once Stream has been.
 func (sr *SampleReader) ReadBlock(b *blocks.Block) error {
 	b.Reset()
+	if sr.streaming {
+		return errors.New("logfile: ReadBlock after Stream")
+	}
 	if sr.done {
 		return io.EOF
 	}
-	ncol := len(sr.h.Columns)
 	for b.Len() < sr.opt.BlockSamples {
 		line, err := sr.lr.next()
 		if err == io.EOF {
 			sr.done = true
 			if sr.rows == 0 {
-				return &Error{File: sr.lr.file, Msg: "header only: the file has no samples"}
+				return sr.errHeaderOnly()
 			}
 			if b.Len() == 0 {
 				return io.EOF
@@ -381,82 +457,55 @@ func (sr *SampleReader) ReadBlock(b *blocks.Block) error {
 		if err != nil {
 			return err
 		}
-		sr.fields = splitFields(sr.fields, line)
-		if len(sr.fields) != ncol {
-			return sr.lr.errf(0, "", "%d fields, the header has %d", len(sr.fields), ncol)
+		t, _, err := sr.p.row(b, line, sr.lr.line, sr.rows > 0 || b.Len() > 0, sr.prevT)
+		if err != nil {
+			return err
 		}
-		for i, f := range sr.fields {
-			c := &sr.h.Columns[i]
-			if i == sr.h.Time {
-				t, err := sr.parseTime(f, i)
-				if err != nil {
-					return err
-				}
-				if sr.rows > 0 || b.Len() > 0 {
-					if t < sr.prevT {
-						return sr.lr.errf(i+1, c.Name, "time goes backwards (%s after %s)", fmtNS(t), fmtNS(sr.prevT))
-					}
-					if t == sr.prevT {
-						return sr.lr.errf(i+1, c.Name, "duplicate time stamp %s", fmtNS(t))
-					}
-				}
-				sr.prevT = t
-				b.TimeNS = append(b.TimeNS, t)
-				continue
-			}
-			col := &b.Cols[i]
-			v, err := sr.parseNumber(f, i, col)
-			if err != nil {
-				return err
-			}
-			if msg := sr.check(c, v); msg != "" {
-				return sr.lr.errf(i+1, c.Name, "%s", msg)
-			}
-		}
+		sr.prevT = t
 		sr.rows++
 	}
 	return nil
 }
 
-func (sr *SampleReader) check(c *Column, v float64) string {
+func (p *rowParser) check(c *Column, v float64) string {
 	switch c.Kind {
 	case KindLoad:
 		switch c.Load {
 		case LoadDepth:
-			if v < sr.lim.MinDepthM || v > sr.lim.MaxDepthM {
-				return fmt.Sprintf("impossible depth %v m (outside %v..%v m)", v, sr.lim.MinDepthM, sr.lim.MaxDepthM)
+			if v < p.lim.MinDepthM || v > p.lim.MaxDepthM {
+				return fmt.Sprintf("impossible depth %v m (outside %v..%v m)", v, p.lim.MinDepthM, p.lim.MaxDepthM)
 			}
 		case LoadPressureGauge:
 			mpa := v * c.ToMPa
-			if mpa < -0.101325 || mpa > sr.lim.MaxPressureMPa {
-				return fmt.Sprintf("impossible gauge pressure %v (%.6g MPa; gauge pressure lies between -0.101325 MPa and %v MPa)", v, mpa, sr.lim.MaxPressureMPa)
+			if mpa < -0.101325 || mpa > p.lim.MaxPressureMPa {
+				return fmt.Sprintf("impossible gauge pressure %v (%.6g MPa; gauge pressure lies between -0.101325 MPa and %v MPa)", v, mpa, p.lim.MaxPressureMPa)
 			}
 		case LoadPressureAbsolute:
 			mpa := v * c.ToMPa
-			if mpa < 0 || mpa > sr.lim.MaxPressureMPa+0.101325 {
+			if mpa < 0 || mpa > p.lim.MaxPressureMPa+0.101325 {
 				return fmt.Sprintf("impossible absolute pressure %v (%.6g MPa)", v, mpa)
 			}
 		}
 	case KindStrain:
-		if math.Abs(v) > sr.lim.MaxAbsStrainUE {
-			return fmt.Sprintf("impossible strain %v µε (beyond ±%v µε)", v, sr.lim.MaxAbsStrainUE)
+		if math.Abs(v) > p.lim.MaxAbsStrainUE {
+			return fmt.Sprintf("impossible strain %v µε (beyond ±%v µε)", v, p.lim.MaxAbsStrainUE)
 		}
 	case KindTemp:
-		if v < sr.lim.MinTempC || v > sr.lim.MaxTempC {
-			return fmt.Sprintf("impossible temperature %v °C (outside %v..%v °C)", v, sr.lim.MinTempC, sr.lim.MaxTempC)
+		if v < p.lim.MinTempC || v > p.lim.MaxTempC {
+			return fmt.Sprintf("impossible temperature %v °C (outside %v..%v °C)", v, p.lim.MinTempC, p.lim.MaxTempC)
 		}
 	}
 	return ""
 }
 
-func (sr *SampleReader) parseNumber(f []byte, i int, col *blocks.Column) (float64, error) {
+func (p *rowParser) number(f []byte, lineNo, i int, col *blocks.Column) (float64, error) {
 	if m, s, ok := blocks.ParseDecimal(f); ok {
 		col.AppendDecimal(m, s)
 		return col.Value[len(col.Value)-1], nil
 	}
 	v, err := parseFloat(f)
 	if err != nil {
-		return 0, sr.lr.errf(i+1, sr.h.Columns[i].Name, "%v", err)
+		return 0, p.errf(lineNo, i+1, p.h.Columns[i].Name, "%v", err)
 	}
 	col.AppendFloat(v)
 	return v, nil
@@ -490,15 +539,6 @@ func parseFloat(f []byte) (float64, error) {
 		return 0, fmt.Errorf("%q: NaN and Inf are not readings", s)
 	}
 	return v, nil
-}
-
-func (sr *SampleReader) parseTime(f []byte, i int) (int64, error) {
-	c := sr.h.Columns[i]
-	ns, msg := parseTimeField(f, c.Kind == KindTRel, sr.start, &sr.win)
-	if msg != "" {
-		return 0, sr.lr.errf(i+1, c.Name, "%s", msg)
-	}
-	return ns, nil
 }
 
 // parseTimeField parses a time field: RFC 3339, or for rel seconds from
