@@ -48,6 +48,10 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 	if err := l.writable("Assess"); err != nil {
 		return nil, err
 	}
+	var err error
+	if o.Actor, err = l.actorFor(o.Actor); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, fmt.Errorf("assess: the actor is required")
 	}

@@ -74,6 +74,9 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 	if !containsStr(correctableFields, field) {
 		return nil, inputErr(fmt.Errorf("field %q cannot be corrected (correctable: %s); a reading or the latitude is corrected by logging the right file", field, strings.Join(correctableFields, ", ")))
 	}
+	if actor, err = l.actorFor(actor); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(reason) == "" || strings.TrimSpace(actor) == "" {
 		return nil, inputErr(fmt.Errorf("a correction needs a reason and the name of who makes it"))
 	}

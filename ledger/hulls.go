@@ -148,6 +148,10 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 	if err := assess.Check(g, componentSpecs(h), l.fat.lib, l.fat.settings); err != nil {
 		return nil, inputErr(fmt.Errorf("hull spec %s: %w", h.Serial, err))
 	}
+	var err error
+	if o.Actor, err = l.actorFor(o.Actor); err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(o.Actor) == "" {
 		return nil, errors.New("adding a hull: the actor (who records it) is required")
 	}

@@ -78,6 +78,10 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 	if strings.TrimSpace(reason) == "" {
 		return nil, inputErr(errors.New("voiding a dive needs a reason (--reason)"))
 	}
+	actor, err := l.actorFor(actor)
+	if err != nil {
+		return nil, err
+	}
 	if strings.TrimSpace(actor) == "" {
 		return nil, inputErr(errors.New("voiding a dive needs the name of who decides it"))
 	}

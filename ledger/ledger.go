@@ -39,6 +39,8 @@ type Ledger struct {
 	rulesSHA [32]byte
 	// basis is the fleet summary's basis, computed once (summaryBasis).
 	basis *basisCache
+	// identity is who the connection is, read at Open.
+	identity Identity
 }
 
 // Info says where the ledger is.
@@ -99,6 +101,10 @@ func Open(ctx context.Context, cfg *configs.Config) (*Ledger, error) {
 	// guard switched off is first seen by verify rather than silently put
 	// back by the next command.
 	if err := l.applyMigrations(ctx); err != nil {
+		pool.Close()
+		return nil, err
+	}
+	if l.identity, err = readIdentity(ctx, pool); err != nil {
 		pool.Close()
 		return nil, err
 	}

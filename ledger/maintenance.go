@@ -170,6 +170,10 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 	if strings.TrimSpace(in.Method) == "" {
 		errs = append(errs, "the method is required (e.g. visual, ultrasonic, shearography)")
 	}
+	var aerr error
+	if in.Actor, aerr = l.actorFor(in.Actor); aerr != nil {
+		return nil, aerr
+	}
 	if strings.TrimSpace(in.Actor) == "" {
 		errs = append(errs, "the inspector's name is required")
 	}
@@ -239,6 +243,10 @@ func (l *Ledger) insertProof(ctx context.Context, tx pgx.Tx, h *Hull, p *ProofTe
 	if !(p.PressureMPa > 0) || math.IsInf(p.PressureMPa, 0) {
 		errs = append(errs, fmt.Sprintf("the test pressure must be a positive number, got %v MPa", p.PressureMPa))
 	}
+	var aerr error
+	if p.Actor, aerr = l.actorFor(p.Actor); aerr != nil {
+		return nil, aerr
+	}
 	if strings.TrimSpace(p.Actor) == "" {
 		errs = append(errs, "the name of who ran the test is required")
 	}
@@ -290,6 +298,10 @@ func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) 
 	d.ID, d.RecordedAt, errs = l.stamp(&d.At)
 	if d.Kind != DecisionReturn && d.Kind != DecisionWithdraw {
 		errs = append(errs, fmt.Sprintf("the decision must be %s or %s, got %q", DecisionReturn, DecisionWithdraw, d.Kind))
+	}
+	var aerr error
+	if d.Actor, aerr = l.actorFor(d.Actor); aerr != nil {
+		return nil, aerr
 	}
 	if strings.TrimSpace(d.Actor) == "" {
 		errs = append(errs, "a decision needs the name of who takes it")

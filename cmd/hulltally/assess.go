@@ -21,9 +21,7 @@ func (a *app) assessCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			if o.Actor == "" {
-				o.Actor = currentActor()
-			}
+			o.Actor = a.actorOr(l, o.Actor)
 			res, err := l.Assess(cmd.Context(), o)
 			if err != nil {
 				return err

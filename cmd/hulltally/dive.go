@@ -186,14 +186,12 @@ func (a *app) diveCmd() *cobra.Command {
 			if strings.TrimSpace(voidReason) == "" {
 				return usageError{fmt.Errorf("--reason TEXT is required")}
 			}
-			if voidActor == "" {
-				voidActor = currentActor()
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			voidActor = a.actorOr(l, voidActor)
 			v, err := l.VoidDive(cmd.Context(), args[0], voidReason, voidActor)
 			if err != nil {
 				return err
@@ -219,14 +217,12 @@ func (a *app) diveCmd() *cobra.Command {
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeDiveArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
-			if actor == "" {
-				actor = currentActor()
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			actor = a.actorOr(l, actor)
 			c, err := l.CorrectDive(cmd.Context(), args[0], field, value, reason, actor)
 			if err != nil {
 				return err

@@ -20,6 +20,8 @@ const (
 	kindUsage   = "usage"   // the command line itself is wrong: exit 2
 	kindInput   = "input"   // the input is refused (a file, a value, an unknown hull): exit 2
 	kindFailure = "failure" // hulltally could not do it (database unavailable, I/O): exit 1
+	// kindNotPermitted: the database refused the person signed in: exit 1.
+	kindNotPermitted = "not_permitted"
 )
 
 // usageError is a wrong command line: an unknown command or flag, a
@@ -44,6 +46,8 @@ func classify(err error) (kind string, code int) {
 	switch {
 	case err == nil:
 		return "", exitOK
+	case ledger.IsNotPermitted(err):
+		return kindNotPermitted, exitFailed
 	case errors.As(err, &ue):
 		return kindUsage, exitInput
 	case errors.As(err, &ie):

@@ -68,9 +68,7 @@ func (a *app) hullCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			if actor == "" {
-				actor = currentActor()
-			}
+			actor = a.actorOr(l, actor)
 			rec, err := l.AddHull(cmd.Context(), sp, ledger.AddHullOptions{Actor: actor, Reason: reason, Revise: revise})
 			if err != nil {
 				if !revise {

@@ -39,6 +39,10 @@ type app struct {
 	errOut  io.Writer
 	cfg     *configs.Config
 	exit    int
+	// in is standard input (os.Stdin when nil).
+	in io.Reader
+	// identity is who the ledger's connection is, once opened.
+	identity ledger.Identity
 }
 
 func main() {
@@ -76,6 +80,9 @@ func jsonRequested(args []string) bool {
 // document on standard output) and sets the exit code from its class.
 func (a *app) fail(cmd *cobra.Command, err error) {
 	kind, code := classify(err)
+	if kind == kindNotPermitted {
+		err = &ledger.NotPermittedError{Identity: a.identity, Err: err}
+	}
 	dbURL := ""
 	if a.cfg != nil {
 		dbURL = a.cfg.Database.URL
@@ -131,7 +138,8 @@ func (a *app) rootCmd() *cobra.Command {
 	root.PersistentFlags().BoolVar(&a.asJSON, "json", false, "print one JSON document instead of text")
 	root.Flags().BoolVar(&a.version, "version", false, "print the version and VCS revision")
 	root.AddCommand(a.dbCmd(), a.hullCmd(), a.diveCmd(), a.assessCmd(), a.fleetCmd(), a.clearCmd(), a.inspectCmd(), a.prooftestCmd(),
-		a.decideCmd(), a.reportCmd(), a.verifyCmd(), a.statusCmd(), a.demoCmd(), a.versionCmd(), a.keyCmd(), a.checkpointCmd(), a.exportCmd())
+		a.decideCmd(), a.reportCmd(), a.verifyCmd(), a.statusCmd(), a.demoCmd(), a.versionCmd(), a.keyCmd(), a.checkpointCmd(), a.exportCmd(),
+		a.personCmd())
 	// cobra's completion and help commands, added now so that their
 	// errors are classified like every other command's.
 	root.InitDefaultHelpCmd()
@@ -175,6 +183,7 @@ func (a *app) open(ctx context.Context) (*ledger.Ledger, error) {
 		}
 		return nil, err
 	}
+	a.identity = l.Identity()
 	if inf := l.Info(); inf.Created {
 		owner := ""
 		if inf.Owner != "" {

@@ -37,14 +37,12 @@ func (a *app) inspectCmd() *cobra.Command {
 			if in.At, err = parseAt(at); err != nil {
 				return err
 			}
-			if in.Actor == "" {
-				in.Actor = currentActor()
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			in.Actor = a.actorOr(l, in.Actor)
 			rec, err := l.RecordInspection(cmd.Context(), args[0], in)
 			if err != nil {
 				return err
@@ -83,14 +81,12 @@ func (a *app) prooftestCmd() *cobra.Command {
 			if p.At, err = parseAt(at); err != nil {
 				return err
 			}
-			if p.Actor == "" {
-				p.Actor = currentActor()
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			p.Actor = a.actorOr(l, p.Actor)
 			req := ledger.LogRequest{Hull: args[0], Samples: samples, AE: ae, Site: "proof test", Operator: p.Actor}
 			if samples != "" {
 				if err := a.fillLog(&req, lat, start); err != nil {
@@ -156,14 +152,12 @@ func (a *app) decideCmd() *cobra.Command {
 			if d.At, err = parseAt(at); err != nil {
 				return err
 			}
-			if d.Actor == "" {
-				d.Actor = currentActor()
-			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
+			d.Actor = a.actorOr(l, d.Actor)
 			rec, err := l.RecordDecision(cmd.Context(), args[0], d)
 			if err != nil {
 				return err

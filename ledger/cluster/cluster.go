@@ -8,11 +8,20 @@
 // unprivileged "postgres" system user and the server runs as that user;
 // every folder above <home> must then be enterable by that user (the
 // default home for root, /var/lib/hulltally, is).
+//
+// The server asks every connection for a password (SCRAM-SHA-256): the
+// bootstrap role's is a secret generated into <home>/database.secret
+// (mode 0600), so another process running as the server's system account,
+// or a person's login role, is not let in as the owner by default. A
+// cluster made before this by trust is moved to passwords the next time it
+// is started.
 package cluster
 
 import (
 	"bytes"
 	"context"
+	"crypto/rand"
+	"encoding/base64"
 	"errors"
 	"fmt"
 	"io"
@@ -22,11 +31,16 @@ import (
 	"os/exec"
 	"os/user"
 	"path/filepath"
+	"slices"
 	"sort"
 	"strconv"
 	"strings"
 	"syscall"
 	"time"
+
+	"github.com/jackc/pgx/v5"
+
+	"hulltally/internal/scram"
 )
 
 // ErrNoServer means no PostgreSQL server binaries were found.
@@ -133,12 +147,115 @@ func (c *Cluster) URL() string { return c.urlFor(Database) }
 func (c *Cluster) MaintenanceURL() string { return c.urlFor("postgres") }
 
 func (c *Cluster) urlFor(db string) string {
+	return c.urlWith(db, c.secret())
+}
+
+func (c *Cluster) urlWith(db, password string) string {
 	q := url.Values{}
 	q.Set("host", c.Dir)
 	q.Set("port", strconv.Itoa(Port))
 	q.Set("user", Superuser)
 	q.Set("sslmode", "disable")
+	if password != "" {
+		q.Set("password", password)
+	}
 	return "postgres:///" + db + "?" + q.Encode()
+}
+
+// SecretFile holds the bootstrap role's password: <home>/database.secret.
+func (c *Cluster) SecretFile() string { return filepath.Join(filepath.Dir(c.Dir), "database.secret") }
+
+// secret is the bootstrap role's password, or "" when there is none yet.
+func (c *Cluster) secret() string {
+	b, err := os.ReadFile(c.SecretFile())
+	if err != nil {
+		return ""
+	}
+	return strings.TrimSpace(string(b))
+}
+
+// ensureSecret returns the secret, generating it (mode 0600, never over
+// an existing file, never through a symbolic link) when there is none.
+func (c *Cluster) ensureSecret() (string, error) {
+	if s := c.secret(); s != "" {
+		return s, nil
+	}
+	b := make([]byte, 24)
+	if _, err := rand.Read(b); err != nil {
+		return "", err
+	}
+	s := base64.RawURLEncoding.EncodeToString(b)
+	f, err := os.OpenFile(c.SecretFile(), os.O_CREATE|os.O_EXCL|os.O_WRONLY|syscall.O_NOFOLLOW, 0o600)
+	if err != nil {
+		return "", fmt.Errorf("writing the managed cluster's secret %s: %w", c.SecretFile(), err)
+	}
+	if _, err := f.WriteString(s + "\n"); err != nil {
+		f.Close()
+		return "", err
+	}
+	if err := f.Close(); err != nil {
+		return "", err
+	}
+	return s, nil
+}
+
+// hbaPasswords is the managed cluster's client authentication: the Unix
+// socket only (TCP is off), a password for everyone.
+const hbaPasswords = `# hulltally managed cluster: the Unix socket only, SCRAM-SHA-256 passwords for everyone.
+local all all scram-sha-256
+`
+
+// trusts says whether a pg_hba.conf lets anyone in without a password.
+func trusts(hba []byte) bool {
+	for _, line := range strings.Split(string(hba), "\n") {
+		f := strings.Fields(line)
+		if len(f) > 0 && !strings.HasPrefix(f[0], "#") && slices.Contains(f, "trust") {
+			return true
+		}
+	}
+	return false
+}
+
+// secure moves a running cluster made by trust to passwords: it gives
+// the bootstrap role the secret's password (as a SCRAM verifier), writes
+// the password-only pg_hba.conf and reloads the server. A cluster already
+// on passwords is left alone.
+func (c *Cluster) secure(ctx context.Context) error {
+	hbaPath := filepath.Join(c.DataDir(), "pg_hba.conf")
+	hba, err := os.ReadFile(hbaPath)
+	if err != nil {
+		return fmt.Errorf("reading the managed cluster's pg_hba.conf: %w", err)
+	}
+	if !trusts(hba) {
+		if c.secret() == "" {
+			return fmt.Errorf("the managed cluster in %s asks for a password and its secret %s is missing: restore the file, or set database.url to connect another way", c.Dir, c.SecretFile())
+		}
+		return nil
+	}
+	secret, err := c.ensureSecret()
+	if err != nil {
+		return err
+	}
+	verifier, err := scram.Verifier(secret)
+	if err != nil {
+		return err
+	}
+	conn, err := pgx.Connect(ctx, c.urlWith("postgres", ""))
+	if err != nil {
+		return fmt.Errorf("moving the managed cluster to passwords: %w", err)
+	}
+	defer conn.Close(ctx)
+	if _, err := conn.Exec(ctx, "ALTER ROLE "+pgx.Identifier{Superuser}.Sanitize()+" PASSWORD '"+verifier+"'"); err != nil {
+		return fmt.Errorf("moving the managed cluster to passwords: %w", err)
+	}
+	if err := writeConf(hbaPath, hbaPasswords); err != nil {
+		return fmt.Errorf("moving the managed cluster to passwords: %w", err)
+	}
+	var out bytes.Buffer
+	if err := c.run(ctx, &out, "pg_ctl", "reload", "-D", c.DataDir()); err != nil {
+		return fmt.Errorf("reloading the managed cluster: %w: %s", err, strings.TrimSpace(out.String()))
+	}
+	return nil
 }
 
 // Initialised reports whether the data folder holds a cluster.
@@ -188,6 +305,9 @@ func (c *Cluster) Ensure(ctx context.Context) (Event, error) {
 			return ev, fmt.Errorf("starting the managed PostgreSQL cluster in %s: %w\n%s\n(see the server log %s)", c.Dir, err, strings.TrimSpace(out.String()), c.LogFile())
 		}
 		ev.Started = true
+	}
+	if err := c.secure(ctx); err != nil {
+		return ev, err
 	}
 	return ev, nil
 }
@@ -325,10 +445,36 @@ func checkOwnDir(dir string, owners ...uint32) error {
 }
 
 func (c *Cluster) initdb(ctx context.Context) error {
+	secret, err := c.ensureSecret()
+	if err != nil {
+		return err
+	}
+	// initdb reads the password from a file (as the server's user when we
+	// are root), removed at once.
+	pw := filepath.Join(c.Dir, ".initdb-password")
+	os.Remove(pw)
+	f, err := os.OpenFile(pw, os.O_CREATE|os.O_EXCL|os.O_WRONLY|syscall.O_NOFOLLOW, 0o600)
+	if err != nil {
+		return fmt.Errorf("initdb: %w", err)
+	}
+	defer os.Remove(pw)
+	_, err = f.WriteString(secret + "\n")
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil && c.runAs != nil {
+		err = os.Lchown(pw, int(c.runAs.Uid), int(c.runAs.Gid))
+	}
+	if err != nil {
+		return fmt.Errorf("initdb: %w", err)
+	}
 	var out bytes.Buffer
-	err := c.run(ctx, &out, "initdb", "-D", c.DataDir(), "-U", Superuser, "--auth=trust", "-E", "UTF8", "--locale=C")
+	err = c.run(ctx, &out, "initdb", "-D", c.DataDir(), "-U", Superuser, "--auth-local=scram-sha-256", "--auth-host=scram-sha-256", "--pwfile="+pw, "-E", "UTF8", "--locale=C")
 	if err != nil {
 		return fmt.Errorf("initdb in %s: %w\n%s", c.DataDir(), err, strings.TrimSpace(out.String()))
+	}
+	if err := writeConf(filepath.Join(c.DataDir(), "pg_hba.conf"), hbaPasswords); err != nil {
+		return fmt.Errorf("configuring the cluster's client authentication: %w", err)
 	}
 	conf := fmt.Sprintf(`
 # --- hulltally managed cluster ---
@@ -372,6 +518,37 @@ func appendConf(path, text string) error {
 		return fmt.Errorf("%s has %d hard links: refused", path, sys.Nlink)
 	}
 	if _, err := f.WriteString(text); err != nil {
+		return err
+	}
+	return f.Close()
+}
+
+// writeConf replaces the contents of a configuration file initdb made,
+// with the care of appendConf: never through a symbolic link, only a
+// regular file with one link.
+func writeConf(path, text string) error {
+	f, err := os.OpenFile(path, os.O_WRONLY|syscall.O_NOFOLLOW|syscall.O_NONBLOCK|syscall.O_NOCTTY, 0)
+	if err != nil {
+		if errors.Is(err, syscall.ELOOP) {
+			return fmt.Errorf("%s is a symbolic link: refused", path)
+		}
+		return err
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return err
+	}
+	if !st.Mode().IsRegular() {
+		return fmt.Errorf("%s is not a regular file (mode %v): refused", path, st.Mode())
+	}
+	if sys, ok := st.Sys().(*syscall.Stat_t); ok && sys.Nlink != 1 {
+		return fmt.Errorf("%s has %d hard links: refused", path, sys.Nlink)
+	}
+	if err := f.Truncate(0); err != nil {
+		return err
+	}
+	if _, err := f.WriteAt([]byte(text), 0); err != nil {
 		return err
 	}
 	return f.Close()
