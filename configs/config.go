@@ -45,8 +45,22 @@ type Config struct {
 	Evidence Evidence
 	// Proof configures the checks of proof tests.
 	Proof Proof
+	// Server configures hulltally serve.
+	Server Server
 	// Source lists where the values came from, lowest priority first.
 	Source []string
+}
+
+// Server configures the HTTP service.
+type Server struct {
+	// Listen is host:port.
+	Listen string
+	// TLSCert and TLSKey are PEM files for HTTPS (both or neither).
+	TLSCert, TLSKey string
+	// MaxUploadMB bounds one dive upload.
+	MaxUploadMB int64
+	// ReadTimeoutS bounds receiving one request.
+	ReadTimeoutS int64
 }
 
 // Database says how to reach PostgreSQL.

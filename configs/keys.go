@@ -214,6 +214,17 @@ func Keys() []Key {
 			func(c *Config, f float64) { c.Evidence.ResidualTempToleranceC = f }),
 		whole("evidence.baseline_dives", "3", 1, 1000, "without a proof test with strain, the compliance baseline is the mean of the hull's first this many dives",
 			func(c *Config, n int64) { c.Evidence.BaselineDives = int(n) }),
+
+		text("server.listen", "127.0.0.1:8686", "address `hulltally serve` listens on (host:port; loopback by default)",
+			func(c *Config, s string) { c.Server.Listen = s }),
+		text("server.tls_cert", "", "PEM certificate for HTTPS; with `server.tls_key`, both or neither",
+			func(c *Config, s string) { c.Server.TLSCert = s }),
+		text("server.tls_key", "", "PEM private key for HTTPS",
+			func(c *Config, s string) { c.Server.TLSKey = s }),
+		whole("server.max_upload_mb", "4096", 1, 1<<20, "largest dive upload (samples and hits together), MiB; a larger one is refused before anything is stored",
+			func(c *Config, n int64) { c.Server.MaxUploadMB = n }),
+		whole("server.read_timeout_s", "3600", 1, 86400, "longest time to receive one request, upload included; a slower or stalled upload is cut off and nothing is stored",
+			func(c *Config, n int64) { c.Server.ReadTimeoutS = n }),
 	}
 }
 

@@ -13,7 +13,7 @@ import (
 // fleetWideTables are the only tables without hull_id: on a scale-out
 // distributed by hull they stay on the coordinator (reference or local
 // tables). hulls is distributed by its own id.
-var fleetWideTables = []string{"checkpoints", "hulltally_schema_version", "issued_reports"}
+var fleetWideTables = []string{"api_tokens", "checkpoints", "hulltally_schema_version", "issued_reports"}
 
 // TestKeysIncludeHull checks the rules a scale-out needs to distribute the
 // ledger by hull (from memory of PostgreSQL scale-out documentation), against the catalog of a migrated database: every table

@@ -139,7 +139,7 @@ func (a *app) rootCmd() *cobra.Command {
 	root.Flags().BoolVar(&a.version, "version", false, "print the version and VCS revision")
 	root.AddCommand(a.dbCmd(), a.hullCmd(), a.diveCmd(), a.assessCmd(), a.fleetCmd(), a.clearCmd(), a.inspectCmd(), a.prooftestCmd(),
 		a.decideCmd(), a.reportCmd(), a.verifyCmd(), a.statusCmd(), a.demoCmd(), a.versionCmd(), a.keyCmd(), a.checkpointCmd(), a.exportCmd(),
-		a.personCmd())
+		a.personCmd(), a.tokenCmd(), a.serveCmd())
 	// cobra's completion and help commands, added now so that their
 	// errors are classified like every other command's.
 	root.InitDefaultHelpCmd()

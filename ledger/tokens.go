@@ -1,0 +1,166 @@
+package ledger
+
+import (
+	"context"
+	"crypto/rand"
+	"crypto/sha256"
+	"crypto/subtle"
+	"encoding/base64"
+	"errors"
+	"fmt"
+	"strings"
+	"time"
+
+	"github.com/google/uuid"
+	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgxpool"
+)
+
+// tokenPrefix starts every API token, so that one found in a file or a
+// log is recognisable.
+const tokenPrefix = "htk_"
+
+// Token is a personal API token (migration 013). Secret is set only when
+// the token is made: it is shown once and never stored.
+type Token struct {
+	ID        uuid.UUID  `json:"id"`
+	Person    string     `json:"person"`
+	Note      string     `json:"note,omitempty"`
+	CreatedAt time.Time  `json:"created_at"`
+	CreatedBy string     `json:"created_by"`
+	ExpiresAt time.Time  `json:"expires_at"`
+	RevokedAt *time.Time `json:"revoked_at"`
+	Secret    string     `json:"token,omitempty"`
+}
+
+// ErrBadToken is an API token that is unknown, malformed, revoked,
+// expired, or whose person can no longer sign in. The caller says no more
+// than that.
+var ErrBadToken = errors.New("the token is not valid")
+
+// CreateToken makes a token for a person that expires after days.
+func (l *Ledger) CreateToken(ctx context.Context, person string, days int, note string) (*Token, error) {
+	if err := l.writable("CreateToken"); err != nil {
+		return nil, err
+	}
+	if days < 1 || days > 366 {
+		return nil, inputErr(fmt.Errorf("a token lasts 1 to 366 days, not %d", days))
+	}
+	people, err := l.People(ctx)
+	if err != nil {
+		return nil, err
+	}
+	found := false
+	for _, p := range people {
+		if p.Name == person {
+			if p.Disabled {
+				return nil, inputErr(fmt.Errorf("person %s is disabled: no token is made for them", person))
+			}
+			found = true
+		}
+	}
+	if !found {
+		return nil, inputErr(fmt.Errorf("no person %q (hulltally person list)", person))
+	}
+	b := make([]byte, 32)
+	if _, err := rand.Read(b); err != nil {
+		return nil, err
+	}
+	secret := tokenPrefix + base64.RawURLEncoding.EncodeToString(b)
+	sum := sha256.Sum256([]byte(secret))
+	t := &Token{ID: uuid.New(), Person: person, Note: note, CreatedAt: now(), Secret: secret}
+	t.ExpiresAt = t.CreatedAt.AddDate(0, 0, days)
+	err = l.pool.QueryRow(ctx, `INSERT INTO api_tokens (id, person, token_sha256, note, created_at, expires_at) VALUES ($1,$2,$3,$4,$5,$6) RETURNING created_by`,
+		t.ID, t.Person, sum[:], t.Note, t.CreatedAt, t.ExpiresAt).Scan(&t.CreatedBy)
+	if err != nil {
+		return nil, l.NotPermitted(fmt.Errorf("making a token for %s: %w", person, err))
+	}
+	return t, nil
+}
+
+// Tokens lists the tokens (never their secrets), newest first.
+func (l *Ledger) Tokens(ctx context.Context) ([]Token, error) {
+	rows, err := l.db.Query(ctx, "SELECT id, person, note, created_at, created_by, expires_at, revoked_at FROM api_tokens ORDER BY created_at DESC, id")
+	if err != nil {
+		return nil, l.NotPermitted(fmt.Errorf("listing tokens: %w", err))
+	}
+	return pgx.CollectRows(rows, func(r pgx.CollectableRow) (Token, error) {
+		var t Token
+		err := r.Scan(&t.ID, &t.Person, &t.Note, &t.CreatedAt, &t.CreatedBy, &t.ExpiresAt, &t.RevokedAt)
+		return t, err
+	})
+}
+
+// RevokeToken revokes a token by its id; revoking twice changes nothing.
+func (l *Ledger) RevokeToken(ctx context.Context, id uuid.UUID) error {
+	if err := l.writable("RevokeToken"); err != nil {
+		return err
+	}
+	tag, err := l.pool.Exec(ctx, "UPDATE api_tokens SET revoked_at = coalesce(revoked_at, $2) WHERE id = $1", id, now())
+	if err != nil {
+		return l.NotPermitted(fmt.Errorf("revoking token %s: %w", id, err))
+	}
+	if tag.RowsAffected() == 0 {
+		return inputErr(fmt.Errorf("no token %s (hulltally token list)", id))
+	}
+	return nil
+}
+
+// Authenticate returns the person of a bearer token that is known, not
+// revoked, not expired at at, and whose person may still sign in (a login
+// role in a hulltally group). Anything else is ErrBadToken.
+func (l *Ledger) Authenticate(ctx context.Context, secret string, at time.Time) (string, error) {
+	if !strings.HasPrefix(secret, tokenPrefix) || len(secret) > 128 {
+		return "", ErrBadToken
+	}
+	sum := sha256.Sum256([]byte(secret))
+	var person string
+	var stored []byte
+	var ok bool
+	err := l.db.QueryRow(ctx, `SELECT t.person, t.token_sha256, t.revoked_at IS NULL AND t.expires_at > $2
+			AND EXISTS (SELECT 1 FROM pg_roles u JOIN pg_auth_members m ON m.member = u.oid JOIN pg_roles g ON g.oid = m.roleid
+				WHERE u.rolname = t.person AND u.rolcanlogin AND g.rolname = ANY($3))
+		FROM api_tokens t WHERE t.token_sha256 = $1`, sum[:], at, groups()).Scan(&person, &stored, &ok)
+	if err == pgx.ErrNoRows {
+		return "", ErrBadToken
+	}
+	if err != nil {
+		return "", fmt.Errorf("checking a token: %w", err)
+	}
+	// The lookup was by hash; compare the whole hash again in constant
+	// time all the same.
+	if subtle.ConstantTimeCompare(stored, sum[:]) != 1 || !ok {
+		return "", ErrBadToken
+	}
+	return person, nil
+}
+
+// As opens the same ledger acting as a person: every connection of its
+// pool runs SET ROLE to the person, so the database applies the person's
+// role and stamps their identity, whatever the caller does. The
+// connection's own login (the service's) must be able to SET ROLE to the
+// person: the owner of the managed cluster is. Close it after use.
+func (l *Ledger) As(ctx context.Context, person string, maxConns int32) (*Ledger, error) {
+	pc := l.pool.Config().Copy()
+	pc.MaxConns = maxConns
+	role := pgx.Identifier{person}.Sanitize()
+	pc.AfterConnect = func(ctx context.Context, c *pgx.Conn) error {
+		_, err := c.Exec(ctx, "SET ROLE "+role)
+		return err
+	}
+	pool, err := pgxpool.NewWithConfig(ctx, pc)
+	if err != nil {
+		return nil, err
+	}
+	s := *l
+	s.pool, s.db = pool, pool
+	if s.identity, err = readIdentity(ctx, pool); err != nil {
+		pool.Close()
+		return nil, err
+	}
+	if s.identity.Name != person || s.identity.Owner {
+		pool.Close()
+		return nil, fmt.Errorf("acting as %s: the connection is %s", person, s.identity.Name)
+	}
+	return &s, nil
+}

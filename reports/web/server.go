@@ -1,0 +1,414 @@
+// Package web is hulltally's HTTP service: a JSON API under /api/v1 (with
+// its OpenAPI 3 description at /api/v1/openapi.json), health and
+// readiness, and Prometheus metrics. Every request under /api/v1 is
+// authenticated by a personal bearer token and runs inside the database
+// as the token's person (ledger.As: SET ROLE), so PostgreSQL's grants, not
+// this package, decide what the person may do; reads come from the same
+// views as the command line and the PDFs.
+package web
+
+import (
+	"context"
+	_ "embed"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"log/slog"
+	"net/http"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/collectors"
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+
+	"hulltally/ledger"
+	"hulltally/reports"
+	"hulltally/reports/view"
+)
+
+//go:embed openapi.json
+var openAPI []byte
+
+// Options tune the service.
+type Options struct {
+	// MaxUploadBytes bounds one dive upload (samples and hits together).
+	MaxUploadBytes int64
+	// PoolPerPerson bounds the connections opened for one person.
+	PoolPerPerson int32
+	// TempDir is where uploads are spooled (empty: the system's).
+	TempDir string
+}
+
+// Server serves the API. Make it with New; Close it after the HTTP
+// server has shut down.
+type Server struct {
+	owner *ledger.Ledger
+	opt   Options
+	log   *slog.Logger
+	mux   *http.ServeMux
+	reg   *prometheus.Registry
+
+	mu     sync.Mutex
+	people map[string]*ledger.Ledger
+
+	requests *prometheus.CounterVec
+	latency  *prometheus.HistogramVec
+	dives    prometheus.Counter
+	ingest   prometheus.Counter
+	badAuth  prometheus.Counter
+}
+
+// New makes the service over the owner's ledger (the connection the
+// service signs in with, which must be able to SET ROLE to each person).
+func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
+	if opt.PoolPerPerson < 1 {
+		opt.PoolPerPerson = 2
+	}
+	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{}}
+	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
+	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
+	s.dives = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_dives_logged_total", Help: "Dives logged through the service (duplicates not counted)."})
+	s.ingest = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_ingest_bytes_total", Help: "Bytes of dive files received."})
+	s.badAuth = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_auth_failures_total", Help: "Requests refused for a missing or invalid token."})
+	s.reg.MustRegister(s.requests, s.latency, s.dives, s.ingest, s.badAuth, collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
+
+	s.handle("GET /healthz", false, s.healthz)
+	s.handle("GET /readyz", false, s.readyz)
+	s.mux.Handle("GET /metrics", promhttp.HandlerFor(s.reg, promhttp.HandlerOpts{}))
+	s.handle("GET /api/v1/openapi.json", false, s.openapi)
+	for _, r := range apiRoutes(s) {
+		s.handle(r.pattern, true, r.h)
+	}
+	return s
+}
+
+// route is one authenticated API route.
+type route struct {
+	pattern string
+	h       handlerFunc
+}
+
+// apiRoutes are the authenticated routes; the OpenAPI document must
+// describe exactly these (TestOpenAPIDescribesEveryRoute).
+func apiRoutes(s *Server) []route {
+	return []route{
+		{"GET /api/v1/me", s.me},
+		{"GET /api/v1/fleet", s.fleet},
+		{"GET /api/v1/hulls/{serial}", s.hull},
+		{"GET /api/v1/hulls/{serial}/clearance", s.clearance},
+		{"POST /api/v1/hulls/{serial}/dives", s.logDive},
+		{"GET /api/v1/verify", s.verify},
+	}
+}
+
+// Handler is the service's HTTP handler.
+func (s *Server) Handler() http.Handler { return s.mux }
+
+// Close closes the people's connections.
+func (s *Server) Close() {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	for k, l := range s.people {
+		l.Close()
+		delete(s.people, k)
+	}
+}
+
+// handlerFunc handles a request as a person's ledger (nil for the routes
+// without a person) and returns the status and the JSON body, or an error.
+type handlerFunc func(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error)
+
+func (s *Server) handle(pattern string, auth bool, h handlerFunc) {
+	routeName := pattern
+	s.mux.HandleFunc(pattern, func(w http.ResponseWriter, r *http.Request) {
+		start := time.Now()
+		code := s.serve(w, r, auth, h)
+		s.requests.WithLabelValues(routeName, strconv.Itoa(code)).Inc()
+		s.latency.WithLabelValues(routeName).Observe(time.Since(start).Seconds())
+	})
+}
+
+// serve runs one request and writes its answer; it returns the status.
+func (s *Server) serve(w http.ResponseWriter, r *http.Request, auth bool, h handlerFunc) int {
+	var l *ledger.Ledger
+	person := ""
+	if auth {
+		var err error
+		person, l, err = s.authenticate(r)
+		if err != nil {
+			s.badAuth.Inc()
+			// Never the token itself, in the log or the answer.
+			s.log.Warn("refused: authentication", "remote", r.RemoteAddr, "route", r.Pattern, "reason", err.Error())
+			w.Header().Set("WWW-Authenticate", `Bearer realm="hulltally"`)
+			return writeJSON(w, http.StatusUnauthorized, errorDoc("unauthenticated", "a valid bearer token is required (hulltally token create)"))
+		}
+	}
+	code, body, err := h(w, r, l)
+	if err != nil {
+		code, body = s.errorAnswer(err, l)
+		level := slog.LevelInfo
+		if code >= 500 {
+			level = slog.LevelError
+		}
+		s.log.Log(r.Context(), level, "request failed", "route", r.Pattern, "person", person, "code", code, "error", err.Error())
+	}
+	if code == 0 {
+		return http.StatusOK // the handler wrote the answer itself
+	}
+	return writeJSON(w, code, body)
+}
+
+// authenticate finds the bearer token's person and their ledger.
+func (s *Server) authenticate(r *http.Request) (string, *ledger.Ledger, error) {
+	h := r.Header.Get("Authorization")
+	scheme, token, ok := strings.Cut(h, " ")
+	if !ok || !strings.EqualFold(scheme, "Bearer") || token == "" {
+		return "", nil, errors.New("no bearer token")
+	}
+	person, err := s.owner.Authenticate(r.Context(), strings.TrimSpace(token), time.Now().UTC())
+	if err != nil {
+		return "", nil, err
+	}
+	l, err := s.ledgerOf(r.Context(), person)
+	return person, l, err
+}
+
+// ledgerOf is the person's ledger, opened once.
+func (s *Server) ledgerOf(ctx context.Context, person string) (*ledger.Ledger, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	if l, ok := s.people[person]; ok {
+		return l, nil
+	}
+	l, err := s.owner.As(ctx, person, s.opt.PoolPerPerson)
+	if err != nil {
+		return nil, err
+	}
+	s.people[person] = l
+	return l, nil
+}
+
+// errorAnswer maps an error to a status and an error document: the same
+// classes as the command line's exit codes.
+func (s *Server) errorAnswer(err error, l *ledger.Ledger) (int, any) {
+	var ie *ledger.InputError
+	var tooBig *http.MaxBytesError
+	switch {
+	case ledger.IsNotPermitted(err):
+		id := ledger.Identity{}
+		if l != nil {
+			id = l.Identity()
+		}
+		return http.StatusForbidden, errorDoc("not_permitted", (&ledger.NotPermittedError{Identity: id, Err: err}).Error())
+	case errors.As(err, &tooBig):
+		return http.StatusRequestEntityTooLarge, errorDoc("input", fmt.Sprintf("the upload is larger than the limit of %d bytes; nothing was stored", tooBig.Limit))
+	case errors.Is(err, ledger.ErrUnknownHull):
+		return http.StatusNotFound, errorDoc("input", err.Error())
+	case errors.As(err, &ie):
+		return http.StatusUnprocessableEntity, errorDoc("input", err.Error())
+	case errors.Is(err, context.Canceled), errors.Is(err, context.DeadlineExceeded):
+		return http.StatusServiceUnavailable, errorDoc("failure", "the request was cancelled or timed out; nothing was stored")
+	}
+	return http.StatusInternalServerError, errorDoc("failure", "the service could not do it (see its log)")
+}
+
+func errorDoc(kind, msg string) map[string]any {
+	return map[string]any{"error": map[string]string{"kind": kind, "message": msg}}
+}
+
+func writeJSON(w http.ResponseWriter, code int, body any) int {
+	w.Header().Set("Content-Type", "application/json")
+	w.Header().Set("Cache-Control", "no-store")
+	w.WriteHeader(code)
+	_ = json.NewEncoder(w).Encode(body)
+	return code
+}
+
+func (s *Server) healthz(http.ResponseWriter, *http.Request, *ledger.Ledger) (int, any, error) {
+	return http.StatusOK, map[string]string{"status": "ok"}, nil
+}
+
+func (s *Server) readyz(_ http.ResponseWriter, r *http.Request, _ *ledger.Ledger) (int, any, error) {
+	ctx, cancel := context.WithTimeout(r.Context(), 2*time.Second)
+	defer cancel()
+	if err := s.owner.Pool().Ping(ctx); err != nil {
+		return http.StatusServiceUnavailable, map[string]string{"status": "database unavailable"}, nil
+	}
+	return http.StatusOK, map[string]string{"status": "ready"}, nil
+}
+
+func (s *Server) openapi(w http.ResponseWriter, _ *http.Request, _ *ledger.Ledger) (int, any, error) {
+	w.Header().Set("Content-Type", "application/json")
+	w.WriteHeader(http.StatusOK)
+	_, _ = w.Write(openAPI)
+	return 0, nil, nil
+}
+
+func (s *Server) me(_ http.ResponseWriter, _ *http.Request, l *ledger.Ledger) (int, any, error) {
+	return http.StatusOK, l.Identity(), nil
+}
+
+func (s *Server) fleet(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	rows, err := view.FleetRowsOf(r.Context(), l, time.Now().UTC())
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, map[string]any{"hulls": rows, "caution": reports.Caution}, nil
+}
+
+func (s *Server) hull(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	hv, err := view.HullOf(r.Context(), l, r.PathValue("serial"), time.Now().UTC())
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, map[string]any{"hull": hv, "caution": reports.Caution}, nil
+}
+
+func (s *Server) clearance(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	q := r.URL.Query()
+	depth, err := strconv.ParseFloat(q.Get("depth_m"), 64)
+	if err != nil {
+		return 0, nil, &ledger.InputError{Err: fmt.Errorf("depth_m: a planned depth in metres is required")}
+	}
+	bottom := 0.0
+	if v := q.Get("bottom_min"); v != "" {
+		if bottom, err = strconv.ParseFloat(v, 64); err != nil {
+			return 0, nil, &ledger.InputError{Err: fmt.Errorf("bottom_min %q: not a number", v)}
+		}
+	}
+	c, err := l.Clear(r.Context(), r.PathValue("serial"), depth, bottom, time.Now().UTC())
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, struct {
+		*ledger.Clearance
+		Caution string `json:"caution"`
+	}{c, reports.Caution}, nil
+}
+
+func (s *Server) verify(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	res, err := l.Verify(r.Context())
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, res, nil
+}
+
+// logDive takes a multipart upload (part "samples", optional part "hits",
+// fields lat, site, operator, start), spools the files to disk within
+// the size limit, and logs the dive as the person: all or nothing. A
+// dropped connection or a cancelled request stores nothing.
+func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	r.Body = http.MaxBytesReader(w, r.Body, s.opt.MaxUploadBytes)
+	mr, err := r.MultipartReader()
+	if err != nil {
+		return 0, nil, &ledger.InputError{Err: fmt.Errorf("a multipart/form-data upload with a part \"samples\" is expected: %w", err)}
+	}
+	dir, err := os.MkdirTemp(s.opt.TempDir, "hulltally-upload-")
+	if err != nil {
+		return 0, nil, err
+	}
+	defer os.RemoveAll(dir)
+	req := ledger.LogRequest{Hull: r.PathValue("serial")}
+	for {
+		p, err := mr.NextPart()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			return 0, nil, uploadErr(err)
+		}
+		name := p.FormName()
+		switch name {
+		case "samples", "hits":
+			base := filepath.Base(p.FileName())
+			if base == "." || base == "/" || base == "" {
+				base = name + ".csv"
+			}
+			sub := filepath.Join(dir, name)
+			if err := os.Mkdir(sub, 0o700); err != nil {
+				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
+			}
+			path := filepath.Join(sub, base)
+			f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+			if err != nil {
+				return 0, nil, err
+			}
+			n, err := io.Copy(f, p)
+			s.ingest.Add(float64(n))
+			if cerr := f.Close(); err == nil {
+				err = cerr
+			}
+			if err != nil {
+				return 0, nil, uploadErr(err)
+			}
+			if name == "samples" {
+				req.Samples = path
+			} else {
+				req.AE = path
+			}
+		case "lat", "site", "operator", "start":
+			v, err := io.ReadAll(io.LimitReader(p, 1024))
+			if err != nil {
+				return 0, nil, uploadErr(err)
+			}
+			if err := setField(&req, name, strings.TrimSpace(string(v))); err != nil {
+				return 0, nil, err
+			}
+		default:
+			return 0, nil, &ledger.InputError{Err: fmt.Errorf("unknown part %q (samples, hits, lat, site, operator, start)", name)}
+		}
+	}
+	if req.Samples == "" {
+		return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
+	}
+	d, err := l.LogDive(r.Context(), req)
+	if err != nil {
+		return 0, nil, err
+	}
+	code := http.StatusCreated
+	if d.Duplicate {
+		code = http.StatusOK
+	} else {
+		s.dives.Inc()
+	}
+	return code, d, nil
+}
+
+// uploadErr is an error reading the upload: too large, cut off, or
+// malformed.
+func uploadErr(err error) error {
+	var tooBig *http.MaxBytesError
+	if errors.As(err, &tooBig) {
+		return err
+	}
+	return &ledger.InputError{Err: fmt.Errorf("reading the upload: %w; nothing was stored", err)}
+}
+
+func setField(req *ledger.LogRequest, name, v string) error {
+	switch name {
+	case "lat":
+		f, err := strconv.ParseFloat(v, 64)
+		if err != nil {
+			return &ledger.InputError{Err: fmt.Errorf("lat %q: not a number", v)}
+		}
+		req.Latitude = &f
+	case "site":
+		req.Site = v
+	case "operator":
+		req.Operator = v
+	case "start":
+		t, err := time.Parse(time.RFC3339Nano, v)
+		if err != nil {
+			return &ledger.InputError{Err: fmt.Errorf("start %q: an RFC 3339 time", v)}
+		}
+		req.Start = &t
+	}
+	return nil
+}

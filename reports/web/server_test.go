@@ -1,0 +1,314 @@
+package web
+
+import (
+	"bytes"
+	"context"
+	"encoding/json"
+	"fmt"
+	"io"
+	"log/slog"
+	"mime/multipart"
+	"net"
+	"net/http"
+	"net/http/httptest"
+	"os"
+	"slices"
+	"strings"
+	"testing"
+	"time"
+
+	"github.com/getkin/kin-openapi/openapi3"
+
+	"hulltally/ledger"
+	"hulltally/ledger/ledgertest"
+	"hulltally/ledger/spec"
+)
+
+var srv *ledgertest.Server
+
+func TestMain(m *testing.M) { os.Exit(ledgertest.Main(m, &srv)) }
+
+// TestOpenAPIDescribesEveryRoute: the OpenAPI document is valid OpenAPI 3
+// (kin-openapi's validator) and describes exactly the routes served under
+// /api/v1, method by method: no route undocumented, none documented that
+// is not served.
+func TestOpenAPIDescribesEveryRoute(t *testing.T) {
+	doc, err := openapi3.NewLoader().LoadFromData(openAPI)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := doc.Validate(context.Background()); err != nil {
+		t.Fatalf("openapi.json is not valid OpenAPI 3: %v", err)
+	}
+	var documented []string
+	for path, item := range doc.Paths.Map() {
+		for method := range item.Operations() {
+			documented = append(documented, method+" "+path)
+		}
+	}
+	served := []string{"GET /api/v1/openapi.json"}
+	for _, r := range apiRoutes(&Server{}) {
+		served = append(served, r.pattern)
+	}
+	slices.Sort(documented)
+	slices.Sort(served)
+	if !slices.Equal(documented, served) {
+		t.Fatalf("documented %v\nserved     %v", documented, served)
+	}
+}
+
+// fixture is a ledger with one hull, its owner's service on loopback, and
+// a token per role.
+type fixture struct {
+	t      *testing.T
+	owner  *ledger.Ledger
+	svc    *Server
+	http   *httptest.Server
+	tokens map[ledger.Role]*ledger.Token
+	names  map[ledger.Role]string
+}
+
+const serial = "EX-C4000-01"
+
+func newFixture(t *testing.T, maxUpload int64) *fixture {
+	t.Helper()
+	ctx := context.Background()
+	owner := srv.Open(t)
+	data, err := os.ReadFile("../../testdata/hulls/example-cylinder.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	h, err := spec.Parse(data)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := owner.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+		t.Fatal(err)
+	}
+	f := &fixture{t: t, owner: owner, tokens: map[ledger.Role]*ledger.Token{}, names: map[ledger.Role]string{}}
+	for _, r := range []ledger.Role{ledger.RoleInspector, ledger.RoleOperator, ledger.RoleMaintenance} {
+		name := fmt.Sprintf("w-%s-%d", r, time.Now().UnixNano()%1e9)
+		if _, err := owner.AddPerson(ctx, name, r, ""); err != nil {
+			t.Fatal(err)
+		}
+		tok, err := owner.CreateToken(ctx, name, 1, "test")
+		if err != nil {
+			t.Fatal(err)
+		}
+		f.tokens[r], f.names[r] = tok, name
+	}
+	f.svc = New(owner, Options{MaxUploadBytes: maxUpload}, slog.New(slog.NewTextHandler(io.Discard, nil)))
+	f.http = httptest.NewServer(f.svc.Handler())
+	t.Cleanup(func() {
+		f.http.Close()
+		f.svc.Close()
+		for _, n := range f.names {
+			_, _ = owner.Pool().Exec(context.Background(), `DROP ROLE IF EXISTS "`+n+`"`)
+		}
+	})
+	return f
+}
+
+// do sends a request with the role's token (none for "") and decodes the
+// JSON answer.
+func (f *fixture) do(role ledger.Role, method, path string, body io.Reader, ctype string) (int, map[string]any) {
+	f.t.Helper()
+	req, err := http.NewRequest(method, f.http.URL+path, body)
+	if err != nil {
+		f.t.Fatal(err)
+	}
+	if ctype != "" {
+		req.Header.Set("Content-Type", ctype)
+	}
+	if tok, ok := f.tokens[role]; ok {
+		req.Header.Set("Authorization", "Bearer "+tok.Secret)
+	}
+	res, err := http.DefaultClient.Do(req)
+	if err != nil {
+		f.t.Fatal(err)
+	}
+	defer res.Body.Close()
+	var doc map[string]any
+	b, _ := io.ReadAll(res.Body)
+	_ = json.Unmarshal(b, &doc)
+	return res.StatusCode, doc
+}
+
+func (f *fixture) dives() int64 {
+	f.t.Helper()
+	var n int64
+	if err := f.owner.Pool().QueryRow(context.Background(), "SELECT count(*) FROM dives").Scan(&n); err != nil {
+		f.t.Fatal(err)
+	}
+	return n
+}
+
+const diveCSV = `time,depth_m,strain_hoop1_ue,temp_c
+2026-05-01T08:00:00Z,0.0,0.0,12.0
+2026-05-01T08:00:01Z,20.0,-120.5,11.9
+2026-05-01T08:00:02Z,50.0,-301.25,11.5
+2026-05-01T08:00:03Z,50.5,-303.0,11.4
+2026-05-01T08:00:04Z,30.0,-180.0,11.6
+2026-05-01T08:00:05Z,0.3,-1.5,11.9
+`
+
+func upload(t *testing.T, samples string) (*bytes.Buffer, string) {
+	t.Helper()
+	var b bytes.Buffer
+	mw := multipart.NewWriter(&b)
+	w, err := mw.CreateFormFile("samples", "d.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	io.WriteString(w, samples)
+	mw.WriteField("lat", "45")
+	mw.Close()
+	return &b, mw.FormDataContentType()
+}
+
+// TestServiceRunsAsThePerson: the service answers as the token's person,
+// and the database decides. The adversarial cases: no token, a made-up
+// token, an inspector's upload (403, nothing stored), an upload over the
+// limit (413, nothing stored), a revoked token, an expired token, the
+// token of a disabled person, and an upload cut off mid-way (nothing
+// stored).
+func TestServiceRunsAsThePerson(t *testing.T) {
+	f := newFixture(t, 64<<10)
+	ctx := context.Background()
+
+	if code, _ := f.do("", "GET", "/healthz", nil, ""); code != 200 {
+		t.Fatalf("healthz %d", code)
+	}
+	if code, _ := f.do("", "GET", "/readyz", nil, ""); code != 200 {
+		t.Fatalf("readyz %d", code)
+	}
+	if code, doc := f.do("", "GET", "/api/v1/fleet", nil, ""); code != 401 || doc["error"] == nil {
+		t.Fatalf("fleet without a token: %d %v", code, doc)
+	}
+	f.tokens["forged"] = &ledger.Token{Secret: "htk_" + strings.Repeat("A", 43)}
+	if code, _ := f.do("forged", "GET", "/api/v1/fleet", nil, ""); code != 401 {
+		t.Fatalf("fleet with a made-up token: %d", code)
+	}
+
+	code, me := f.do(ledger.RoleOperator, "GET", "/api/v1/me", nil, "")
+	if code != 200 || me["name"] != f.names[ledger.RoleOperator] || me["role"] != "operator" || me["owner"] != false {
+		t.Fatalf("me as the operator: %d %v", code, me)
+	}
+
+	before := f.dives()
+	body, ct := upload(t, diveCSV)
+	code, doc := f.do(ledger.RoleInspector, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct)
+	if code != 403 || !strings.Contains(fmt.Sprint(doc["error"]), "not_permitted") || f.dives() != before {
+		t.Fatalf("an inspector's upload: %d %v, dives %d → %d", code, doc, before, f.dives())
+	}
+	body, ct = upload(t, diveCSV)
+	code, doc = f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct)
+	if code != 201 || doc["dive_id"] == nil || f.dives() != before+1 {
+		t.Fatalf("the operator's upload: %d %v", code, doc)
+	}
+	body, ct = upload(t, diveCSV)
+	if code, doc = f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct); code != 200 || doc["duplicate"] != true {
+		t.Fatalf("the same upload again: %d %v", code, doc)
+	}
+	big := diveCSV + strings.Repeat("# padding to pass the upload limit\n", 4000)
+	body, ct = upload(t, big)
+	if code, doc = f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct); code != 413 || f.dives() != before+1 {
+		t.Fatalf("an upload over the limit: %d %v", code, doc)
+	}
+
+	for _, path := range []string{"/api/v1/fleet", "/api/v1/hulls/" + serial, "/api/v1/verify"} {
+		if code, doc := f.do(ledger.RoleInspector, "GET", path, nil, ""); code != 200 {
+			t.Fatalf("GET %s as the inspector: %d %v", path, code, doc)
+		}
+	}
+	code, doc = f.do(ledger.RoleInspector, "GET", "/api/v1/hulls/"+serial+"/clearance?depth_m=100&bottom_min=30", nil, "")
+	if code != 200 || doc["go"] == nil || !strings.Contains(fmt.Sprint(doc["caution"]), "classification society") {
+		t.Fatalf("clearance: %d %v", code, doc)
+	}
+	if code, _ = f.do(ledger.RoleInspector, "GET", "/api/v1/hulls/NOPE-1", nil, ""); code != 404 {
+		t.Fatalf("an unknown hull: %d", code)
+	}
+
+	// A cut-off upload: the headers promise more than is sent, then the
+	// connection drops. Nothing is stored.
+	cutOff(t, f, f.tokens[ledger.RoleMaintenance].Secret)
+	if f.dives() != before+1 {
+		t.Fatalf("a cut-off upload stored a dive")
+	}
+
+	// Revoked, expired, disabled: refused.
+	if err := f.owner.RevokeToken(ctx, f.tokens[ledger.RoleOperator].ID); err != nil {
+		t.Fatal(err)
+	}
+	if code, _ := f.do(ledger.RoleOperator, "GET", "/api/v1/fleet", nil, ""); code != 401 {
+		t.Fatalf("a revoked token: %d", code)
+	}
+	if _, err := f.owner.Pool().Exec(ctx, "UPDATE api_tokens SET created_at = now() - interval '2 days', expires_at = now() - interval '1 second' WHERE id = $1", f.tokens[ledger.RoleInspector].ID); err != nil {
+		t.Fatal(err)
+	}
+	if code, _ := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, ""); code != 401 {
+		t.Fatalf("an expired token: %d", code)
+	}
+	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 200 {
+		t.Fatalf("maintenance before being disabled: %d", code)
+	}
+	if err := f.owner.DisablePerson(ctx, f.names[ledger.RoleMaintenance]); err != nil {
+		t.Fatal(err)
+	}
+	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 401 {
+		t.Fatalf("a disabled person's token: %d", code)
+	}
+
+	res, err := http.Get(f.http.URL + "/metrics")
+	if err != nil {
+		t.Fatal(err)
+	}
+	m, _ := io.ReadAll(res.Body)
+	res.Body.Close()
+	for _, want := range []string{"hulltally_http_requests_total", "hulltally_dives_logged_total 1", "hulltally_auth_failures_total"} {
+		if !strings.Contains(string(m), want) {
+			t.Fatalf("metrics lack %q", want)
+		}
+	}
+	if strings.Contains(string(m), "htk_") {
+		t.Fatal("a token in the metrics")
+	}
+}
+
+// cutOff sends an upload whose body stops half-way and closes the
+// connection, then waits until the service has answered for it.
+func cutOff(t *testing.T, f *fixture, token string) {
+	t.Helper()
+	count := func() int {
+		res, err := http.Get(f.http.URL + "/metrics")
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer res.Body.Close()
+		b, _ := io.ReadAll(res.Body)
+		n := 0
+		for _, line := range strings.Split(string(b), "\n") {
+			if strings.HasPrefix(line, `hulltally_http_requests_total{code=`) && strings.Contains(line, `POST /api/v1/hulls/{serial}/dives`) {
+				var v int
+				fmt.Sscan(line[strings.LastIndexByte(line, ' ')+1:], &v)
+				n += v
+			}
+		}
+		return n
+	}
+	seen := count()
+	body, ct := upload(t, diveCSV)
+	conn, err := net.Dial("tcp", strings.TrimPrefix(f.http.URL, "http://"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	fmt.Fprintf(conn, "POST /api/v1/hulls/%s/dives HTTP/1.1\r\nHost: x\r\nAuthorization: Bearer %s\r\nContent-Type: %s\r\nContent-Length: %d\r\n\r\n", serial, token, ct, body.Len())
+	conn.Write(body.Bytes()[:body.Len()/2])
+	conn.Close()
+	for deadline := time.Now().Add(10 * time.Second); count() == seen; {
+		if time.Now().After(deadline) {
+			t.Fatal("the service never answered the cut-off upload")
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+}
