@@ -212,7 +212,7 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 					return fmt.Errorf("assess: %w", err)
 				}
 				rows, err := tx.Query(rctx, `SELECT d.hull_id, d.id, d.start_time, c.ranges, c.means, c.counts, coalesce(h.levels, '{}'), coalesce(h.seconds, '{}')
-					FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0
+					FROM dives d LEFT JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0
 					LEFT JOIN dive_holds h ON h.hull_id = d.hull_id AND h.dive_id = d.id
 					WHERE d.hull_id = ANY($1) AND `+notVoided, ids[lo:hi])
 				if err != nil {
@@ -223,6 +223,13 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 					if err := rows.Scan(&hullID, &it.id, &it.start, &rg, &mn, &ct, &lv, &sec); err != nil {
 						rows.Close()
 						return err
+					}
+					if rg == nil {
+						// Counted before (hullsMissingCounts), so a dive
+						// without a first part has lost it: refused, never
+						// assessed without its cycles.
+						rows.Close()
+						return fmt.Errorf("assess: dive %s has no first part of counted pressure cycles (run hulltally verify); nothing was assessed", it.id)
 					}
 					it.hull = byID[hullID]
 					it.dive.PressureCycles = append(joinCyclesInto(nil, rg, mn, ct), later[it.id]...)

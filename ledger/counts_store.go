@@ -3,6 +3,7 @@ package ledger
 import (
 	"bytes"
 	"context"
+	"errors"
 	"fmt"
 	"io"
 	"sort"
@@ -293,4 +294,21 @@ func laterPressureParts(ctx context.Context, q querier, hulls any, dives []uuid.
 		return nil, fmt.Errorf("reading the later parts of long dives' pressure cycles: %w", err)
 	}
 	return out, nil
+}
+
+// checkPressureParts fails if any dive of the hull has its pressure cycles
+// in parts that are not numbered 0, 1, 2, ... without a gap or repeat:
+// readers that sum over every part (cycles used toward the qualification,
+// the load histogram) must not sum fewer than the dive counted.
+func checkPressureParts(ctx context.Context, q querier, hull uuid.UUID) error {
+	var dive uuid.UUID
+	err := q.QueryRow(ctx, `SELECT dive_id FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'
+		GROUP BY dive_id HAVING min(chunk) <> 0 OR max(chunk) <> count(*) - 1 LIMIT 1`, hull).Scan(&dive)
+	if errors.Is(err, pgx.ErrNoRows) {
+		return nil
+	}
+	if err != nil {
+		return fmt.Errorf("checking the parts of the counted pressure cycles: %w", err)
+	}
+	return fmt.Errorf("dive %s: its counted pressure cycles have a part missing or repeated (run hulltally verify); nothing is summed from them", dive)
 }

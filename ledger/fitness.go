@@ -284,6 +284,9 @@ func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, erro
 	// unnest, not c.ranges[i] over generate_subscripts: a subscript
 	// de-TOASTs the whole array each time, which made this quadratic in a
 	// dive's cycles (1.3 s for one 10 h dive with sensor noise).
+	if err := checkPressureParts(ctx, l.db, h.ID); err != nil {
+		return 0, err
+	}
 	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0) FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id,
 		unnest(c.ranges, c.counts) AS u(rng, cnt)
 		WHERE c.hull_id = $1 AND c.series = 'pressure' AND u.rng >= $2 AND `+notVoided, h.ID, min).Scan(&n)
@@ -503,7 +506,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		return math.Inf(1), "", inputErr(err)
 	}
 	rows, err := l.db.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
-		FROM dives d JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0 LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
+		FROM dives d LEFT JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0 LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
 		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {
 		return 0, "", err
@@ -516,6 +519,11 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 		var rg, mn, ct, lv, sec []float64
 		if err := rows.Scan(&id, &peak, &rg, &mn, &ct, &lv, &sec); err != nil {
 			return 0, "", err
+		}
+		if rg == nil {
+			// A recent dive without its first part of counted cycles is
+			// not left out of the prediction: it is refused.
+			return 0, "", fmt.Errorf("dive %s has no counted pressure cycles (count them with hulltally assess; if they were counted, their first part is missing: run hulltally verify): no prediction is made without it", id)
 		}
 		r := plan.Recent{ID: id.String(), PeakMPa: peak, Cycles: joinCycles(rg, mn, ct)}
 		for i := range lv {

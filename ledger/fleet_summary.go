@@ -273,8 +273,14 @@ func (l *Ledger) noteFitness(ctx context.Context, e *evaluation) error {
 		// The hull's summary row first, then its chain: the order of every
 		// write (its inserts take the row away through the trigger, then it
 		// appends to the chain), so that the two never wait on each other.
-		if _, err := tx.Exec(ctx, "SELECT 1 FROM fleet_summary WHERE hull_id = $1 FOR UPDATE", h.ID); err != nil {
-			return fmt.Errorf("fleet summary of %s: locking it: %w", h.Serial, err)
+		// Only the owner writes the summary (migration 014): a person's
+		// write notes the status and leaves the row away, and the hull is
+		// evaluated from the ledger when read until the owner rebuilds.
+		owner := l.identity.Owner
+		if owner {
+			if _, err := tx.Exec(ctx, "SELECT 1 FROM fleet_summary WHERE hull_id = $1 FOR UPDATE", h.ID); err != nil {
+				return fmt.Errorf("fleet summary of %s: locking it: %w", h.Serial, err)
+			}
 		}
 		if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock($1, hashtext($2))", lockChain, h.ID.String()); err != nil {
 			return fmt.Errorf("status of %s: locking the chain: %w", h.Serial, err)
@@ -304,6 +310,9 @@ func (l *Ledger) noteFitness(ctx context.Context, e *evaluation) error {
 				return err
 			}
 			curSeq++
+		}
+		if !owner {
+			return nil
 		}
 		_, err = tx.Exec(ctx, `INSERT INTO fleet_summary (hull_id, chain_seq, chain_hash, basis, evaluated_at, stable_until, status, summary_json)
 			VALUES ($1,$2,$3,$4,$5,$6,$7,$8)

@@ -55,6 +55,7 @@ func TestLongDiveInParts(t *testing.T) {
 		{"a part removed", "DELETE FROM dive_cycles WHERE series = 'pressure' AND chunk = 1"},
 		{"the last part renumbered", "UPDATE dive_cycles SET chunk = chunk + 1 WHERE series = 'pressure' AND chunk = (SELECT max(chunk) FROM dive_cycles WHERE series = 'pressure')"},
 		{"a part with another gate", "UPDATE dive_cycles SET gate = 1 WHERE series = 'pressure' AND chunk = 1"},
+		{"the first part renumbered", "UPDATE dive_cycles SET chunk = 100 WHERE series = 'pressure' AND chunk = 0"},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			l := newLedger(t, 4096)

@@ -180,17 +180,16 @@ func (l *Ledger) AddPerson(ctx context.Context, name string, role Role, password
 	if err != nil {
 		return nil, err
 	}
-	attrs := "LOGIN NOSUPERUSER NOCREATEDB NOREPLICATION NOBYPASSRLS NOINHERIT"
-	if role == RoleAdmin {
-		attrs += " CREATEROLE"
-	}
-	// INHERIT off above, then on: a person acts through the one group.
-	sql := fmt.Sprintf("CREATE ROLE %s %s PASSWORD %s IN ROLE %s", pgx.Identifier{name}.Sanitize(), strings.Replace(attrs, " NOINHERIT", " INHERIT", 1),
-		quoteLiteral(verifier), pgx.Identifier{role.group()}.Sanitize())
-	if _, err := l.pool.Exec(ctx, sql); err != nil {
+	// Through the owner's function (migration 014): people never hold
+	// CREATEROLE, and the function makes nothing but a login role in one
+	// of the groups.
+	if _, err := l.pool.Exec(ctx, "SELECT hulltally_add_person($1, $2, $3)", name, role.group(), verifier); err != nil {
 		var pe *pgconn.PgError
-		if errors.As(err, &pe) && pe.Code == "42710" {
+		switch {
+		case errors.As(err, &pe) && pe.Code == "42710":
 			return nil, inputErr(fmt.Errorf("person %s: the name is taken on this database server", name))
+		case errors.As(err, &pe) && pe.Code == "22023":
+			return nil, inputErr(fmt.Errorf("person %s: %s", name, pe.Message))
 		}
 		return nil, l.NotPermitted(fmt.Errorf("adding person %s: %w", name, err))
 	}
@@ -242,11 +241,10 @@ func (l *Ledger) DisablePerson(ctx context.Context, name string) error {
 	if !slices.ContainsFunc(people, func(p Person) bool { return p.Name == name }) {
 		return inputErr(fmt.Errorf("no person %q (hulltally person list)", name))
 	}
-	if _, err := l.pool.Exec(ctx, "ALTER ROLE "+pgx.Identifier{name}.Sanitize()+" NOLOGIN"); err != nil {
+	// Through the owner's function (migration 014): NOLOGIN and the
+	// person's sessions ended, both or neither.
+	if _, err := l.pool.Exec(ctx, "SELECT hulltally_disable_person($1)", name); err != nil {
 		return l.NotPermitted(fmt.Errorf("disabling person %s: %w", name, err))
-	}
-	if _, err := l.pool.Exec(ctx, "SELECT pg_terminate_backend(pid) FROM pg_stat_activity WHERE usename = $1", name); err != nil {
-		return l.NotPermitted(fmt.Errorf("ending the sessions of %s: %w", name, err))
 	}
 	return nil
 }
@@ -258,5 +256,3 @@ func groups() []string {
 	}
 	return out
 }
-
-func quoteLiteral(s string) string { return "'" + strings.ReplaceAll(s, "'", "''") + "'" }

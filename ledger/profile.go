@@ -50,6 +50,9 @@ func (l *Ledger) HullCycles(ctx context.Context, hull uuid.UUID) (ranges, counts
 	// In dive order: the report's fingerprint covers these lists, so their
 	// order must not follow the table's physical order (which a migration,
 	// VACUUM FULL or CLUSTER changes).
+	if err := checkPressureParts(ctx, l.db, hull); err != nil {
+		return nil, nil, err
+	}
 	rows, err := l.db.Query(ctx, `SELECT c.ranges, c.counts FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id
 		WHERE c.hull_id = $1 AND c.series = 'pressure' ORDER BY d.start_time, d.id, c.chunk`, hull)
 	if err != nil {

@@ -181,3 +181,78 @@ func TestRolesTheDatabaseEnforces(t *testing.T) {
 		t.Fatalf("verify after every role: %v %+v", err, res.FirstBroken)
 	}
 }
+
+// TestRolesResistRawSQL: what a person with a database login could try
+// with raw SQL, each found by review of migration 012 and closed by 014:
+// an admin granting itself a group or a server privilege, or changing
+// another person's password; a person acting as their group (records
+// naming no one); shadowing a function the triggers call; an operator
+// writing the fleet summary, a re-assessment, damage rows for an earlier
+// dive, evidence outside a dive's logging, or a correction of another
+// field. Every one must be refused by the database.
+func TestRolesResistRawSQL(t *testing.T) {
+	ctx := context.Background()
+	cfg := testConfig(t)
+	owner, err := ledger.Open(ctx, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer owner.Close()
+	addExampleHull(t, owner)
+	d, err := owner.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := owner.RebuildFleetSummary(ctx, time.Now().UTC(), 0); err != nil {
+		t.Fatal(err)
+	}
+	admin, _ := asPerson(t, owner, cfg.Database.URL, ledger.RoleAdmin)
+	op, opName := asPerson(t, owner, cfg.Database.URL, ledger.RoleOperator)
+	mt, _ := asPerson(t, owner, cfg.Database.URL, ledger.RoleMaintenance)
+
+	refused := func(who *ledger.Ledger, what, sql string, args ...any) {
+		t.Helper()
+		_, err := who.Pool().Exec(ctx, sql, args...)
+		if !ledger.IsNotPermitted(err) {
+			t.Fatalf("%s: %v, want refused by the database (42501)", what, err)
+		}
+	}
+	refused(admin, "an admin granting itself maintenance", `GRANT hulltally_maintenance TO CURRENT_USER`)
+	refused(admin, "an admin granting itself pg_execute_server_program", `GRANT pg_execute_server_program TO CURRENT_USER`)
+	refused(admin, "an admin changing an operator's password", `ALTER ROLE `+pgx.Identifier{opName}.Sanitize()+` PASSWORD 'x'`)
+	refused(admin, "an admin making a role by itself", `CREATE ROLE x_made_by_admin LOGIN`)
+	refused(mt, "an inspection as the maintenance group", `SET ROLE hulltally_maintenance; INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
+		SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'hulltally_maintenance', now() FROM hulls LIMIT 1`)
+	refused(op, "a person creating a function in the schema", `CREATE FUNCTION public.pg_has_role(name, oid, text) RETURNS boolean LANGUAGE sql AS 'SELECT true'`)
+	refused(op, "an operator writing the fleet summary", `UPDATE fleet_summary SET status = 'fit'`)
+	refused(op, "an operator deleting the fleet summary", `DELETE FROM fleet_summary`)
+	refused(op, "an operator's re-assessment", `INSERT INTO assessments (id, hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at)
+		SELECT gen_random_uuid(), id, 1, 'reassess', decode(repeat('00', 32), 'hex'), '{}', 'forged', $1, now() FROM hulls LIMIT 1`, opName)
+	refused(op, "an operator's damage rows for an earlier dive", `WITH a AS (INSERT INTO assessments (id, hull_id, hull_revision, kind, config_hash, config_json, reason, actor, recorded_at)
+			SELECT gen_random_uuid(), id, 1, 'dive', decode(repeat('00', 32), 'hex'), '{}', 'forged', $1, now() FROM hulls LIMIT 1 RETURNING id, hull_id)
+		INSERT INTO assessment_damage (assessment_id, hull_id, component, basis, factor, curve, rupture_curve, dive_ids, cyclic, sustained)
+		SELECT a.id, a.hull_id, 'laminate', 'lame', -6.5, 'c', '', ARRAY[$2::uuid], ARRAY[0.0], ARRAY[0.0] FROM a`, opName, d.ID)
+	refused(op, "an operator's evidence revision outside a dive's logging", `INSERT INTO evidence_revisions (dive_id, hull_id, evidence_json, reason, cause, recorded_at)
+		SELECT dive_id, hull_id, evidence_json, 'forged', 'forged', now() FROM dive_evidence LIMIT 1`)
+	refused(op, "an operator's correction of another field", `INSERT INTO corrections (id, hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at)
+		SELECT gen_random_uuid(), hull_id, 'dive', id::text, 'latitude', '0', 'forged', $1, now() FROM dives LIMIT 1`, opName)
+
+	// The summary the owner wrote is still read, and still says hold or
+	// whatever the ledger says: a person's write only removes it.
+	before, err := owner.Fleet(ctx, time.Now().UTC())
+	if err != nil || len(before) != 1 {
+		t.Fatalf("fleet: %v %d", err, len(before))
+	}
+	day := strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-02")
+	if _, err := op.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d2.csv", day)}); err != nil {
+		t.Fatalf("the operator's own dive: %v", err)
+	}
+	var rows int
+	if err := owner.Pool().QueryRow(ctx, "SELECT count(*) FROM fleet_summary").Scan(&rows); err != nil || rows != 0 {
+		t.Fatalf("after a person's dive the summary holds %d rows (%v), want the hull's row removed", rows, err)
+	}
+	after, err := op.Fleet(ctx, time.Now().UTC())
+	if err != nil || len(after) != 1 || after[0].Derived {
+		t.Fatalf("the fleet after a person's dive: %v %+v, want the hull evaluated from the ledger", err, after)
+	}
+}

@@ -18,16 +18,22 @@
 
 ALTER TABLE reading_blocks ALTER COLUMN data SET STORAGE EXTERNAL;
 
+-- SET COMPRESSION is PostgreSQL 14's: on 13 the statements are not even
+-- parsed (EXECUTE), and pglz stays.
 DO $$
 BEGIN
-    ALTER TABLE dive_cycles
+    IF current_setting('server_version_num')::int < 140000 THEN
+        RAISE NOTICE 'PostgreSQL 13 has no lz4 column compression: counted cycles and profiles keep pglz';
+        RETURN;
+    END IF;
+    EXECUTE 'ALTER TABLE dive_cycles
         ALTER COLUMN ranges SET COMPRESSION lz4,
         ALTER COLUMN means  SET COMPRESSION lz4,
-        ALTER COLUMN counts SET COMPRESSION lz4;
-    ALTER TABLE dive_profiles
+        ALTER COLUMN counts SET COMPRESSION lz4';
+    EXECUTE 'ALTER TABLE dive_profiles
         ALTER COLUMN time_s       SET COMPRESSION lz4,
         ALTER COLUMN pressure_mpa SET COMPRESSION lz4,
-        ALTER COLUMN strain_ue    SET COMPRESSION lz4;
+        ALTER COLUMN strain_ue    SET COMPRESSION lz4';
 EXCEPTION WHEN feature_not_supported THEN
     RAISE NOTICE 'lz4 compression is not available on this server: counted cycles and profiles keep pglz (%)', SQLERRM;
 END

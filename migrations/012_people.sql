@@ -26,6 +26,11 @@ DO $$
 DECLARE
     r text;
 BEGIN
+    IF (SELECT count(*) FROM pg_roles WHERE rolname LIKE 'hulltally\_%') < 4
+       AND NOT (SELECT rolcreaterole OR rolsuper FROM pg_roles WHERE rolname = current_user) THEN
+        RAISE EXCEPTION 'migration 012 makes the hulltally group roles, which needs CREATEROLE: run it once as a role that has it (ALTER ROLE % CREATEROLE), or have an administrator create hulltally_inspector, hulltally_operator, hulltally_maintenance and hulltally_admin (NOLOGIN)', current_user
+            USING ERRCODE = 'insufficient_privilege';
+    END IF;
     FOREACH r IN ARRAY ARRAY['hulltally_inspector', 'hulltally_operator', 'hulltally_maintenance', 'hulltally_admin'] LOOP
         IF NOT EXISTS (SELECT 1 FROM pg_roles WHERE rolname = r) THEN
             BEGIN

@@ -7,6 +7,7 @@ package main
 import (
 	"context"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -80,7 +81,8 @@ func jsonRequested(args []string) bool {
 // document on standard output) and sets the exit code from its class.
 func (a *app) fail(cmd *cobra.Command, err error) {
 	kind, code := classify(err)
-	if kind == kindNotPermitted {
+	var already *ledger.NotPermittedError
+	if kind == kindNotPermitted && !errors.As(err, &already) {
 		err = &ledger.NotPermittedError{Identity: a.identity, Err: err}
 	}
 	dbURL := ""

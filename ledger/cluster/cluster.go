@@ -185,16 +185,26 @@ func (c *Cluster) ensureSecret() (string, error) {
 		return "", err
 	}
 	s := base64.RawURLEncoding.EncodeToString(b)
-	f, err := os.OpenFile(c.SecretFile(), os.O_CREATE|os.O_EXCL|os.O_WRONLY|syscall.O_NOFOLLOW, 0o600)
+	// Written whole to a temporary name, then linked to its own name, which
+	// fails if that exists: a crash leaves no empty or partial secret.
+	tmp := c.SecretFile() + ".new-" + base64.RawURLEncoding.EncodeToString(b[:6])
+	f, err := os.OpenFile(tmp, os.O_CREATE|os.O_EXCL|os.O_WRONLY|syscall.O_NOFOLLOW, 0o600)
 	if err != nil {
 		return "", fmt.Errorf("writing the managed cluster's secret %s: %w", c.SecretFile(), err)
 	}
-	if _, err := f.WriteString(s + "\n"); err != nil {
-		f.Close()
-		return "", err
+	defer os.Remove(tmp)
+	_, err = f.WriteString(s + "\n")
+	if err == nil {
+		err = f.Sync()
 	}
-	if err := f.Close(); err != nil {
-		return "", err
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err == nil {
+		err = os.Link(tmp, c.SecretFile())
+	}
+	if err != nil {
+		return "", fmt.Errorf("writing the managed cluster's secret %s: %w", c.SecretFile(), err)
 	}
 	return s, nil
 }
@@ -523,35 +533,46 @@ func appendConf(path, text string) error {
 	return f.Close()
 }
 
-// writeConf replaces the contents of a configuration file initdb made,
-// with the care of appendConf: never through a symbolic link, only a
-// regular file with one link.
+// writeConf replaces a configuration file initdb made, with the care of
+// appendConf (never through a symbolic link, only a regular file with one
+// link), atomically: the new text is written to a temporary file in the
+// same folder, given the old file's owner and mode, and renamed over it,
+// so that a crash leaves the old file or the new, never an empty one.
 func writeConf(path, text string) error {
-	f, err := os.OpenFile(path, os.O_WRONLY|syscall.O_NOFOLLOW|syscall.O_NONBLOCK|syscall.O_NOCTTY, 0)
-	if err != nil {
-		if errors.Is(err, syscall.ELOOP) {
-			return fmt.Errorf("%s is a symbolic link: refused", path)
-		}
-		return err
-	}
-	defer f.Close()
-	st, err := f.Stat()
+	st, err := os.Lstat(path)
 	if err != nil {
 		return err
 	}
 	if !st.Mode().IsRegular() {
 		return fmt.Errorf("%s is not a regular file (mode %v): refused", path, st.Mode())
 	}
-	if sys, ok := st.Sys().(*syscall.Stat_t); ok && sys.Nlink != 1 {
+	sys, ok := st.Sys().(*syscall.Stat_t)
+	if ok && sys.Nlink != 1 {
 		return fmt.Errorf("%s has %d hard links: refused", path, sys.Nlink)
 	}
-	if err := f.Truncate(0); err != nil {
+	f, err := os.CreateTemp(filepath.Dir(path), ".hulltally-conf-*")
+	if err != nil {
 		return err
 	}
-	if _, err := f.WriteAt([]byte(text), 0); err != nil {
+	tmp := f.Name()
+	defer os.Remove(tmp)
+	_, err = f.WriteString(text)
+	if err == nil {
+		err = f.Chmod(st.Mode().Perm())
+	}
+	if err == nil && ok {
+		err = f.Chown(int(sys.Uid), int(sys.Gid))
+	}
+	if err == nil {
+		err = f.Sync()
+	}
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
 		return err
 	}
-	return f.Close()
+	return os.Rename(tmp, path)
 }
 
 func (c *Cluster) run(ctx context.Context, out io.Writer, name string, args ...string) error {

@@ -205,7 +205,11 @@ func (s *Server) errorAnswer(err error, l *ledger.Ledger) (int, any) {
 		if l != nil {
 			id = l.Identity()
 		}
-		return http.StatusForbidden, errorDoc("not_permitted", (&ledger.NotPermittedError{Identity: id, Err: err}).Error())
+		var np *ledger.NotPermittedError
+		if !errors.As(err, &np) {
+			np = &ledger.NotPermittedError{Identity: id, Err: err}
+		}
+		return http.StatusForbidden, errorDoc("not_permitted", np.Error())
 	case errors.As(err, &tooBig):
 		return http.StatusRequestEntityTooLarge, errorDoc("input", fmt.Sprintf("the upload is larger than the limit of %d bytes; nothing was stored", tooBig.Limit))
 	case errors.Is(err, ledger.ErrUnknownHull):
