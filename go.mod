@@ -16,6 +16,7 @@ require (
 	github.com/spf13/cobra v1.10.2
 	golang.org/x/image v0.30.0
 	golang.org/x/sync v0.23.0
+	golang.org/x/time v0.16.0
 	gonum.org/v1/gonum v0.17.0
 	gonum.org/v1/plot v0.17.0
 	gopkg.in/yaml.v3 v3.0.1

@@ -283,14 +283,14 @@ func OpenFlags(rs []ledger.Reason) []ledger.Reason {
 // Hull is the view of one hull at a moment: its record, its status
 // evaluated (not recorded) and what is shown of its damage and life.
 type Hull struct {
-	Record  *ledger.Hull
-	Fitness *ledger.Fitness
+	Record  *ledger.Hull    `json:"record"`
+	Fitness *ledger.Fitness `json:"fitness"`
 	// Damage is the hull's damage as it may be shown: the ledger's, with
 	// every remaining-life figure and projection removed when the life is
 	// void (Life.Void). It is a copy; Fitness.Damage is left as read.
-	Damage *ledger.Damages
+	Damage *ledger.Damages `json:"damage"`
 	// Life is the remaining life as it may be shown (LifeOf).
-	Life Life
+	Life Life `json:"life"`
 }
 
 // Status is the hull's status.

@@ -43,6 +43,11 @@ type Options struct {
 	PoolPerPerson int32
 	// TempDir is where uploads are spooled (empty: the system's).
 	TempDir string
+	// FailEvery and FailBurst throttle failed sign-ins per client address:
+	// FailBurst failures at once, then one per FailEvery (defaults: 10,
+	// then one a minute).
+	FailEvery time.Duration
+	FailBurst int
 }
 
 // Server serves the API. Make it with New; Close it after the HTTP
@@ -56,6 +61,7 @@ type Server struct {
 
 	mu     sync.Mutex
 	people map[string]*ledger.Ledger
+	fails  *failures
 
 	requests *prometheus.CounterVec
 	latency  *prometheus.HistogramVec
@@ -70,7 +76,14 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	if opt.PoolPerPerson < 1 {
 		opt.PoolPerPerson = 2
 	}
-	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{}}
+	if opt.FailEvery <= 0 {
+		opt.FailEvery = time.Minute
+	}
+	if opt.FailBurst < 1 {
+		opt.FailBurst = 10
+	}
+	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
+		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000)}
 	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
 	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
 	s.dives = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_dives_logged_total", Help: "Dives logged through the service (duplicates not counted)."})
@@ -103,6 +116,9 @@ func apiRoutes(s *Server) []route {
 		{"GET /api/v1/hulls/{serial}", s.hull},
 		{"GET /api/v1/hulls/{serial}/clearance", s.clearance},
 		{"POST /api/v1/hulls/{serial}/dives", s.logDive},
+		{"POST /api/v1/hulls/{serial}/inspections", s.inspection},
+		{"POST /api/v1/hulls/{serial}/proof-tests", s.proofTest},
+		{"POST /api/v1/hulls/{serial}/decisions", s.decision},
 		{"GET /api/v1/verify", s.verify},
 	}
 }
@@ -139,9 +155,17 @@ func (s *Server) serve(w http.ResponseWriter, r *http.Request, auth bool, h hand
 	var l *ledger.Ledger
 	person := ""
 	if auth {
+		addr := client(r)
+		if s.fails.blocked(addr) {
+			s.badAuth.Inc()
+			s.log.Warn("refused: too many failed sign-ins", "remote", addr, "route", r.Pattern)
+			w.Header().Set("Retry-After", strconv.Itoa(int(s.opt.FailEvery.Seconds())))
+			return writeJSON(w, http.StatusTooManyRequests, errorDoc("unauthenticated", "too many failed sign-ins from this address; wait and try again"))
+		}
 		var err error
 		person, l, err = s.authenticate(r)
 		if err != nil {
+			s.fails.failed(addr)
 			s.badAuth.Inc()
 			// Never the token itself, in the log or the answer.
 			s.log.Warn("refused: authentication", "remote", r.RemoteAddr, "route", r.Pattern, "reason", err.Error())
@@ -415,4 +439,77 @@ func setField(req *ledger.LogRequest, name, v string) error {
 		req.Start = &t
 	}
 	return nil
+}
+
+// maxJSON bounds a JSON request body.
+const maxJSON = 64 << 10
+
+// readJSON decodes a small JSON body strictly: an unknown field, a second
+// document or trailing garbage is refused, never ignored.
+func readJSON(w http.ResponseWriter, r *http.Request, v any) error {
+	dec := json.NewDecoder(http.MaxBytesReader(w, r.Body, maxJSON))
+	dec.DisallowUnknownFields()
+	if err := dec.Decode(v); err != nil {
+		return &ledger.InputError{Err: fmt.Errorf("the request body: %w", err)}
+	}
+	if dec.More() {
+		return &ledger.InputError{Err: errors.New("the request body holds more than one JSON document")}
+	}
+	return nil
+}
+
+// record is the body of a maintenance record: the actor is never taken
+// from it (the person signed in is the actor).
+type record struct {
+	At          *time.Time `json:"at"`
+	Method      string     `json:"method"`
+	Result      string     `json:"result"`
+	Findings    string     `json:"findings"`
+	PressureMPa float64    `json:"pressure_mpa"`
+	Notes       string     `json:"notes"`
+	Kind        string     `json:"kind"`
+	Reason      string     `json:"reason"`
+}
+
+func (rec *record) at() time.Time {
+	if rec.At == nil {
+		return time.Time{}
+	}
+	return *rec.At
+}
+
+func (s *Server) inspection(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	var rec record
+	if err := readJSON(w, r, &rec); err != nil {
+		return 0, nil, err
+	}
+	in, err := l.RecordInspection(r.Context(), r.PathValue("serial"), ledger.Inspection{At: rec.at(), Method: rec.Method, Result: rec.Result, Findings: rec.Findings})
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusCreated, in, nil
+}
+
+func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	var rec record
+	if err := readJSON(w, r, &rec); err != nil {
+		return 0, nil, err
+	}
+	p, err := l.RecordProofTest(r.Context(), r.PathValue("serial"), ledger.ProofTest{At: rec.at(), PressureMPa: rec.PressureMPa, Result: rec.Result, Notes: rec.Notes})
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusCreated, p, nil
+}
+
+func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	var rec record
+	if err := readJSON(w, r, &rec); err != nil {
+		return 0, nil, err
+	}
+	d, err := l.RecordDecision(r.Context(), r.PathValue("serial"), ledger.Decision{At: rec.at(), Kind: rec.Kind, Reason: rec.Reason})
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusCreated, d, nil
 }

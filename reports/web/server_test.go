@@ -70,7 +70,7 @@ type fixture struct {
 
 const serial = "EX-C4000-01"
 
-func newFixture(t *testing.T, maxUpload int64) *fixture {
+func newFixture(t *testing.T, opt Options) *fixture {
 	t.Helper()
 	ctx := context.Background()
 	owner := srv.Open(t)
@@ -97,7 +97,7 @@ func newFixture(t *testing.T, maxUpload int64) *fixture {
 		}
 		f.tokens[r], f.names[r] = tok, name
 	}
-	f.svc = New(owner, Options{MaxUploadBytes: maxUpload}, slog.New(slog.NewTextHandler(io.Discard, nil)))
+	f.svc = New(owner, opt, slog.New(slog.NewTextHandler(io.Discard, nil)))
 	f.http = httptest.NewServer(f.svc.Handler())
 	t.Cleanup(func() {
 		f.http.Close()
@@ -173,7 +173,7 @@ func upload(t *testing.T, samples string) (*bytes.Buffer, string) {
 // token of a disabled person, and an upload cut off mid-way (nothing
 // stored).
 func TestServiceRunsAsThePerson(t *testing.T) {
-	f := newFixture(t, 64<<10)
+	f := newFixture(t, Options{MaxUploadBytes: 64 << 10})
 	ctx := context.Background()
 
 	if code, _ := f.do("", "GET", "/healthz", nil, ""); code != 200 {
@@ -310,5 +310,71 @@ func cutOff(t *testing.T, f *fixture, token string) {
 			t.Fatal("the service never answered the cut-off upload")
 		}
 		time.Sleep(20 * time.Millisecond)
+	}
+}
+
+// TestFailedSignInsAreThrottled: after FailBurst failed sign-ins from an
+// address, its requests are refused with 429 before any token is looked
+// at — a good token too, so guessing cannot go on at speed — until the
+// failures age out.
+func TestFailedSignInsAreThrottled(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20, FailBurst: 3, FailEvery: 300 * time.Millisecond})
+	f.tokens["forged"] = &ledger.Token{Secret: "htk_" + strings.Repeat("B", 43)}
+	for i := range 3 {
+		if code, _ := f.do("forged", "GET", "/api/v1/fleet", nil, ""); code != 401 {
+			t.Fatalf("failed sign-in %d: %d, want 401", i+1, code)
+		}
+	}
+	if code, _ := f.do("forged", "GET", "/api/v1/fleet", nil, ""); code != 429 {
+		t.Fatalf("a fourth failed sign-in at once: %d, want 429", code)
+	}
+	if code, _ := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, ""); code != 429 {
+		t.Fatalf("a good token from the throttled address: %d, want 429", code)
+	}
+	time.Sleep(400 * time.Millisecond)
+	if code, _ := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, ""); code != 200 {
+		t.Fatalf("a good token once a failure has aged out: %d, want 200", code)
+	}
+}
+
+// TestMaintenanceRecordsOverHTTP: maintenance records an inspection and a
+// decision, each carrying the person as actor; a body naming an actor (or
+// any unknown field) is refused, not ignored; an operator's decision and
+// an inspector's inspection are refused by the database with nothing
+// stored.
+func TestMaintenanceRecordsOverHTTP(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	path := "/api/v1/hulls/" + serial
+	code, doc := f.do(ledger.RoleMaintenance, "POST", path+"/inspections", strings.NewReader(`{"method": "visual", "result": "pass", "findings": "none"}`), "application/json")
+	if code != 201 || doc["actor"] != f.names[ledger.RoleMaintenance] {
+		t.Fatalf("an inspection by maintenance: %d %v", code, doc)
+	}
+	code, doc = f.do(ledger.RoleMaintenance, "POST", path+"/inspections", strings.NewReader(`{"method": "visual", "result": "pass", "actor": "I. Nspector"}`), "application/json")
+	if code != 422 {
+		t.Fatalf("an inspection naming an actor: %d %v", code, doc)
+	}
+	count := func(table string) int64 {
+		var n int64
+		if err := f.owner.Pool().QueryRow(context.Background(), "SELECT count(*) FROM "+table).Scan(&n); err != nil {
+			t.Fatal(err)
+		}
+		return n
+	}
+	decisions, inspections := count("decisions"), count("inspections")
+	if code, doc = f.do(ledger.RoleOperator, "POST", path+"/decisions", strings.NewReader(`{"kind": "return_to_service", "reason": "looks fine"}`), "application/json"); code != 403 || count("decisions") != decisions {
+		t.Fatalf("an operator's decision: %d %v", code, doc)
+	}
+	if code, doc = f.do(ledger.RoleInspector, "POST", path+"/inspections", strings.NewReader(`{"method": "visual", "result": "pass"}`), "application/json"); code != 403 || count("inspections") != inspections {
+		t.Fatalf("an inspector's inspection: %d %v", code, doc)
+	}
+	code, doc = f.do(ledger.RoleMaintenance, "POST", path+"/decisions", strings.NewReader(`{"kind": "withdraw", "reason": "ultrasonic survey due"}`), "application/json")
+	if code != 201 || doc["actor"] != f.names[ledger.RoleMaintenance] || doc["kind"] != "withdraw" {
+		t.Fatalf("a decision by maintenance: %d %v", code, doc)
+	}
+	code, doc = f.do(ledger.RoleInspector, "GET", path, nil, "")
+	hull, _ := doc["hull"].(map[string]any)
+	fit, _ := hull["fitness"].(map[string]any)
+	if code != 200 || fit["status"] != "withdrawn" {
+		t.Fatalf("the hull after a withdrawal, read by the inspector: %d, status %v, want withdrawn", code, fit["status"])
 	}
 }
