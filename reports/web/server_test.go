@@ -115,7 +115,8 @@ func (f *fixture) do(role ledger.Role, method, path string, body io.Reader, ctyp
 	f.t.Helper()
 	req, err := http.NewRequest(method, f.http.URL+path, body)
 	if err != nil {
-		f.t.Fatal(err)
+		f.t.Error(err) // Error, not Fatal: the load test calls this from its goroutines
+		return 0, nil
 	}
 	if ctype != "" {
 		req.Header.Set("Content-Type", ctype)
@@ -125,7 +126,8 @@ func (f *fixture) do(role ledger.Role, method, path string, body io.Reader, ctyp
 	}
 	res, err := http.DefaultClient.Do(req)
 	if err != nil {
-		f.t.Fatal(err)
+		f.t.Error(err)
+		return 0, nil
 	}
 	defer res.Body.Close()
 	var doc map[string]any
@@ -158,7 +160,8 @@ func upload(t *testing.T, samples string) (*bytes.Buffer, string) {
 	mw := multipart.NewWriter(&b)
 	w, err := mw.CreateFormFile("samples", "d.csv")
 	if err != nil {
-		t.Fatal(err)
+		t.Error(err) // not Fatal: called from the load test's goroutines
+		return &b, ""
 	}
 	io.WriteString(w, samples)
 	mw.WriteField("lat", "45")
