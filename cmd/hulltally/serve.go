@@ -35,13 +35,19 @@ func (a *app) serveCmd() *cobra.Command {
 			if (cfg.TLSCert == "") != (cfg.TLSKey == "") {
 				return &ledger.InputError{Err: errors.New("server.tls_cert and server.tls_key: give both or neither")}
 			}
+			// The operator's report-signing key, when there is one: reports
+			// the service writes are signed, uploads verified against it.
+			signer, err := a.loadSigner("", false)
+			if err != nil {
+				return err
+			}
 			l, err := a.open(cmd.Context())
 			if err != nil {
 				return err
 			}
 			defer l.Close()
 			log := slog.New(slog.NewJSONHandler(a.errOut, nil))
-			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20}, log)
+			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20, Signer: signer}, log)
 			defer svc.Close()
 			ln, err := net.Listen("tcp", cfg.Listen)
 			if err != nil {

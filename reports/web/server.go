@@ -29,6 +29,7 @@ import (
 
 	"hulltally/ledger"
 	"hulltally/reports"
+	"hulltally/reports/sign"
 	"hulltally/reports/view"
 )
 
@@ -48,6 +49,10 @@ type Options struct {
 	// then one a minute).
 	FailEvery time.Duration
 	FailBurst int
+	// Signer signs the reports the service writes, and reports uploaded to
+	// be verified must carry its signature; nil: unsigned reports, checked
+	// against the ledger only.
+	Signer *sign.Signer
 }
 
 // Server serves the API. Make it with New; Close it after the HTTP
@@ -119,6 +124,10 @@ func apiRoutes(s *Server) []route {
 		{"POST /api/v1/hulls/{serial}/inspections", s.inspection},
 		{"POST /api/v1/hulls/{serial}/proof-tests", s.proofTest},
 		{"POST /api/v1/hulls/{serial}/decisions", s.decision},
+		{"GET /api/v1/hulls/{serial}/report", s.report(reports.KindHull)},
+		{"GET /api/v1/dives/{id}/report", s.report(reports.KindDive)},
+		{"GET /api/v1/fleet/report", s.report(reports.KindFleet)},
+		{"POST /api/v1/reports/verify", s.verifyReport},
 		{"GET /api/v1/verify", s.verify},
 	}
 }
@@ -512,4 +521,79 @@ func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 		return 0, nil, err
 	}
 	return http.StatusCreated, d, nil
+}
+
+// report writes a PDF report as the person (issuing one is recorded, so
+// the role decides) and sends it.
+func (s *Server) report(kind string) handlerFunc {
+	return func(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+		subject := "fleet"
+		switch kind {
+		case reports.KindHull:
+			subject = r.PathValue("serial")
+		case reports.KindDive:
+			subject = r.PathValue("id")
+		}
+		dir, err := os.MkdirTemp(s.opt.TempDir, "hulltally-report-")
+		if err != nil {
+			return 0, nil, err
+		}
+		defer os.RemoveAll(dir)
+		cp, err := l.LatestCheckpoint(r.Context())
+		if err != nil {
+			return 0, nil, err
+		}
+		out := filepath.Join(dir, "report.pdf")
+		rep, err := reports.WriteWith(r.Context(), l, kind, subject, out, time.Now(), reports.WriteOptions{Signer: s.opt.Signer, Checkpoint: cp})
+		if err != nil {
+			return 0, nil, err
+		}
+		f, err := os.Open(out)
+		if err != nil {
+			return 0, nil, err
+		}
+		defer f.Close()
+		w.Header().Set("Content-Type", "application/pdf")
+		w.Header().Set("Content-Disposition", fmt.Sprintf("attachment; filename=%q", kind+"-"+filepath.Base(subject)+".pdf"))
+		w.Header().Set("X-Report-Fingerprint", rep.Fingerprint)
+		w.Header().Set("X-Report-Signed", strconv.FormatBool(rep.Signed))
+		w.WriteHeader(http.StatusOK)
+		_, _ = io.Copy(w, f)
+		return 0, nil, nil
+	}
+}
+
+// maxReport bounds an uploaded report.
+const maxReport = 64 << 20
+
+// verifyReport checks an uploaded PDF (the request body) against the
+// ledger, and its signature by the service's key when it has one. The
+// answer is 200 with "ok" true or false and the reason.
+func (s *Server) verifyReport(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	dir, err := os.MkdirTemp(s.opt.TempDir, "hulltally-verify-")
+	if err != nil {
+		return 0, nil, err
+	}
+	defer os.RemoveAll(dir)
+	path := filepath.Join(dir, "report.pdf")
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+	if err != nil {
+		return 0, nil, err
+	}
+	_, err = io.Copy(f, http.MaxBytesReader(w, r.Body, maxReport))
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return 0, nil, uploadErr(err)
+	}
+	var o reports.VerifyOptions
+	if s.opt.Signer != nil {
+		o.Key = s.opt.Signer.Public()
+	}
+	v, err := reports.VerifyWith(r.Context(), l, path, o)
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, v, nil
 }

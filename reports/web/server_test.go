@@ -381,3 +381,49 @@ func TestMaintenanceRecordsOverHTTP(t *testing.T) {
 		t.Fatalf("the hull after a withdrawal, read by the inspector: %d, status %v, want withdrawn", code, fit["status"])
 	}
 }
+
+// TestReportsOverHTTP: maintenance downloads a hull's report (a PDF);
+// an inspector uploads it and learns it matches the ledger; after a new
+// dive the same upload no longer matches (never "still valid"); a
+// non-PDF upload is refused; an operator may not issue a report.
+func TestReportsOverHTTP(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	body, ct := upload(t, diveCSV)
+	if code, doc := f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct); code != 201 {
+		t.Fatalf("upload: %d %v", code, doc)
+	}
+	get := func(role ledger.Role, path string) (int, []byte, http.Header) {
+		req, _ := http.NewRequest("GET", f.http.URL+path, nil)
+		req.Header.Set("Authorization", "Bearer "+f.tokens[role].Secret)
+		res, err := http.DefaultClient.Do(req)
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer res.Body.Close()
+		b, _ := io.ReadAll(res.Body)
+		return res.StatusCode, b, res.Header
+	}
+	code, pdf, h := get(ledger.RoleMaintenance, "/api/v1/hulls/"+serial+"/report")
+	if code != 200 || !bytes.HasPrefix(pdf, []byte("%PDF-")) || h.Get("Content-Type") != "application/pdf" || h.Get("X-Report-Fingerprint") == "" {
+		t.Fatalf("the hull report: %d, %d bytes, %v", code, len(pdf), h)
+	}
+	if code, _, _ := get(ledger.RoleOperator, "/api/v1/hulls/"+serial+"/report"); code != 403 {
+		t.Fatalf("an operator issuing a report: %d, want 403", code)
+	}
+	code, v := f.do(ledger.RoleInspector, "POST", "/api/v1/reports/verify", bytes.NewReader(pdf), "application/pdf")
+	if code != 200 || v["ok"] != true {
+		t.Fatalf("verifying the fresh report: %d %v", code, v)
+	}
+	day := strings.ReplaceAll(diveCSV, "2026-05-01", "2026-05-02")
+	body, ct = upload(t, day)
+	if code, doc := f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", body, ct); code != 201 {
+		t.Fatalf("a second dive: %d %v", code, doc)
+	}
+	code, v = f.do(ledger.RoleInspector, "POST", "/api/v1/reports/verify", bytes.NewReader(pdf), "application/pdf")
+	if code != 200 || v["ok"] != false {
+		t.Fatalf("verifying the report after a new dive: %d %v, want ok false", code, v)
+	}
+	if code, v = f.do(ledger.RoleInspector, "POST", "/api/v1/reports/verify", strings.NewReader("not a pdf"), "application/pdf"); code != 422 && !(code == 200 && v["ok"] == false) {
+		t.Fatalf("verifying a non-PDF: %d %v", code, v)
+	}
+}
