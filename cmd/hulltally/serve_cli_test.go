@@ -3,7 +3,9 @@ package main
 import (
 	"bufio"
 	"encoding/json"
+	"fmt"
 	"io"
+	"net"
 	"net/http"
 	"strings"
 	"syscall"
@@ -29,6 +31,8 @@ func TestServeCLI(t *testing.T) {
 	}
 
 	c := e.cmd("serve", "--listen", "127.0.0.1:0")
+	// A stalled upload is cut off after a second.
+	c.Env = append(c.Env, "HULLTALLY_SERVER_READ_TIMEOUT_S=1")
 	stderr, err := c.StderrPipe()
 	if err != nil {
 		t.Fatal(err)
@@ -71,6 +75,26 @@ func TestServeCLI(t *testing.T) {
 	}
 	if code, _ := get("/api/v1/fleet", "htk_not-a-token"); code != 401 {
 		t.Fatalf("a made-up token: %d", code)
+	}
+
+	// A stalled upload: headers and half the body, then nothing. The
+	// service cuts it off at the read timeout and stores nothing.
+	dives := e.count("dives")
+	conn, err := net.Dial("tcp", strings.TrimPrefix(url, "http://"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	body := "--b\r\nContent-Disposition: form-data; name=\"samples\"; filename=\"d.csv\"\r\n\r\ntime,depth_m\n2026-05-01T08:00:00Z,0\n"
+	fmt.Fprintf(conn, "POST /api/v1/hulls/EX-C4000-01/dives HTTP/1.1\r\nHost: x\r\nAuthorization: Bearer %s\r\nContent-Type: multipart/form-data; boundary=b\r\nContent-Length: %d\r\n\r\n%s", tok.Token, 10*len(body), body)
+	start := time.Now()
+	conn.SetReadDeadline(time.Now().Add(10 * time.Second))
+	io.ReadAll(conn) // returns when the service gives up on the upload
+	conn.Close()
+	if waited := time.Since(start); waited > 8*time.Second {
+		t.Fatalf("a stalled upload held the connection for %v", waited)
+	}
+	if e.count("dives") != dives {
+		t.Fatal("a stalled upload stored a dive")
 	}
 	if err := c.Process.Signal(syscall.SIGTERM); err != nil {
 		t.Fatal(err)
