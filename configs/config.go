@@ -61,6 +61,10 @@ type Server struct {
 	MaxUploadMB int64
 	// ReadTimeoutS bounds receiving one request.
 	ReadTimeoutS int64
+	// MaxIngests bounds the dives the service logs at once.
+	MaxIngests int
+	// MemoryLimitMB is the service's soft memory limit.
+	MemoryLimitMB int64
 }
 
 // Database says how to reach PostgreSQL.

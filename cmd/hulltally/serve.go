@@ -7,6 +7,8 @@ import (
 	"log/slog"
 	"net"
 	"net/http"
+	"os"
+	"runtime/debug"
 	"text/tabwriter"
 	"time"
 
@@ -47,7 +49,10 @@ func (a *app) serveCmd() *cobra.Command {
 			}
 			defer l.Close()
 			log := slog.New(slog.NewJSONHandler(a.errOut, nil))
-			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20, Signer: signer}, log)
+			if _, set := os.LookupEnv("GOMEMLIMIT"); !set {
+				debug.SetMemoryLimit(cfg.MemoryLimitMB << 20)
+			}
+			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20, MaxIngests: cfg.MaxIngests, Signer: signer}, log)
 			defer svc.Close()
 			ln, err := net.Listen("tcp", cfg.Listen)
 			if err != nil {

@@ -49,6 +49,11 @@ type Options struct {
 	// then one a minute).
 	FailEvery time.Duration
 	FailBurst int
+	// MaxIngests bounds the dives being logged at once (default 2): each
+	// ingest holds its parse slots and counters, so the service's memory is
+	// bounded by this, not by the uploads in flight; an upload waits,
+	// spooled to disk, for its turn.
+	MaxIngests int
 	// Signer signs the reports the service writes, and reports uploaded to
 	// be verified must carry its signature; nil: unsigned reports, checked
 	// against the ledger only.
@@ -67,6 +72,8 @@ type Server struct {
 	mu     sync.Mutex
 	people map[string]*ledger.Ledger
 	fails  *failures
+	// ingests holds a token per dive being logged (Options.MaxIngests).
+	ingests chan struct{}
 
 	requests *prometheus.CounterVec
 	latency  *prometheus.HistogramVec
@@ -87,8 +94,11 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	if opt.FailBurst < 1 {
 		opt.FailBurst = 10
 	}
+	if opt.MaxIngests < 1 {
+		opt.MaxIngests = 2
+	}
 	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
-		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000)}
+		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests)}
 	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
 	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
 	s.dives = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_dives_logged_total", Help: "Dives logged through the service (duplicates not counted)."})
@@ -404,6 +414,12 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 	}
 	if req.Samples == "" {
 		return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
+	}
+	select {
+	case s.ingests <- struct{}{}:
+		defer func() { <-s.ingests }()
+	case <-r.Context().Done():
+		return 0, nil, r.Context().Err()
 	}
 	d, err := l.LogDive(r.Context(), req)
 	if err != nil {
