@@ -53,9 +53,9 @@ import (
 	"hulltally/internal/benchproc"
 	"hulltally/ledger"
 	"hulltally/ledger/blocks"
+	"hulltally/ledger/cluster"
 	"hulltally/ledger/logfile"
 	"hulltally/ledger/spec"
-	"hulltally/ledger/synth"
 )
 
 // options are the command's flags.
@@ -142,7 +142,9 @@ func run(ctx context.Context, o options) error {
 	var pmPID int
 	if dbURL == "" {
 		defer ledger.StopManaged(context.Background(), cfg)
-		dbURL = managedURL(home)
+		if dbURL, err = managedURL(home); err != nil {
+			return err
+		}
 		pmPID = postmasterPID(ledger.DBStatus(ctx, cfg).Dir)
 	}
 
@@ -171,7 +173,7 @@ func run(ctx context.Context, o options) error {
 		// same samples would be recognised as a duplicate.
 		file := filepath.Join(work, fmt.Sprintf("bench-dive-%d.csv", r+1))
 		t0 := time.Now()
-		rows, err := writeDive(file, o, uint64(r+1))
+		rows, err := benchproc.WriteDive(file, o.hours, o.hz, o.gauges, uint64(r+1))
 		if err != nil {
 			return err
 		}
@@ -179,7 +181,7 @@ func run(ctx context.Context, o options) error {
 		// another seed): the same file again would be refused as the same
 		// samples on another hull.
 		file1 := filepath.Join(work, fmt.Sprintf("bench-dive-%d-1.csv", r+1))
-		if _, err := writeDive(file1, o, uint64(1000+r+1)); err != nil {
+		if _, err := benchproc.WriteDive(file1, o.hours, o.hz, o.gauges, uint64(1000+r+1)); err != nil {
 			return err
 		}
 		st, _ := os.Stat(file)
@@ -201,13 +203,13 @@ func run(ctx context.Context, o options) error {
 			return err
 		}
 		// Warm the page cache for every side alike.
-		if err := readAll(file); err != nil {
+		if err := benchproc.Warm(file); err != nil {
 			return err
 		}
-		if err := readAll(blockCSV); err != nil {
+		if err := benchproc.Warm(blockCSV); err != nil {
 			return err
 		}
-		if err := readAll(file1); err != nil {
+		if err := benchproc.Warm(file1); err != nil {
 			return err
 		}
 		order := []int{sideHT, sidePlain, sideBlocks, sideHT1}
@@ -287,18 +289,6 @@ func serverUse(m measure) string {
 		return ""
 	}
 	return fmt.Sprintf("  server %4.2f", m.serverS/m.wallS)
-}
-
-func writeDive(file string, o options, seed uint64) (int, error) {
-	f, err := os.Create(file)
-	if err != nil {
-		return 0, err
-	}
-	rows, err := synth.BenchFile(f, o.hours, o.hz, o.gauges, seed)
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	return rows, err
 }
 
 func addHull(ctx context.Context, l *ledger.Ledger, serial string, gauges int) error {
@@ -476,16 +466,12 @@ func postmasterPID(dir string) int {
 	return pid
 }
 
-func managedURL(home string) string {
-	return "postgresql:///hulltally?host=" + filepath.Join(home, "postgres") + "&port=5432&user=hulltally"
-}
-
-func readAll(p string) error {
-	f, err := os.Open(p)
+func managedURL(home string) (string, error) {
+	// The managed cluster asks for its owner's password (the secret in the
+	// home): the cluster package gives the URL with it.
+	c, err := cluster.New(home, nil)
 	if err != nil {
-		return err
+		return "", err
 	}
-	defer f.Close()
-	_, err = io.Copy(io.Discard, f)
-	return err
+	return c.URL(), nil
 }

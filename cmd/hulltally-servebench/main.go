@@ -33,7 +33,6 @@ import (
 	"time"
 
 	"hulltally/internal/benchproc"
-	"hulltally/ledger/synth"
 )
 
 type options struct {
@@ -139,16 +138,16 @@ func run(ctx context.Context, o options) error {
 	for r := range o.rounds {
 		fd := filepath.Join(work, fmt.Sprintf("direct-%d.csv", r))
 		fs := filepath.Join(work, fmt.Sprintf("service-%d.csv", r))
-		rows, err := writeDive(fd, o, uint64(2*r+1))
+		rows, err := benchproc.WriteDive(fd, o.hours, 100, o.gauges, uint64(2*r+1))
 		if err != nil {
 			return err
 		}
-		if _, err := writeDive(fs, o, uint64(2*r+2)); err != nil {
+		if _, err := benchproc.WriteDive(fs, o.hours, 100, o.gauges, uint64(2*r+2)); err != nil {
 			return err
 		}
 		rowsOf = rows
 		for _, f := range []string{fd, fs} {
-			if err := warm(f); err != nil {
+			if err := benchproc.Warm(f); err != nil {
 				return err
 			}
 		}
@@ -189,7 +188,7 @@ func run(ctx context.Context, o options) error {
 	var files []string
 	for i := range o.conc {
 		f := filepath.Join(work, fmt.Sprintf("conc-%d.csv", i))
-		if _, err := writeDive(f, o, uint64(1000+i)); err != nil {
+		if _, err := benchproc.WriteDive(f, o.hours, 100, o.gauges, uint64(1000+i)); err != nil {
 			return err
 		}
 		files = append(files, f)
@@ -293,29 +292,6 @@ func peakRSS(pid int) (int64, error) {
 		}
 	}
 	return 0, fmt.Errorf("no VmHWM for process %d", pid)
-}
-
-func writeDive(file string, o options, seed uint64) (int, error) {
-	f, err := os.Create(file)
-	if err != nil {
-		return 0, err
-	}
-	rows, err := synth.BenchFile(f, o.hours, 100, o.gauges, seed)
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	return rows, err
-}
-
-// warm reads a file once so that both sides start from the page cache.
-func warm(file string) error {
-	f, err := os.Open(file)
-	if err != nil {
-		return err
-	}
-	defer f.Close()
-	_, err = io.Copy(io.Discard, f)
-	return err
 }
 
 // hullYAML is an invented benchmark hull with gauges g1…gN.
