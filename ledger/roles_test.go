@@ -221,6 +221,16 @@ func TestRolesResistRawSQL(t *testing.T) {
 	refused(admin, "an admin granting itself pg_execute_server_program", `GRANT pg_execute_server_program TO CURRENT_USER`)
 	refused(admin, "an admin changing an operator's password", `ALTER ROLE `+pgx.Identifier{opName}.Sanitize()+` PASSWORD 'x'`)
 	refused(admin, "an admin making a role by itself", `CREATE ROLE x_made_by_admin LOGIN`)
+	refused(admin, "an admin writing a token of its own making", `INSERT INTO api_tokens (id, person, token_sha256, created_at, created_by, expires_at)
+		VALUES (gen_random_uuid(), $1, decode(repeat('ab', 32), 'hex'), now(), 'somebody-else', now() + interval '100 years')`, opName)
+	tok, err := admin.CreateToken(ctx, opName, 1, "test")
+	if err != nil || tok.CreatedBy == "" || tok.ExpiresAt.Sub(tok.CreatedAt) != 24*time.Hour {
+		t.Fatalf("an admin's token through the function: %v %+v", err, tok)
+	}
+	if err := admin.RevokeToken(ctx, tok.ID); err != nil {
+		t.Fatal(err)
+	}
+	refused(admin, "an admin clearing a revocation", `UPDATE api_tokens SET revoked_at = NULL`)
 	refused(mt, "an inspection as the maintenance group", `SET ROLE hulltally_maintenance; INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
 		SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'hulltally_maintenance', now() FROM hulls LIMIT 1`)
 	refused(op, "a person creating a function in the schema", `CREATE FUNCTION public.pg_has_role(name, oid, text) RETURNS boolean LANGUAGE sql AS 'SELECT true'`)

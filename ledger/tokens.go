@@ -68,10 +68,11 @@ func (l *Ledger) CreateToken(ctx context.Context, person string, days int, note 
 	}
 	secret := tokenPrefix + base64.RawURLEncoding.EncodeToString(b)
 	sum := sha256.Sum256([]byte(secret))
-	t := &Token{ID: uuid.New(), Person: person, Note: note, CreatedAt: now(), Secret: secret}
-	t.ExpiresAt = t.CreatedAt.AddDate(0, 0, days)
-	err = l.pool.QueryRow(ctx, `INSERT INTO api_tokens (id, person, token_sha256, note, created_at, expires_at) VALUES ($1,$2,$3,$4,$5,$6) RETURNING created_by`,
-		t.ID, t.Person, sum[:], t.Note, t.CreatedAt, t.ExpiresAt).Scan(&t.CreatedBy)
+	t := &Token{ID: uuid.New(), Person: person, Note: note, Secret: secret}
+	// Through the owner's function (migration 015): it stamps the creator
+	// and the times, and bounds the expiry.
+	err = l.pool.QueryRow(ctx, `SELECT created_at, created_by, expires_at FROM hulltally_create_token($1, $2, $3, $4, $5)`,
+		t.ID, t.Person, sum[:], t.Note, days).Scan(&t.CreatedAt, &t.CreatedBy, &t.ExpiresAt)
 	if err != nil {
 		return nil, l.NotPermitted(fmt.Errorf("making a token for %s: %w", person, err))
 	}
@@ -96,11 +97,11 @@ func (l *Ledger) RevokeToken(ctx context.Context, id uuid.UUID) error {
 	if err := l.writable("RevokeToken"); err != nil {
 		return err
 	}
-	tag, err := l.pool.Exec(ctx, "UPDATE api_tokens SET revoked_at = coalesce(revoked_at, $2) WHERE id = $1", id, now())
-	if err != nil {
+	var found bool
+	if err := l.pool.QueryRow(ctx, "SELECT hulltally_revoke_token($1)", id).Scan(&found); err != nil {
 		return l.NotPermitted(fmt.Errorf("revoking token %s: %w", id, err))
 	}
-	if tag.RowsAffected() == 0 {
+	if !found {
 		return inputErr(fmt.Errorf("no token %s (hulltally token list)", id))
 	}
 	return nil

@@ -44,6 +44,9 @@ type app struct {
 	in io.Reader
 	// identity is who the ledger's connection is, once opened.
 	identity ledger.Identity
+	// stopSignals restores the default handling of SIGINT and SIGTERM (a
+	// second signal then ends the process at once).
+	stopSignals func()
 }
 
 func main() {
@@ -54,6 +57,7 @@ func main() {
 
 // run executes the command line and returns the exit code.
 func (a *app) run(ctx context.Context, args []string, stop func()) int {
+	a.stopSignals = stop
 	root := a.rootCmd()
 	root.SetArgs(args)
 	cmd, err := root.ExecuteContextC(ctx)

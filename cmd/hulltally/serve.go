@@ -82,11 +82,18 @@ func (a *app) serveCmd() *cobra.Command {
 				return fmt.Errorf("serving: %w", err)
 			case <-cmd.Context().Done():
 			}
-			log.Info("stopping: finishing the requests in progress")
-			ctx, cancel := context.WithTimeout(context.Background(), 2*time.Minute)
+			// A second signal ends the process at once (its transactions
+			// roll back).
+			if a.stopSignals != nil {
+				a.stopSignals()
+			}
+			// Uploads in progress may take up to the read timeout.
+			grace := max(2*time.Minute, time.Duration(cfg.ReadTimeoutS)*time.Second+time.Minute)
+			log.Info("stopping: finishing the requests in progress", "grace_s", grace.Seconds())
+			ctx, cancel := context.WithTimeout(context.Background(), grace)
 			defer cancel()
 			if err := srv.Shutdown(ctx); err != nil {
-				// Still running after the grace period: cut them off; their
+				// Still running after the grace: cut them off; their
 				// transactions roll back.
 				srv.Close()
 				return fmt.Errorf("stopping: %w", err)

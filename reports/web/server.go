@@ -15,13 +15,17 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
+	"math"
 	"net/http"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"sync"
 	"time"
+	"unicode"
+	"unicode/utf8"
 
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/collectors"
@@ -181,8 +185,19 @@ func (s *Server) serve(w http.ResponseWriter, r *http.Request, auth bool, h hand
 			w.Header().Set("Retry-After", strconv.Itoa(int(s.opt.FailEvery.Seconds())))
 			return writeJSON(w, http.StatusTooManyRequests, errorDoc("unauthenticated", "too many failed sign-ins from this address; wait and try again"))
 		}
+		if r.Method == http.MethodHead {
+			// ServeMux lets HEAD through a GET route; an API read may
+			// record (a report is registered) or cost (a verify): no.
+			w.Header().Set("Allow", "GET")
+			return writeJSON(w, http.StatusMethodNotAllowed, errorDoc("input", "HEAD is not served under /api/v1; use GET"))
+		}
 		var err error
 		person, l, err = s.authenticate(r)
+		if err != nil && !errors.Is(err, ledger.ErrBadToken) {
+			// The database, not the token: not a failed sign-in.
+			s.log.Error("authentication could not be checked", "remote", addr, "route", r.Pattern, "error", err.Error())
+			return writeJSON(w, http.StatusServiceUnavailable, errorDoc("failure", "the service cannot check tokens now (see its log); try again"))
+		}
 		if err != nil {
 			s.fails.failed(addr)
 			s.badAuth.Inc()
@@ -212,7 +227,7 @@ func (s *Server) authenticate(r *http.Request) (string, *ledger.Ledger, error) {
 	h := r.Header.Get("Authorization")
 	scheme, token, ok := strings.Cut(h, " ")
 	if !ok || !strings.EqualFold(scheme, "Bearer") || token == "" {
-		return "", nil, errors.New("no bearer token")
+		return "", nil, fmt.Errorf("no bearer token: %w", ledger.ErrBadToken)
 	}
 	person, err := s.owner.Authenticate(r.Context(), strings.TrimSpace(token), time.Now().UTC())
 	if err != nil {
@@ -320,12 +335,12 @@ func (s *Server) hull(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) 
 func (s *Server) clearance(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
 	q := r.URL.Query()
 	depth, err := strconv.ParseFloat(q.Get("depth_m"), 64)
-	if err != nil {
+	if err != nil || math.IsInf(depth, 0) || math.IsNaN(depth) {
 		return 0, nil, &ledger.InputError{Err: fmt.Errorf("depth_m: a planned depth in metres is required")}
 	}
 	bottom := 0.0
 	if v := q.Get("bottom_min"); v != "" {
-		if bottom, err = strconv.ParseFloat(v, 64); err != nil {
+		if bottom, err = strconv.ParseFloat(v, 64); err != nil || math.IsInf(bottom, 0) || math.IsNaN(bottom) {
 			return 0, nil, &ledger.InputError{Err: fmt.Errorf("bottom_min %q: not a number", v)}
 		}
 	}
@@ -363,6 +378,7 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 	}
 	defer os.RemoveAll(dir)
 	req := ledger.LogRequest{Hull: r.PathValue("serial")}
+	seen := map[string]bool{}
 	for {
 		p, err := mr.NextPart()
 		if err == io.EOF {
@@ -374,10 +390,7 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 		name := p.FormName()
 		switch name {
 		case "samples", "hits":
-			base := filepath.Base(p.FileName())
-			if base == "." || base == "/" || base == "" {
-				base = name + ".csv"
-			}
+			base := fileName(p.FileName(), name+".csv")
 			sub := filepath.Join(dir, name)
 			if err := os.Mkdir(sub, 0o700); err != nil {
 				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
@@ -401,9 +414,16 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 				req.AE = path
 			}
 		case "lat", "site", "operator", "start":
-			v, err := io.ReadAll(io.LimitReader(p, 1024))
+			if seen[name] {
+				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
+			}
+			seen[name] = true
+			v, err := io.ReadAll(io.LimitReader(p, maxField+1))
 			if err != nil {
 				return 0, nil, uploadErr(err)
+			}
+			if len(v) > maxField || !utf8.Valid(v) {
+				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q: at most %d bytes of UTF-8 text", name, maxField)}
 			}
 			if err := setField(&req, name, strings.TrimSpace(string(v))); err != nil {
 				return 0, nil, err
@@ -415,14 +435,18 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 	if req.Samples == "" {
 		return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
 	}
-	select {
-	case s.ingests <- struct{}{}:
-		defer func() { <-s.ingests }()
-	case <-r.Context().Done():
-		return 0, nil, r.Context().Err()
+	release, err := s.heavy(r.Context())
+	if err != nil {
+		return 0, nil, err
 	}
+	defer release()
 	d, err := l.LogDive(r.Context(), req)
 	if err != nil {
+		// The spool folder is the service's business, not the client's.
+		var ie *ledger.InputError
+		if errors.As(err, &ie) {
+			return 0, nil, &ledger.InputError{Err: errors.New(strings.ReplaceAll(err.Error(), dir+string(filepath.Separator), ""))}
+		}
 		return 0, nil, err
 	}
 	code := http.StatusCreated
@@ -469,16 +493,49 @@ func setField(req *ledger.LogRequest, name, v string) error {
 // maxJSON bounds a JSON request body.
 const maxJSON = 64 << 10
 
-// readJSON decodes a small JSON body strictly: an unknown field, a second
-// document or trailing garbage is refused, never ignored.
-func readJSON(w http.ResponseWriter, r *http.Request, v any) error {
+// readJSON decodes a small JSON object strictly: its keys must be the
+// struct's json names exactly (Go's decoder would match them in any letter
+// case, and let a repeated key's last value win), none repeated, and
+// nothing may follow the object. Anything else is refused, never ignored.
+func readJSON(w http.ResponseWriter, r *http.Request, v any, known ...string) error {
 	dec := json.NewDecoder(http.MaxBytesReader(w, r.Body, maxJSON))
-	dec.DisallowUnknownFields()
-	if err := dec.Decode(v); err != nil {
-		return &ledger.InputError{Err: fmt.Errorf("the request body: %w", err)}
+	bad := func(format string, a ...any) error {
+		return &ledger.InputError{Err: fmt.Errorf("the request body: "+format, a...)}
 	}
-	if dec.More() {
-		return &ledger.InputError{Err: errors.New("the request body holds more than one JSON document")}
+	if t, err := dec.Token(); err != nil || t != json.Delim('{') {
+		return bad("a JSON object is expected")
+	}
+	fields := map[string]json.RawMessage{}
+	for dec.More() {
+		t, err := dec.Token()
+		if err != nil {
+			return bad("%v", err)
+		}
+		key, _ := t.(string)
+		if !slices.Contains(known, key) {
+			return bad("unknown field %q (known: %s)", key, strings.Join(known, ", "))
+		}
+		if _, dup := fields[key]; dup {
+			return bad("field %q given twice", key)
+		}
+		var raw json.RawMessage
+		if err := dec.Decode(&raw); err != nil {
+			return bad("field %q: %v", key, err)
+		}
+		fields[key] = raw
+	}
+	if t, err := dec.Token(); err != nil || t != json.Delim('}') {
+		return bad("the object is not closed")
+	}
+	if _, err := dec.Token(); err != io.EOF {
+		return bad("something follows the JSON object")
+	}
+	b, err := json.Marshal(fields)
+	if err != nil {
+		return err
+	}
+	if err := json.Unmarshal(b, v); err != nil {
+		return bad("%v", err)
 	}
 	return nil
 }
@@ -505,7 +562,7 @@ func (rec *record) at() time.Time {
 
 func (s *Server) inspection(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
 	var rec record
-	if err := readJSON(w, r, &rec); err != nil {
+	if err := readJSON(w, r, &rec, "at", "method", "result", "findings"); err != nil {
 		return 0, nil, err
 	}
 	in, err := l.RecordInspection(r.Context(), r.PathValue("serial"), ledger.Inspection{At: rec.at(), Method: rec.Method, Result: rec.Result, Findings: rec.Findings})
@@ -517,7 +574,7 @@ func (s *Server) inspection(w http.ResponseWriter, r *http.Request, l *ledger.Le
 
 func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
 	var rec record
-	if err := readJSON(w, r, &rec); err != nil {
+	if err := readJSON(w, r, &rec, "at", "pressure_mpa", "result", "notes"); err != nil {
 		return 0, nil, err
 	}
 	p, err := l.RecordProofTest(r.Context(), r.PathValue("serial"), ledger.ProofTest{At: rec.at(), PressureMPa: rec.PressureMPa, Result: rec.Result, Notes: rec.Notes})
@@ -529,7 +586,7 @@ func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Led
 
 func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
 	var rec record
-	if err := readJSON(w, r, &rec); err != nil {
+	if err := readJSON(w, r, &rec, "at", "kind", "reason"); err != nil {
 		return 0, nil, err
 	}
 	d, err := l.RecordDecision(r.Context(), r.PathValue("serial"), ledger.Decision{At: rec.at(), Kind: rec.Kind, Reason: rec.Reason})
@@ -543,6 +600,20 @@ func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 // the role decides) and sends it.
 func (s *Server) report(kind string) handlerFunc {
 	return func(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+		// Issuing a report is recorded: ask the database first whether the
+		// person may, before rendering anything.
+		var may bool
+		if err := l.Pool().QueryRow(r.Context(), "SELECT has_table_privilege('issued_reports', 'INSERT')").Scan(&may); err != nil {
+			return 0, nil, err
+		}
+		if !may {
+			return http.StatusForbidden, errorDoc("not_permitted", fmt.Sprintf("not permitted: %s (%s) may not issue reports; nothing was stored", l.Identity().Name, l.Identity().Role)), nil
+		}
+		release, err := s.heavy(r.Context())
+		if err != nil {
+			return 0, nil, err
+		}
+		defer release()
 		subject := "fleet"
 		switch kind {
 		case reports.KindHull:
@@ -580,7 +651,7 @@ func (s *Server) report(kind string) handlerFunc {
 }
 
 // maxReport bounds an uploaded report.
-const maxReport = 64 << 20
+const maxReport = 32 << 20
 
 // verifyReport checks an uploaded PDF (the request body) against the
 // ledger, and its signature by the service's key when it has one. The
@@ -603,6 +674,11 @@ func (s *Server) verifyReport(w http.ResponseWriter, r *http.Request, l *ledger.
 	if err != nil {
 		return 0, nil, uploadErr(err)
 	}
+	release, err := s.heavy(r.Context())
+	if err != nil {
+		return 0, nil, err
+	}
+	defer release()
 	var o reports.VerifyOptions
 	if s.opt.Signer != nil {
 		o.Key = s.opt.Signer.Public()
@@ -612,4 +688,35 @@ func (s *Server) verifyReport(w http.ResponseWriter, r *http.Request, l *ledger.
 		return 0, nil, err
 	}
 	return http.StatusOK, v, nil
+}
+
+// maxField bounds a text part of an upload.
+const maxField = 1024
+
+// fileName is the client's file name when it is a plain one (at most 128
+// bytes of printable UTF-8, no folder, not "." or ".."), else def: it is
+// stored with the dive and shown in reports and terminals.
+func fileName(name, def string) string {
+	base := filepath.Base(strings.ReplaceAll(name, "\\", "/"))
+	if base == "." || base == ".." || base == "/" || base == "" || len(base) > 128 || !utf8.ValidString(base) {
+		return def
+	}
+	for _, r := range base {
+		if unicode.IsControl(r) || r == unicode.ReplacementChar {
+			return def
+		}
+	}
+	return base
+}
+
+// heavy waits for a turn among the requests that hold much memory (dive
+// logging, report rendering and verification: Options.MaxIngests at once)
+// and returns its release.
+func (s *Server) heavy(ctx context.Context) (func(), error) {
+	select {
+	case s.ingests <- struct{}{}:
+		return func() { <-s.ingests }, nil
+	case <-ctx.Done():
+		return nil, ctx.Err()
+	}
 }

@@ -11,6 +11,7 @@ import (
 	"net"
 	"net/http"
 	"net/http/httptest"
+	"net/textproto"
 	"os"
 	"slices"
 	"strings"
@@ -425,5 +426,87 @@ func TestReportsOverHTTP(t *testing.T) {
 	}
 	if code, v = f.do(ledger.RoleInspector, "POST", "/api/v1/reports/verify", strings.NewReader("not a pdf"), "application/pdf"); code != 422 && !(code == 200 && v["ok"] == false) {
 		t.Fatalf("verifying a non-PDF: %d %v", code, v)
+	}
+}
+
+// TestRequestsRefusedNotBent: what review found bent instead of refused —
+// a key in another letter case or given twice, a trailing bracket, an
+// upload field too long, not UTF-8 or given twice, a file name with
+// control characters or "..", HEAD on a route that records, a non-finite
+// bottom time — each answered 4xx with nothing stored, or stored under a
+// plain name.
+func TestRequestsRefusedNotBent(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	path := "/api/v1/hulls/" + serial
+	for _, body := range []string{
+		`{"kind": "withdraw", "reason": "crack", "KIND": "return_to_service"}`,
+		`{"kind": "withdraw", "reason": "crack", "kind": "return_to_service"}`,
+		`{"kind": "withdraw", "reason": "crack"}]`,
+		`{"kind": "withdraw", "reason": "crack"}}`,
+		`{"kind": "withdraw", "reason": "crack"} {"kind": "return_to_service"}`,
+		`["withdraw"]`,
+	} {
+		if code, doc := f.do(ledger.RoleMaintenance, "POST", path+"/decisions", strings.NewReader(body), "application/json"); code != 422 {
+			t.Fatalf("decision body %s: %d %v, want 422", body, code, doc)
+		}
+	}
+	dives := f.dives()
+	field := func(name, value string) (*bytes.Buffer, string) {
+		var b bytes.Buffer
+		mw := multipart.NewWriter(&b)
+		w, _ := mw.CreateFormFile("samples", "d.csv")
+		io.WriteString(w, diveCSV)
+		mw.WriteField(name, value)
+		if name == "operator" {
+			mw.WriteField(name, "someone else")
+		}
+		mw.Close()
+		return &b, mw.FormDataContentType()
+	}
+	for _, c := range []struct{ name, value string }{
+		{"site", strings.Repeat("x", 1100)},
+		{"site", "caf\xc3"},
+		{"operator", "first"},
+	} {
+		body, ct := field(c.name, c.value)
+		if code, doc := f.do(ledger.RoleOperator, "POST", path+"/dives", body, ct); code != 422 || f.dives() != dives {
+			t.Fatalf("upload with %s %.20q: %d %v", c.name, c.value, code, doc)
+		}
+	}
+	for _, disp := range []string{`filename=".."`, "filename*=UTF-8''dive%1B%5B31m%0Afake%20line.csv", `filename="` + strings.Repeat("n", 300) + `"`} {
+		name := disp
+		var b bytes.Buffer
+		mw := multipart.NewWriter(&b)
+		h := textproto.MIMEHeader{}
+		h.Set("Content-Disposition", `form-data; name="samples"; `+disp)
+		w, _ := mw.CreatePart(h)
+		io.WriteString(w, strings.ReplaceAll(diveCSV, "08:00", fmt.Sprintf("%02d:00", 9+len(name)%10)))
+		mw.Close()
+		code, doc := f.do(ledger.RoleOperator, "POST", path+"/dives", &b, mw.FormDataContentType())
+		if code != 201 || doc["source"] != "samples.csv" {
+			t.Fatalf("upload named %.20q: %d, stored as %v, want 201 as samples.csv", name, code, doc["source"])
+		}
+	}
+	req, _ := http.NewRequest("HEAD", f.http.URL+path+"/report", nil)
+	req.Header.Set("Authorization", "Bearer "+f.tokens[ledger.RoleMaintenance].Secret)
+	var issued int64
+	count := func() int64 {
+		var n int64
+		if err := f.owner.Pool().QueryRow(context.Background(), "SELECT count(*) FROM issued_reports").Scan(&n); err != nil {
+			t.Fatal(err)
+		}
+		return n
+	}
+	issued = count()
+	res, err := http.DefaultClient.Do(req)
+	if err != nil {
+		t.Fatal(err)
+	}
+	res.Body.Close()
+	if res.StatusCode != 405 || count() != issued {
+		t.Fatalf("HEAD on a report: %d, reports issued %d → %d", res.StatusCode, issued, count())
+	}
+	if code, _ := f.do(ledger.RoleInspector, "GET", path+"/clearance?depth_m=100&bottom_min=Inf", nil, ""); code != 422 {
+		t.Fatalf("clearance with an infinite bottom time: %d, want 422", code)
 	}
 }
