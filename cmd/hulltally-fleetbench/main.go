@@ -38,6 +38,7 @@ import (
 	"os/exec"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strconv"
 	"strings"
 	"time"
@@ -63,6 +64,8 @@ type options struct {
 	bin     string
 	keep    bool
 	workers int
+	// cmds are the commands timed (-only, default all).
+	cmds []command
 }
 
 func main() {
@@ -73,7 +76,20 @@ func main() {
 	flag.StringVar(&o.bin, "hulltally", "", "hulltally binary (default: build it)")
 	flag.BoolVar(&o.keep, "keep", false, "keep the work folder")
 	flag.IntVar(&o.workers, "workers", runtime.GOMAXPROCS(0), "hulls written at once while building a fleet")
+	only := flag.String("only", "", "time only these commands, comma-separated (e.g. \"fleet,hull show\"; default: all)")
 	flag.Parse()
+	o.cmds = commands
+	if *only != "" {
+		o.cmds = nil
+		for _, n := range strings.Split(*only, ",") {
+			i := slices.IndexFunc(commands, func(c command) bool { return c.name == strings.TrimSpace(n) })
+			if i < 0 {
+				fmt.Fprintf(os.Stderr, "hulltally-fleetbench: -only: no command %q\n", n)
+				os.Exit(2)
+			}
+			o.cmds = append(o.cmds, commands[i])
+		}
+	}
 	var err error
 	if o.sizes, err = parseSizes(sizes); err != nil {
 		fmt.Fprintln(os.Stderr, "hulltally-fleetbench: -sizes:", err)
@@ -159,7 +175,7 @@ func run(ctx context.Context, o options) error {
 		fmt.Printf("fleet %s (%d hulls, %d dives each): built in %.1f s through the ledger's write paths\n", sz, sz.hulls, sz.dives, time.Since(t0).Seconds())
 		res := map[string][]measure{}
 		for r := 0; r < o.rounds; r++ {
-			for _, c := range commands {
+			for _, c := range o.cmds {
 				m, err := timeChild(o.bin, home, c.args(last, home))
 				if err != nil {
 					return fmt.Errorf("%s on fleet %s: %w", c.name, sz, err)
@@ -168,7 +184,7 @@ func run(ctx context.Context, o options) error {
 			}
 		}
 		medians[sz] = map[string]float64{}
-		for _, c := range commands {
+		for _, c := range o.cmds {
 			var w, rss []float64
 			for _, m := range res[c.name] {
 				w, rss = append(w, m.wallS), append(rss, float64(m.rssKB)/1024)
@@ -182,13 +198,13 @@ func run(ctx context.Context, o options) error {
 			return fmt.Errorf("stopping the managed server of fleet %s: %v\n%s", sz, err, out)
 		}
 	}
-	growth(o.sizes, medians)
+	growth(o.sizes, medians, o.cmds)
 	return nil
 }
 
 // growth prints, from the medians, the time per hull between sizes with
 // the same dives per hull and per dive between sizes with the same hulls.
-func growth(sizes []size, med map[size]map[string]float64) {
+func growth(sizes []size, med map[size]map[string]float64, cmds []command) {
 	for i, a := range sizes {
 		for _, b := range sizes[i+1:] {
 			var what string
@@ -202,7 +218,7 @@ func growth(sizes []size, med map[size]map[string]float64) {
 				continue
 			}
 			fmt.Printf("growth %s, ms from the medians:\n", what)
-			for _, c := range commands {
+			for _, c := range cmds {
 				fmt.Printf("  %-19s %8.3f\n", c.name, 1000*(med[b][c.name]-med[a][c.name])/per)
 			}
 		}
