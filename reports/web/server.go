@@ -58,6 +58,10 @@ type Options struct {
 	// bounded by this, not by the uploads in flight; an upload waits,
 	// spooled to disk, for its turn.
 	MaxIngests int
+	// SweepEvery is how often the people's connection pools are checked:
+	// the pool of a person who can no longer sign in (disabled) is closed
+	// (default a minute). Their new requests are refused at once anyway.
+	SweepEvery time.Duration
 	// Signer signs the reports the service writes, and reports uploaded to
 	// be verified must carry its signature; nil: unsigned reports, checked
 	// against the ledger only.
@@ -78,6 +82,8 @@ type Server struct {
 	fails  *failures
 	// ingests holds a token per dive being logged (Options.MaxIngests).
 	ingests chan struct{}
+	// stop ends the sweeper; swept is closed when it has.
+	stop, swept chan struct{}
 
 	requests *prometheus.CounterVec
 	latency  *prometheus.HistogramVec
@@ -101,8 +107,12 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	if opt.MaxIngests < 1 {
 		opt.MaxIngests = 2
 	}
+	if opt.SweepEvery <= 0 {
+		opt.SweepEvery = time.Minute
+	}
 	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
-		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests)}
+		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
+		stop: make(chan struct{}), swept: make(chan struct{})}
 	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
 	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
 	s.dives = prometheus.NewCounter(prometheus.CounterOpts{Name: "hulltally_dives_logged_total", Help: "Dives logged through the service (duplicates not counted)."})
@@ -117,7 +127,59 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	for _, r := range apiRoutes(s) {
 		s.handle(r.pattern, true, r.h)
 	}
+	go s.sweep()
 	return s
+}
+
+// sweep closes, every SweepEvery, the pools of people who can no longer
+// sign in, until Close.
+func (s *Server) sweep() {
+	defer close(s.swept)
+	t := time.NewTicker(s.opt.SweepEvery)
+	defer t.Stop()
+	for {
+		select {
+		case <-s.stop:
+			return
+		case <-t.C:
+		}
+		s.mu.Lock()
+		names := make([]string, 0, len(s.people))
+		for n := range s.people {
+			names = append(names, n)
+		}
+		s.mu.Unlock()
+		if len(names) == 0 {
+			continue
+		}
+		ctx, cancel := context.WithTimeout(context.Background(), 10*time.Second)
+		var gone []string
+		err := s.owner.Pool().QueryRow(ctx, `SELECT coalesce(array_agg(n), '{}') FROM unnest($1::text[]) n
+			WHERE NOT EXISTS (SELECT 1 FROM pg_roles r WHERE r.rolname = n AND r.rolcanlogin)`, names).Scan(&gone)
+		cancel()
+		if err != nil {
+			s.log.Warn("checking the people's connections", "error", err.Error())
+			continue
+		}
+		for _, n := range gone {
+			s.mu.Lock()
+			l, ok := s.people[n]
+			delete(s.people, n)
+			s.mu.Unlock()
+			if ok {
+				l.Close() // waits for requests in progress to give back their connections
+				s.log.Info("closed the connections of a person who can no longer sign in", "person", n)
+			}
+		}
+	}
+}
+
+// open says whether the service holds connections for the person.
+func (s *Server) open(person string) bool {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	_, ok := s.people[person]
+	return ok
 }
 
 // route is one authenticated API route.
@@ -151,6 +213,8 @@ func (s *Server) Handler() http.Handler { return s.mux }
 
 // Close closes the people's connections.
 func (s *Server) Close() {
+	close(s.stop)
+	<-s.swept
 	s.mu.Lock()
 	defer s.mu.Unlock()
 	for k, l := range s.people {

@@ -510,3 +510,30 @@ func TestRequestsRefusedNotBent(t *testing.T) {
 		t.Fatalf("clearance with an infinite bottom time: %d, want 422", code)
 	}
 }
+
+// TestDisabledPersonsConnectionsClosed: once a person is disabled, the
+// service closes the connections it holds for them (the sweep), besides
+// refusing their token at once.
+func TestDisabledPersonsConnectionsClosed(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20, SweepEvery: 50 * time.Millisecond})
+	name := f.names[ledger.RoleMaintenance]
+	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 200 || !f.svc.open(name) {
+		t.Fatalf("before: %d, connections held %v", code, f.svc.open(name))
+	}
+	if err := f.owner.DisablePerson(context.Background(), name); err != nil {
+		t.Fatal(err)
+	}
+	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 401 {
+		t.Fatalf("a disabled person's request: %d, want 401", code)
+	}
+	for deadline := time.Now().Add(5 * time.Second); f.svc.open(name); time.Sleep(20 * time.Millisecond) {
+		if time.Now().After(deadline) {
+			t.Fatal("the disabled person's connections are still held")
+		}
+	}
+	if !f.svc.open(f.names[ledger.RoleInspector]) {
+		if code, _ := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, ""); code != 200 {
+			t.Fatalf("another person after the sweep: %d", code)
+		}
+	}
+}
