@@ -3,7 +3,6 @@ package ledger
 import (
 	"bytes"
 	"context"
-	"errors"
 	"fmt"
 	"io"
 	"sort"
@@ -39,8 +38,8 @@ func (s *series) n() int64 {
 // the spilled parts, then the last (which may be empty; a series with no
 // cycles at all is one empty part). The slice is valid only during fn.
 func (s *series) parts(sp *cycleSpill, fn func([]rainflow.Cycle) error) error {
-	for _, p := range s.spilled {
-		cs, err := sp.read(p)
+	for k := range s.numParts() {
+		cs, err := s.part(sp, k)
 		if err != nil {
 			return err
 		}
@@ -48,10 +47,27 @@ func (s *series) parts(sp *cycleSpill, fn func([]rainflow.Cycle) error) error {
 			return err
 		}
 	}
+	return nil
+}
+
+// numParts is the number of parts the series is stored in: the spilled
+// ones, then the last unless it is empty after spilled ones (a series
+// with no cycles at all is one empty part). The canonical bytes and the
+// stored rows both go by it.
+func (s *series) numParts() int {
 	if len(s.cycles) == 0 && len(s.spilled) > 0 {
-		return nil
+		return len(s.spilled)
 	}
-	return fn(s.cycles)
+	return len(s.spilled) + 1
+}
+
+// part is part k of the series (k < numParts); a spilled part's slice is
+// reused by the next read.
+func (s *series) part(sp *cycleSpill, k int) ([]rainflow.Cycle, error) {
+	if k < len(s.spilled) {
+		return sp.read(s.spilled[k])
+	}
+	return s.cycles, nil
 }
 
 func cyclesCanon(dive uuid.UUID, ss []series) []byte {
@@ -121,11 +137,7 @@ func splitCycles(cs []rainflow.Cycle, r, m, n []float64) ([]float64, []float64, 
 }
 
 func joinCycles(r, m, n []float64) []rainflow.Cycle {
-	out := make([]rainflow.Cycle, len(r))
-	for i := range r {
-		out[i] = rainflow.Cycle{Range: r[i], Mean: m[i], Count: n[i]}
-	}
-	return out
+	return joinCyclesInto(make([]rainflow.Cycle, 0, len(r)), r, m, n)
 }
 
 func splitHolds(hs []assess.Hold) (lv, s []float64) {
@@ -184,18 +196,13 @@ func (s *chunkSource) Next() bool {
 	for s.err == nil && s.i < len(s.ss) {
 		se := &s.ss[s.i]
 		k := s.k
-		var cs []rainflow.Cycle
-		switch {
-		case k < len(se.spilled):
-			cs, s.err = s.sp.read(se.spilled[k])
-			if s.err != nil {
-				return false
-			}
-		case k == len(se.spilled) && (k == 0 || len(se.cycles) > 0):
-			cs = se.cycles
-		default:
+		if k == se.numParts() {
 			s.i, s.k = s.i+1, 0
 			continue
+		}
+		var cs []rainflow.Cycle
+		if cs, s.err = se.part(s.sp, k); s.err != nil {
+			return false
 		}
 		s.k++
 		if se.name == "pressure" && s.pressure != nil {
@@ -249,9 +256,7 @@ func (j *seriesJoiner) add(name, unit string, gate float64, chunk int32, r, m, n
 		return
 	}
 	j.next++
-	for i := range r {
-		s.cycles = append(s.cycles, rainflow.Cycle{Range: r[i], Mean: m[i], Count: n[i]})
-	}
+	s.cycles = joinCyclesInto(s.cycles, r, m, n)
 }
 
 // laterPressureParts reads the pressure cycles stored after the first part
@@ -301,14 +306,24 @@ func laterPressureParts(ctx context.Context, q querier, hulls any, dives []uuid.
 // readers that sum over every part (cycles used toward the qualification,
 // the load histogram) must not sum fewer than the dive counted.
 func checkPressureParts(ctx context.Context, q querier, hull uuid.UUID) error {
-	var dive uuid.UUID
-	err := q.QueryRow(ctx, `SELECT dive_id FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'
-		GROUP BY dive_id HAVING min(chunk) <> 0 OR max(chunk) <> count(*) - 1 LIMIT 1`, hull).Scan(&dive)
-	if errors.Is(err, pgx.ErrNoRows) {
-		return nil
-	}
-	if err != nil {
+	var dive *uuid.UUID
+	if err := q.QueryRow(ctx, "SELECT "+brokenPressureParts, hull).Scan(&dive); err != nil {
 		return fmt.Errorf("checking the parts of the counted pressure cycles: %w", err)
 	}
-	return fmt.Errorf("dive %s: its counted pressure cycles have a part missing or repeated (run hulltally verify); nothing is summed from them", dive)
+	return brokenPartsErr(dive)
+}
+
+// brokenPressureParts is a scalar subquery: a dive of hull $1 whose
+// pressure parts are not numbered 0, 1, 2, ... without a gap or repeat,
+// or NULL. A query that sums the parts selects it beside its sum, so the
+// check costs no second round trip.
+const brokenPressureParts = `(SELECT dive_id FROM dive_cycles WHERE hull_id = $1 AND series = 'pressure'
+		GROUP BY dive_id HAVING min(chunk) <> 0 OR max(chunk) <> count(*) - 1 LIMIT 1)`
+
+// brokenPartsErr is the error for a dive brokenPressureParts found.
+func brokenPartsErr(dive *uuid.UUID) error {
+	if dive == nil {
+		return nil
+	}
+	return fmt.Errorf("dive %s: its counted pressure cycles have a part missing or repeated (run hulltally verify); nothing is summed from them", *dive)
 }

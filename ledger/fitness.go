@@ -284,14 +284,15 @@ func (l *Ledger) pressureCyclesUsed(ctx context.Context, h *Hull) (float64, erro
 	// unnest, not c.ranges[i] over generate_subscripts: a subscript
 	// de-TOASTs the whole array each time, which made this quadratic in a
 	// dive's cycles (1.3 s for one 10 h dive with sensor noise).
-	if err := checkPressureParts(ctx, l.db, h.ID); err != nil {
-		return 0, err
-	}
-	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0) FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id,
+	var broken *uuid.UUID
+	err := l.db.QueryRow(ctx, `SELECT coalesce(sum(u.cnt), 0), `+brokenPressureParts+` FROM dive_cycles c JOIN dives d ON d.hull_id = c.hull_id AND d.id = c.dive_id,
 		unnest(c.ranges, c.counts) AS u(rng, cnt)
-		WHERE c.hull_id = $1 AND c.series = 'pressure' AND u.rng >= $2 AND `+notVoided, h.ID, min).Scan(&n)
+		WHERE c.hull_id = $1 AND c.series = 'pressure' AND u.rng >= $2 AND `+notVoided, h.ID, min).Scan(&n, &broken)
 	if err != nil {
 		return 0, fmt.Errorf("pressure cycles of %s: %w", h.Serial, err)
+	}
+	if err := brokenPartsErr(broken); err != nil {
+		return 0, err
 	}
 	return n, nil
 }

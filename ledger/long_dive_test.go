@@ -138,6 +138,14 @@ func TestLongDiveInParts(t *testing.T) {
 			if c, err := l.DiveCycles(ctx, d.ID); err == nil {
 				t.Fatalf("the dive's cycles were read with %s: %d cycles", tc.name, len(c))
 			}
+			// The sums over every part: the cycles used toward the
+			// qualification (in the hull's status) and the load histogram.
+			if f, err := l.FitnessAt(ctx, h, time.Now()); err == nil {
+				t.Fatalf("the hull's status was evaluated with %s: %s", tc.name, f.Status)
+			}
+			if r, _, err := l.HullCycles(ctx, h.ID); err == nil {
+				t.Fatalf("the load histogram was read with %s: %d ranges", tc.name, len(r))
+			}
 			if _, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: "test"}); err == nil {
 				t.Fatalf("assess counted the dive with %s", tc.name)
 			}

@@ -188,10 +188,8 @@ func (l *Ledger) AddPerson(ctx context.Context, name string, role Role, password
 		switch {
 		case errors.As(err, &pe) && pe.Code == "42710":
 			return nil, inputErr(fmt.Errorf("person %s: the name is taken on this database server", name))
-		case errors.As(err, &pe) && pe.Code == "22023":
-			return nil, inputErr(fmt.Errorf("person %s: %s", name, pe.Message))
 		}
-		return nil, l.NotPermitted(fmt.Errorf("adding person %s: %w", name, err))
+		return nil, l.NotPermitted(refusedParam(fmt.Errorf("adding person %s: %w", name, err)))
 	}
 	return p, nil
 }
@@ -234,19 +232,25 @@ func (l *Ledger) DisablePerson(ctx context.Context, name string) error {
 	if err := l.writable("DisablePerson"); err != nil {
 		return err
 	}
-	people, err := l.People(ctx)
-	if err != nil {
-		return err
-	}
-	if !slices.ContainsFunc(people, func(p Person) bool { return p.Name == name }) {
-		return inputErr(fmt.Errorf("no person %q (hulltally person list)", name))
-	}
-	// Through the owner's function (migration 014): NOLOGIN and the
-	// person's sessions ended, both or neither.
+	// Through the owner's function (migration 014): it refuses anyone but
+	// a person, and makes NOLOGIN and the end of their sessions both or
+	// neither.
 	if _, err := l.pool.Exec(ctx, "SELECT hulltally_disable_person($1)", name); err != nil {
-		return l.NotPermitted(fmt.Errorf("disabling person %s: %w", name, err))
+		return l.NotPermitted(refusedParam(fmt.Errorf("disabling person %s: %w", name, err)))
 	}
 	return nil
+}
+
+// refusedParam turns the people and token functions' refusal of a value
+// (SQLSTATE 22023, invalid_parameter_value: no such person, a bad name, a
+// bad expiry) into an InputError with the function's message; other
+// errors are returned as they are.
+func refusedParam(err error) error {
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) && pe.Code == "22023" {
+		return inputErr(fmt.Errorf("%s (hulltally person list)", pe.Message))
+	}
+	return err
 }
 
 func groups() []string {

@@ -180,6 +180,18 @@ func TestRolesTheDatabaseEnforces(t *testing.T) {
 	if res, err := owner.Verify(ctx); err != nil || !res.OK {
 		t.Fatalf("verify after every role: %v %+v", err, res.FirstBroken)
 	}
+	// Tokens and disabling only for people: refused as input, not failed.
+	var ie *ledger.InputError
+	for what, err := range map[string]error{
+		"a token for no one":         func() error { _, err := owner.CreateToken(ctx, "nobody-here", 1, ""); return err }(),
+		"a token for a group":        func() error { _, err := owner.CreateToken(ctx, "hulltally_maintenance", 1, ""); return err }(),
+		"disabling no one":           owner.DisablePerson(ctx, "nobody-here"),
+		"disabling the owner's role": owner.DisablePerson(ctx, owner.Identity().Name),
+	} {
+		if !errors.As(err, &ie) {
+			t.Errorf("%s: %v, want refused as input", what, err)
+		}
+	}
 }
 
 // TestRolesResistRawSQL: what a person with a database login could try

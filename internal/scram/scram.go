@@ -14,7 +14,10 @@ import (
 	"fmt"
 )
 
-// Iterations is PostgreSQL's default iteration count (scram_iterations).
+// Iterations is PostgreSQL's default iteration count (scram_iterations,
+// 4096; from memory of PostgreSQL's documentation). A verifier carries its
+// own count, so a server with another default still accepts it: the login
+// tests check this against the server the suite runs.
 const Iterations = 4096
 
 // ErrNotASCII is returned for a password with characters outside

@@ -174,13 +174,6 @@ func (s *Server) sweep() {
 	}
 }
 
-// open says whether the service holds connections for the person.
-func (s *Server) open(person string) bool {
-	s.mu.Lock()
-	defer s.mu.Unlock()
-	_, ok := s.people[person]
-	return ok
-}
 
 // route is one authenticated API route.
 type route struct {

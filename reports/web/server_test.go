@@ -511,6 +511,14 @@ func TestRequestsRefusedNotBent(t *testing.T) {
 	}
 }
 
+// open says whether the service holds connections for the person.
+func (s *Server) open(person string) bool {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	_, ok := s.people[person]
+	return ok
+}
+
 // TestDisabledPersonsConnectionsClosed: once a person is disabled, the
 // service closes the connections it holds for them (the sweep), besides
 // refusing their token at once.
