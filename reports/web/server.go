@@ -174,7 +174,6 @@ func (s *Server) sweep() {
 	}
 }
 
-
 // route is one authenticated API route.
 type route struct {
 	pattern string
