@@ -65,6 +65,10 @@ type Server struct {
 	MaxIngests int
 	// MemoryLimitMB is the service's soft memory limit.
 	MemoryLimitMB int64
+	// URL and Token: the service the command line uses as a client (for
+	// the commands that can), and the person's token; URL empty: the
+	// database.
+	URL, Token string
 }
 
 // Database says how to reach PostgreSQL.

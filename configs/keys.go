@@ -229,6 +229,10 @@ func Keys() []Key {
 			func(c *Config, n int64) { c.Server.MaxIngests = int(n) }),
 		whole("server.memory_limit_mb", "96", 16, 1<<20, "soft memory limit of the service, MiB (Go's GC works harder near it; GOMEMLIMIT, when set, wins)",
 			func(c *Config, n int64) { c.Server.MemoryLimitMB = n }),
+		text("server.url", "", "the service the command line uses instead of the database for `dive log`, `clear`, `fleet` and `report verify` (https, or http to a loopback address); empty: the database",
+			func(c *Config, s string) { c.Server.URL = s }),
+		text("server.token", "", "personal API token for `server.url` (from `hulltally token create`); a secret: prefer the variable, or keep the file private",
+			func(c *Config, s string) { c.Server.Token = s }),
 	}
 }
 

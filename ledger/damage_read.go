@@ -30,6 +30,23 @@ func (n Num) MarshalJSON() ([]byte, error) {
 	return json.Marshal(f)
 }
 
+// UnmarshalJSON implements json.Unmarshaler: null, the figure a reader
+// cannot use, reads back as +Inf, its worst (a static overload), never as
+// 0; a client that reads the JSON can then not show a hull better than the
+// ledger did.
+func (n *Num) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*n = Num(math.Inf(1))
+		return nil
+	}
+	var f float64
+	if err := json.Unmarshal(b, &f); err != nil {
+		return fmt.Errorf("a damage figure: %w", err)
+	}
+	*n = Num(f)
+	return nil
+}
+
 // ComponentDamage is a component's cumulative damage.
 type ComponentDamage struct {
 	Name            string  `json:"name"`

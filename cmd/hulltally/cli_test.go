@@ -14,6 +14,7 @@ import (
 	"github.com/jackc/pgx/v5"
 	"github.com/spf13/cobra"
 
+	"hulltally/ledger"
 	"hulltally/reports/view"
 )
 
@@ -60,9 +61,15 @@ func TestPercentNeverInf(t *testing.T) {
 	if p, over := view.PercentJSON(0.25); p == nil || *p != 25 || over {
 		t.Errorf("view.PercentJSON(0.25) = %v, %v", p, over)
 	}
-	b, err := json.Marshal(view.FleetRow{Ratio: math.Inf(1), DamagePercent: nil, DamageOverload: true})
-	if err != nil || bytes.Contains(b, []byte("inf")) || !bytes.Contains(b, []byte(`"damage_percent_of_allowable":null`)) {
+	b, err := json.Marshal(view.FleetRow{Ratio: ledger.Num(math.Inf(1)), DamagePercent: nil, DamageOverload: true})
+	if err != nil || bytes.Contains(b, []byte("inf")) || !bytes.Contains(b, []byte(`"damage_percent_of_allowable":null`)) || !bytes.Contains(b, []byte(`"damage_ratio":null`)) {
 		t.Errorf("fleet row: %s %v", b, err)
+	}
+	// A client reading the row back must not see 0 where the ledger had an
+	// overload: null reads back as +Inf.
+	var back view.FleetRow
+	if err := json.Unmarshal(b, &back); err != nil || !math.IsInf(float64(back.Ratio), 1) || view.Percent(float64(back.Ratio)) != "OVERLOAD" {
+		t.Errorf("fleet row read back: %v %v", back.Ratio, err)
 	}
 }
 

@@ -33,57 +33,40 @@ func (a *app) diveCmd() *cobra.Command {
 			if err := a.fillLog(&req, lat, start); err != nil {
 				return err
 			}
-			if progress {
-				req.Progress = func(n int64) { fmt.Fprintf(a.errOut, "progress: %d samples stored\n", n) }
-			}
-			l, err := a.open(cmd.Context())
+			rc, err := a.remote()
 			if err != nil {
 				return err
 			}
-			defer l.Close()
-			h, err := l.Hull(cmd.Context(), req.Hull)
-			if err != nil {
-				return &ledger.InputError{Err: err}
-			}
-			before, err := l.FitnessAt(cmd.Context(), h, time.Now().UTC())
-			if err != nil {
-				return err
-			}
-			d, err := l.LogDive(cmd.Context(), req)
-			if err != nil {
-				return err
-			}
-			if d.Duplicate {
-				if a.asJSON {
-					return a.printJSON(d)
+			var g *view.Logged
+			if rc != nil {
+				var sent func(int64)
+				if progress {
+					sent = func(n int64) { fmt.Fprintf(a.errOut, "progress: %d bytes sent to %s\n", n, rc.URL()) }
 				}
-				a.printf("already recorded: dive %s of hull %s (recorded %s); nothing added\n", d.ID, d.Hull, d.RecordedAt.Format(time.RFC3339))
-				return nil
-			}
-			after := d.StatusAfter() // evaluated and noted by LogDive
-			if after == nil {
-				if after, err = l.FitnessOf(cmd.Context(), h, time.Now().UTC()); err != nil {
+				var raw []byte
+				if g, raw, err = rc.LogDive(cmd.Context(), req, sent); err != nil {
 					return err
 				}
+				if a.asJSON {
+					return a.printRaw(raw)
+				}
+			} else {
+				if progress {
+					req.Progress = func(n int64) { fmt.Fprintf(a.errOut, "progress: %d samples stored\n", n) }
+				}
+				l, err := a.open(cmd.Context())
+				if err != nil {
+					return err
+				}
+				defer l.Close()
+				if g, err = view.LogDive(cmd.Context(), l, req, time.Now().UTC(), cautionText()); err != nil {
+					return err
+				}
+				if a.asJSON {
+					return a.printJSON(g)
+				}
 			}
-			load, err := l.LoadOf(cmd.Context(), d.ID)
-			if err != nil {
-				return err
-			}
-			if a.asJSON {
-				return a.printJSON(struct {
-					*ledger.Dive
-					*ledger.DiveLoad
-					StatusBefore string          `json:"status_before"`
-					StatusAfter  string          `json:"status_after"`
-					Reasons      []ledger.Reason `json:"status_reasons"`
-					Caution      string          `json:"caution"`
-				}{d, load, before.Status, after.Status, after.Reasons, cautionText()})
-			}
-			a.printDive(d)
-			a.printEvidence(d.Evidence)
-			a.printStatusChange(before, after)
-			a.printDiveLoad(load)
+			a.printLogged(g)
 			return nil
 		},
 	}
@@ -435,20 +418,33 @@ func (a *app) printEvidence(e *ledger.EvidenceView) {
 	}
 }
 
+// printLogged prints the answer to logging a dive.
+func (a *app) printLogged(g *view.Logged) {
+	d := g.Dive
+	if d.Duplicate {
+		a.printf("already recorded: dive %s of hull %s (recorded %s); nothing added\n", d.ID, d.Hull, d.RecordedAt.Format(time.RFC3339))
+		return
+	}
+	a.printDive(d)
+	a.printEvidence(d.Evidence)
+	a.printStatusChange(g)
+	a.printDiveLoad(g.DiveLoad)
+}
+
 // printStatusChange prints the hull's status before and after a dive,
 // with the reasons when it changed.
-func (a *app) printStatusChange(before, after *ledger.Fitness) {
-	if before.Status == after.Status {
-		a.printf("hull status: %s (unchanged)\n", after.Status)
+func (a *app) printStatusChange(g *view.Logged) {
+	if g.StatusBefore == g.StatusAfter {
+		a.printf("hull status: %s (unchanged)\n", g.StatusAfter)
 	} else {
-		a.printf("hull status: %s → %s\n", strings.ToUpper(before.Status), strings.ToUpper(after.Status))
+		a.printf("hull status: %s → %s\n", strings.ToUpper(g.StatusBefore), strings.ToUpper(g.StatusAfter))
 	}
 	was := map[string]bool{}
-	for _, r := range before.Reasons {
+	for _, r := range g.ReasonsBefore {
 		was[r.Text] = true
 	}
 	// The same rule raised by many dives is shown once, with a count.
-	for _, x := range view.CollapseReasons(after.Reasons, false) {
+	for _, x := range view.CollapseReasons(g.Reasons, false) {
 		mark := "  "
 		if !was[x.First.Text] {
 			mark = "+ "

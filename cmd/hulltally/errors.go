@@ -22,6 +22,9 @@ const (
 	kindFailure = "failure" // hulltally could not do it (database unavailable, I/O): exit 1
 	// kindNotPermitted: the database refused the person signed in: exit 1.
 	kindNotPermitted = "not_permitted"
+	// kindUnauthenticated: the service refused the token (server.token):
+	// exit 1.
+	kindUnauthenticated = "unauthenticated"
 )
 
 // usageError is a wrong command line: an unknown command or flag, a
@@ -43,6 +46,12 @@ var cobraUsagePrefixes = []string{
 func classify(err error) (kind string, code int) {
 	var ue usageError
 	var ie *ledger.InputError
+	if kind, ok := serviceKind(err); ok {
+		if kind == kindInput {
+			return kind, exitInput
+		}
+		return kind, exitFailed
+	}
 	switch {
 	case err == nil:
 		return "", exitOK

@@ -26,23 +26,40 @@ func (a *app) clearCmd() *cobra.Command {
 			if depth <= 0 {
 				return usageError{fmt.Errorf("--depth M (the planned depth in metres, more than 0) is required")}
 			}
-			l, err := a.open(cmd.Context())
+			rc, err := a.remote()
 			if err != nil {
 				return err
 			}
-			defer l.Close()
-			c, err := l.Clear(cmd.Context(), args[0], depth, bottom, time.Now().UTC())
-			if err != nil {
-				return err
-			}
-			if !c.Go {
-				a.exit = exitNoGo
-			}
-			if a.asJSON {
-				return a.printJSON(struct {
-					*ledger.Clearance
-					Caution string `json:"caution"`
-				}{c, cautionText()})
+			var c *ledger.Clearance
+			if rc != nil {
+				var raw []byte
+				if c, raw, err = rc.Clear(cmd.Context(), args[0], depth, bottom); err != nil {
+					return err
+				}
+				if !c.Go {
+					a.exit = exitNoGo
+				}
+				if a.asJSON {
+					return a.printRaw(raw)
+				}
+			} else {
+				l, err := a.open(cmd.Context())
+				if err != nil {
+					return err
+				}
+				defer l.Close()
+				if c, err = l.Clear(cmd.Context(), args[0], depth, bottom, time.Now().UTC()); err != nil {
+					return err
+				}
+				if !c.Go {
+					a.exit = exitNoGo
+				}
+				if a.asJSON {
+					return a.printJSON(struct {
+						*ledger.Clearance
+						Caution string `json:"caution"`
+					}{c, cautionText()})
+				}
 			}
 			verdict := "GO"
 			if !c.Go {
@@ -86,17 +103,31 @@ func (a *app) fleetCmd() *cobra.Command {
 		Example: "  hulltally fleet\n  hulltally fleet --json\n  hulltally fleet rebuild",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
-			l, err := a.open(cmd.Context())
+			rc, err := a.remote()
 			if err != nil {
 				return err
 			}
-			defer l.Close()
-			fl, err := view.FleetRowsOf(cmd.Context(), l, time.Now().UTC())
-			if err != nil {
-				return err
-			}
-			if a.asJSON {
-				return a.printJSON(map[string]any{"hulls": fl, "caution": cautionText()})
+			var fl []view.FleetRow
+			if rc != nil {
+				var raw []byte
+				if fl, raw, err = rc.Fleet(cmd.Context()); err != nil {
+					return err
+				}
+				if a.asJSON {
+					return a.printRaw(raw)
+				}
+			} else {
+				l, err := a.open(cmd.Context())
+				if err != nil {
+					return err
+				}
+				defer l.Close()
+				if fl, err = view.FleetRowsOf(cmd.Context(), l, time.Now().UTC()); err != nil {
+					return err
+				}
+				if a.asJSON {
+					return a.printJSON(map[string]any{"hulls": fl, "caution": cautionText()})
+				}
 			}
 			a.printFleet(fl)
 			return nil
@@ -142,7 +173,7 @@ func (a *app) printFleet(fl []view.FleetRow) {
 		if r.LastDive != nil {
 			last = r.LastDive.UTC().Format("2006-01-02")
 		}
-		fmt.Fprintf(w, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\n", view.TerminalSafe(r.Serial), view.TerminalSafe(r.Name), strings.ToUpper(r.Status), view.Percent(r.Ratio), r.Governing, r.Remaining, last, len(r.OpenFlags))
+		fmt.Fprintf(w, "%s\t%s\t%s\t%s\t%s\t%s\t%s\t%d\n", view.TerminalSafe(r.Serial), view.TerminalSafe(r.Name), strings.ToUpper(r.Status), view.Percent(float64(r.Ratio)), r.Governing, r.Remaining, last, len(r.OpenFlags))
 	}
 	w.Flush()
 	for _, r := range fl {

@@ -42,6 +42,8 @@ type app struct {
 	exit    int
 	// in is standard input (os.Stdin when nil).
 	in io.Reader
+	// command is the command's path (hulltally dive log), once parsed.
+	command string
 	// identity is who the ledger's connection is, once opened.
 	identity ledger.Identity
 	// stopSignals restores the default handling of SIGINT and SIGTERM (a
@@ -86,7 +88,8 @@ func jsonRequested(args []string) bool {
 func (a *app) fail(cmd *cobra.Command, err error) {
 	kind, code := classify(err)
 	var already *ledger.NotPermittedError
-	if kind == kindNotPermitted && !errors.As(err, &already) {
+	_, fromService := serviceKind(err) // the service named the person
+	if kind == kindNotPermitted && !errors.As(err, &already) && !fromService {
 		err = &ledger.NotPermittedError{Identity: a.identity, Err: err}
 	}
 	dbURL := ""
@@ -94,6 +97,9 @@ func (a *app) fail(cmd *cobra.Command, err error) {
 		dbURL = a.cfg.Database.URL
 	}
 	msg := redactWith(err.Error(), dbURL)
+	if a.cfg != nil && len(a.cfg.Server.Token) >= 4 {
+		msg = strings.ReplaceAll(msg, a.cfg.Server.Token, redacted)
+	}
 	if a.asJSON || a.jsonArg {
 		_ = json.NewEncoder(a.out).Encode(map[string]any{"error": map[string]string{"kind": kind, "message": msg}})
 	} else {
@@ -128,7 +134,7 @@ func (a *app) rootCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			a.cfg = cfg
+			a.cfg, a.command = cfg, cmd.CommandPath()
 			return nil
 		},
 		RunE: func(cmd *cobra.Command, _ []string) error {
@@ -176,8 +182,19 @@ func (a *app) loadConfig() (*configs.Config, error) {
 	return cfg, nil
 }
 
-// open opens the ledger and says what the first start created.
+// open opens the ledger and says what the first start created; with
+// server.url set it refuses (the command works only against the
+// database).
 func (a *app) open(ctx context.Context) (*ledger.Ledger, error) {
+	if a.cfg.Server.URL != "" {
+		return nil, a.errDatabaseOnly("'" + a.command + "'")
+	}
+	return a.openDB(ctx)
+}
+
+// openDB opens the ledger whatever server.url says (the service itself
+// runs on the database).
+func (a *app) openDB(ctx context.Context) (*ledger.Ledger, error) {
 	l, err := ledger.Open(ctx, a.cfg)
 	if err != nil {
 		if databaseUnavailable(err) {

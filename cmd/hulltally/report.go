@@ -91,6 +91,9 @@ func (a *app) reportCmd() *cobra.Command {
 			if offline && pubFile == "" {
 				return usageError{reports.ErrOfflineNeedsKey}
 			}
+			if pubFile != "" && !offline && bundleFile == "" && a.cfg.Server.URL != "" {
+				return usageError{fmt.Errorf("against the service (server.url), the service checks the signature with its own key: drop --key, or add --offline to check the signature here without the ledger")}
+			}
 			if pubFile != "" {
 				pub, _, err := sign.LoadPublic(pubFile)
 				if err != nil {
@@ -132,10 +135,26 @@ func (a *app) reportCmd() *cobra.Command {
 			}
 			var v *reports.Verification
 			var err error
-			if offline {
-				// No database is opened, nor started.
+			rc, rerr := a.remote()
+			if rerr != nil {
+				return rerr
+			}
+			switch {
+			case offline:
+				// No database is opened, nor started, nor the service asked.
 				v, err = reports.VerifyWith(cmd.Context(), nil, args[0], o)
-			} else {
+			case rc != nil:
+				var raw []byte
+				if v, raw, err = rc.VerifyReport(cmd.Context(), args[0]); err != nil {
+					return err
+				}
+				if !v.OK {
+					a.exit = exitFailed
+				}
+				if a.asJSON {
+					return a.printRaw(raw)
+				}
+			default:
 				l, oerr := a.open(cmd.Context())
 				if oerr != nil {
 					return oerr

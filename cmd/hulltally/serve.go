@@ -43,7 +43,7 @@ func (a *app) serveCmd() *cobra.Command {
 			if err != nil {
 				return err
 			}
-			l, err := a.open(cmd.Context())
+			l, err := a.openDB(cmd.Context())
 			if err != nil {
 				return err
 			}

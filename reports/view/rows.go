@@ -38,8 +38,8 @@ type FleetRow struct {
 	EvaluatedAt time.Time `json:"evaluated_at"`
 	FromSummary bool      `json:"from_summary"`
 	// Ratio is the governing damage ratio, for the order and the text
-	// (Percent); not in the JSON, which carries DamagePercent.
-	Ratio float64 `json:"-"`
+	// (Percent): null when infinite or not a number (read back as +Inf).
+	Ratio ledger.Num `json:"damage_ratio"`
 }
 
 // Row is the hull's fleet row.
@@ -53,12 +53,12 @@ func (h *Hull) Row() FleetRow {
 // ledger's damage (before the view voids a life: ShownDamage, LifeOf).
 func rowOf(serial, name, status string, reasons []ledger.Reason, lastDive *time.Time, dmg *ledger.Damages) FleetRow {
 	shown, life := ShownDamage(status, dmg), LifeOf(status, dmg)
-	r := FleetRow{Serial: serial, Name: name, Status: status, Ratio: math.NaN(),
+	r := FleetRow{Serial: serial, Name: name, Status: status, Ratio: ledger.Num(math.NaN()),
 		LastDive: lastDive, OpenFlags: OpenFlags(reasons), Reasons: reasons}
 	if shown != nil {
-		r.Ratio, r.Governing = float64(shown.GoverningRatio), shown.Governing
+		r.Ratio, r.Governing = shown.GoverningRatio, shown.Governing
 	}
-	r.DamagePercent, r.DamageOverload = PercentJSON(r.Ratio)
+	r.DamagePercent, r.DamageOverload = PercentJSON(float64(r.Ratio))
 	r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason = life.Dives, life.MoreThan, life.Status, life.Reason
 	r.Remaining = life.Short()
 	return r
@@ -79,7 +79,7 @@ func FleetRowsOf(ctx context.Context, l *ledger.Ledger, at time.Time) ([]FleetRo
 		r.EvaluatedAt, r.FromSummary = e.EvaluatedAt, e.Derived
 		out = append(out, r)
 	}
-	SortByUrgency(out, func(r *FleetRow) Rank { return Rank{Status: r.Status, Ratio: r.Ratio, Serial: r.Serial} })
+	SortByUrgency(out, func(r *FleetRow) Rank { return Rank{Status: r.Status, Ratio: float64(r.Ratio), Serial: r.Serial} })
 	return out, nil
 }
 
@@ -154,7 +154,7 @@ func hullRows(hs []ledger.HullSummary, rows map[string]FleetRow) []HullRow {
 	for _, s := range hs {
 		r := HullRow{HullSummary: s, LastDive: s.LastDive}
 		if fr, ok := rows[s.Serial]; ok {
-			r.Status, r.Governing, r.Ratio = fr.Status, fr.Governing, fr.Ratio
+			r.Status, r.Governing, r.Ratio = fr.Status, fr.Governing, float64(fr.Ratio)
 			r.DamagePercent, r.DamageOverload = fr.DamagePercent, fr.DamageOverload
 			r.RemainingDives, r.RemainingMoreThan, r.RemainingStatus, r.RemainingReason, r.Remaining = fr.RemainingDives, fr.RemainingMoreThan, fr.RemainingStatus, fr.RemainingReason, fr.Remaining
 		}

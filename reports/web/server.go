@@ -496,7 +496,7 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 		return 0, nil, err
 	}
 	defer release()
-	d, err := l.LogDive(r.Context(), req)
+	d, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
 	if err != nil {
 		// The spool folder is the service's business, not the client's.
 		var ie *ledger.InputError
