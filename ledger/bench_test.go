@@ -80,7 +80,7 @@ func copyFleet(tb testing.TB, l *ledger.Ledger, prefix string, hulls int, dives 
 			sha := make([]byte, 32)
 			copy(sha, id[:])
 			diveRows = append(diveRows, []any{id, rec.ID, int32(1), "bench.csv", sha, int64(1), st, st.Add(5 * time.Hour), 45.0, false, "", "", "pressure_mpa",
-				[]string{"t_s", "pressure_mpa"}, []string{}, int64(1000), int32(1), 18000.0, peak * 99, peak, false, int32(0), st})
+				[]string{"t_s", "pressure_mpa"}, []string{}, int64(1000), int32(1), 18000.0, peak * 99, peak, false, int32(0), st, l.Identity().Name})
 			r, m, n := []float64{peak, peak}, []float64{peak / 2, peak / 2}, []float64{0.5, 0.5}
 			for k := 0; k < 10; k++ {
 				r, m, n = append(r, 0.1+0.3*rng.Float64()), append(m, peak-0.2), append(n, 1)
@@ -94,7 +94,7 @@ func copyFleet(tb testing.TB, l *ledger.Ledger, prefix string, hulls int, dives 
 		}
 		err = pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
 			cols := []string{"id", "hull_id", "hull_revision", "source_name", "source_sha256", "source_bytes", "start_time", "end_time", "latitude", "latitude_assumed",
-				"site", "operator", "load_column", "columns", "gauges", "sample_count", "block_count", "duration_s", "max_depth_m", "max_pressure_mpa", "beyond_rated", "ae_hit_count", "recorded_at"}
+				"site", "operator", "load_column", "columns", "gauges", "sample_count", "block_count", "duration_s", "max_depth_m", "max_pressure_mpa", "beyond_rated", "ae_hit_count", "recorded_at", "recorded_by"}
 			if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dives"}, cols, pgx.CopyFromRows(diveRows)); err != nil {
 				return err
 			}

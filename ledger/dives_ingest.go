@@ -5,10 +5,12 @@ import (
 	"crypto/sha256"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"math"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 	"time"
 
@@ -38,8 +40,12 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if req.Latitude != nil && !seawater.ValidLatitude(*req.Latitude) {
 		return nil, inputErr(fmt.Errorf("latitude %v: must be between -90 and 90 degrees", *req.Latitude))
 	}
-	sha, size, err := hashFile(ctx, req.Samples)
-	if err != nil {
+	var sha []byte
+	var size int64
+	if dg := req.SamplesDigest; dg != nil && len(dg.SHA256) == sha256.Size && dg.Size >= 0 {
+		// Known already: checked against the bytes as they are parsed.
+		sha, size = dg.SHA256, dg.Size
+	} else if sha, size, err = hashFile(ctx, req.Samples); err != nil {
 		return nil, fileErr(ctx, err)
 	}
 	var aeSHA []byte
@@ -48,8 +54,23 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 			return nil, fileErr(ctx, err)
 		}
 	}
-	if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
+	// already answers "already recorded": from a digest given with the
+	// request, only once the file is hashed and agrees (a wrong digest
+	// would otherwise leave the dive unrecorded).
+	already := func(d *Dive, err error) (*Dive, error) {
+		if d != nil && err == nil && req.SamplesDigest != nil {
+			got, n, herr := hashFile(ctx, req.Samples)
+			if herr != nil {
+				return nil, fileErr(ctx, herr)
+			}
+			if !equalBytes(got, sha) || n != size {
+				return nil, inputErr(fmt.Errorf("%s: its SHA-256 or size is not the one given with it; nothing was stored", filepath.Base(req.Samples)))
+			}
+		}
 		return d, err
+	}
+	if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
+		return already(d, err)
 	}
 	replaces, err := l.elsewhere(ctx, l.db, h, "source_sha256", sha, "samples file")
 	if err != nil {
@@ -68,7 +89,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 		return nil, fmt.Errorf("logging dive: %w", err)
 	}
 	if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
-		return d, err
+		return already(d, err)
 	}
 
 	// A long dive's counted cycles wait on disk, not in memory, until
@@ -101,7 +122,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err := l.checkPlace(ctx, tx, h, row); err != nil {
 		return nil, err
 	}
-	tag, err := tx.Exec(ctx, "INSERT INTO dives ("+diveColumns+") VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25) ON CONFLICT (hull_id, source_sha256) DO NOTHING", row.values()...)
+	tag, err := tx.Exec(ctx, "INSERT INTO dives ("+diveColumns+") VALUES ($1,$2,$3,$4,$5,$6,$7,$8,$9,$10,$11,$12,$13,$14,$15,$16,$17,$18,$19,$20,$21,$22,$23,$24,$25,$26) ON CONFLICT (hull_id, source_sha256) DO NOTHING", row.values()...)
 	if err != nil {
 		return nil, fmt.Errorf("logging dive: storing the dive row: %w", err)
 	}
@@ -183,7 +204,7 @@ func (l *Ledger) checkPlace(ctx context.Context, tx pgx.Tx, h *Hull, row *diveRo
 func (l *Ledger) sameSamples(ctx context.Context, q querier, h *Hull, fp, aeSHA []byte) (*Dive, error) {
 	var r diveRow
 	var void bool
-	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" FROM dives d JOIN dive_fingerprints f ON f.hull_id = d.hull_id AND f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 ORDER BY 26 LIMIT 1", h.ID, fp).Scan(append(r.scanArgs(), &void)...)
+	err := q.QueryRow(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" FROM dives d JOIN dive_fingerprints f ON f.hull_id = d.hull_id AND f.dive_id = d.id WHERE d.hull_id = $1 AND f.fingerprint = $2 ORDER BY "+strconv.Itoa(diveColumnCount+1)+" LIMIT 1", h.ID, fp).Scan(append(r.scanArgs(), &void)...)
 	if err == pgx.ErrNoRows {
 		return nil, nil
 	}
@@ -289,7 +310,18 @@ func diveFromRow(r *diveRow, serial string, rated float64, dup bool) *Dive {
 		SourceSHA256: fmt.Sprintf("%x", r.SHA), AESource: r.AEName, Start: r.Start, End: r.End, DurationS: r.Duration,
 		Samples: r.Samples, Blocks: r.Blocks, MaxDepthM: r.MaxDepth, MaxPressureMPa: r.MaxPres, RatedDepthM: rated,
 		BeyondRated: r.Beyond, LoadColumn: r.LoadColumn, Columns: r.Columns, Gauges: r.Gauges, AEHits: r.AEHits,
-		Latitude: r.Lat, LatitudeAssumed: r.LatAssumed, Site: r.Site, Operator: r.Operator, RecordedAt: r.RecordedAt}
+		Latitude: r.Lat, LatitudeAssumed: r.LatAssumed, Site: r.Site, Operator: r.Operator, RecordedAt: r.RecordedAt, RecordedBy: r.RecordedBy}
+}
+
+// countingHash is a hash that counts the bytes written to it.
+type countingHash struct {
+	hash.Hash
+	n int64
+}
+
+func (c *countingHash) Write(p []byte) (int, error) {
+	c.n += int64(len(p))
+	return c.Hash.Write(p)
 }
 
 // hashFile hashes a data-logger file. Only a regular file is read (a FIFO,
@@ -326,7 +358,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		return nil, nil, fileErr(ctx, err)
 	}
 	defer f.Close()
-	tee := sha256.New()
+	tee := &countingHash{Hash: sha256.New()}
 	name := filepath.Base(req.Samples)
 	minT, maxT, err := l.timeWindow()
 	if err != nil {
@@ -347,7 +379,8 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	lat, assumed := l.latitude(req.Latitude, load.Load)
 
 	row := &diveRow{ID: uuid.New(), HullID: h.ID, HullRevision: h.Revision, SourceName: name, SHA: sha, SourceBytes: size,
-		Lat: lat, LatAssumed: assumed, Site: req.Site, Operator: req.Operator, LoadColumn: load.Name, Gauges: hdr.Gauges}
+		Lat: lat, LatAssumed: assumed, Site: req.Site, Operator: req.Operator, LoadColumn: load.Name, Gauges: hdr.Gauges,
+		RecordedBy: &l.identity.Name} // the database checks it is current_user
 	if row.Gauges == nil {
 		row.Gauges = []string{}
 	}
@@ -372,7 +405,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	if err != nil {
 		return nil, nil, fmt.Errorf("storing readings: %w", err)
 	}
-	if got := tee.Sum(nil); !equalBytes(got, sha) {
+	if got := tee.Sum(nil); !equalBytes(got, sha) || tee.n != size {
 		return nil, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored — log it again once the logger has finished writing", req.Samples))
 	}
 	row.Samples = src.rows

@@ -24,9 +24,20 @@ type LogRequest struct {
 	// Progress, if set, is called after each stored block with the samples
 	// stored so far.
 	Progress func(samples int64)
+	// SamplesDigest, when the caller has it already (the service hashes an
+	// upload as it spools it), spares a pass over the samples file to hash
+	// it. It is not taken on its word: the bytes are hashed and counted
+	// again as they are parsed, and a difference stores nothing.
+	SamplesDigest *FileDigest
 	// proof, when set, is the proof test these samples record: it is
 	// checked against them and stored in the same transaction.
 	proof *ProofTest
+}
+
+// FileDigest is a file's SHA-256 and size in bytes.
+type FileDigest struct {
+	SHA256 []byte
+	Size   int64
 }
 
 // Dive is a recorded dive's summary.
@@ -56,6 +67,11 @@ type Dive struct {
 	Site            string    `json:"site"`
 	Operator        string    `json:"operator"`
 	RecordedAt      time.Time `json:"recorded_at"`
+	// RecordedBy is who logged the dive: the database identity of the
+	// session (the person, through the service), stamped and checked by
+	// the database. Absent for dives logged before it was kept (and so
+	// absent from reports over them, whose fingerprints stay).
+	RecordedBy *string `json:"recorded_by,omitempty"`
 	// Corrections recorded on the dive (applied to Site and Operator).
 	Corrections []Correction `json:"corrections,omitempty"`
 	// Voided is true when a void record took the dive out of damage,
@@ -111,6 +127,10 @@ type diveRow struct {
 	Beyond       bool      `db:"beyond_rated"`
 	AEHits       int32     `db:"ae_hit_count"`
 	RecordedAt   time.Time `db:"recorded_at"`
+	// RecordedBy is who logged the dive (the session's database
+	// identity, checked by the database); nil for a dive logged before it
+	// was kept, whose canonical bytes then end without it.
+	RecordedBy *string `db:"recorded_by"`
 	// fingerprint is the SHA-256 of the normalised samples (not a dive
 	// column: stored in dive_fingerprints).
 	fingerprint []byte
@@ -145,6 +165,9 @@ func (d *diveRow) canon() []byte {
 	c.boolean(d.Beyond)
 	c.i64(int64(d.AEHits))
 	c.time(d.RecordedAt)
+	if d.RecordedBy != nil {
+		c.str(*d.RecordedBy)
+	}
 	return c.b
 }
 
@@ -153,18 +176,22 @@ func (d *diveRow) canon() []byte {
 // source and verify's streaming reads by position).
 const diveColumns = `id, hull_id, hull_revision, source_name, source_sha256, source_bytes, ae_source_name, ae_source_sha256,
 	start_time, end_time, latitude, latitude_assumed, site, operator, load_column, columns, gauges, sample_count,
-	block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at`
+	block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at, recorded_by`
+
+// diveColumnCount is the number of diveColumns (a query that adds a column
+// after them orders by its position, diveColumnCount+1).
+const diveColumnCount = 26
 
 func (d *diveRow) scanArgs() []any {
 	return []any{&d.ID, &d.HullID, &d.HullRevision, &d.SourceName, &d.SHA, &d.SourceBytes, &d.AEName, &d.AESHA,
 		&d.Start, &d.End, &d.Lat, &d.LatAssumed, &d.Site, &d.Operator, &d.LoadColumn, &d.Columns, &d.Gauges, &d.Samples,
-		&d.Blocks, &d.Duration, &d.MaxDepth, &d.MaxPres, &d.Beyond, &d.AEHits, &d.RecordedAt}
+		&d.Blocks, &d.Duration, &d.MaxDepth, &d.MaxPres, &d.Beyond, &d.AEHits, &d.RecordedAt, &d.RecordedBy}
 }
 
 func (d *diveRow) values() []any {
 	return []any{d.ID, d.HullID, d.HullRevision, d.SourceName, d.SHA, d.SourceBytes, d.AEName, d.AESHA,
 		d.Start, d.End, d.Lat, d.LatAssumed, d.Site, d.Operator, d.LoadColumn, d.Columns, d.Gauges, d.Samples,
-		d.Blocks, d.Duration, d.MaxDepth, d.MaxPres, d.Beyond, d.AEHits, d.RecordedAt}
+		d.Blocks, d.Duration, d.MaxDepth, d.MaxPres, d.Beyond, d.AEHits, d.RecordedAt, d.RecordedBy}
 }
 
 func blockCanon(dive, hull uuid.UUID, no int32, first int64, n int32, t0, t1 int64, dataSHA []byte) []byte {

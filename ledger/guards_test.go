@@ -283,7 +283,7 @@ func TestChainedColumns(t *testing.T) {
 		"hull_revisions":     "actor collapse_pressure_mpa design_pressure_mpa hull_id inner_radius_m length_m material_system name proof_pressure_mpa rated_depth_m reason recorded_at revision shape spec_json wall_thickness_m",
 		"hull_components":    "curve hull_id kind name revision rupture_curve transfer_basis transfer_factor",
 		"gauges":             "channel component direction hull_id kind name position revision",
-		"dives":              "ae_hit_count ae_source_name ae_source_sha256 beyond_rated block_count columns duration_s end_time gauges hull_id hull_revision id latitude latitude_assumed load_column max_depth_m max_pressure_mpa operator recorded_at sample_count site source_bytes source_name source_sha256 start_time",
+		"dives":              "ae_hit_count ae_source_name ae_source_sha256 beyond_rated block_count columns duration_s end_time gauges hull_id hull_revision id latitude latitude_assumed load_column max_depth_m max_pressure_mpa operator recorded_at recorded_by sample_count site source_bytes source_name source_sha256 start_time",
 		"reading_blocks":     "block_no data dive_id first_sample hull_id samples sha256 t_first_ns t_last_ns",
 		"ae_hits":            "amplitude_db channel counts dive_id duration_us energy event hull_id rise_us seq t_ns",
 		"corrections":        "actor field hull_id id reason recorded_at target_key target_kind value_json",

@@ -263,6 +263,9 @@ func (a *app) printDive(d *ledger.Dive) {
 	}
 	fmt.Fprintf(w, "strain gauges\t%s\n", gauges)
 	fmt.Fprintf(w, "AE hits\t%d\n", d.AEHits)
+	if d.RecordedBy != nil {
+		fmt.Fprintf(w, "logged by\t%s\n", view.TerminalSafe(*d.RecordedBy))
+	}
 	if d.Site != "" || d.Operator != "" {
 		fmt.Fprintf(w, "site / operator\t%s / %s\n", d.Site, d.Operator)
 	}

@@ -9,6 +9,7 @@ package web
 
 import (
 	"context"
+	"crypto/sha256"
 	_ "embed"
 	"encoding/json"
 	"errors"
@@ -30,6 +31,7 @@ import (
 	"github.com/prometheus/client_golang/prometheus"
 	"github.com/prometheus/client_golang/prometheus/collectors"
 	"github.com/prometheus/client_golang/prometheus/promhttp"
+	"golang.org/x/sync/singleflight"
 
 	"hulltally/ledger"
 	"hulltally/reports"
@@ -79,7 +81,9 @@ type Server struct {
 
 	mu     sync.Mutex
 	people map[string]*ledger.Ledger
-	fails  *failures
+	// opening opens each person's pool once, outside mu.
+	opening singleflight.Group
+	fails   *failures
 	// ingests holds a token per dive being logged (Options.MaxIngests).
 	ingests chan struct{}
 	// stop ends the sweeper; swept is closed when it has.
@@ -293,19 +297,37 @@ func (s *Server) authenticate(r *http.Request) (string, *ledger.Ledger, error) {
 	return person, l, err
 }
 
-// ledgerOf is the person's ledger, opened once.
+// ledgerOf is the person's ledger, opened once. The lock is not held
+// while a pool opens (a slow database would hold up every person's
+// requests); concurrent first requests of one person share one opening.
 func (s *Server) ledgerOf(ctx context.Context, person string) (*ledger.Ledger, error) {
 	s.mu.Lock()
-	defer s.mu.Unlock()
-	if l, ok := s.people[person]; ok {
+	l, ok := s.people[person]
+	s.mu.Unlock()
+	if ok {
 		return l, nil
 	}
-	l, err := s.owner.As(ctx, person, s.opt.PoolPerPerson)
+	v, err, _ := s.opening.Do(person, func() (any, error) {
+		// Not the first caller's cancellation: the others wait on it too.
+		octx, cancel := context.WithTimeout(context.WithoutCancel(ctx), 30*time.Second)
+		defer cancel()
+		l, err := s.owner.As(octx, person, s.opt.PoolPerPerson)
+		if err != nil {
+			return nil, err
+		}
+		s.mu.Lock()
+		defer s.mu.Unlock()
+		if had, ok := s.people[person]; ok {
+			l.Close()
+			return had, nil
+		}
+		s.people[person] = l
+		return l, nil
+	})
 	if err != nil {
 		return nil, err
 	}
-	s.people[person] = l
-	return l, nil
+	return v.(*ledger.Ledger), nil
 }
 
 // errorAnswer maps an error to a status and an error document: the same
@@ -456,7 +478,10 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 			if err != nil {
 				return 0, nil, err
 			}
-			n, err := io.Copy(f, p)
+			// Hashed as it is spooled: logging skips a pass to hash it
+			// (and checks the hash against the bytes it parses).
+			sum := sha256.New()
+			n, err := io.Copy(io.MultiWriter(f, sum), p)
 			s.ingest.Add(float64(n))
 			if cerr := f.Close(); err == nil {
 				err = cerr
@@ -465,7 +490,7 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 				return 0, nil, uploadErr(err)
 			}
 			if name == "samples" {
-				req.Samples = path
+				req.Samples, req.SamplesDigest = path, &ledger.FileDigest{SHA256: sum.Sum(nil), Size: n}
 			} else {
 				req.AE = path
 			}
