@@ -225,7 +225,7 @@ func Keys() []Key {
 			func(c *Config, n int64) { c.Server.MaxUploadMB = n }),
 		whole("server.read_timeout_s", "3600", 1, 86400, "longest time to receive one request, upload included; a slower or stalled upload is cut off and nothing is stored",
 			func(c *Config, n int64) { c.Server.ReadTimeoutS = n }),
-		whole("server.max_ingests", "2", 1, 64, "dives logged at once by the service; more uploads wait, spooled to disk, for their turn",
+		whole("server.max_ingests", "2", 1, 64, "dives logged at once by the service; more uploads wait for their turn (their senders held back)",
 			func(c *Config, n int64) { c.Server.MaxIngests = int(n) }),
 		whole("server.memory_limit_mb", "96", 16, 1<<20, "soft memory limit of the service, MiB (Go's GC works harder near it; GOMEMLIMIT, when set, wins)",
 			func(c *Config, n int64) { c.Server.MemoryLimitMB = n }),

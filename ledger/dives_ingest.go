@@ -42,9 +42,12 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	}
 	var sha []byte
 	var size int64
-	if dg := req.SamplesDigest; dg != nil && len(dg.SHA256) == sha256.Size && dg.Size >= 0 {
-		// Known already: checked against the bytes as they are parsed.
-		sha, size = dg.SHA256, dg.Size
+	stream := req.Upload != nil
+	if stream {
+		if req.Upload.Samples == nil || req.Samples != "" {
+			return nil, errors.New("logging dive: an upload comes with its samples reader and no samples file")
+		}
+		// Hashed as it is parsed: known only at the end.
 	} else if sha, size, err = hashFile(ctx, req.Samples); err != nil {
 		return nil, fileErr(ctx, err)
 	}
@@ -54,27 +57,14 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 			return nil, fileErr(ctx, err)
 		}
 	}
-	// already answers "already recorded": from a digest given with the
-	// request, only once the file is hashed and agrees (a wrong digest
-	// would otherwise leave the dive unrecorded).
-	already := func(d *Dive, err error) (*Dive, error) {
-		if d != nil && err == nil && req.SamplesDigest != nil {
-			got, n, herr := hashFile(ctx, req.Samples)
-			if herr != nil {
-				return nil, fileErr(ctx, herr)
-			}
-			if !equalBytes(got, sha) || n != size {
-				return nil, inputErr(fmt.Errorf("%s: its SHA-256 or size is not the one given with it; nothing was stored", filepath.Base(req.Samples)))
-			}
+	var replaces *uuid.UUID
+	if !stream {
+		if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
+			return d, err
 		}
-		return d, err
-	}
-	if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
-		return already(d, err)
-	}
-	replaces, err := l.elsewhere(ctx, l.db, h, "source_sha256", sha, "samples file")
-	if err != nil {
-		return nil, err
+		if replaces, err = l.elsewhere(ctx, l.db, h, "source_sha256", sha, "samples file"); err != nil {
+			return nil, err
+		}
 	}
 
 	tx, err := l.pool.Begin(ctx)
@@ -88,8 +78,10 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	if err := lockHullDives(ctx, tx, h); err != nil {
 		return nil, fmt.Errorf("logging dive: %w", err)
 	}
-	if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
-		return already(d, err)
+	if !stream {
+		if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
+			return d, err
+		}
 	}
 
 	// A long dive's counted cycles wait on disk, not in memory, until
@@ -99,6 +91,17 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA, sp)
 	if err != nil {
 		return nil, err
+	}
+	if stream {
+		// Now known: the same file already recorded is that dive (the
+		// work is rolled back), as the checks above do for a file.
+		sha, aeSHA = row.SHA, row.AESHA
+		if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
+			return d, err
+		}
+		if replaces, err = l.elsewhere(ctx, tx, h, "source_sha256", sha, "samples file"); err != nil {
+			return nil, err
+		}
 	}
 	if row.fingerprint != nil {
 		d, err := l.sameSamples(ctx, tx, h, row.fingerprint, aeSHA)
@@ -353,18 +356,25 @@ func fileErr(ctx context.Context, err error) error {
 // ingest parses the samples (and hits) and stores blocks and hits in tx,
 // returning the dive row (not yet inserted) and the chain records.
 func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte, sp *cycleSpill) (*diveRow, []chainRec, error) {
-	f, err := files.OpenRegular(ctx, req.Samples)
-	if err != nil {
-		return nil, nil, fileErr(ctx, err)
+	var samples io.Reader
+	path := req.Samples
+	if req.Upload != nil {
+		samples, path = req.Upload.Samples, req.Upload.Name
+	} else {
+		f, err := files.OpenRegular(ctx, req.Samples)
+		if err != nil {
+			return nil, nil, fileErr(ctx, err)
+		}
+		defer f.Close()
+		samples = f
 	}
-	defer f.Close()
 	tee := &countingHash{Hash: sha256.New()}
-	name := filepath.Base(req.Samples)
+	name := filepath.Base(path)
 	minT, maxT, err := l.timeWindow()
 	if err != nil {
 		return nil, nil, err
 	}
-	sr, err := logfile.NewSampleReader(io.TeeReader(files.NewReader(ctx, f), tee), req.Samples, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples, MinTime: minT, MaxTime: maxT})
+	sr, err := logfile.NewSampleReader(io.TeeReader(files.NewReader(ctx, samples), tee), path, logfile.SampleOptions{Start: req.Start, BlockSamples: l.cfg.Ingest.BlockSamples, MinTime: minT, MaxTime: maxT})
 	if err != nil {
 		return nil, nil, fileErr(ctx, err)
 	}
@@ -405,7 +415,9 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	if err != nil {
 		return nil, nil, fmt.Errorf("storing readings: %w", err)
 	}
-	if got := tee.Sum(nil); !equalBytes(got, sha) || tee.n != size {
+	if req.Upload != nil {
+		row.SHA, row.SourceBytes = tee.Sum(nil), tee.n
+	} else if got := tee.Sum(nil); !equalBytes(got, sha) || tee.n != size {
 		return nil, nil, inputErr(fmt.Errorf("%s changed while it was being logged; nothing was stored — log it again once the logger has finished writing", req.Samples))
 	}
 	row.Samples = src.rows
@@ -467,6 +479,22 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	}
 	recs = append(recs, arec)
 
+	if req.Upload != nil && req.Upload.Rest != nil {
+		// What followed the samples: the hits file, or nothing.
+		p, err := req.Upload.Rest()
+		if err != nil {
+			return nil, nil, err
+		}
+		if p != "" && req.AE != "" {
+			return nil, nil, inputErr(errors.New("two hits files given with one dive"))
+		}
+		if p != "" {
+			req.AE = p
+			if aeSHA, _, err = hashFile(ctx, p); err != nil {
+				return nil, nil, fileErr(ctx, err)
+			}
+		}
+	}
 	var hits []logfile.Hit
 	if req.AE != "" {
 		n, digest, kept, err := l.ingestHits(ctx, tx, h, row, req, aeSHA, src.firstNS, src.lastNS)

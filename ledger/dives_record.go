@@ -2,6 +2,7 @@ package ledger
 
 import (
 	"errors"
+	"io"
 	"time"
 
 	"github.com/google/uuid"
@@ -24,20 +25,29 @@ type LogRequest struct {
 	// Progress, if set, is called after each stored block with the samples
 	// stored so far.
 	Progress func(samples int64)
-	// SamplesDigest, when the caller has it already (the service hashes an
-	// upload as it spools it), spares a pass over the samples file to hash
-	// it. It is not taken on its word: the bytes are hashed and counted
-	// again as they are parsed, and a difference stores nothing.
-	SamplesDigest *FileDigest
+	// Upload, when set, is the samples as they arrive (Samples is then
+	// empty): read once, straight into the parse.
+	Upload *Upload
 	// proof, when set, is the proof test these samples record: it is
 	// checked against them and stored in the same transaction.
 	proof *ProofTest
 }
 
-// FileDigest is a file's SHA-256 and size in bytes.
-type FileDigest struct {
-	SHA256 []byte
-	Size   int64
+// Upload is a dive's samples as they arrive, read once: the service
+// streams an upload straight into the parse instead of spooling it first.
+// The bytes are hashed and counted as they are parsed, so whether the
+// dive is already recorded is known only at the end (the work is then
+// rolled back and the recorded dive answered). A read error (a dropped
+// connection, a size limit) stores nothing and is returned as it came.
+type Upload struct {
+	// Samples is the samples file's bytes, Name its file name (stored
+	// with the dive: a plain name, no folder).
+	Samples io.Reader
+	Name    string
+	// Rest, when set, is called once the samples are read and before
+	// anything is committed: it returns the path of a hits file that
+	// followed them ("" for none), or an error when anything else did.
+	Rest func() (hitsPath string, err error)
 }
 
 // Dive is a recorded dive's summary.

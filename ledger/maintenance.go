@@ -383,7 +383,7 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 	if err := l.writable("ProofTestWithSamples"); err != nil {
 		return nil, err
 	}
-	if req.Samples == "" {
+	if req.Samples == "" && req.Upload == nil {
 		return l.RecordProofTest(ctx, serial, p)
 	}
 	req.proof = &p

@@ -72,6 +72,9 @@ var (
 	uuidRe  = regexp.MustCompile(`[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}`)
 	hashRe  = regexp.MustCompile(`\b[0-9a-f]{64}\b`)
 	stampRe = regexp.MustCompile(`"recorded_at": "[^"]*"`)
+	// byRe: who logged the dive (the owner directly, the person through
+	// the service; checked apart).
+	byRe = regexp.MustCompile(`("recorded_by": "[^"]*"|logged by\s+\S+)`)
 	// nowRe: a moment of evaluation (the clock's, with its fraction of a
 	// second; the data's moments are whole seconds).
 	nowRe = regexp.MustCompile(`\d{4}-\d\d-\d\dT\d\d:\d\d:\d\d\.\d+(Z|[+-]\d\d:\d\d)`)
@@ -86,6 +89,7 @@ func atNow(s string) string { return nowRe.ReplaceAllString(s, "NOW") }
 func sameBut(s string) string {
 	s = uuidRe.ReplaceAllString(s, "ID")
 	s = hashRe.ReplaceAllString(s, "HASH")
+	s = byRe.ReplaceAllString(s, "BY")
 	return stampRe.ReplaceAllString(s, `"recorded_at": "T"`)
 }
 
@@ -96,7 +100,7 @@ func sameBut(s string) string {
 func TestClientSameOutput(t *testing.T) {
 	direct, served := newEnv(t), newEnv(t)
 	url := served.serveFor(t)
-	_, tok := served.person(t, "maintenance")
+	who, tok := served.person(t, "maintenance")
 	dir := t.TempDir()
 	samples := filepath.Join(dir, "dive-0501.csv")
 	var b strings.Builder
@@ -133,6 +137,10 @@ func TestClientSameOutput(t *testing.T) {
 		same("dive log "+strings.Join(js, ""), d, c, dc, cc, sameBut)
 		if cc != 0 {
 			t.Fatalf("dive log through the service: exit %d\n%s", cc, cerr)
+		}
+		// The service's dive names the token's person as who logged it.
+		if !strings.Contains(c, `"recorded_by": "`+who+`"`) && !regexp.MustCompile(`logged by\s+`+regexp.QuoteMeta(who)+`\n`).MatchString(c) {
+			t.Errorf("dive log through the service does not name %s as who logged it:\n%s", who, c)
 		}
 	}
 	if n := served.count("dives"); n != 1 {

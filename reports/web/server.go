@@ -9,7 +9,6 @@ package web
 
 import (
 	"context"
-	"crypto/sha256"
 	_ "embed"
 	"encoding/json"
 	"errors"
@@ -17,6 +16,8 @@ import (
 	"io"
 	"log/slog"
 	"math"
+	"mime"
+	"mime/multipart"
 	"net/http"
 	"os"
 	"path/filepath"
@@ -440,11 +441,37 @@ func (s *Server) verify(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger
 	return http.StatusOK, res, nil
 }
 
-// logDive takes a multipart upload (part "samples", optional part "hits",
-// fields lat, site, operator, start), spools the files to disk within
-// the size limit, and logs the dive as the person: all or nothing. A
-// dropped connection or a cancelled request stores nothing.
+// logDive takes a multipart upload (fields lat, site, operator, start,
+// then the part "samples", with an optional part "hits" before or right
+// after it) and logs the dive as the person, all or nothing (readUpload).
 func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	return s.readUpload(w, r, func(*ledger.LogRequest, string, string) (bool, error) { return false, nil },
+		func(req ledger.LogRequest) (int, any, error) {
+			d, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
+			if err != nil {
+				return 0, nil, err
+			}
+			code := http.StatusCreated
+			if d.Duplicate {
+				code = http.StatusOK
+			} else {
+				s.dives.Inc()
+			}
+			return code, d, nil
+		})
+}
+
+// readUpload reads a multipart upload of a dive's files and hands the log
+// request to store: fields first (lat, site, operator, start, and those
+// extra knows), then the part "samples", with an optional part "hits"
+// before it or right after it. The samples stream straight into the parse
+// (ledger.Upload): nothing waits for the whole upload, and a hits file
+// (small) is spooled to disk. A field after the samples is refused (the
+// dive's settings must be known before its samples are read); a dropped
+// connection, an upload over the limit or a cancelled request stores
+// nothing.
+func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(req *ledger.LogRequest, name, value string) (bool, error),
+	store func(ledger.LogRequest) (int, any, error)) (int, any, error) {
 	r.Body = http.MaxBytesReader(w, r.Body, s.opt.MaxUploadBytes)
 	mr, err := r.MultipartReader()
 	if err != nil {
@@ -457,6 +484,27 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 	defer os.RemoveAll(dir)
 	req := ledger.LogRequest{Hull: r.PathValue("serial")}
 	seen := map[string]bool{}
+	// spoolHits writes a hits part to the spool folder, once.
+	spoolHits := func(p *multipart.Part) (string, error) {
+		if seen["hits"] {
+			return "", &ledger.InputError{Err: errors.New(`part "hits" given twice`)}
+		}
+		seen["hits"] = true
+		path := filepath.Join(dir, fileName(p.FileName(), "hits.csv"))
+		f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+		if err != nil {
+			return "", err
+		}
+		n, err := io.Copy(f, p)
+		s.ingest.Add(float64(n))
+		if cerr := f.Close(); err == nil {
+			err = cerr
+		}
+		if err != nil {
+			return "", uploadErr(err)
+		}
+		return path, nil
+	}
 	for {
 		p, err := mr.NextPart()
 		if err == io.EOF {
@@ -467,76 +515,84 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 		}
 		name := p.FormName()
 		switch name {
-		case "samples", "hits":
-			base := fileName(p.FileName(), name+".csv")
-			sub := filepath.Join(dir, name)
-			if err := os.Mkdir(sub, 0o700); err != nil {
-				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
+		case "hits":
+			if req.AE, err = spoolHits(p); err != nil {
+				return 0, nil, err
 			}
-			path := filepath.Join(sub, base)
-			f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+			continue
+		case "samples":
+			release, err := s.heavy(r.Context())
 			if err != nil {
 				return 0, nil, err
 			}
-			// Hashed as it is spooled: logging skips a pass to hash it
-			// (and checks the hash against the bytes it parses).
-			sum := sha256.New()
-			n, err := io.Copy(io.MultiWriter(f, sum), p)
-			s.ingest.Add(float64(n))
-			if cerr := f.Close(); err == nil {
-				err = cerr
+			defer release()
+			req.Upload = &ledger.Upload{Samples: &counted{r: p, c: s.ingest}, Name: fileName(p.FileName(), "samples.csv"),
+				Rest: func() (string, error) {
+					// After the samples: a hits file at most, then the end.
+					hits := ""
+					for {
+						q, err := mr.NextPart()
+						if err == io.EOF {
+							return hits, nil
+						}
+						if err != nil {
+							return "", uploadErr(err)
+						}
+						if q.FormName() != "hits" {
+							return "", &ledger.InputError{Err: fmt.Errorf("part %q after the samples: the fields come before the part \"samples\", and only \"hits\" may follow it; nothing was stored", q.FormName())}
+						}
+						if hits, err = spoolHits(q); err != nil {
+							return "", err
+						}
+					}
+				}}
+			code, body, err := store(req)
+			var ie *ledger.InputError
+			var tooBig *http.MaxBytesError
+			if errors.As(err, &ie) && !errors.As(err, &tooBig) {
+				// The spool folder is the service's business, not the client's.
+				err = &ledger.InputError{Err: errors.New(strings.ReplaceAll(err.Error(), dir+string(filepath.Separator), ""))}
 			}
-			if err != nil {
-				return 0, nil, uploadErr(err)
-			}
-			if name == "samples" {
-				req.Samples, req.SamplesDigest = path, &ledger.FileDigest{SHA256: sum.Sum(nil), Size: n}
-			} else {
-				req.AE = path
-			}
+			return code, body, err
+		}
+		if seen[name] {
+			return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
+		}
+		seen[name] = true
+		v, err := io.ReadAll(io.LimitReader(p, maxField+1))
+		if err != nil {
+			return 0, nil, uploadErr(err)
+		}
+		if len(v) > maxField || !utf8.Valid(v) {
+			return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q: at most %d bytes of UTF-8 text", name, maxField)}
+		}
+		value := strings.TrimSpace(string(v))
+		switch name {
 		case "lat", "site", "operator", "start":
-			if seen[name] {
-				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q given twice", name)}
-			}
-			seen[name] = true
-			v, err := io.ReadAll(io.LimitReader(p, maxField+1))
-			if err != nil {
-				return 0, nil, uploadErr(err)
-			}
-			if len(v) > maxField || !utf8.Valid(v) {
-				return 0, nil, &ledger.InputError{Err: fmt.Errorf("part %q: at most %d bytes of UTF-8 text", name, maxField)}
-			}
-			if err := setField(&req, name, strings.TrimSpace(string(v))); err != nil {
-				return 0, nil, err
-			}
+			err = setField(&req, name, value)
 		default:
-			return 0, nil, &ledger.InputError{Err: fmt.Errorf("unknown part %q (samples, hits, lat, site, operator, start)", name)}
+			var known bool
+			if known, err = extra(&req, name, value); err == nil && !known {
+				err = &ledger.InputError{Err: fmt.Errorf("unknown part %q", name)}
+			}
+		}
+		if err != nil {
+			return 0, nil, err
 		}
 	}
-	if req.Samples == "" {
-		return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
-	}
-	release, err := s.heavy(r.Context())
-	if err != nil {
-		return 0, nil, err
-	}
-	defer release()
-	d, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
-	if err != nil {
-		// The spool folder is the service's business, not the client's.
-		var ie *ledger.InputError
-		if errors.As(err, &ie) {
-			return 0, nil, &ledger.InputError{Err: errors.New(strings.ReplaceAll(err.Error(), dir+string(filepath.Separator), ""))}
-		}
-		return 0, nil, err
-	}
-	code := http.StatusCreated
-	if d.Duplicate {
-		code = http.StatusOK
-	} else {
-		s.dives.Inc()
-	}
-	return code, d, nil
+	return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
+}
+
+// counted counts the bytes read through it into a metric.
+type counted struct {
+	r io.Reader
+	c prometheus.Counter
+}
+
+func (c *counted) Read(p []byte) (int, error) {
+	n, err := c.r.Read(p)
+	c.c.Add(float64(n))
+	return n, err
 }
 
 // uploadErr is an error reading the upload: too large, cut off, or
@@ -654,6 +710,9 @@ func (s *Server) inspection(w http.ResponseWriter, r *http.Request, l *ledger.Le
 }
 
 func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	if mt, _, _ := mime.ParseMediaType(r.Header.Get("Content-Type")); mt == "multipart/form-data" {
+		return s.proofTestWithSamples(w, r, l)
+	}
 	var rec record
 	if err := readJSON(w, r, &rec, "at", "pressure_mpa", "result", "notes"); err != nil {
 		return 0, nil, err
@@ -663,6 +722,47 @@ func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Led
 		return 0, nil, err
 	}
 	return http.StatusCreated, p, nil
+}
+
+// proofTestWithSamples records a proof test with its data-logger files
+// (multipart: fields pressure_mpa, result, notes, at, lat, start, then
+// samples and hits as for a dive): the samples are logged as a dive of the
+// hull in the same transaction, checked against the record, and become
+// the strain baseline; all of it is stored, or nothing.
+func (s *Server) proofTestWithSamples(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	var p ledger.ProofTest
+	return s.readUpload(w, r, func(req *ledger.LogRequest, name, v string) (bool, error) {
+		switch name {
+		case "pressure_mpa":
+			f, err := strconv.ParseFloat(v, 64)
+			if err != nil || math.IsNaN(f) || math.IsInf(f, 0) {
+				return true, &ledger.InputError{Err: fmt.Errorf("pressure_mpa %q: not a number", v)}
+			}
+			p.PressureMPa = f
+		case "result":
+			p.Result = v
+		case "notes":
+			p.Notes = v
+		case "at":
+			t, err := time.Parse(time.RFC3339Nano, v)
+			if err != nil {
+				return true, &ledger.InputError{Err: fmt.Errorf("at %q: an RFC 3339 time", v)}
+			}
+			p.At = t
+		default:
+			return false, nil
+		}
+		return true, nil
+	}, func(req ledger.LogRequest) (int, any, error) {
+		if req.Site == "" {
+			req.Site = "proof test"
+		}
+		rec, err := l.ProofTestWithSamples(r.Context(), r.PathValue("serial"), p, req)
+		if err != nil {
+			return 0, nil, err
+		}
+		return http.StatusCreated, rec, nil
+	})
 }
 
 func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {

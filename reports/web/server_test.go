@@ -159,13 +159,13 @@ func upload(t *testing.T, samples string) (*bytes.Buffer, string) {
 	t.Helper()
 	var b bytes.Buffer
 	mw := multipart.NewWriter(&b)
+	mw.WriteField("lat", "45") // the fields before the samples
 	w, err := mw.CreateFormFile("samples", "d.csv")
 	if err != nil {
 		t.Error(err) // not Fatal: called from the load test's goroutines
 		return &b, ""
 	}
 	io.WriteString(w, samples)
-	mw.WriteField("lat", "45")
 	mw.Close()
 	return &b, mw.FormDataContentType()
 }
@@ -454,12 +454,12 @@ func TestRequestsRefusedNotBent(t *testing.T) {
 	field := func(name, value string) (*bytes.Buffer, string) {
 		var b bytes.Buffer
 		mw := multipart.NewWriter(&b)
-		w, _ := mw.CreateFormFile("samples", "d.csv")
-		io.WriteString(w, diveCSV)
 		mw.WriteField(name, value)
 		if name == "operator" {
 			mw.WriteField(name, "someone else")
 		}
+		w, _ := mw.CreateFormFile("samples", "d.csv")
+		io.WriteString(w, diveCSV)
 		mw.Close()
 		return &b, mw.FormDataContentType()
 	}
@@ -543,5 +543,132 @@ func TestDisabledPersonsConnectionsClosed(t *testing.T) {
 		if code, _ := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, ""); code != 200 {
 			t.Fatalf("another person after the sweep: %d", code)
 		}
+	}
+}
+
+// TestUploadPartsInOrder: the samples stream into the parse, so the
+// dive's fields must come first; a hits file may come before or right
+// after the samples. The adversarial cases store nothing: a field after
+// the samples (it would otherwise be ignored, or change a dive already
+// parsed), a second hits file, and an unknown part after the samples.
+func TestUploadPartsInOrder(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	path := "/api/v1/hulls/" + serial + "/dives"
+	const hits = "time,channel,amplitude_db,energy,counts,duration_us,rise_us\n2026-05-01T08:00:02Z,1,60,5,10,100,10\n"
+	type part struct{ name, value string }
+	body := func(day string, parts ...part) (*bytes.Buffer, string) {
+		var b bytes.Buffer
+		mw := multipart.NewWriter(&b)
+		for _, p := range parts {
+			switch p.name {
+			case "samples", "hits":
+				w, _ := mw.CreateFormFile(p.name, p.name+".csv")
+				io.WriteString(w, strings.ReplaceAll(p.value, "2026-05-01", day))
+			default:
+				mw.WriteField(p.name, p.value)
+			}
+		}
+		mw.Close()
+		return &b, mw.FormDataContentType()
+	}
+	lat, samples, hitsPart := part{"lat", "45"}, part{"samples", diveCSV}, part{"hits", hits}
+	for _, c := range []struct {
+		name  string
+		day   string
+		parts []part
+		code  int
+	}{
+		{"fields, samples, hits", "2026-05-01", []part{lat, samples, hitsPart}, 201},
+		{"hits, fields, samples", "2026-05-02", []part{hitsPart, lat, samples}, 201},
+		{"a field after the samples", "2026-05-03", []part{samples, lat}, 422},
+		{"two hits files", "2026-05-04", []part{lat, samples, hitsPart, hitsPart}, 422},
+		{"hits before and after", "2026-05-05", []part{hitsPart, samples, hitsPart}, 422},
+		{"an unknown part after the samples", "2026-05-06", []part{samples, {"note", "x"}}, 422},
+	} {
+		before := f.dives()
+		b, ct := body(c.day, c.parts...)
+		code, doc := f.do(ledger.RoleOperator, "POST", path, b, ct)
+		if code != c.code {
+			t.Errorf("%s: %d %v, want %d", c.name, code, doc, c.code)
+		}
+		want := before
+		if c.code == 201 {
+			want++
+			if doc["ae_hits"] != float64(1) || doc["status_after"] == nil || doc["recorded_by"] != f.names[ledger.RoleOperator] {
+				t.Errorf("%s: the answer %v", c.name, doc)
+			}
+		}
+		if got := f.dives(); got != want {
+			t.Errorf("%s: dives %d → %d, want %d", c.name, before, got, want)
+		}
+	}
+}
+
+// TestProofTestWithSamplesOverHTTP: maintenance records a proof test with
+// its data-logger file in one upload; the samples are logged as a dive of
+// the hull in the same transaction. The adversarial cases store nothing:
+// an operator's upload (the database refuses), a recorded pressure the
+// samples contradict, and a field after the samples.
+func TestProofTestWithSamplesOverHTTP(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	path := "/api/v1/hulls/" + serial + "/proof-tests"
+	var csv strings.Builder
+	csv.WriteString("time,pressure_mpa\n")
+	t0 := time.Date(2026, 4, 2, 9, 0, 0, 0, time.UTC)
+	for s := 0; s <= 900; s += 5 {
+		p := 50.0
+		switch {
+		case s < 300:
+			p = 50 * float64(s) / 300
+		case s > 600:
+			p = 50 * float64(900-s) / 300
+		}
+		fmt.Fprintf(&csv, "%s,%.3f\n", t0.Add(time.Duration(s)*time.Second).Format(time.RFC3339), p)
+	}
+	body := func(fields [][2]string, after ...[2]string) (*bytes.Buffer, string) {
+		var b bytes.Buffer
+		mw := multipart.NewWriter(&b)
+		for _, kv := range fields {
+			mw.WriteField(kv[0], kv[1])
+		}
+		w, _ := mw.CreateFormFile("samples", "proof.csv")
+		io.WriteString(w, csv.String())
+		for _, kv := range after {
+			mw.WriteField(kv[0], kv[1])
+		}
+		mw.Close()
+		return &b, mw.FormDataContentType()
+	}
+	count := func() int64 {
+		var n int64
+		if err := f.owner.Pool().QueryRow(context.Background(), "SELECT count(*) FROM proof_tests").Scan(&n); err != nil {
+			t.Fatal(err)
+		}
+		return n
+	}
+	pass := [][2]string{{"pressure_mpa", "50"}, {"result", "pass"}, {"notes", "yard test"}}
+	for _, c := range []struct {
+		name   string
+		role   ledger.Role
+		fields [][2]string
+		after  [][2]string
+		code   int
+	}{
+		{"an operator", ledger.RoleOperator, pass, nil, 403},
+		{"a pressure the samples contradict", ledger.RoleMaintenance, [][2]string{{"pressure_mpa", "60"}, {"result", "pass"}}, nil, 422},
+		{"a field after the samples", ledger.RoleMaintenance, [][2]string{{"result", "pass"}}, [][2]string{{"pressure_mpa", "50"}}, 422},
+		{"an unknown field", ledger.RoleMaintenance, append([][2]string{{"actor", "someone"}}, pass...), nil, 422},
+	} {
+		b, ct := body(c.fields, c.after...)
+		dives, tests := f.dives(), count()
+		if code, doc := f.do(c.role, "POST", path, b, ct); code != c.code || f.dives() != dives || count() != tests {
+			t.Errorf("%s: %d %v (dives %d → %d, proof tests %d → %d), want %d and nothing stored", c.name, code, doc, dives, f.dives(), tests, count(), c.code)
+		}
+	}
+	b, ct := body(pass)
+	dives := f.dives()
+	code, doc := f.do(ledger.RoleMaintenance, "POST", path, b, ct)
+	if code != 201 || doc["dive_id"] == nil || doc["actor"] != f.names[ledger.RoleMaintenance] || doc["pressure_mpa"] != 50.0 || f.dives() != dives+1 {
+		t.Fatalf("maintenance's proof test with samples: %d %v", code, doc)
 	}
 }
