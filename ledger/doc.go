@@ -29,6 +29,9 @@
 //     data, not chained; every write above that evaluates a hull also
 //     writes that hull's summary after its commit).
 //   - RegisterReport: the record of an issued report;
+//   - AddPerson, DisablePerson, CreateToken, RevokeToken, SignIn (a
+//     day's token for a web session, once the password is checked),
+//     RevokeSecret: people and their tokens (not chained);
 //   - Migrate (and Open, which calls it): the schema.
 //
 // Every other method only reads: Hull, Hulls, HullSummary, Dives, Dive,

@@ -113,11 +113,14 @@ func (e *NotPermittedError) Error() string {
 
 func (e *NotPermittedError) Unwrap() error { return e.Err }
 
-// IsNotPermitted says whether err is the database's refusal of a
-// privilege (SQLSTATE 42501): a role that may not do what was asked.
+// IsNotPermitted says whether err is a refusal of the person: the
+// database's refusal of a privilege (SQLSTATE 42501), or a
+// NotPermittedError (the service's own refusal of a form the role may not
+// use, in front of the database's).
 func IsNotPermitted(err error) bool {
 	var pe *pgconn.PgError
-	return errors.As(err, &pe) && pe.Code == "42501"
+	var np *NotPermittedError
+	return errors.As(err, &np) || (errors.As(err, &pe) && pe.Code == "42501")
 }
 
 // NotPermitted turns the database's refusal of a privilege (SQLSTATE

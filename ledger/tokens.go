@@ -13,6 +13,7 @@ import (
 
 	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
+	"github.com/jackc/pgx/v5/pgconn"
 	"github.com/jackc/pgx/v5/pgxpool"
 )
 
@@ -149,4 +150,54 @@ func (l *Ledger) As(ctx context.Context, person string, maxConns int32) (*Ledger
 		return nil, fmt.Errorf("acting as %s: the connection is %s", person, s.identity.Name)
 	}
 	return &s, nil
+}
+
+// ErrBadPassword is a sign-in refused: an unknown person, a wrong
+// password, or a person who can no longer sign in. The caller says no
+// more than that.
+var ErrBadPassword = errors.New("the name or the password is not valid")
+
+// SignIn checks a person's password with the database itself (a
+// connection as the person, with the server's own authentication: SCRAM
+// on the managed cluster) and, when it is right, makes a token for the
+// person that lasts a day (a web session; it shows in token list and can
+// be revoked). The owner and the group roles cannot sign in this way.
+func (l *Ledger) SignIn(ctx context.Context, name, password string) (*Token, error) {
+	if name == "" || password == "" || len(name) > 63 || len(password) > 1024 {
+		return nil, ErrBadPassword
+	}
+	cc := l.pool.Config().ConnConfig.Copy()
+	cc.User, cc.Password = name, password
+	cc.RuntimeParams = map[string]string{"application_name": "hulltally sign-in"}
+	c, err := pgx.ConnectConfig(ctx, cc)
+	if err != nil {
+		var pe *pgconn.PgError
+		if errors.As(err, &pe) && (pe.Code == "28P01" || pe.Code == "28000") {
+			return nil, ErrBadPassword
+		}
+		return nil, fmt.Errorf("checking a sign-in: %w", err)
+	}
+	id, err := readIdentity(ctx, c)
+	c.Close(context.WithoutCancel(ctx))
+	if err != nil {
+		return nil, fmt.Errorf("checking a sign-in: %w", err)
+	}
+	if id.Owner || id.Role == "" {
+		return nil, ErrBadPassword
+	}
+	return l.CreateToken(ctx, id.Name, 1, "web session")
+}
+
+// RevokeSecret revokes the token with this secret (a web session's
+// sign-out); an unknown secret is ErrBadToken.
+func (l *Ledger) RevokeSecret(ctx context.Context, secret string) error {
+	sum := sha256.Sum256([]byte(secret))
+	var id uuid.UUID
+	if err := l.db.QueryRow(ctx, "SELECT id FROM api_tokens WHERE token_sha256 = $1", sum[:]).Scan(&id); err != nil {
+		if errors.Is(err, pgx.ErrNoRows) {
+			return ErrBadToken
+		}
+		return fmt.Errorf("finding a token: %w", err)
+	}
+	return l.RevokeToken(ctx, id)
 }

@@ -369,7 +369,9 @@ func chartLimits(rl *RuleLimit) []charts.Limit {
 	return out
 }
 
-func hullCharts(d *doc, m *Model, hp *HullPart) error {
+// damageChart draws a hull's cumulative damage against its dives, with
+// the projection of the dives left and the damage rule's limit lines.
+func damageChart(m *Model, hp *HullPart, size charts.Size) ([]byte, error) {
 	n := len(hp.CumRatio)
 	xs := make([]float64, n)
 	for i := range xs {
@@ -388,9 +390,71 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 		until := float64(n) + math.Min(float64(*hp.Damage.RemainingDives), 5*float64(n)+50)
 		proj = &charts.Projection{FromDive: float64(n), RatePerDive: rate, UntilDive: until}
 	}
-	png, err := charts.DamageHistoryLimits(xs, hp.CumRatio, proj, 1, chartLimits(m.Basis.Limits.Damage), chartSize)
+	b, err := charts.DamageHistoryLimits(xs, hp.CumRatio, proj, 1, chartLimits(m.Basis.Limits.Damage), size)
 	if err != nil {
-		return fmt.Errorf("damage chart: %w", err)
+		return nil, fmt.Errorf("damage chart: %w", err)
+	}
+	return b, nil
+}
+
+// felicityChart draws a hull's Felicity ratio per dive with the rule's
+// limit lines.
+func felicityChart(m *Model, hp *HullPart, size charts.Size) ([]byte, error) {
+	fx := make([]float64, len(hp.Felicity))
+	fy := make([]float64, len(hp.Felicity))
+	for i, f := range hp.Felicity {
+		fx[i], fy[i] = float64(i+1), nanOr(f)
+	}
+	b, err := charts.FelicityHistoryLimits(fx, fy, chartLimits(m.Basis.Limits.Felicity), size)
+	if err != nil {
+		return nil, fmt.Errorf("chart of the Felicity ratio: %w", err)
+	}
+	return b, nil
+}
+
+// complianceChart draws each strain gauge's compliance per dive against
+// its baseline.
+func complianceChart(hp *HullPart, size charts.Size) ([]byte, error) {
+	series := map[string][]float64{}
+	for g, v := range hp.Compliance {
+		ys := make([]float64, len(v))
+		for i := range v {
+			ys[i] = nanOr(v[i])
+		}
+		series[g] = ys
+	}
+	cx := make([]float64, len(hp.Dives))
+	for i := range cx {
+		cx[i] = float64(i + 1)
+	}
+	b, err := charts.ComplianceHistory(cx, series, hp.Baseline, size)
+	if err != nil {
+		return nil, fmt.Errorf("compliance chart: %w", err)
+	}
+	return b, nil
+}
+
+// profileChart draws the deepest recent dive's profile (nil when there is
+// none).
+func profileChart(hp *HullPart, size charts.Size) ([]byte, error) {
+	if hp.profile == nil || hp.Deepest == nil {
+		return nil, nil
+	}
+	rated := 0.0
+	if hp.Deepest.MaxDepthM > 0 {
+		rated = hp.Deepest.MaxPressureMPa * hp.Spec.RatedDepthM / hp.Deepest.MaxDepthM // pressure per metre of that dive
+	}
+	b, err := charts.DiveProfile(hp.profile.TimeS, hp.profile.PressureMPa, rated, size)
+	if err != nil {
+		return nil, fmt.Errorf("profile chart: %w", err)
+	}
+	return b, nil
+}
+
+func hullCharts(d *doc, m *Model, hp *HullPart) error {
+	png, err := damageChart(m, hp, chartSize)
+	if err != nil {
+		return err
 	}
 	d.image("damage", png, chartSize.HeightMM)
 	if rl := m.Basis.Limits.Damage; rl != nil {
@@ -398,19 +462,13 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 	} else {
 		d.para("The damage rule's thresholds could not be identified in the rule set: no watch or hold line is drawn; see the rules table.", 8)
 	}
-	png, err = charts.CycleHistogram(hp.CycleRanges, hp.CycleCounts, chartSize)
+	png, err = charts.CycleHistogram(hp.CycleRanges, hp.CycleCounts, chartSize) // as HullChartsSVG
 	if err != nil {
 		return fmt.Errorf("cycle histogram: %w", err)
 	}
 	d.image("cycles", png, chartSize.HeightMM)
-	fx := make([]float64, len(hp.Felicity))
-	fy := make([]float64, len(hp.Felicity))
-	for i, f := range hp.Felicity {
-		fx[i], fy[i] = float64(i+1), nanOr(f)
-	}
-	png, err = charts.FelicityHistoryLimits(fx, fy, chartLimits(m.Basis.Limits.Felicity), chartSize)
-	if err != nil {
-		return fmt.Errorf("chart of the Felicity ratio: %w", err)
+	if png, err = felicityChart(m, hp, chartSize); err != nil {
+		return err
 	}
 	d.image("felicity", png, chartSize.HeightMM)
 	if rl := m.Basis.Limits.Felicity; rl != nil {
@@ -438,31 +496,13 @@ func hullCharts(d *doc, m *Model, hp *HullPart) error {
 		d.para(felicityCaption(fd.Level, fd.PreviousMaxMPa, fd.ReferenceSource, fd.Reason), 7.5)
 		d.pdf.Ln(2)
 	}
-	series := map[string][]float64{}
-	for g, v := range hp.Compliance {
-		ys := make([]float64, len(v))
-		for i := range v {
-			ys[i] = nanOr(v[i])
-		}
-		series[g] = ys
-	}
-	cx := make([]float64, len(hp.Dives))
-	for i := range cx {
-		cx[i] = float64(i + 1)
-	}
-	png, err = charts.ComplianceHistory(cx, series, hp.Baseline, chartSize)
-	if err != nil {
-		return fmt.Errorf("compliance chart: %w", err)
+	if png, err = complianceChart(hp, chartSize); err != nil {
+		return err
 	}
 	d.image("compliance", png, chartSize.HeightMM)
 	if hp.profile != nil && hp.Deepest != nil {
-		rated := 0.0
-		if hp.Deepest.MaxDepthM > 0 {
-			rated = hp.Deepest.MaxPressureMPa * hp.Spec.RatedDepthM / hp.Deepest.MaxDepthM // pressure per metre of that dive
-		}
-		png, err = charts.DiveProfile(hp.profile.TimeS, hp.profile.PressureMPa, rated, chartSize)
-		if err != nil {
-			return fmt.Errorf("profile chart: %w", err)
+		if png, err = profileChart(hp, chartSize); err != nil {
+			return err
 		}
 		if d.pdf.GetY()+6+chartSize.HeightMM > bottom {
 			d.pdf.AddPage() // the caption stays with its chart

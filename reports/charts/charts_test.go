@@ -236,3 +236,16 @@ func TestWriteExamples(t *testing.T) {
 		}
 	}
 }
+
+// TestSVG: the same chart drawn as SVG for the web pages (and still PNG
+// for the PDF).
+func TestSVG(t *testing.T) {
+	svg, err := CycleHistogram([]float64{1, 2, 3}, []float64{1, 0.5, 2}, Size{SVG: true})
+	if err != nil || !bytes.Contains(svg[:min(len(svg), 200)], []byte("<svg")) || !bytes.Contains(svg, []byte("</svg>")) {
+		t.Fatalf("SVG: %v %.200s", err, svg)
+	}
+	png, err := CycleHistogram([]float64{1, 2, 3}, []float64{1, 0.5, 2}, Size{})
+	if err != nil || !bytes.HasPrefix(png, []byte("\x89PNG")) {
+		t.Fatalf("PNG: %v", err)
+	}
+}

@@ -30,6 +30,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
 )
 
 // Default chart size: 170 mm × 80 mm at 200 dpi, a full text width of an
@@ -55,6 +56,9 @@ var ErrInput = errors.New("invalid chart input")
 type Size struct {
 	WidthMM, HeightMM float64
 	DPI               int
+	// SVG draws the chart as SVG (for the web pages) instead of PNG; the
+	// resolution then does not matter.
+	SVG bool
 }
 
 // resolve fills in defaults and checks the size.
@@ -182,7 +186,13 @@ func render(p *plot.Plot, g *legend, note string, size Size) ([]byte, error) {
 	}
 	w := vg.Length(size.WidthMM) * vg.Millimeter
 	h := vg.Length(size.HeightMM) * vg.Millimeter
-	c := vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(size.DPI))
+	var c vg.CanvasWriterTo
+	if size.SVG {
+		// The same drawing as the PDF's; the fonts are named, not embedded.
+		c = vgsvg.NewWith(vgsvg.UseWH(w, h), vgsvg.EmbedFonts(false))
+	} else {
+		c = vgimg.PngCanvas{Canvas: vgimg.NewWith(vgimg.UseWH(w, h), vgimg.UseDPI(size.DPI))}
+	}
 	dc := draw.New(c)
 	pad := 2 * vg.Millimeter
 	area := draw.Crop(dc, pad, -pad, pad, -pad)
@@ -238,8 +248,8 @@ func render(p *plot.Plot, g *legend, note string, size Size) ([]byte, error) {
 		da.FillText(sty, ctr, note)
 	}
 	var buf bytes.Buffer
-	if _, err := (vgimg.PngCanvas{Canvas: c}).WriteTo(&buf); err != nil {
-		return nil, fmt.Errorf("charts: encode PNG: %w", err)
+	if _, err := c.WriteTo(&buf); err != nil {
+		return nil, fmt.Errorf("charts: encode: %w", err)
 	}
 	return buf.Bytes(), nil
 }

@@ -84,7 +84,9 @@ type Server struct {
 	people map[string]*ledger.Ledger
 	// opening opens each person's pool once, outside mu.
 	opening singleflight.Group
-	fails   *failures
+	// pages are the web pages' templates.
+	pages *pages
+	fails *failures
 	// ingests holds a token per dive being logged (Options.MaxIngests).
 	ingests chan struct{}
 	// stop ends the sweeper; swept is closed when it has.
@@ -132,6 +134,12 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	for _, r := range apiRoutes(s) {
 		s.handle(r.pattern, true, r.h)
 	}
+	pg, err := loadPages()
+	if err != nil {
+		panic(fmt.Sprintf("web: the embedded page templates: %v", err)) // a build defect: TestPages parses them
+	}
+	s.pages = pg
+	s.routePages()
 	go s.sweep()
 	return s
 }
@@ -503,6 +511,11 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 		if err != nil {
 			return "", uploadErr(err)
 		}
+		if n == 0 && p.FileName() == "" {
+			// A form's file field left empty (a browser sends it so): no
+			// hits file, not an empty one.
+			return "", nil
+		}
 		return path, nil
 	}
 	for {
@@ -541,8 +554,12 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 						if q.FormName() != "hits" {
 							return "", &ledger.InputError{Err: fmt.Errorf("part %q after the samples: the fields come before the part \"samples\", and only \"hits\" may follow it; nothing was stored", q.FormName())}
 						}
-						if hits, err = spoolHits(q); err != nil {
+						h, err := spoolHits(q)
+						if err != nil {
 							return "", err
+						}
+						if h != "" {
+							hits = h
 						}
 					}
 				}}

@@ -67,6 +67,9 @@ type fixture struct {
 	http   *httptest.Server
 	tokens map[ledger.Role]*ledger.Token
 	names  map[ledger.Role]string
+	// passwords are the people's generated passwords (to sign in on the
+	// pages).
+	passwords map[ledger.Role]string
 }
 
 const serial = "EX-C4000-01"
@@ -86,12 +89,14 @@ func newFixture(t *testing.T, opt Options) *fixture {
 	if _, err := owner.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
 		t.Fatal(err)
 	}
-	f := &fixture{t: t, owner: owner, tokens: map[ledger.Role]*ledger.Token{}, names: map[ledger.Role]string{}}
+	f := &fixture{t: t, owner: owner, tokens: map[ledger.Role]*ledger.Token{}, names: map[ledger.Role]string{}, passwords: map[ledger.Role]string{}}
 	for _, r := range []ledger.Role{ledger.RoleInspector, ledger.RoleOperator, ledger.RoleMaintenance} {
 		name := fmt.Sprintf("w-%s-%d", r, time.Now().UnixNano()%1e9)
-		if _, err := owner.AddPerson(ctx, name, r, ""); err != nil {
+		p, err := owner.AddPerson(ctx, name, r, "")
+		if err != nil {
 			t.Fatal(err)
 		}
+		f.passwords[r] = p.Password
 		tok, err := owner.CreateToken(ctx, name, 1, "test")
 		if err != nil {
 			t.Fatal(err)
