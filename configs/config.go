@@ -61,6 +61,9 @@ type Server struct {
 	MaxUploadMB int64
 	// ReadTimeoutS bounds receiving one request.
 	ReadTimeoutS int64
+	// StallTimeoutS cuts off an upload whose sender sends nothing for
+	// this long.
+	StallTimeoutS int64
 	// MaxIngests bounds the dives the service logs at once.
 	MaxIngests int
 	// MemoryLimitMB is the service's soft memory limit.

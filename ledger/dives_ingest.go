@@ -43,11 +43,18 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	var sha []byte
 	var size int64
 	stream := req.Upload != nil
+	// whole hashes every byte of an upload's samples, those the parse
+	// read and, after a refusal, the rest (refusedUpload).
+	var whole *countingHash
 	if stream {
 		if req.Upload.Samples == nil || req.Samples != "" {
 			return nil, errors.New("logging dive: an upload comes with its samples reader and no samples file")
 		}
 		// Hashed as it is parsed: known only at the end.
+		whole = &countingHash{Hash: sha256.New()}
+		up := *req.Upload
+		up.Samples = io.TeeReader(req.Upload.Samples, whole)
+		req.Upload = &up
 	} else if sha, size, err = hashFile(ctx, req.Samples); err != nil {
 		return nil, fileErr(ctx, err)
 	}
@@ -74,11 +81,12 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	defer tx.Rollback(ctx)
 	// One hull, one dive at a time: a second process logging the same file
 	// (or another dive of the hull) waits here, then finds the first one's
-	// dive.
-	if err := lockHullDives(ctx, tx, h); err != nil {
-		return nil, fmt.Errorf("logging dive: %w", err)
-	}
+	// dive. An upload takes the lock once it is read (below), so that a
+	// slow sender holds up no other dive of the hull.
 	if !stream {
+		if err := lockHullDives(ctx, tx, h); err != nil {
+			return nil, fmt.Errorf("logging dive: %w", err)
+		}
 		if d, err := l.existingDive(ctx, tx, h, sha, aeSHA); d != nil || err != nil {
 			return d, err
 		}
@@ -90,9 +98,16 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	defer sp.Close()
 	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA, sp)
 	if err != nil {
+		var ie *InputError
+		if stream && errors.As(err, &ie) {
+			return l.refusedUpload(ctx, h, req, whole, err)
+		}
 		return nil, err
 	}
 	if stream {
+		if err := lockHullDives(ctx, tx, h); err != nil {
+			return nil, fmt.Errorf("logging dive: %w", err)
+		}
 		// Now known: the same file already recorded is that dive (the
 		// work is rolled back), as the checks above do for a file.
 		sha, aeSHA = row.SHA, row.AESHA
@@ -263,6 +278,42 @@ func (l *Ledger) elsewhere(ctx context.Context, q querier, h *Hull, column strin
 		replaces = &id
 	}
 	return replaces, nil
+}
+
+// refusedUpload answers an upload whose samples were refused as the
+// same file from disk would be answered: the checks that come before the
+// parse for a file (already recorded on this hull, recorded on another)
+// come first, so the rest of the samples (and a hits file after them) is
+// read to know the file's hash; else the refusal stands.
+func (l *Ledger) refusedUpload(ctx context.Context, h *Hull, req LogRequest, whole *countingHash, refusal error) (*Dive, error) {
+	if _, err := io.Copy(io.Discard, req.Upload.Samples); err != nil {
+		return nil, refusal // cut off: the refusal is all there is to say
+	}
+	ae := req.AE
+	if req.Upload.Rest != nil {
+		p, err := req.Upload.Rest()
+		if err != nil {
+			return nil, refusal
+		}
+		if p != "" {
+			ae = p
+		}
+	}
+	var aeSHA []byte
+	if ae != "" {
+		var err error
+		if aeSHA, _, err = hashFile(ctx, ae); err != nil {
+			return nil, refusal
+		}
+	}
+	sha := whole.Sum(nil)
+	if d, err := l.existingDive(ctx, l.db, h, sha, aeSHA); d != nil || err != nil {
+		return d, err
+	}
+	if _, err := l.elsewhere(ctx, l.db, h, "source_sha256", sha, "samples file"); err != nil {
+		return nil, err
+	}
+	return nil, refusal
 }
 
 // prefixed puts a table alias before every column of a column list.

@@ -4,6 +4,8 @@ import (
 	"context"
 	"testing"
 
+	"github.com/jackc/pgx/v5"
+
 	"hulltally/ledger"
 )
 
@@ -54,6 +56,23 @@ func TestDiveRecordedBy(t *testing.T) {
 		FROM dives WHERE id = $1`, d.ID)
 	if !ledger.IsNotPermitted(err) {
 		t.Fatalf("a raw insert naming somebody else as who logged it: %v, want refused (42501)", err)
+	}
+	// Nor in a group's name, after SET ROLE to the group.
+	err = pgx.BeginFunc(ctx, op.Pool(), func(tx pgx.Tx) error {
+		if _, err := tx.Exec(ctx, "SET LOCAL ROLE hulltally_operator"); err != nil {
+			return err
+		}
+		_, err := tx.Exec(ctx, `INSERT INTO dives (id, hull_id, hull_revision, source_name, source_sha256, source_bytes, ae_source_name,
+			start_time, end_time, latitude, latitude_assumed, site, operator, load_column, columns, gauges, sample_count, block_count,
+			duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, recorded_at, recorded_by)
+			SELECT gen_random_uuid(), hull_id, hull_revision, source_name, '\x02', source_bytes, ae_source_name,
+			start_time + interval '2 days', end_time + interval '2 days', latitude, latitude_assumed, site, operator, load_column, columns, gauges,
+			sample_count, block_count, duration_s, max_depth_m, max_pressure_mpa, beyond_rated, ae_hit_count, now(), 'hulltally_operator'
+			FROM dives WHERE id = $1`, d.ID)
+		return err
+	})
+	if !ledger.IsNotPermitted(err) {
+		t.Fatalf("a raw insert in the operators' group's name: %v, want refused (42501)", err)
 	}
 	if n := rowCounts(t, owner)["dives"]; n != 1 {
 		t.Fatalf("%d dives after the refused inserts", n)

@@ -6,6 +6,7 @@ import (
 	"io"
 	"strings"
 	"testing"
+	"time"
 
 	"hulltally/ledger"
 )
@@ -75,4 +76,73 @@ func equalCounts(a, b map[string]int64) bool {
 		}
 	}
 	return true
+}
+
+// TestUploadHoldsNoHullLock: a slow or stalled upload takes the hull's
+// dive lock only once its samples are read, so another dive of the same
+// hull (from a file, or the command line) is not held up by it; and the
+// stalled one, cut off, stores nothing.
+func TestUploadHoldsNoHullLock(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	pr, pw := io.Pipe()
+	done := make(chan error, 1)
+	go func() {
+		_, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Upload: &ledger.Upload{Samples: pr, Name: "slow.csv"}})
+		done <- err
+	}()
+	half := strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-07")
+	if _, err := io.WriteString(pw, half[:len(half)/2]); err != nil {
+		t.Fatal(err)
+	}
+	quick, cancel := context.WithTimeout(ctx, 20*time.Second)
+	defer cancel()
+	d, err := l.LogDive(quick, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil || d.Duplicate {
+		t.Fatalf("a dive of the same hull while an upload stalls: %+v %v", d, err)
+	}
+	pw.CloseWithError(errors.New("connection reset"))
+	if err := <-done; err == nil {
+		t.Fatal("the cut-off upload was stored")
+	}
+	if n := rowCounts(t, l)["dives"]; n != 1 {
+		t.Fatalf("%d dives, want the one from the file", n)
+	}
+}
+
+// TestRefusedUploadAnsweredAsFile: samples the parse refuses are still
+// answered as the same file from disk would be when they are a dive
+// already recorded (here, on the hull's earlier spec, which had a gauge
+// the new revision drops): "already recorded", not a refusal.
+func TestRefusedUploadAnsweredAsFile(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	sp := exampleSpec(t)
+	var kept = sp.Gauges[:0]
+	for _, g := range sp.Gauges {
+		if g.Name != "hoop1" {
+			kept = append(kept, g)
+		}
+	}
+	sp.Gauges = kept
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "test", Revise: true, Reason: "gauge hoop1 removed"}); err != nil {
+		t.Fatal(err)
+	}
+	fromFile, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil || !fromFile.Duplicate || fromFile.ID != d.ID {
+		t.Fatalf("the file again: %+v %v", fromFile, err)
+	}
+	up, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Upload: &ledger.Upload{Samples: strings.NewReader(goodDive), Name: "d.csv"}})
+	if err != nil || !up.Duplicate || up.ID != d.ID {
+		t.Fatalf("the same samples uploaded again: %+v %v, want already recorded as from the file", up, err)
+	}
+	// Samples never recorded that the parse refuses: the refusal stands.
+	other := strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-09")
+	if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Upload: &ledger.Upload{Samples: strings.NewReader(other), Name: "e.csv"}}); err == nil || !strings.Contains(err.Error(), "hoop1") {
+		t.Fatalf("new samples with a gauge the spec dropped: %v", err)
+	}
 }

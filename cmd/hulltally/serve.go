@@ -52,7 +52,8 @@ func (a *app) serveCmd() *cobra.Command {
 			if _, set := os.LookupEnv("GOMEMLIMIT"); !set {
 				debug.SetMemoryLimit(cfg.MemoryLimitMB << 20)
 			}
-			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20, MaxIngests: cfg.MaxIngests, Signer: signer}, log)
+			svc := web.New(l, web.Options{MaxUploadBytes: cfg.MaxUploadMB << 20, MaxIngests: cfg.MaxIngests, Signer: signer,
+				StallTimeout: time.Duration(cfg.StallTimeoutS) * time.Second}, log)
 			defer svc.Close()
 			ln, err := net.Listen("tcp", cfg.Listen)
 			if err != nil {

@@ -25,6 +25,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"time"
 	"unicode"
 	"unicode/utf8"
@@ -65,6 +66,10 @@ type Options struct {
 	// the pool of a person who can no longer sign in (disabled) is closed
 	// (default a minute). Their new requests are refused at once anyway.
 	SweepEvery time.Duration
+	// StallTimeout cuts off an upload whose sender sends nothing for this
+	// long (default a minute): it would otherwise hold its turn and its
+	// database connection until the read timeout.
+	StallTimeout time.Duration
 	// Signer signs the reports the service writes, and reports uploaded to
 	// be verified must carry its signature; nil: unsigned reports, checked
 	// against the ledger only.
@@ -116,6 +121,9 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 	}
 	if opt.SweepEvery <= 0 {
 		opt.SweepEvery = time.Minute
+	}
+	if opt.StallTimeout <= 0 {
+		opt.StallTimeout = time.Minute
 	}
 	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
 		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
@@ -534,35 +542,82 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 			}
 			continue
 		case "samples":
-			release, err := s.heavy(r.Context())
-			if err != nil {
-				return 0, nil, err
-			}
-			defer release()
-			req.Upload = &ledger.Upload{Samples: &counted{r: p, c: s.ingest}, Name: fileName(p.FileName(), "samples.csv"),
-				Rest: func() (string, error) {
-					// After the samples: a hits file at most, then the end.
-					hits := ""
-					for {
-						q, err := mr.NextPart()
-						if err == io.EOF {
-							return hits, nil
-						}
-						if err != nil {
-							return "", uploadErr(err)
-						}
-						if q.FormName() != "hits" {
-							return "", &ledger.InputError{Err: fmt.Errorf("part %q after the samples: the fields come before the part \"samples\", and only \"hits\" may follow it; nothing was stored", q.FormName())}
-						}
-						h, err := spoolHits(q)
-						if err != nil {
-							return "", err
-						}
-						if h != "" {
-							hits = h
-						}
+			// A sender that stops sending is cut off after StallTimeout
+			// (the whole upload stays bounded by the read timeout).
+			stalled := s.watchStall(w, r)
+			defer stalled.stop()
+			// rest reads what follows the samples: a hits file at most,
+			// then the end; once (a second call answers the same).
+			var restDone bool
+			var restHits string
+			var restErr error
+			rest := func() (string, error) {
+				if restDone {
+					return restHits, restErr
+				}
+				restDone = true
+				defer stalled.stop() // all is read
+				for {
+					q, err := mr.NextPart()
+					if err == io.EOF {
+						return restHits, nil
 					}
-				}}
+					if err != nil {
+						restErr = uploadErr(err)
+						return "", restErr
+					}
+					if q.FormName() != "hits" {
+						restErr = &ledger.InputError{Err: fmt.Errorf("part %q after the samples: the fields come before the part \"samples\", and only \"hits\" may follow it; nothing was stored", q.FormName())}
+						return "", restErr
+					}
+					h, err := spoolHits(q)
+					if err != nil {
+						restErr = err
+						return "", err
+					}
+					if h != "" {
+						restHits = h
+					}
+				}
+			}
+			samples := &counted{r: p, c: s.ingest, seen: stalled}
+			release, free := s.tryHeavy()
+			if free {
+				// Streamed straight into the parse.
+				defer release()
+				req.Upload = &ledger.Upload{Samples: samples, Name: fileName(p.FileName(), "samples.csv"), Rest: rest}
+			} else {
+				// Every turn is taken: the upload is spooled to disk while
+				// it waits, so that a queued sender holds no turn.
+				path := filepath.Join(dir, "samples", fileName(p.FileName(), "samples.csv"))
+				if err := os.Mkdir(filepath.Dir(path), 0o700); err != nil {
+					return 0, nil, err
+				}
+				f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+				if err != nil {
+					return 0, nil, err
+				}
+				_, err = io.Copy(f, samples)
+				if cerr := f.Close(); err == nil {
+					err = cerr
+				}
+				if err != nil {
+					return 0, nil, uploadErr(err)
+				}
+				hits, err := rest()
+				if err != nil {
+					return 0, nil, err
+				}
+				if hits != "" {
+					req.AE = hits
+				}
+				stalled.stop()
+				if release, err = s.heavy(r.Context()); err != nil {
+					return 0, nil, err
+				}
+				defer release()
+				req.Samples = path
+			}
 			code, body, err := store(req)
 			var ie *ledger.InputError
 			var tooBig *http.MaxBytesError
@@ -600,16 +655,69 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 	return 0, nil, &ledger.InputError{Err: errors.New("the part \"samples\" (the samples file) is required")}
 }
 
-// counted counts the bytes read through it into a metric.
+// counted counts the bytes read through it into a metric, and tells the
+// stall watch that bytes came.
 type counted struct {
-	r io.Reader
-	c prometheus.Counter
+	r    io.Reader
+	c    prometheus.Counter
+	seen *stallWatch
 }
 
 func (c *counted) Read(p []byte) (int, error) {
 	n, err := c.r.Read(p)
 	c.c.Add(float64(n))
+	if n > 0 || err != nil {
+		c.seen.last.Store(time.Now().UnixNano())
+	}
 	return n, err
+}
+
+// stallWatch cuts off an upload whose sender has sent nothing for
+// StallTimeout: it sets the connection's read deadline to now, so the
+// read in progress fails and nothing is stored. It only ever brings the
+// deadline forward (never past the server's read timeout).
+type stallWatch struct {
+	last atomic.Int64
+	done chan struct{}
+	once sync.Once
+}
+
+func (s *Server) watchStall(w http.ResponseWriter, r *http.Request) *stallWatch {
+	sw := &stallWatch{done: make(chan struct{})}
+	sw.last.Store(time.Now().UnixNano())
+	rc := http.NewResponseController(w)
+	limit := s.opt.StallTimeout
+	go func() {
+		t := time.NewTicker(min(time.Second, limit/4))
+		defer t.Stop()
+		for {
+			select {
+			case <-sw.done:
+				return
+			case <-r.Context().Done():
+				return
+			case <-t.C:
+				if time.Since(time.Unix(0, sw.last.Load())) > limit {
+					s.log.Warn("upload stalled: cut off", "remote", client(r), "path", r.URL.Path, "after", limit.String())
+					_ = rc.SetReadDeadline(time.Now())
+					return
+				}
+			}
+		}
+	}()
+	return sw
+}
+
+func (sw *stallWatch) stop() { sw.once.Do(func() { close(sw.done) }) }
+
+// tryHeavy takes a turn among the heavy requests if one is free now.
+func (s *Server) tryHeavy() (func(), bool) {
+	select {
+	case s.ingests <- struct{}{}:
+		return func() { <-s.ingests }, true
+	default:
+		return nil, false
+	}
 }
 
 // uploadErr is an error reading the upload: too large, cut off, or

@@ -677,3 +677,39 @@ func TestProofTestWithSamplesOverHTTP(t *testing.T) {
 		t.Fatalf("maintenance's proof test with samples: %d %v", code, doc)
 	}
 }
+
+// TestStalledUploadCutOff: a sender that stops sending midway through its
+// samples is cut off after StallTimeout and stores nothing; an upload
+// that comes meanwhile, when every turn is taken, is spooled while it
+// waits and then logged.
+func TestStalledUploadCutOff(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20, MaxIngests: 1, StallTimeout: time.Second})
+	before := f.dives()
+	conn, err := net.Dial("tcp", strings.TrimPrefix(f.http.URL, "http://"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	stalledDive := strings.ReplaceAll(diveCSV, "2026-05-01", "2026-05-11")
+	body := "--b\r\nContent-Disposition: form-data; name=\"lat\"\r\n\r\n45\r\n--b\r\nContent-Disposition: form-data; name=\"samples\"; filename=\"d.csv\"\r\n\r\n" + stalledDive[:len(stalledDive)/2]
+	fmt.Fprintf(conn, "POST /api/v1/hulls/%s/dives HTTP/1.1\r\nHost: x\r\nAuthorization: Bearer %s\r\nContent-Type: multipart/form-data; boundary=b\r\nContent-Length: %d\r\n\r\n%s",
+		serial, f.tokens[ledger.RoleOperator].Secret, 10*len(body), body)
+	time.Sleep(200 * time.Millisecond) // the stalled upload holds the only turn
+	start := time.Now()
+	b, ct := upload(t, diveCSV)
+	code, doc := f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", b, ct)
+	if code != 201 {
+		t.Fatalf("the upload behind a stalled one: %d %v", code, doc)
+	}
+	if waited := time.Since(start); waited > 15*time.Second {
+		t.Fatalf("the upload behind a stalled one waited %v", waited)
+	}
+	conn.SetReadDeadline(time.Now().Add(10 * time.Second))
+	answer, _ := io.ReadAll(conn)
+	if strings.Contains(string(answer), "201 Created") {
+		t.Fatalf("the stalled upload was answered as stored:\n%s", answer)
+	}
+	if got := f.dives(); got != before+1 {
+		t.Fatalf("dives %d → %d, want only the complete upload", before, got)
+	}
+}

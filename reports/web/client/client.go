@@ -166,6 +166,7 @@ func (c *Client) LogDive(ctx context.Context, req ledger.LogRequest, progress fu
 	}
 	pr, pw := io.Pipe()
 	mw := multipart.NewWriter(pw)
+	sending := make(chan error, 1)
 	go func() {
 		err := func() error {
 			for _, f := range fields {
@@ -182,22 +183,44 @@ func (c *Client) LogDive(ctx context.Context, req ledger.LogRequest, progress fu
 				if err != nil {
 					return err
 				}
-				if _, err := io.Copy(w, &counting{r: files.NewReader(ctx, opened[i]), n: &sent, progress: progress}); err != nil {
+				before, err := opened[i].Stat()
+				if err != nil {
 					return err
+				}
+				n, err := io.Copy(w, &counting{r: files.NewReader(ctx, opened[i]), n: &sent, progress: progress})
+				if err != nil {
+					return err
+				}
+				// A file still being written (a logger that has not
+				// finished) is not sent as a whole dive: the upload is cut
+				// before its end, and the service stores nothing.
+				after, err := os.Stat(p.path)
+				if err != nil {
+					return err
+				}
+				if n != before.Size() || after.Size() != before.Size() || !after.ModTime().Equal(before.ModTime()) || !os.SameFile(before, after) {
+					return fmt.Errorf("%s changed while it was being sent; nothing was stored — send it again once the logger has finished writing: %w", p.path, errChanged)
 				}
 			}
 			return mw.Close()
 		}()
 		pw.CloseWithError(err)
+		sending <- err
 	}()
 	var out view.Logged
 	raw, err := c.do(ctx, http.MethodPost, "/api/v1/hulls/"+url.PathEscape(req.Hull)+"/dives", mw.FormDataContentType(), pr, &out)
 	pr.CloseWithError(errors.New("the request has ended"))
+	if sendErr := <-sending; errors.Is(sendErr, errChanged) {
+		return nil, raw, &Error{Kind: "input", Message: sendErr.Error()}
+	}
 	if err != nil {
 		return nil, raw, err
 	}
 	return &out, raw, nil
 }
+
+// errChanged is a file that changed while it was sent.
+var errChanged = errors.New("a file changed while it was sent")
 
 // counting counts the bytes read through it.
 type counting struct {

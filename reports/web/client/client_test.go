@@ -3,10 +3,15 @@ package client
 import (
 	"context"
 	"errors"
+	"io"
 	"net/http"
 	"net/http/httptest"
+	"os"
+	"path/filepath"
 	"strings"
 	"testing"
+
+	"hulltally/ledger"
 )
 
 // TestNewRefusesUnsafeAddresses: the token may cross a network only
@@ -89,5 +94,63 @@ func TestAnswers(t *testing.T) {
 	}
 	if _, _, err := c.VerifyReport(ctx, "/no/such/report.pdf"); !errors.As(err, &e) || e.Kind != "input" {
 		t.Errorf("a missing report file: %v", err)
+	}
+}
+
+// TestLogDiveFileChanging: a samples file that grows while it is sent (a
+// logger still writing) is not sent as a whole dive: the upload is cut
+// before its closing boundary, so the service can store nothing, and the
+// command is told why.
+func TestLogDiveFileChanging(t *testing.T) {
+	complete := make(chan bool, 1)
+	srv := httptest.NewServer(http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
+		mr, err := r.MultipartReader()
+		if err != nil {
+			complete <- false
+			return
+		}
+		for {
+			p, err := mr.NextPart()
+			if err == io.EOF {
+				complete <- true
+				break
+			}
+			if err != nil {
+				complete <- false
+				return
+			}
+			io.Copy(io.Discard, p)
+		}
+		w.Header().Set("Content-Type", "application/json")
+		w.WriteHeader(201)
+		w.Write([]byte(`{"dive_id":"00000000-0000-0000-0000-000000000000"}`))
+	}))
+	defer srv.Close()
+	c, err := New(srv.URL, "htk_x", nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	path := filepath.Join(t.TempDir(), "dive.csv")
+	if err := os.WriteFile(path, []byte("time,depth_m\n2026-05-01T08:00:00Z,0\n2026-05-01T08:10:00Z,300\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	grow := func(int64) {
+		f, err := os.OpenFile(path, os.O_APPEND|os.O_WRONLY, 0)
+		if err == nil {
+			f.WriteString("2026-05-01T08:20:00Z,0\n")
+			f.Close()
+		}
+	}
+	_, _, err = c.LogDive(context.Background(), ledger.LogRequest{Hull: "EX", Samples: path}, grow)
+	var e *Error
+	if !errors.As(err, &e) || e.Kind != "input" || !strings.Contains(e.Message, "changed while it was being sent") {
+		t.Fatalf("a file that grew while sent: %v", err)
+	}
+	if <-complete {
+		t.Fatal("the service received a complete upload of a file that was still growing")
+	}
+	// The same file, left alone, goes whole.
+	if _, _, err := c.LogDive(context.Background(), ledger.LogRequest{Hull: "EX", Samples: path}, nil); err != nil || !<-complete {
+		t.Fatalf("an unchanging file: %v", err)
 	}
 }
