@@ -27,6 +27,12 @@
 // same hulls), from the medians. Run it from the project root:
 //
 //	go run ./cmd/hulltally-fleetbench -sizes 250x2,1000x2,250x8 -rounds 3
+//
+// With -pages N it also starts hulltally serve on each fleet, signs a
+// maintenance person in, and times N requests of the fleet page and of
+// the last hull's page, with the API's JSON of the same as the baseline:
+//
+//	go run ./cmd/hulltally-fleetbench -sizes 1000x1,1x10000 -only fleet -rounds 1 -pages 20
 package main
 
 import (
@@ -66,6 +72,8 @@ type options struct {
 	workers int
 	// cmds are the commands timed (-only, default all).
 	cmds []command
+	// pages is the requests of each web page timed (0: none).
+	pages int
 }
 
 func main() {
@@ -76,6 +84,7 @@ func main() {
 	flag.StringVar(&o.bin, "hulltally", "", "hulltally binary (default: build it)")
 	flag.BoolVar(&o.keep, "keep", false, "keep the work folder")
 	flag.IntVar(&o.workers, "workers", runtime.GOMAXPROCS(0), "hulls written at once while building a fleet")
+	flag.IntVar(&o.pages, "pages", 0, "also time the web pages through hulltally serve: the fleet page and the last hull's page, this many requests each, against the API's JSON")
 	only := flag.String("only", "", "time only these commands, comma-separated (e.g. \"fleet,hull show\"; default: all)")
 	flag.Parse()
 	o.cmds = commands
@@ -191,6 +200,11 @@ func run(ctx context.Context, o options) error {
 			}
 			medians[sz][c.name] = benchproc.Median(w)
 			fmt.Printf("  %-19s %s s   peak RSS %s MB\n", c.name, benchproc.MinMedMax(w, "%.3f"), benchproc.MinMedMax(rss, "%.1f"))
+		}
+		if o.pages > 0 {
+			if err := timePages(o.bin, home, last, o.pages); err != nil {
+				return fmt.Errorf("pages on fleet %s: %w", sz, err)
+			}
 		}
 		stop := exec.Command(o.bin, "db", "stop")
 		stop.Env = append(os.Environ(), "HULLTALLY_HOME="+home)

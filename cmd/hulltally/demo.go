@@ -7,6 +7,8 @@ import (
 	"hulltally/reports/sign"
 	"os"
 	"path/filepath"
+	"slices"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -56,8 +58,12 @@ func (a *app) demoCmd() *cobra.Command {
 			for _, w := range written {
 				a.reportWarning(w)
 			}
+			people, err := a.demoPeople(cmd, l)
+			if err != nil {
+				return err
+			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "reports": written, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
+				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "reports": written, "people_file": people, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})
 			}
 			a.printf("demo fleet of the Corrigan Shelf Survey Cooperative (invented), files in %s\n", sum.Dir)
 			a.printf("%d dives: %d logged now (%d samples), %d already recorded; %.1f s\n\n", sum.Dives, sum.Logged, sum.Samples, sum.Duplicates, time.Since(t0).Seconds())
@@ -67,6 +73,9 @@ func (a *app) demoCmd() *cobra.Command {
 			a.printf("\nreports:\n")
 			for _, w := range written {
 				a.printf("  %s (%d pages)\n", w.Path, w.Pages)
+			}
+			if people != "" {
+				a.printf("\nweb pages: run 'hulltally serve' and open http://%s/ ; sign in as demo-operator, demo-maintenance or demo-inspector, with the passwords in %s\n", a.cfg.Server.Listen, people)
 			}
 			return nil
 		},
@@ -175,4 +184,51 @@ func (a *app) demoSigner() (*sign.Signer, error) {
 		return nil, fmt.Errorf("demo: making the demo operator's signing key: %w", err)
 	}
 	return sign.LoadFile(a.keyPath(""))
+}
+
+// demoPeopleFile is where the demo keeps its people's passwords, in the
+// home (mode 0600).
+const demoPeopleFile = "demo-people.txt"
+
+// demoPeople adds, on the managed cluster only, one invented person per
+// role for the web pages (demo-operator, demo-maintenance,
+// demo-inspector) with generated passwords kept in <home>/demo-people.txt
+// (0600). People already there keep their passwords. On a database of
+// someone else's (database.url) the demo adds no login roles: it returns
+// "".
+func (a *app) demoPeople(cmd *cobra.Command, l *ledger.Ledger) (string, error) {
+	if a.cfg.Database.URL != "" {
+		return "", nil
+	}
+	have, err := l.People(cmd.Context())
+	if err != nil {
+		return "", err
+	}
+	path := filepath.Join(a.cfg.Home, demoPeopleFile)
+	var lines []string
+	for _, role := range []ledger.Role{ledger.RoleOperator, ledger.RoleMaintenance, ledger.RoleInspector} {
+		name := "demo-" + string(role)
+		if slices.ContainsFunc(have, func(p ledger.Person) bool { return p.Name == name }) {
+			continue
+		}
+		p, err := l.AddPerson(cmd.Context(), name, role, "")
+		if err != nil {
+			return "", err
+		}
+		lines = append(lines, fmt.Sprintf("%s\t%s\t%s\n", p.Name, p.Role, p.Password))
+	}
+	if len(lines) > 0 {
+		f, err := os.OpenFile(path, os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o600)
+		if err != nil {
+			return "", err
+		}
+		if _, err := f.WriteString(strings.Join(lines, "")); err != nil {
+			f.Close()
+			return "", err
+		}
+		if err := f.Close(); err != nil {
+			return "", err
+		}
+	}
+	return path, nil
 }
