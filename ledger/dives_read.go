@@ -22,6 +22,12 @@ func (l *Ledger) Dives(ctx context.Context, serial string) ([]Dive, error) {
 	if err != nil {
 		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}
+	return l.listed(rows, h, serial)
+}
+
+// listed reads the rows of a dive list (diveColumns, voided,
+// proof_test).
+func (l *Ledger) listed(rows pgx.Rows, h *Hull, serial string) ([]Dive, error) {
 	type listed struct {
 		diveRow
 		Voided    bool `db:"voided"`
@@ -127,4 +133,18 @@ func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*Decode
 		}
 	}
 	return rows.Err()
+}
+
+// DivesPage lists a page of a hull's dives, newest first: limit dives
+// after skipping offset, as Dives gives them.
+func (l *Ledger) DivesPage(ctx context.Context, serial string, offset, limit int) ([]Dive, error) {
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		return nil, err
+	}
+	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" AS voided, EXISTS (SELECT 1 FROM proof_tests p WHERE p.hull_id = d.hull_id AND p.dive_id = d.id) AS proof_test FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time DESC, d.id DESC OFFSET $2 LIMIT $3", h.ID, max(offset, 0), max(limit, 0))
+	if err != nil {
+		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
+	}
+	return l.listed(rows, h, serial)
 }

@@ -643,3 +643,47 @@ type summaryOutcome struct {
 	row      *summaryRow
 	disagree *SummaryDisagreement
 }
+
+// FleetEntryOf is one hull's fleet entry at at: read from its fleet
+// summary when the summary stands for the hull (Derived true), else
+// evaluated from the ledger (a read: nothing is recorded). It is what
+// Fleet gives for that hull.
+func (l *Ledger) FleetEntryOf(ctx context.Context, h *Hull, at time.Time) (*FleetEntry, error) {
+	var out *FleetEntry
+	err := l.Snapshot(ctx, func(s *Ledger) error {
+		rows, err := s.readSummaries(ctx, at, &h.ID)
+		if err != nil {
+			return err
+		}
+		if len(rows) == 1 && rows[0].currentAt {
+			e := rows[0].entry
+			out = &e
+			return nil
+		}
+		f, err := s.fitnessOf(ctx, h, at)
+		if err != nil {
+			return fmt.Errorf("status of hull %s: %w", h.Serial, err)
+		}
+		e, err := docOf(f).entry(h.Serial, h.Spec.Name, at, false)
+		if err != nil {
+			return err
+		}
+		out = &e
+		return nil
+	})
+	return out, err
+}
+
+// RulesSource names the fitness rule set in force.
+func (l *Ledger) RulesSource() string { return l.rulesSrc }
+
+// NoteHull evaluates a hull now and notes it as every write of the owner
+// ends: its status where it changed, and its fleet summary. A person may
+// not write the summary (migration 014), so the service, as the owner,
+// calls it after a person's write, and the fleet view and the hull page
+// read the hull from its summary again instead of evaluating it at every
+// look.
+func (l *Ledger) NoteHull(ctx context.Context, serial string) error {
+	_, err := l.evaluateAndNote(ctx, serial, now())
+	return err
+}

@@ -48,3 +48,32 @@ func HullChartsSVG(ctx context.Context, l *ledger.Ledger, serial string, at time
 	}
 	return out, nil
 }
+
+// diveProfileChart draws a dive's pressure profile against its rated
+// depth's pressure (at this dive's pressure per metre).
+func diveProfileChart(dv *ledger.Dive, p *ledger.Profile, size charts.Size) ([]byte, error) {
+	rated := 0.0
+	if dv.MaxDepthM > 0 {
+		rated = dv.MaxPressureMPa * dv.RatedDepthM / dv.MaxDepthM // this dive's pressure per metre
+	}
+	return charts.DiveProfile(p.TimeS, p.PressureMPa, rated, size)
+}
+
+// DiveProfileSVG draws a dive's profile as SVG for the web pages, as its
+// dive sheet draws it; nil when the dive has no profile on record.
+func DiveProfileSVG(ctx context.Context, l *ledger.Ledger, id string) ([]byte, error) {
+	var out []byte
+	err := l.Snapshot(ctx, func(s *ledger.Ledger) error {
+		dv, err := s.Dive(ctx, id)
+		if err != nil {
+			return err
+		}
+		p, err := s.ProfileOf(ctx, dv.ID)
+		if err != nil || p == nil {
+			return err
+		}
+		out, err = diveProfileChart(dv, p, charts.Size{WidthMM: sheetChart.WidthMM, HeightMM: sheetChart.HeightMM, SVG: true})
+		return err
+	})
+	return out, err
+}

@@ -619,11 +619,7 @@ func diveBody(d *doc, m *Model) error {
 		{"Hull status now", m.Hulls[0].Status},
 	})
 	if dp.profile != nil {
-		rated := 0.0
-		if dv.MaxDepthM > 0 {
-			rated = dv.MaxPressureMPa * dv.RatedDepthM / dv.MaxDepthM // this dive's pressure per metre
-		}
-		png, err := charts.DiveProfile(dp.profile.TimeS, dp.profile.PressureMPa, rated, sheetChart)
+		png, err := diveProfileChart(dv, dp.profile, sheetChart)
 		if err != nil {
 			return err
 		}

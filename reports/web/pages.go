@@ -179,6 +179,7 @@ func (s *Server) routePages() {
 		"POST /hulls/{serial}/decisions":     s.recordPost("decision"),
 		"GET /hulls/{serial}/report.pdf":     s.reportPage(reports.KindHull),
 		"GET /dives/{id}":                    s.divePage,
+		"GET /dives/{id}/profile.svg":        s.diveProfilePage,
 		"GET /verify-report":                 s.verifyPage,
 		"POST /verify-report":                s.verifyPost,
 	} {
@@ -305,32 +306,52 @@ func (s *Server) fleetPage(w http.ResponseWriter, r *http.Request, l *ledger.Led
 
 // hullBody is the hull page's content.
 type hullBody struct {
-	Hull        *view.Hull
-	Summary     *ledger.HullSummary
+	Record  *ledger.Hull
+	Summary *ledger.HullSummary
+	// Entry is the hull's status, reasons, governing damage and life as
+	// the fleet view has them (its fleet summary when it stands, else
+	// evaluated for this read); Life and Shown are what may be shown of
+	// them (void while on hold or withdrawn).
+	Entry       *ledger.FleetEntry
+	Shown       *ledger.Damages
+	Life        view.Life
 	Reasons     []view.ReasonLine
+	RulesSource string
+	// Components are the cumulative damage per component.
+	Components  []ledger.ComponentDamage
 	Implosion   *ledger.Implosion
 	Maintenance *ledger.Maintenance
 	History     []ledger.StatusChange
 	Dives       []ledger.Dive
 	Page, Pages int
 	Charts      []string
-	Now         string
 }
 
+// hullPage shows a hull. Its status and reasons come as the fleet view's
+// do (ledger.FleetEntryOf: the summary the last write left, when it still
+// stands for the hull, else evaluated now), so that a hull of many dives
+// is not evaluated at every look; its dives come a page at a time.
 func (s *Server) hullPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) error {
 	ctx := r.Context()
-	b := hullBody{Now: time.Now().UTC().Format(time.RFC3339)}
+	now := time.Now().UTC()
+	b := hullBody{RulesSource: l.RulesSource()}
 	err := l.Snapshot(ctx, func(sl *ledger.Ledger) error {
 		rec, err := sl.Hull(ctx, r.PathValue("serial"))
 		if err != nil {
 			return &ledger.InputError{Err: err}
 		}
+		b.Record = rec
 		if b.Summary, err = sl.HullSummary(ctx, rec.ID); err != nil {
 			return err
 		}
-		if b.Hull, err = view.HullOf(ctx, sl, rec.Serial, time.Now().UTC()); err != nil {
+		if b.Entry, err = sl.FleetEntryOf(ctx, rec, now); err != nil {
 			return err
 		}
+		dmg, err := sl.HullDamage(ctx, rec)
+		if err != nil {
+			return err
+		}
+		b.Components = dmg.Components
 		if b.Maintenance, err = sl.MaintenanceOf(ctx, rec); err != nil {
 			return err
 		}
@@ -340,25 +361,19 @@ func (s *Server) hullPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 		if b.Implosion, err = ledger.ImplosionOf(rec, seawater.DepthToMPa(rec.Spec.RatedDepthM, 90)); err != nil {
 			return err
 		}
-		ds, err := sl.Dives(ctx, rec.Serial)
-		if err != nil {
-			return err
-		}
-		// Newest first, a page at a time.
-		b.Pages = max(1, (len(ds)+pageSize-1)/pageSize)
+		b.Pages = max(1, int((b.Summary.DiveCount+pageSize-1)/pageSize))
 		b.Page, _ = strconv.Atoi(r.URL.Query().Get("page"))
 		b.Page = min(max(b.Page, 1), b.Pages)
-		for i := len(ds) - 1 - (b.Page-1)*pageSize; i >= 0 && len(b.Dives) < pageSize; i-- {
-			b.Dives = append(b.Dives, ds[i])
-		}
-		return nil
+		b.Dives, err = sl.DivesPage(ctx, rec.Serial, (b.Page-1)*pageSize, pageSize)
+		return err
 	})
 	if err != nil {
 		return err
 	}
-	b.Reasons = view.CollapseReasons(b.Hull.Fitness.Reasons, true)
+	b.Shown, b.Life = view.ShownDamage(b.Entry.Status, b.Entry.Damage), view.LifeOf(b.Entry.Status, b.Entry.Damage)
+	b.Reasons = view.CollapseReasons(b.Entry.Reasons, true)
 	b.Charts = []string{reports.ChartDamage, reports.ChartCycles, reports.ChartFelicity, reports.ChartCompliance, reports.ChartProfile}
-	s.render(w, http.StatusOK, "hull", s.pageOf(l, b.Hull.Record.Serial, b))
+	s.render(w, http.StatusOK, "hull", s.pageOf(l, b.Record.Serial, b))
 	return nil
 }
 
@@ -438,6 +453,7 @@ func (s *Server) logPost(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 			}
 			if !g.Duplicate {
 				s.dives.Inc()
+				s.noteHull(r, g.Hull)
 			}
 			s.render(w, http.StatusOK, "logged", s.pageOf(l, "Dive logged", map[string]any{"L": g, "After": view.CollapseReasons(g.Reasons, false)}))
 			return 0, nil, nil
@@ -489,6 +505,7 @@ func (s *Server) recordPost(kind string) pageFunc {
 		if err != nil {
 			return err
 		}
+		s.noteHull(r, serial)
 		http.Redirect(w, r, "/hulls/"+url.PathEscape(serial)+"#records", http.StatusSeeOther)
 		return nil
 	}
@@ -540,6 +557,21 @@ func (s *Server) divePage(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 	}
 	s.render(w, http.StatusOK, "dive", s.pageOf(l, "Dive "+dv.Record.ID.String()[:8], map[string]any{
 		"D": dv, "Full": full, "Half": half, "Biggest": biggest}))
+	return nil
+}
+
+func (s *Server) diveProfilePage(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) error {
+	svg, err := reports.DiveProfileSVG(r.Context(), l, r.PathValue("id"))
+	if err != nil {
+		return err
+	}
+	if svg == nil {
+		return &ledger.InputError{Err: fmt.Errorf("dive %s has no profile on record", r.PathValue("id"))}
+	}
+	w.Header().Set("Content-Type", "image/svg+xml")
+	w.Header().Set("Cache-Control", "no-store")
+	w.Header().Set("X-Content-Type-Options", "nosniff")
+	_, _ = w.Write(svg)
 	return nil
 }
 

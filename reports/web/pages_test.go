@@ -164,7 +164,7 @@ func TestPagesByRole(t *testing.T) {
 	if id == nil {
 		t.Fatalf("no link to the dive:\n%s", body)
 	}
-	for _, p := range []string{"/dives/" + id[1], hull + "/clearance?depth_m=100", hull + "/charts/damage.svg", hull + "/charts/cycles.svg"} {
+	for _, p := range []string{"/dives/" + id[1], "/dives/" + id[1] + "/profile.svg", hull + "/clearance?depth_m=100", hull + "/charts/damage.svg", hull + "/charts/cycles.svg"} {
 		if res, body := op.get(p); res.StatusCode != 200 {
 			t.Fatalf("GET %s as the operator: %d\n%.500s", p, res.StatusCode, body)
 		}

@@ -472,9 +472,20 @@ func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 				code = http.StatusOK
 			} else {
 				s.dives.Inc()
+				s.noteHull(r, d.Hull)
 			}
 			return code, d, nil
 		})
+}
+
+// noteHull writes, as the owner, the fleet summary of a hull a person has
+// just written to (ledger.NoteHull): the person may not. A failure leaves
+// the hull evaluated from the ledger at every read until the next write
+// or fleet rebuild, and is logged.
+func (s *Server) noteHull(r *http.Request, serial string) {
+	if err := s.owner.NoteHull(r.Context(), serial); err != nil {
+		s.log.Warn("writing a hull's fleet summary after a person's write", "hull", serial, "error", err.Error())
+	}
 }
 
 // readUpload reads a multipart upload of a dive's files and hands the log
@@ -831,6 +842,7 @@ func (s *Server) inspection(w http.ResponseWriter, r *http.Request, l *ledger.Le
 	if err != nil {
 		return 0, nil, err
 	}
+	s.noteHull(r, r.PathValue("serial"))
 	return http.StatusCreated, in, nil
 }
 
@@ -846,6 +858,7 @@ func (s *Server) proofTest(w http.ResponseWriter, r *http.Request, l *ledger.Led
 	if err != nil {
 		return 0, nil, err
 	}
+	s.noteHull(r, r.PathValue("serial"))
 	return http.StatusCreated, p, nil
 }
 
@@ -886,6 +899,7 @@ func (s *Server) proofTestWithSamples(w http.ResponseWriter, r *http.Request, l 
 		if err != nil {
 			return 0, nil, err
 		}
+		s.noteHull(r, r.PathValue("serial"))
 		return http.StatusCreated, rec, nil
 	})
 }
@@ -899,6 +913,7 @@ func (s *Server) decision(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 	if err != nil {
 		return 0, nil, err
 	}
+	s.noteHull(r, r.PathValue("serial"))
 	return http.StatusCreated, d, nil
 }
 

@@ -713,3 +713,35 @@ func TestStalledUploadCutOff(t *testing.T) {
 		t.Fatalf("dives %d → %d, want only the complete upload", before, got)
 	}
 }
+
+// TestPersonsWritesKeepTheSummary: a person may not write the fleet
+// summary, so the service writes it, as the owner, after the person's
+// write: the fleet is then read from summaries that stand, not evaluated
+// hull by hull at every look, and says the same as an evaluation.
+func TestPersonsWritesKeepTheSummary(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	b, ct := upload(t, diveCSV)
+	if code, doc := f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", b, ct); code != 201 {
+		t.Fatalf("upload: %d %v", code, doc)
+	}
+	code, doc := f.do(ledger.RoleInspector, "GET", "/api/v1/fleet", nil, "")
+	hulls, _ := doc["hulls"].([]any)
+	if code != 200 || len(hulls) != 1 {
+		t.Fatalf("fleet: %d %v", code, doc)
+	}
+	row := hulls[0].(map[string]any)
+	if row["from_summary"] != true {
+		t.Fatalf("after an operator's dive the fleet row is not from a summary that stands: %v", row)
+	}
+	h, err := f.owner.Hull(context.Background(), serial)
+	if err != nil {
+		t.Fatal(err)
+	}
+	fit, err := f.owner.FitnessAt(context.Background(), h, time.Now().UTC())
+	if err != nil {
+		t.Fatal(err)
+	}
+	if row["status"] != fit.Status || len(row["reasons"].([]any)) != len(fit.Reasons) {
+		t.Fatalf("the summary says %v with %d reasons, an evaluation %s with %d", row["status"], len(row["reasons"].([]any)), fit.Status, len(fit.Reasons))
+	}
+}
