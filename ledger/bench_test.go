@@ -3,17 +3,14 @@ package ledger_test
 import (
 	"context"
 	"fmt"
-	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"runtime"
 	"testing"
 	"time"
 
-	"github.com/google/uuid"
-	"github.com/jackc/pgx/v5"
-
 	"hulltally/ledger"
+	"hulltally/ledger/ledgertest"
 	"hulltally/ledger/spec"
 	"hulltally/ledger/synth"
 )
@@ -61,53 +58,7 @@ func BenchmarkReassessFleet(b *testing.B) {
 // fleet is for re-assessment). The cycles are random but seeded.
 func copyFleet(tb testing.TB, l *ledger.Ledger, prefix string, hulls int, dives func(h int) int) {
 	tb.Helper()
-	ctx := context.Background()
-	base := exampleSpec(tb)
-	rng := rand.New(rand.NewPCG(1, 2))
-	for h := 0; h < hulls; h++ {
-		sp := *base
-		sp.Serial = fmt.Sprintf("%s-%03d", prefix, h)
-		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"})
-		if err != nil {
-			tb.Fatal(err)
-		}
-		var diveRows, cycleRows, holdRows [][]any
-		t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
-		for d := 0; d < dives(h); d++ {
-			id := uuid.New()
-			peak := 20 + 20*rng.Float64()
-			st := t0.Add(time.Duration(d) * 30 * time.Hour)
-			sha := make([]byte, 32)
-			copy(sha, id[:])
-			diveRows = append(diveRows, []any{id, rec.ID, int32(1), "bench.csv", sha, int64(1), st, st.Add(5 * time.Hour), 45.0, false, "", "", "pressure_mpa",
-				[]string{"t_s", "pressure_mpa"}, []string{}, int64(1000), int32(1), 18000.0, peak * 99, peak, false, int32(0), st, l.Identity().Name})
-			r, m, n := []float64{peak, peak}, []float64{peak / 2, peak / 2}, []float64{0.5, 0.5}
-			for k := 0; k < 10; k++ {
-				r, m, n = append(r, 0.1+0.3*rng.Float64()), append(m, peak-0.2), append(n, 1)
-			}
-			cycleRows = append(cycleRows, []any{id, rec.ID, "pressure", "MPa", 0.05, r, m, n})
-			var lv, sec []float64
-			for k := 1; k <= 24; k++ {
-				lv, sec = append(lv, peak*float64(k)/24), append(sec, 60+rng.Float64()*600)
-			}
-			holdRows = append(holdRows, []any{id, rec.ID, 0.05, lv, sec})
-		}
-		err = pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
-			cols := []string{"id", "hull_id", "hull_revision", "source_name", "source_sha256", "source_bytes", "start_time", "end_time", "latitude", "latitude_assumed",
-				"site", "operator", "load_column", "columns", "gauges", "sample_count", "block_count", "duration_s", "max_depth_m", "max_pressure_mpa", "beyond_rated", "ae_hit_count", "recorded_at", "recorded_by"}
-			if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dives"}, cols, pgx.CopyFromRows(diveRows)); err != nil {
-				return err
-			}
-			if _, err := tx.CopyFrom(ctx, pgx.Identifier{"dive_cycles"}, []string{"dive_id", "hull_id", "series", "unit", "gate", "ranges", "means", "counts"}, pgx.CopyFromRows(cycleRows)); err != nil {
-				return err
-			}
-			_, err := tx.CopyFrom(ctx, pgx.Identifier{"dive_holds"}, []string{"dive_id", "hull_id", "bin_mpa", "levels", "seconds"}, pgx.CopyFromRows(holdRows))
-			return err
-		})
-		if err != nil {
-			tb.Fatal(err)
-		}
-	}
+	ledgertest.CopyFleet(tb, l, exampleSpec(tb), prefix, hulls, dives)
 }
 
 // watchHeap samples the heap in use every 5 ms until the returned
