@@ -2,6 +2,7 @@ package web
 
 import (
 	"bytes"
+	"context"
 	"embed"
 	"errors"
 	"fmt"
@@ -213,7 +214,12 @@ func (s *Server) signedIn(h pageFunc) http.Handler {
 			http.Redirect(w, r, "/sign-in?next="+url.QueryEscape(r.URL.RequestURI()), http.StatusSeeOther)
 			return
 		}
+		r, done := s.track(w, r, person)
+		defer done()
 		if err := h(w, r, l); err != nil {
+			if errors.Is(context.Cause(r.Context()), errPersonGone) {
+				err = fmt.Errorf("%w: %w", errPersonGone, err)
+			}
 			code, doc := s.errorAnswer(err, l)
 			msg := ""
 			if e, ok := doc.(map[string]any)["error"].(map[string]string); ok {

@@ -87,6 +87,9 @@ type Server struct {
 
 	mu     sync.Mutex
 	people map[string]*ledger.Ledger
+	// running are the person's requests in progress, to end them when the
+	// person can no longer sign in (sweep).
+	running map[string]map[*request]struct{}
 	// opening opens each person's pool once, outside mu.
 	opening singleflight.Group
 	// pages are the web pages' templates.
@@ -126,7 +129,8 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 		opt.StallTimeout = time.Minute
 	}
 	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
-		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
+		running: map[string]map[*request]struct{}{},
+		fails:   newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
 		stop: make(chan struct{}), swept: make(chan struct{})}
 	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
 	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
@@ -186,12 +190,51 @@ func (s *Server) sweep() {
 			s.mu.Lock()
 			l, ok := s.people[n]
 			delete(s.people, n)
+			for q := range s.running[n] {
+				q.cancel(errPersonGone) // rolled back: nothing of it is stored
+			}
 			s.mu.Unlock()
 			if ok {
 				l.Close() // waits for requests in progress to give back their connections
 				s.log.Info("closed the connections of a person who can no longer sign in", "person", n)
 			}
 		}
+	}
+}
+
+// errPersonGone ends the requests of a person who can no longer sign in.
+var errPersonGone = errors.New("the person can no longer sign in")
+
+// request is a person's request in progress.
+type request struct{ cancel context.CancelCauseFunc }
+
+// track registers a person's request in progress, so that the sweep can
+// end it when the person is disabled (a read of its body in progress is
+// cut too); it returns the request with its context, and its release.
+func (s *Server) track(w http.ResponseWriter, r *http.Request, person string) (*http.Request, func()) {
+	ctx, cancel := context.WithCancelCause(r.Context())
+	q := &request{cancel: cancel}
+	rc := http.NewResponseController(w)
+	stop := context.AfterFunc(ctx, func() {
+		if errors.Is(context.Cause(ctx), errPersonGone) {
+			_ = rc.SetReadDeadline(time.Now())
+		}
+	})
+	s.mu.Lock()
+	if s.running[person] == nil {
+		s.running[person] = map[*request]struct{}{}
+	}
+	s.running[person][q] = struct{}{}
+	s.mu.Unlock()
+	return r.WithContext(ctx), func() {
+		s.mu.Lock()
+		delete(s.running[person], q)
+		if len(s.running[person]) == 0 {
+			delete(s.running, person)
+		}
+		s.mu.Unlock()
+		stop()
+		cancel(nil)
 	}
 }
 
@@ -284,8 +327,16 @@ func (s *Server) serve(w http.ResponseWriter, r *http.Request, auth bool, h hand
 			return writeJSON(w, http.StatusUnauthorized, errorDoc("unauthenticated", "a valid bearer token is required (hulltally token create)"))
 		}
 	}
+	if person != "" {
+		var done func()
+		r, done = s.track(w, r, person)
+		defer done()
+	}
 	code, body, err := h(w, r, l)
 	if err != nil {
+		if errors.Is(context.Cause(r.Context()), errPersonGone) {
+			err = fmt.Errorf("%w: %w", errPersonGone, err)
+		}
 		code, body = s.errorAnswer(err, l)
 		level := slog.LevelInfo
 		if code >= 500 {
@@ -369,6 +420,8 @@ func (s *Server) errorAnswer(err error, l *ledger.Ledger) (int, any) {
 		return http.StatusNotFound, errorDoc("input", err.Error())
 	case errors.As(err, &ie):
 		return http.StatusUnprocessableEntity, errorDoc("input", err.Error())
+	case errors.Is(err, errPersonGone):
+		return http.StatusUnauthorized, errorDoc("unauthenticated", "the person can no longer sign in (disabled): the request was ended and nothing of it was stored")
 	case errors.Is(err, context.Canceled), errors.Is(err, context.DeadlineExceeded):
 		return http.StatusServiceUnavailable, errorDoc("failure", "the request was cancelled or timed out; nothing was stored")
 	}

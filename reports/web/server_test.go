@@ -533,8 +533,28 @@ func TestDisabledPersonsConnectionsClosed(t *testing.T) {
 	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 200 || !f.svc.open(name) {
 		t.Fatalf("before: %d, connections held %v", code, f.svc.open(name))
 	}
+	// An upload of the person's in progress (its sender slow): ended when
+	// the person is disabled, nothing of it stored.
+	dives := f.dives()
+	conn, err := net.Dial("tcp", strings.TrimPrefix(f.http.URL, "http://"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	body := "--b\r\nContent-Disposition: form-data; name=\"samples\"; filename=\"d.csv\"\r\n\r\n" + diveCSV[:len(diveCSV)/2]
+	fmt.Fprintf(conn, "POST /api/v1/hulls/%s/dives HTTP/1.1\r\nHost: x\r\nAuthorization: Bearer %s\r\nContent-Type: multipart/form-data; boundary=b\r\nContent-Length: %d\r\n\r\n%s",
+		serial, f.tokens[ledger.RoleMaintenance].Secret, 10*len(body), body)
+	time.Sleep(300 * time.Millisecond)
 	if err := f.owner.DisablePerson(context.Background(), name); err != nil {
 		t.Fatal(err)
+	}
+	conn.SetReadDeadline(time.Now().Add(10 * time.Second))
+	answer, _ := io.ReadAll(conn)
+	if !strings.Contains(string(answer), "401") || strings.Contains(string(answer), "201 Created") {
+		t.Fatalf("the disabled person's upload in progress was answered:\n%s", answer)
+	}
+	if f.dives() != dives {
+		t.Fatal("the disabled person's upload in progress was stored")
 	}
 	if code, _ := f.do(ledger.RoleMaintenance, "GET", "/api/v1/fleet", nil, ""); code != 401 {
 		t.Fatalf("a disabled person's request: %d, want 401", code)
