@@ -31,35 +31,31 @@ func (a *app) clearCmd() *cobra.Command {
 				return err
 			}
 			var c *ledger.Clearance
+			var raw []byte // the service's answer, printed as it came
 			if rc != nil {
-				var raw []byte
-				if c, raw, err = rc.Clear(cmd.Context(), args[0], depth, bottom); err != nil {
-					return err
-				}
-				if !c.Go {
-					a.exit = exitNoGo
-				}
-				if a.asJSON {
-					return a.printRaw(raw)
-				}
+				c, raw, err = rc.Clear(cmd.Context(), args[0], depth, bottom)
 			} else {
-				l, err := a.open(cmd.Context())
-				if err != nil {
-					return err
+				l, oerr := a.open(cmd.Context())
+				if oerr != nil {
+					return oerr
 				}
 				defer l.Close()
-				if c, err = l.Clear(cmd.Context(), args[0], depth, bottom, time.Now().UTC()); err != nil {
-					return err
-				}
-				if !c.Go {
-					a.exit = exitNoGo
-				}
-				if a.asJSON {
-					return a.printJSON(struct {
-						*ledger.Clearance
-						Caution string `json:"caution"`
-					}{c, cautionText()})
-				}
+				c, err = l.Clear(cmd.Context(), args[0], depth, bottom, time.Now().UTC())
+			}
+			if err != nil {
+				return err
+			}
+			if !c.Go {
+				a.exit = exitNoGo
+			}
+			if a.asJSON && raw != nil {
+				return a.printRaw(raw)
+			}
+			if a.asJSON {
+				return a.printJSON(struct {
+					*ledger.Clearance
+					Caution string `json:"caution"`
+				}{c, cautionText()})
 			}
 			verdict := "GO"
 			if !c.Go {
@@ -108,26 +104,25 @@ func (a *app) fleetCmd() *cobra.Command {
 				return err
 			}
 			var fl []view.FleetRow
+			var raw []byte // the service's answer, printed as it came
 			if rc != nil {
-				var raw []byte
-				if fl, raw, err = rc.Fleet(cmd.Context()); err != nil {
-					return err
-				}
-				if a.asJSON {
-					return a.printRaw(raw)
-				}
+				fl, raw, err = rc.Fleet(cmd.Context())
 			} else {
-				l, err := a.open(cmd.Context())
-				if err != nil {
-					return err
+				l, oerr := a.open(cmd.Context())
+				if oerr != nil {
+					return oerr
 				}
 				defer l.Close()
-				if fl, err = view.FleetRowsOf(cmd.Context(), l, time.Now().UTC()); err != nil {
-					return err
-				}
-				if a.asJSON {
-					return a.printJSON(map[string]any{"hulls": fl, "caution": cautionText()})
-				}
+				fl, err = view.FleetRowsOf(cmd.Context(), l, time.Now().UTC())
+			}
+			if err != nil {
+				return err
+			}
+			if a.asJSON && raw != nil {
+				return a.printRaw(raw)
+			}
+			if a.asJSON {
+				return a.printJSON(map[string]any{"hulls": fl, "caution": cautionText()})
 			}
 			a.printFleet(fl)
 			return nil

@@ -405,11 +405,16 @@ func (s *Server) chartPage(w http.ResponseWriter, r *http.Request, l *ledger.Led
 	if !ok {
 		return &ledger.InputError{Err: fmt.Errorf("hull %s has no %s chart (no such data yet)", r.PathValue("serial"), name)}
 	}
+	writeSVG(w, svg)
+	return nil
+}
+
+// writeSVG answers a chart.
+func writeSVG(w http.ResponseWriter, svg []byte) {
 	w.Header().Set("Content-Type", "image/svg+xml")
 	w.Header().Set("Cache-Control", "no-store")
 	w.Header().Set("X-Content-Type-Options", "nosniff")
 	_, _ = w.Write(svg)
-	return nil
 }
 
 func (s *Server) clearancePage(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) error {
@@ -574,10 +579,7 @@ func (s *Server) diveProfilePage(w http.ResponseWriter, r *http.Request, l *ledg
 	if svg == nil {
 		return &ledger.InputError{Err: fmt.Errorf("dive %s has no profile on record", r.PathValue("id"))}
 	}
-	w.Header().Set("Content-Type", "image/svg+xml")
-	w.Header().Set("Cache-Control", "no-store")
-	w.Header().Set("X-Content-Type-Options", "nosniff")
-	_, _ = w.Write(svg)
+	writeSVG(w, svg)
 	return nil
 }
 
@@ -618,16 +620,7 @@ func (s *Server) verifyPost(w http.ResponseWriter, r *http.Request, l *ledger.Le
 	if n > maxReport {
 		return &http.MaxBytesError{Limit: maxReport}
 	}
-	release, err := s.heavy(r.Context())
-	if err != nil {
-		return err
-	}
-	defer release()
-	var o reports.VerifyOptions
-	if s.opt.Signer != nil {
-		o.Key = s.opt.Signer.Public()
-	}
-	v, err := reports.VerifyWith(r.Context(), l, path, o)
+	v, err := s.checkReport(r.Context(), l, path)
 	if err != nil {
 		return err
 	}

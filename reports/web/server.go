@@ -1048,20 +1048,27 @@ func (s *Server) verifyReport(w http.ResponseWriter, r *http.Request, l *ledger.
 	if err != nil {
 		return 0, nil, uploadErr(err)
 	}
-	release, err := s.heavy(r.Context())
+	v, err := s.checkReport(r.Context(), l, path)
 	if err != nil {
 		return 0, nil, err
+	}
+	return http.StatusOK, v, nil
+}
+
+// checkReport verifies a report file against the ledger as the person,
+// and its signature by the service's key when it has one, in its turn
+// among the heavy requests.
+func (s *Server) checkReport(ctx context.Context, l *ledger.Ledger, path string) (*reports.Verification, error) {
+	release, err := s.heavy(ctx)
+	if err != nil {
+		return nil, err
 	}
 	defer release()
 	var o reports.VerifyOptions
 	if s.opt.Signer != nil {
 		o.Key = s.opt.Signer.Public()
 	}
-	v, err := reports.VerifyWith(r.Context(), l, path, o)
-	if err != nil {
-		return 0, nil, err
-	}
-	return http.StatusOK, v, nil
+	return reports.VerifyWith(ctx, l, path, o)
 }
 
 // maxField bounds a text part of an upload.
