@@ -250,7 +250,10 @@ func apiRoutes(s *Server) []route {
 	return []route{
 		{"GET /api/v1/me", s.me},
 		{"GET /api/v1/fleet", s.fleet},
+		{"GET /api/v1/hulls", s.hulls},
 		{"GET /api/v1/hulls/{serial}", s.hull},
+		{"GET /api/v1/hulls/{serial}/dives", s.hullDives},
+		{"GET /api/v1/dives/{id}", s.dive},
 		{"GET /api/v1/hulls/{serial}/clearance", s.clearance},
 		{"POST /api/v1/hulls/{serial}/dives", s.logDive},
 		{"POST /api/v1/hulls/{serial}/inspections", s.inspection},
@@ -416,7 +419,7 @@ func (s *Server) errorAnswer(err error, l *ledger.Ledger) (int, any) {
 		return http.StatusForbidden, errorDoc("not_permitted", np.Error())
 	case errors.As(err, &tooBig):
 		return http.StatusRequestEntityTooLarge, errorDoc("input", fmt.Sprintf("the upload is larger than the limit of %d bytes; nothing was stored", tooBig.Limit))
-	case errors.Is(err, ledger.ErrUnknownHull):
+	case errors.Is(err, ledger.ErrUnknownHull), errors.Is(err, ledger.ErrUnknownDive):
 		return http.StatusNotFound, errorDoc("input", err.Error())
 	case errors.As(err, &ie):
 		return http.StatusUnprocessableEntity, errorDoc("input", err.Error())
@@ -478,6 +481,45 @@ func (s *Server) hull(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) 
 		return 0, nil, err
 	}
 	return http.StatusOK, map[string]any{"hull": hv, "caution": reports.Caution}, nil
+}
+
+// hulls is the hull list, as `hull list --json` prints it.
+func (s *Server) hulls(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	rows, err := view.HullRowsOf(r.Context(), l, time.Now().UTC())
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, map[string]any{"hulls": rows, "caution": reports.Caution}, nil
+}
+
+// hullDives lists a hull's dives, oldest first, as `dive list --json` prints
+// them.
+func (s *Server) hullDives(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	serial := r.PathValue("serial")
+	ds, err := l.Dives(r.Context(), serial)
+	if err != nil {
+		if errors.Is(err, ledger.ErrUnknownHull) {
+			return 0, nil, &ledger.InputError{Err: err}
+		}
+		return 0, nil, err
+	}
+	if ds == nil {
+		ds = []ledger.Dive{}
+	}
+	return http.StatusOK, map[string]any{"hull": serial, "dives": ds}, nil
+}
+
+// dive is one dive with its load, as `dive show --json` prints it.
+func (s *Server) dive(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
+	dv, err := view.DiveOf(r.Context(), l, r.PathValue("id"))
+	if err != nil {
+		return 0, nil, err
+	}
+	return http.StatusOK, struct {
+		*ledger.Dive
+		*ledger.DiveLoad
+		Caution string `json:"caution"`
+	}{dv.Record, dv.Load, reports.Caution}, nil
 }
 
 func (s *Server) clearance(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {

@@ -765,3 +765,33 @@ func TestPersonsWritesKeepTheSummary(t *testing.T) {
 		t.Fatalf("the summary says %v with %d reasons, an evaluation %s with %d", row["status"], len(row["reasons"].([]any)), fit.Status, len(fit.Reasons))
 	}
 }
+
+// TestReadsOverHTTP: the hull list, a hull's dives and one dive, as the
+// command line's --json prints them, for any role; an unknown hull or
+// dive is 404, never an empty answer that reads as "nothing recorded".
+func TestReadsOverHTTP(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20})
+	b, ct := upload(t, diveCSV)
+	code, doc := f.do(ledger.RoleOperator, "POST", "/api/v1/hulls/"+serial+"/dives", b, ct)
+	if code != 201 {
+		t.Fatalf("upload: %d %v", code, doc)
+	}
+	id, _ := doc["dive_id"].(string)
+	code, doc = f.do(ledger.RoleInspector, "GET", "/api/v1/hulls", nil, "")
+	if hs, _ := doc["hulls"].([]any); code != 200 || len(hs) != 1 || hs[0].(map[string]any)["serial"] != serial || doc["caution"] == nil {
+		t.Fatalf("hull list: %d %v", code, doc)
+	}
+	code, doc = f.do(ledger.RoleInspector, "GET", "/api/v1/hulls/"+serial+"/dives", nil, "")
+	if ds, _ := doc["dives"].([]any); code != 200 || len(ds) != 1 || ds[0].(map[string]any)["dive_id"] != id {
+		t.Fatalf("dive list: %d %v", code, doc)
+	}
+	code, doc = f.do(ledger.RoleInspector, "GET", "/api/v1/dives/"+id[:8], nil, "")
+	if code != 200 || doc["dive_id"] != id || doc["pressure_cycles"] == nil || doc["recorded_by"] != f.names[ledger.RoleOperator] {
+		t.Fatalf("one dive: %d %v", code, doc)
+	}
+	for _, p := range []string{"/api/v1/hulls/NO-SUCH/dives", "/api/v1/dives/00000000-0000-4000-8000-000000000000", "/api/v1/dives/not-an-id"} {
+		if code, doc := f.do(ledger.RoleInspector, "GET", p, nil, ""); code != 404 {
+			t.Errorf("GET %s: %d %v, want 404", p, code, doc)
+		}
+	}
+}
