@@ -136,15 +136,21 @@ func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*Decode
 }
 
 // DivesPage lists a page of a hull's dives, newest first: limit dives
-// after skipping offset, as Dives gives them.
-func (l *Ledger) DivesPage(ctx context.Context, serial string, offset, limit int) ([]Dive, error) {
+// after skipping offset, as Dives gives them (void dives too), with the
+// number of every dive of the hull.
+func (l *Ledger) DivesPage(ctx context.Context, serial string, offset, limit int) ([]Dive, int, error) {
 	h, err := l.Hull(ctx, serial)
 	if err != nil {
-		return nil, err
+		return nil, 0, err
+	}
+	var total int
+	if err := l.db.QueryRow(ctx, "SELECT count(*) FROM dives WHERE hull_id = $1", h.ID).Scan(&total); err != nil {
+		return nil, 0, fmt.Errorf("counting the dives of %s: %w", serial, err)
 	}
 	rows, err := l.db.Query(ctx, "SELECT "+prefixed("d.", diveColumns)+", NOT "+notVoided+" AS voided, EXISTS (SELECT 1 FROM proof_tests p WHERE p.hull_id = d.hull_id AND p.dive_id = d.id) AS proof_test FROM dives d WHERE d.hull_id = $1 ORDER BY d.start_time DESC, d.id DESC OFFSET $2 LIMIT $3", h.ID, max(offset, 0), max(limit, 0))
 	if err != nil {
-		return nil, fmt.Errorf("listing dives of %s: %w", serial, err)
+		return nil, 0, fmt.Errorf("listing dives of %s: %w", serial, err)
 	}
-	return l.listed(rows, h, serial)
+	ds, err := l.listed(rows, h, serial)
+	return ds, total, err
 }

@@ -22,6 +22,9 @@ type Inspection struct {
 	Result     string    `json:"result" db:"result"`
 	Actor      string    `json:"actor" db:"actor"`
 	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
+	// RecordedBy is who recorded it: the actor, which the database checks
+	// is the identity of the session that recorded it (migration 012).
+	RecordedBy string `json:"recorded_by" db:"-"`
 }
 
 // ProofTest is a recorded proof test.
@@ -38,6 +41,8 @@ type ProofTest struct {
 	// baseline_json: see proofTestRow).
 	Baseline   map[string]float64 `json:"baseline_compliance_ue_per_mpa" db:"-"`
 	RecordedAt time.Time          `json:"recorded_at" db:"recorded_at"`
+	// RecordedBy is who recorded it (the actor, checked by the database).
+	RecordedBy string `json:"recorded_by" db:"-"`
 }
 
 // proofTestRow is a proof_tests row as read: the record with its
@@ -55,6 +60,8 @@ type Decision struct {
 	Actor      string    `json:"actor" db:"actor"`
 	Reason     string    `json:"reason" db:"reason"`
 	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
+	// RecordedBy is who recorded it (the actor, checked by the database).
+	RecordedBy string `json:"recorded_by" db:"-"`
 }
 
 // Decision kinds.
@@ -194,6 +201,7 @@ func (l *Ledger) RecordInspection(ctx context.Context, serial string, in Inspect
 	if err := l.noteStatusAfter(ctx, serial); err != nil {
 		return nil, err
 	}
+	in.RecordedBy = in.Actor
 	return &in, nil
 }
 
@@ -228,6 +236,7 @@ func (l *Ledger) RecordProofTest(ctx context.Context, serial string, p ProofTest
 	}
 	p.Baseline = map[string]float64{}
 	_ = json.Unmarshal([]byte(bj), &p.Baseline)
+	p.RecordedBy = p.Actor
 	return &p, nil
 }
 
@@ -323,6 +332,7 @@ func (l *Ledger) RecordDecision(ctx context.Context, serial string, d Decision) 
 	if err := l.noteStatusAfter(ctx, serial); err != nil {
 		return nil, err
 	}
+	d.RecordedBy = d.Actor
 	return &d, nil
 }
 
@@ -344,6 +354,9 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 	if err != nil {
 		return nil, fmt.Errorf("inspections of %s: %w", h.Serial, err)
 	}
+	for i := range ins {
+		ins[i].RecordedBy = ins[i].Actor
+	}
 	m.Inspections = append(m.Inspections, ins...)
 	rows, err = l.db.Query(ctx, "SELECT id, at, pressure_mpa, result, notes, actor, dive_id, baseline_json, recorded_at FROM proof_tests WHERE hull_id = $1 ORDER BY at, recorded_at", h.ID)
 	if err != nil {
@@ -355,6 +368,7 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 	}
 	for _, r := range prs {
 		p := r.ProofTest
+		p.RecordedBy = p.Actor
 		if err := json.Unmarshal([]byte(r.BaselineJSON), &p.Baseline); err != nil {
 			return nil, fmt.Errorf("proof test %s: baseline: %w", p.ID, err)
 		}
@@ -367,6 +381,9 @@ func (l *Ledger) MaintenanceOf(ctx context.Context, h *Hull) (*Maintenance, erro
 	ds, err := pgx.CollectRows(rows, pgx.RowToStructByName[Decision])
 	if err != nil {
 		return nil, fmt.Errorf("decisions of %s: %w", h.Serial, err)
+	}
+	for i := range ds {
+		ds[i].RecordedBy = ds[i].Actor
 	}
 	m.Decisions = append(m.Decisions, ds...)
 	sort.SliceStable(m.Decisions, func(i, j int) bool { return m.Decisions[i].At.Before(m.Decisions[j].At) })
@@ -409,6 +426,7 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 		}
 		return nil, inputErr(fmt.Errorf("these samples are already recorded as dive %s, not as a proof test; a dive is not turned into a proof test afterwards", d.ID))
 	}
+	p.RecordedBy = p.Actor
 	return &p, nil
 }
 

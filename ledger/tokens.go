@@ -168,6 +168,10 @@ func (l *Ledger) SignIn(ctx context.Context, name, password string) (*Token, err
 	}
 	cc := l.pool.Config().ConnConfig.Copy()
 	cc.User, cc.Password = name, password
+	// Only a server that checked the password may answer yes: one that
+	// trusts the connection (pg_hba trust or peer) would let any password
+	// in, so the connection is refused unless it asks for SCRAM.
+	cc.RequireAuth = "scram-sha-256"
 	cc.RuntimeParams = map[string]string{"application_name": "hulltally sign-in"}
 	c, err := pgx.ConnectConfig(ctx, cc)
 	if err != nil {

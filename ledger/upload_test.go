@@ -146,3 +146,24 @@ func TestRefusedUploadAnsweredAsFile(t *testing.T) {
 		t.Fatalf("new samples with a gauge the spec dropped: %v", err)
 	}
 }
+
+// TestDivesPageCountsVoidDives: a page of dives counts every dive of the
+// hull, void ones too, so that none is out of reach of the pages.
+func TestDivesPageCountsVoidDives(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	d1, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d1.csv", goodDive)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d2.csv", strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-02"))}); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := l.VoidDive(ctx, d1.ID.String(), "logged to the wrong hull", "test"); err != nil {
+		t.Fatal(err)
+	}
+	page, total, err := l.DivesPage(ctx, serial, 1, 1)
+	if err != nil || total != 2 || len(page) != 1 || page[0].ID != d1.ID || !page[0].Voided {
+		t.Fatalf("the second page of one: %+v, total %d, %v; want the void first dive, of 2", page, total, err)
+	}
+}

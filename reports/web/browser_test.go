@@ -172,8 +172,8 @@ func TestPagesInBrowser(t *testing.T) {
 	// inspection.
 	signIn(ledger.RoleMaintenance)
 	run("open the hull", chromedp.Navigate(base+"/hulls/"+serial), chromedp.WaitVisible(chromedp.ID(`records`)))
-	if n := writeForms(); n != 3 {
-		t.Fatalf("maintenance sees %d forms on the hull page, want 3", n)
+	if n := writeForms(); n != 4 { // inspection, proof test, decision, issue the report
+		t.Fatalf("maintenance sees %d forms on the hull page, want 4", n)
 	}
 	shoot("hull")
 	run("record an inspection",

@@ -56,6 +56,25 @@ func (f *failures) blocked(addr string) bool {
 	return f.limiter(addr).Tokens() < 1
 }
 
+// attempt takes one of the address's failures before a password is
+// checked, so that attempts sent at once cannot all pass a check made
+// before any of them failed; succeeded gives it back. ok is false when
+// the address has none left.
+func (f *failures) attempt(addr string) (ok bool, succeeded func()) {
+	f.mu.Lock()
+	defer f.mu.Unlock()
+	r := f.limiter(addr).Reserve()
+	if !r.OK() || r.Delay() > 0 {
+		r.Cancel()
+		return false, nil
+	}
+	return true, func() {
+		f.mu.Lock()
+		defer f.mu.Unlock()
+		r.Cancel()
+	}
+}
+
 // failed counts a failed sign-in of the address.
 func (f *failures) failed(addr string) {
 	f.mu.Lock()

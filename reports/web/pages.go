@@ -37,8 +37,9 @@ import (
 //go:embed templates/*.html assets/*
 var pageFiles embed.FS
 
-// sessionCookie is the session's cookie.
-const sessionCookie = "hulltally_session"
+// sessionCookie is the session's cookie: __Host-, so that only this
+// origin may set it (Secure, path /, no domain), never a sibling host.
+const sessionCookie = "__Host-hulltally_session"
 
 // pageSize is the dives shown per page of a hull.
 const pageSize = 50
@@ -178,7 +179,7 @@ func (s *Server) routePages() {
 		"POST /hulls/{serial}/inspections":   s.recordPost("inspection"),
 		"POST /hulls/{serial}/proof-tests":   s.recordPost("proof test"),
 		"POST /hulls/{serial}/decisions":     s.recordPost("decision"),
-		"GET /hulls/{serial}/report.pdf":     s.reportPage(reports.KindHull),
+		"POST /hulls/{serial}/report.pdf":    s.reportPage(reports.KindHull),
 		"GET /dives/{id}":                    s.divePage,
 		"GET /dives/{id}/profile.svg":        s.diveProfilePage,
 		"GET /verify-report":                 s.verifyPage,
@@ -249,7 +250,9 @@ func (s *Server) pageOf(l *ledger.Ledger, title string, body any) page {
 
 // safeNext is a local path to go to after signing in, else /fleet.
 func safeNext(next string) string {
-	if !strings.HasPrefix(next, "/") || strings.HasPrefix(next, "//") || strings.HasPrefix(next, "/\\") {
+	u, err := url.Parse(next)
+	if err != nil || u.Scheme != "" || u.Host != "" || u.User != nil || !strings.HasPrefix(next, "/") ||
+		strings.HasPrefix(next, "//") || strings.ContainsAny(next, "\\") || strings.IndexFunc(next, func(r rune) bool { return r < 0x20 || r == 0x7f }) >= 0 {
 		return "/fleet"
 	}
 	return next
@@ -264,17 +267,29 @@ func (s *Server) signIn(w http.ResponseWriter, r *http.Request) {
 	refuse := func(code int, msg string) {
 		s.render(w, code, "sign-in", page{Title: "Sign in", Body: map[string]string{"Next": safeNext(r.FormValue("next")), "Error": msg}})
 	}
-	if s.fails.blocked(addr) {
+	ok, succeeded := s.fails.attempt(addr)
+	if !ok {
 		s.badAuth.Inc()
 		s.log.Warn("sign-in refused: too many failed sign-ins", "remote", addr)
 		refuse(http.StatusTooManyRequests, "Too many failed sign-ins from this address: wait a minute and try again.")
 		return
 	}
+	// Each check opens a database connection: a few at once.
+	select {
+	case s.signIns <- struct{}{}:
+		defer func() { <-s.signIns }()
+	default:
+		succeeded()
+		refuse(http.StatusTooManyRequests, "The service is checking other sign-ins: try again in a moment.")
+		return
+	}
 	r.Body = http.MaxBytesReader(w, r.Body, 8<<10)
 	name, password := strings.TrimSpace(r.FormValue("name")), r.FormValue("password")
 	tok, err := s.owner.SignIn(r.Context(), name, password)
+	if err == nil || !errors.Is(err, ledger.ErrBadPassword) {
+		succeeded() // not a failed sign-in
+	}
 	if errors.Is(err, ledger.ErrBadPassword) {
-		s.fails.failed(addr)
 		s.badAuth.Inc()
 		s.log.Warn("sign-in refused", "remote", addr, "name", name) // never the password
 		refuse(http.StatusUnauthorized, "The name or the password is not valid.")
@@ -284,6 +299,12 @@ func (s *Server) signIn(w http.ResponseWriter, r *http.Request) {
 		s.log.Error("a sign-in could not be checked", "remote", addr, "error", err.Error())
 		refuse(http.StatusServiceUnavailable, "The service cannot check sign-ins now; try again.")
 		return
+	}
+	if old, err := r.Cookie(sessionCookie); err == nil {
+		// A session replaced is a session ended.
+		if err := s.owner.RevokeSecret(r.Context(), old.Value); err != nil && !errors.Is(err, ledger.ErrBadToken) {
+			s.log.Error("ending the session a sign-in replaces", "error", err.Error())
+		}
 	}
 	http.SetCookie(w, &http.Cookie{Name: sessionCookie, Value: tok.Secret, Path: "/", MaxAge: 86400,
 		HttpOnly: true, Secure: true, SameSite: http.SameSiteStrictMode})
@@ -344,7 +365,7 @@ func (s *Server) hullPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 	err := l.Snapshot(ctx, func(sl *ledger.Ledger) error {
 		rec, err := sl.Hull(ctx, r.PathValue("serial"))
 		if err != nil {
-			return &ledger.InputError{Err: err}
+			return unknownHull(err)
 		}
 		b.Record = rec
 		if b.Summary, err = sl.HullSummary(ctx, rec.ID); err != nil {
@@ -367,10 +388,19 @@ func (s *Server) hullPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 		if b.Implosion, err = ledger.ImplosionOf(rec, seawater.DepthToMPa(rec.Spec.RatedDepthM, 90)); err != nil {
 			return err
 		}
-		b.Pages = max(1, int((b.Summary.DiveCount+pageSize-1)/pageSize))
+		// Every dive counts for the pages, void ones too (the summary's
+		// count leaves them out): none may be out of reach.
 		b.Page, _ = strconv.Atoi(r.URL.Query().Get("page"))
-		b.Page = min(max(b.Page, 1), b.Pages)
-		b.Dives, err = sl.DivesPage(ctx, rec.Serial, (b.Page-1)*pageSize, pageSize)
+		b.Page = max(b.Page, 1)
+		var total int
+		if b.Dives, total, err = sl.DivesPage(ctx, rec.Serial, (b.Page-1)*pageSize, pageSize); err != nil {
+			return err
+		}
+		b.Pages = max(1, (total+pageSize-1)/pageSize)
+		if b.Page > b.Pages {
+			b.Page = b.Pages
+			b.Dives, _, err = sl.DivesPage(ctx, rec.Serial, (b.Page-1)*pageSize, pageSize)
+		}
 		return err
 	})
 	if err != nil {
@@ -444,7 +474,7 @@ func (s *Server) clearancePage(w http.ResponseWriter, r *http.Request, l *ledger
 
 func (s *Server) logPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) error {
 	if _, err := l.Hull(r.Context(), r.PathValue("serial")); err != nil {
-		return &ledger.InputError{Err: err}
+		return unknownHull(err)
 	}
 	s.render(w, http.StatusOK, "log", s.pageOf(l, "Log a dive of "+r.PathValue("serial"), map[string]any{"Serial": r.PathValue("serial")}))
 	return nil
@@ -469,6 +499,15 @@ func (s *Server) logPost(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 			s.render(w, http.StatusOK, "logged", s.pageOf(l, "Dive logged", map[string]any{"L": g, "After": view.CollapseReasons(g.Reasons, false)}))
 			return 0, nil, nil
 		})
+	return err
+}
+
+// unknownHull makes an unknown hull bad input (404); any other error of a
+// hull's lookup is the service's failure, not the person's input.
+func unknownHull(err error) error {
+	if errors.Is(err, ledger.ErrUnknownHull) {
+		return &ledger.InputError{Err: err}
+	}
 	return err
 }
 
@@ -547,10 +586,6 @@ func (s *Server) reportPage(kind string) pageFunc {
 func (s *Server) divePage(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) error {
 	dv, err := view.DiveOf(r.Context(), l, r.PathValue("id"))
 	if err != nil {
-		var ie *ledger.InputError
-		if !errors.As(err, &ie) {
-			err = &ledger.InputError{Err: err}
-		}
 		return err
 	}
 	if err := dv.WithHull(r.Context(), l, time.Now().UTC()); err != nil {

@@ -3,13 +3,16 @@ package web
 import (
 	"bytes"
 	"context"
+	"fmt"
 	"io"
 	"mime/multipart"
 	"net/http"
 	"net/url"
 	"regexp"
 	"strings"
+	"sync"
 	"testing"
+	"time"
 
 	"hulltally/ledger"
 	"hulltally/reports"
@@ -112,6 +115,18 @@ func TestPagesSignIn(t *testing.T) {
 	if res.StatusCode != 200 || !strings.Contains(body, serial) || !strings.Contains(body, f.names[ledger.RoleOperator]) || strings.Contains(body, b.cookie.Value) {
 		t.Fatalf("the fleet signed in: %d\n%s", res.StatusCode, body)
 	}
+	// Signing in again ends the session it replaces.
+	first := b.cookie
+	b.signIn(ledger.RoleOperator)
+	if b.cookie.Value == first.Value {
+		t.Fatal("a second sign-in kept the session")
+	}
+	kept := b.cookie
+	b.cookie = first
+	if res, _ := b.get("/fleet"); res.StatusCode != http.StatusSeeOther {
+		t.Fatalf("a session replaced by a new sign-in still opens the fleet: %d", res.StatusCode)
+	}
+	b.cookie = kept
 	old := b.cookie
 	if res, _ := b.post("/sign-out", nil); res.StatusCode != http.StatusSeeOther || b.cookie != nil {
 		t.Fatalf("sign-out: %d %v", res.StatusCode, b.cookie)
@@ -185,7 +200,7 @@ func TestPagesByRole(t *testing.T) {
 	mt := f.browser(t)
 	mt.signIn(ledger.RoleMaintenance)
 	_, body = mt.get(hull)
-	if got := formsOf(body); len(got) != 3 {
+	if got := formsOf(body); len(got) != 4 { // inspection, proof test, decision, issue the report
 		t.Fatalf("maintenance's forms on the hull page: %v", got)
 	}
 	inspections := count("inspections")
@@ -234,5 +249,69 @@ func TestPagesByRole(t *testing.T) {
 	}
 	if _, err := il.RecordInspection(ctx, serial, ledger.Inspection{Method: "visual", Result: "pass"}); !ledger.IsNotPermitted(err) {
 		t.Fatalf("the database let an inspector record an inspection: %v", err)
+	}
+}
+
+// TestSafeNext: after signing in, the browser goes only to a path of this
+// service; anything a browser could read as another site goes to the
+// fleet.
+func TestSafeNext(t *testing.T) {
+	for next, want := range map[string]string{
+		"/hulls/EX-C4000-01?page=2": "/hulls/EX-C4000-01?page=2",
+		"/fleet":                    "/fleet",
+		"":                          "/fleet",
+		"//evil.example/x":          "/fleet",
+		"/\\evil.example/x":         "/fleet",
+		"/\t/evil.example/x":        "/fleet",
+		"/\n/evil.example/x":        "/fleet",
+		"https://evil.example/":     "/fleet",
+		"javascript:alert(1)":       "/fleet",
+		"/%2F%2Fevil.example":       "/%2F%2Fevil.example", // a path of this service, escaped
+		"\\\\evil.example":          "/fleet",
+		"/ok\x7f":                   "/fleet",
+		"http:/evil.example":        "/fleet",
+		"/hulls/a b":                "/hulls/a b",
+	} {
+		if got := safeNext(next); got != want {
+			t.Errorf("safeNext(%q) = %q, want %q", next, got, want)
+		}
+	}
+}
+
+// TestSignInThrottleHoldsInParallel: wrong passwords sent at once from
+// one address get no more checks than the address's failures allow.
+func TestSignInThrottleHoldsInParallel(t *testing.T) {
+	f := newFixture(t, Options{MaxUploadBytes: 1 << 20, FailBurst: 3, FailEvery: time.Hour})
+	codes := make(chan int, 30)
+	var wg sync.WaitGroup
+	for i := 0; i < 30; i++ {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			b := f.browser(t)
+			res, _ := b.post("/sign-in", url.Values{"name": {f.names[ledger.RoleOperator]}, "password": {fmt.Sprintf("guess-%d", i)}})
+			codes <- res.StatusCode
+		}()
+	}
+	wg.Wait()
+	close(codes)
+	checked := 0
+	for c := range codes {
+		switch c {
+		case http.StatusUnauthorized:
+			checked++
+		case http.StatusTooManyRequests:
+		default:
+			t.Errorf("a wrong sign-in answered %d", c)
+		}
+	}
+	if checked > 3 {
+		t.Fatalf("%d wrong passwords were checked at once, want at most the 3 failures allowed", checked)
+	}
+	// The right password is refused too now: the address has no failure
+	// left (the throttle does not tell a right guess from a wrong one).
+	b := f.browser(t)
+	if res, _ := b.post("/sign-in", url.Values{"name": {f.names[ledger.RoleOperator]}, "password": {f.passwords[ledger.RoleOperator]}}); res.StatusCode != http.StatusTooManyRequests {
+		t.Fatalf("a sign-in after the failures: %d", res.StatusCode)
 	}
 }

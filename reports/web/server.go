@@ -94,7 +94,10 @@ type Server struct {
 	opening singleflight.Group
 	// pages are the web pages' templates.
 	pages *pages
-	fails *failures
+	// signIns bounds the sign-ins checked at once (each opens a database
+	// connection).
+	signIns chan struct{}
+	fails   *failures
 	// ingests holds a token per dive being logged (Options.MaxIngests).
 	ingests chan struct{}
 	// stop ends the sweeper; swept is closed when it has.
@@ -129,8 +132,8 @@ func New(owner *ledger.Ledger, opt Options, log *slog.Logger) *Server {
 		opt.StallTimeout = time.Minute
 	}
 	s := &Server{owner: owner, opt: opt, log: log, mux: http.NewServeMux(), reg: prometheus.NewRegistry(), people: map[string]*ledger.Ledger{},
-		running: map[string]map[*request]struct{}{},
-		fails:   newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
+		running: map[string]map[*request]struct{}{}, signIns: make(chan struct{}, 4),
+		fails: newFailures(opt.FailEvery, opt.FailBurst, 100000), ingests: make(chan struct{}, opt.MaxIngests),
 		stop: make(chan struct{}), swept: make(chan struct{})}
 	s.requests = prometheus.NewCounterVec(prometheus.CounterOpts{Name: "hulltally_http_requests_total", Help: "HTTP requests by route and status code."}, []string{"route", "code"})
 	s.latency = prometheus.NewHistogramVec(prometheus.HistogramOpts{Name: "hulltally_http_request_seconds", Help: "HTTP request latency by route.", Buckets: prometheus.ExponentialBuckets(0.002, 2, 14)}, []string{"route"})
