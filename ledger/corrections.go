@@ -22,6 +22,10 @@ type Correction struct {
 	Reason     string    `json:"reason" db:"reason"`
 	Actor      string    `json:"actor" db:"actor"`
 	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
+	// RecordedBy is who recorded it: the actor, which the database checks
+	// (migration 012). It stays the last field (the reports' earlier
+	// fingerprint leaves it out: reports.Model.Fingerprints).
+	RecordedBy string `json:"recorded_by" db:"-"`
 }
 
 // correctionRow is a corrections row as read: the record with its value
@@ -80,7 +84,7 @@ func (l *Ledger) CorrectDive(ctx context.Context, id string, field, value, reaso
 	if strings.TrimSpace(reason) == "" || strings.TrimSpace(actor) == "" {
 		return nil, inputErr(fmt.Errorf("a correction needs a reason and the name of who makes it"))
 	}
-	c := &Correction{ID: uuid.New(), Dive: d.ID, Field: field, Value: value, Reason: reason, Actor: actor, RecordedAt: now()}
+	c := &Correction{ID: uuid.New(), Dive: d.ID, Field: field, Value: value, Reason: reason, Actor: actor, RecordedAt: now(), RecordedBy: actor}
 	vj, _ := json.Marshal(value)
 	err = l.record(ctx, d.Hull, func(tx pgx.Tx, h *Hull) (chainRec, error) {
 		_, err := tx.Exec(ctx, `INSERT INTO corrections (id, hull_id, target_kind, target_key, field, value_json, reason, actor, recorded_at)
@@ -110,7 +114,7 @@ func (l *Ledger) correctionsOf(ctx context.Context, dive uuid.UUID) ([]Correctio
 	var out []Correction
 	for _, r := range rs {
 		c := r.Correction
-		c.Dive = dive
+		c.Dive, c.RecordedBy = dive, c.Actor
 		if err := json.Unmarshal([]byte(r.ValueJSON), &c.Value); err != nil {
 			return nil, fmt.Errorf("correction %s: %w", c.ID, err)
 		}

@@ -39,6 +39,9 @@ type Hull struct {
 	RevisedAt  time.Time  `json:"revised_at"`
 	Reason     string     `json:"reason"`
 	Actor      string     `json:"actor"`
+	// RecordedBy is who recorded the revision: the actor, which the
+	// database checks (migration 012). It stays the last field.
+	RecordedBy string `json:"recorded_by"`
 }
 
 type revisionRow struct {
@@ -300,6 +303,7 @@ func hullBySerial(ctx context.Context, q querier, serial string) (*Hull, error) 
 	if err != nil {
 		return nil, fmt.Errorf("reading hull %s: %w", serial, err)
 	}
+	h.RecordedBy = h.Actor
 	h.Spec = new(spec.Hull)
 	if err := json.Unmarshal([]byte(js), h.Spec); err != nil {
 		return nil, fmt.Errorf("hull %s: stored spec: %w", serial, err)

@@ -34,6 +34,10 @@ type Void struct {
 	RecordedAt time.Time `json:"recorded_at" db:"recorded_at"`
 	// Rejudged lists the later dives whose evidence was judged again.
 	Rejudged []uuid.UUID `json:"rejudged" db:"-"`
+	// RecordedBy is who recorded it: the actor, which the database checks
+	// (migration 012). It stays the last field (the reports' earlier
+	// fingerprint leaves it out: reports.Model.Fingerprints).
+	RecordedBy string `json:"recorded_by" db:"-"`
 }
 
 func voidCanon(hull uuid.UUID, v *Void) []byte {
@@ -93,7 +97,7 @@ func (l *Ledger) VoidDive(ctx context.Context, id, reason, actor string) (*Void,
 	if err != nil {
 		return nil, err
 	}
-	v := &Void{ID: uuid.New(), Dive: d.ID, Hull: h.Serial, Reason: reason, Actor: actor, RecordedAt: now(), Rejudged: []uuid.UUID{}}
+	v := &Void{ID: uuid.New(), Dive: d.ID, Hull: h.Serial, Reason: reason, Actor: actor, RecordedAt: now(), Rejudged: []uuid.UUID{}, RecordedBy: actor}
 	err = pgx.BeginFunc(ctx, l.pool, func(tx pgx.Tx) error {
 		if err := lockHullDives(ctx, tx, h); err != nil {
 			return err
@@ -138,6 +142,7 @@ func (l *Ledger) VoidOf(ctx context.Context, dive uuid.UUID) (*Void, error) {
 	if err != nil {
 		return nil, fmt.Errorf("void of dive %s: %w", dive, err)
 	}
+	v.RecordedBy = v.Actor
 	return v, nil
 }
 

@@ -41,3 +41,26 @@ func TestFingerprintKeepsItsShape(t *testing.T) {
 		t.Fatalf("the fingerprint's shape moved:\n got %s\nwant %s", frozen, want)
 	}
 }
+
+// TestEarlierShapeStripsOnlyTheNewFields: the earlier fingerprint leaves
+// out the recorded_by that ends a correction's or a void's JSON (fields
+// added after reports were first issued), never a dive's own recorded_by
+// (hashed since dives carry it), and nothing else.
+func TestEarlierShapeStripsOnlyTheNewFields(t *testing.T) {
+	by := "k.osei"
+	d := ledger.Dive{ID: uuid.New(), Hull: "EX", RecordedBy: &by,
+		Corrections: []ledger.Correction{{ID: uuid.New(), Field: "site", Value: `a "quoted", site}`, Reason: "typo", Actor: "o\"dd", RecordedBy: "o\"dd"}},
+		Void:        &ledger.Void{ID: uuid.New(), Reason: "wrong hull", Actor: "k.osei", RecordedBy: "k.osei"}}
+	b, err := json.Marshal(d)
+	if err != nil {
+		t.Fatal(err)
+	}
+	old := string(endingRecordedBy.ReplaceAll(b, []byte("}")))
+	want := strings.Replace(strings.Replace(string(b), `,"recorded_by":"o\"dd"}`, "}", 1), `,"recorded_by":"k.osei"}`, "}", 1)
+	if old != want {
+		t.Fatalf("stripped\n%s\nwant\n%s", old, want)
+	}
+	if !strings.Contains(old, `"recorded_by":"k.osei","`) {
+		t.Fatalf("the dive's own recorded_by was stripped: %s", old)
+	}
+}

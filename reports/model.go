@@ -1,11 +1,13 @@
 package reports
 
 import (
+	"bytes"
 	"context"
 	"crypto/sha256"
 	"encoding/json"
 	"fmt"
 	"math"
+	"regexp"
 	"strings"
 	"time"
 
@@ -273,14 +275,39 @@ type RuleInfo struct {
 // Fingerprint is the SHA-256 over the report's canonical content
 // (including the audit-chain heads), in hex.
 func (m *Model) Fingerprint() (string, error) {
+	fp, _, err := m.Fingerprints()
+	return fp, err
+}
+
+// endingRecordedBy is a record's recorded_by at the end of its JSON
+// object: corrections, voids and hull revisions (the same as their actor),
+// which their JSON gained after reports were first issued. A dive's own
+// recorded_by never ends its object, and a JSON string cannot hold an
+// unescaped quote, so nothing else matches.
+var endingRecordedBy = regexp.MustCompile(`,"recorded_by":"(?:[^"\\]|\\.)*"}`)
+
+// Fingerprints is the report's fingerprint (Fingerprint) and the one the
+// same content had in the earlier shape of the records, without the
+// recorded_by that ends them, which a report issued before carries
+// (earlier is empty when the two are the same). Both are functions of the
+// ledger alone, and what the earlier leaves out is in the record's actor
+// beside it: accepting either loses nothing.
+func (m *Model) Fingerprints() (fp, earlier string, err error) {
 	b, err := json.Marshal(m)
 	if err != nil {
-		return "", fmt.Errorf("report content: %w", err)
+		return "", "", fmt.Errorf("report content: %w", err)
 	}
-	h := sha256.New()
-	h.Write([]byte("hulltally report v1\n"))
-	h.Write(b)
-	return fmt.Sprintf("%x", h.Sum(nil)), nil
+	sum := func(b []byte) string {
+		h := sha256.New()
+		h.Write([]byte("hulltally report v1\n"))
+		h.Write(b)
+		return fmt.Sprintf("%x", h.Sum(nil))
+	}
+	fp = sum(b)
+	if old := endingRecordedBy.ReplaceAll(b, []byte("}")); !bytes.Equal(old, b) {
+		earlier = sum(old)
+	}
+	return fp, earlier, nil
 }
 
 // BuildHull gathers a hull report's content at a moment.

@@ -271,9 +271,14 @@ func VerifyWith(ctx context.Context, l *ledger.Ledger, path string, o VerifyOpti
 		v.Reason = fmt.Sprintf("the report's subject is no longer in the ledger: %v", err)
 		return v, nil
 	}
-	fp, err := m.Fingerprint()
+	fp, earlier, err := m.Fingerprints()
 	if err != nil {
 		return nil, err
+	}
+	// A report issued before the records carried recorded_by has the
+	// fingerprint of their earlier shape (Fingerprints).
+	if earlier != "" && earlier == v.Fingerprint {
+		fp = earlier
 	}
 	sum := sha256.Sum256(b)
 	issued, err := l.IssuedReportOf(ctx, sum[:])
