@@ -11,11 +11,11 @@ import (
 	"hulltally/ledger"
 )
 
-// TestFingerprintKeepsItsShape: the maintenance records' JSON gained
-// recorded_by; the report fingerprint must hash them exactly as before
-// (else every report issued before would stop verifying). The frozen
-// shape is the records' JSON without that field, byte for byte.
-func TestFingerprintKeepsItsShape(t *testing.T) {
+// TestMaintenanceEarlierShape: the maintenance records' JSON gained
+// recorded_by as its last field; their earlier shape, which reports
+// issued before hashed, is that JSON without it, byte for byte, and is
+// what the earlier fingerprint strips back to.
+func TestMaintenanceEarlierShape(t *testing.T) {
 	at := time.Date(2026, 5, 1, 8, 0, 0, 0, time.UTC)
 	dive := uuid.New()
 	m := &ledger.Maintenance{
@@ -30,15 +30,55 @@ func TestFingerprintKeepsItsShape(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(string(full), `"recorded_by":"k.osei"`) {
-		t.Fatalf("the records' JSON lacks recorded_by: %s", full)
+	// The earlier shape, written out field by field as the records had it.
+	type inspection struct {
+		ID         uuid.UUID `json:"id"`
+		At         time.Time `json:"at"`
+		Method     string    `json:"method"`
+		Findings   string    `json:"findings"`
+		Result     string    `json:"result"`
+		Actor      string    `json:"actor"`
+		RecordedAt time.Time `json:"recorded_at"`
 	}
-	frozen, err := json.Marshal(fingerprintedOf(m))
+	type proofTest struct {
+		ID          uuid.UUID          `json:"id"`
+		At          time.Time          `json:"at"`
+		PressureMPa float64            `json:"pressure_mpa"`
+		Result      string             `json:"result"`
+		Notes       string             `json:"notes"`
+		Actor       string             `json:"actor"`
+		DiveID      *uuid.UUID         `json:"dive_id,omitempty"`
+		Baseline    map[string]float64 `json:"baseline_compliance_ue_per_mpa"`
+		RecordedAt  time.Time          `json:"recorded_at"`
+	}
+	type decision struct {
+		ID         uuid.UUID `json:"id"`
+		At         time.Time `json:"at"`
+		Kind       string    `json:"kind"`
+		Actor      string    `json:"actor"`
+		Reason     string    `json:"reason"`
+		RecordedAt time.Time `json:"recorded_at"`
+	}
+	earlier := struct {
+		Inspections []inspection `json:"inspections"`
+		ProofTests  []proofTest  `json:"proof_tests"`
+		Decisions   []decision   `json:"decisions"`
+	}{}
+	for _, x := range m.Inspections {
+		earlier.Inspections = append(earlier.Inspections, inspection{x.ID, x.At, x.Method, x.Findings, x.Result, x.Actor, x.RecordedAt})
+	}
+	for _, x := range m.ProofTests {
+		earlier.ProofTests = append(earlier.ProofTests, proofTest{x.ID, x.At, x.PressureMPa, x.Result, x.Notes, x.Actor, x.DiveID, x.Baseline, x.RecordedAt})
+	}
+	for _, x := range m.Decisions {
+		earlier.Decisions = append(earlier.Decisions, decision{x.ID, x.At, x.Kind, x.Actor, x.Reason, x.RecordedAt})
+	}
+	want, err := json.Marshal(earlier)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if want := strings.ReplaceAll(string(full), `,"recorded_by":"k.osei"`, ""); string(frozen) != want {
-		t.Fatalf("the fingerprint's shape moved:\n got %s\nwant %s", frozen, want)
+	if got := endingRecordedBy.ReplaceAll(full, []byte("}")); string(got) != string(want) {
+		t.Fatalf("the earlier shape moved:\n got %s\nwant %s", got, want)
 	}
 }
 

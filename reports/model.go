@@ -49,20 +49,17 @@ type Chain struct {
 
 // HullPart is one hull's content.
 type HullPart struct {
-	Spec       *spec.Hull            `json:"spec"`
-	Revision   int32                 `json:"revision"`
-	Status     string                `json:"status"`
-	Reasons    []ledger.Reason       `json:"reasons"`
-	Damage     *ledger.Damages       `json:"damage"`
-	CumRatio   []float64             `json:"cumulative_ratio"`
-	Dives      []ledger.Dive         `json:"dives"`
-	Felicity   []*float64            `json:"felicity"`
-	Compliance map[string][]*float64 `json:"compliance"`
-	Baseline   map[string]float64    `json:"baseline"`
-	// Records are the maintenance records as the fingerprint hashes them
-	// (fingerprintedMaintenance); Maintenance is them as read.
-	Records     *fingerprintedMaintenance `json:"maintenance"`
-	Maintenance *ledger.Maintenance       `json:"-"`
+	Spec        *spec.Hull            `json:"spec"`
+	Revision    int32                 `json:"revision"`
+	Status      string                `json:"status"`
+	Reasons     []ledger.Reason       `json:"reasons"`
+	Damage      *ledger.Damages       `json:"damage"`
+	CumRatio    []float64             `json:"cumulative_ratio"`
+	Dives       []ledger.Dive         `json:"dives"`
+	Felicity    []*float64            `json:"felicity"`
+	Compliance  map[string][]*float64 `json:"compliance"`
+	Baseline    map[string]float64    `json:"baseline"`
+	Maintenance *ledger.Maintenance   `json:"maintenance"`
 	// CycleRanges and CycleCounts are every pressure cycle of the hull.
 	CycleRanges []float64 `json:"cycle_ranges,omitempty"`
 	CycleCounts []float64 `json:"cycle_counts,omitempty"`
@@ -280,7 +277,8 @@ func (m *Model) Fingerprint() (string, error) {
 }
 
 // endingRecordedBy is a record's recorded_by at the end of its JSON
-// object: corrections, voids and hull revisions (the same as their actor),
+// object: inspections, proof tests, decisions, corrections, voids and
+// hull revisions (the same as their actor),
 // which their JSON gained after reports were first issued. A dive's own
 // recorded_by never ends its object, and a JSON string cannot hold an
 // unescaped quote, so nothing else matches.
@@ -479,7 +477,6 @@ func hullPart(ctx context.Context, l *ledger.Ledger, serial string, at time.Time
 	if hp.Maintenance, err = l.MaintenanceOf(ctx, h); err != nil {
 		return nil, err
 	}
-	hp.Records = fingerprintedOf(hp.Maintenance)
 	hp.Highest = highest(hp.Dives, hp.Maintenance)
 	hp.Transfer = transferViews(h.Spec, f.Damage)
 	if hp.CycleRanges, hp.CycleCounts, err = l.HullCycles(ctx, h.ID); err != nil {
@@ -653,62 +650,4 @@ func ruleMeasures(b *ledger.BasisInfo) map[string]fitness.Measure {
 		measure[r.ID] = r.Measure
 	}
 	return measure
-}
-
-// fingerprintedMaintenance is a hull's maintenance records in the shape
-// the report fingerprint has hashed from the first: the records' fields
-// without recorded_by, which their JSON gained since (it is their actor),
-// so that the reports issued before it still verify.
-type fingerprintedMaintenance struct {
-	Inspections []fpInspection `json:"inspections"`
-	ProofTests  []fpProofTest  `json:"proof_tests"`
-	Decisions   []fpDecision   `json:"decisions"`
-}
-
-type fpInspection struct {
-	ID         uuid.UUID `json:"id"`
-	At         time.Time `json:"at"`
-	Method     string    `json:"method"`
-	Findings   string    `json:"findings"`
-	Result     string    `json:"result"`
-	Actor      string    `json:"actor"`
-	RecordedAt time.Time `json:"recorded_at"`
-}
-
-type fpProofTest struct {
-	ID          uuid.UUID          `json:"id"`
-	At          time.Time          `json:"at"`
-	PressureMPa float64            `json:"pressure_mpa"`
-	Result      string             `json:"result"`
-	Notes       string             `json:"notes"`
-	Actor       string             `json:"actor"`
-	DiveID      *uuid.UUID         `json:"dive_id,omitempty"`
-	Baseline    map[string]float64 `json:"baseline_compliance_ue_per_mpa"`
-	RecordedAt  time.Time          `json:"recorded_at"`
-}
-
-type fpDecision struct {
-	ID         uuid.UUID `json:"id"`
-	At         time.Time `json:"at"`
-	Kind       string    `json:"kind"`
-	Actor      string    `json:"actor"`
-	Reason     string    `json:"reason"`
-	RecordedAt time.Time `json:"recorded_at"`
-}
-
-func fingerprintedOf(m *ledger.Maintenance) *fingerprintedMaintenance {
-	if m == nil {
-		return nil
-	}
-	out := &fingerprintedMaintenance{Inspections: []fpInspection{}, ProofTests: []fpProofTest{}, Decisions: []fpDecision{}}
-	for _, x := range m.Inspections {
-		out.Inspections = append(out.Inspections, fpInspection{x.ID, x.At, x.Method, x.Findings, x.Result, x.Actor, x.RecordedAt})
-	}
-	for _, x := range m.ProofTests {
-		out.ProofTests = append(out.ProofTests, fpProofTest{x.ID, x.At, x.PressureMPa, x.Result, x.Notes, x.Actor, x.DiveID, x.Baseline, x.RecordedAt})
-	}
-	for _, x := range m.Decisions {
-		out.Decisions = append(out.Decisions, fpDecision{x.ID, x.At, x.Kind, x.Actor, x.Reason, x.RecordedAt})
-	}
-	return out
 }
