@@ -43,18 +43,14 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	var sha []byte
 	var size int64
 	stream := req.Upload != nil
-	// whole hashes every byte of an upload's samples, those the parse
-	// read and, after a refusal, the rest (refusedUpload).
-	var whole *countingHash
+	// whole hashes and counts the samples' bytes as the parse reads them
+	// (and, after an upload's refusal, the rest: refusedUpload).
+	whole := &countingHash{Hash: sha256.New()}
 	if stream {
 		if req.Upload.Samples == nil || req.Samples != "" {
 			return nil, errors.New("logging dive: an upload comes with its samples reader and no samples file")
 		}
 		// Hashed as it is parsed: known only at the end.
-		whole = &countingHash{Hash: sha256.New()}
-		up := *req.Upload
-		up.Samples = io.TeeReader(req.Upload.Samples, whole)
-		req.Upload = &up
 	} else if sha, size, err = hashFile(ctx, req.Samples); err != nil {
 		return nil, fileErr(ctx, err)
 	}
@@ -96,7 +92,7 @@ func (l *Ledger) LogDive(ctx context.Context, req LogRequest) (*Dive, error) {
 	// they are stored and chained.
 	sp := &cycleSpill{}
 	defer sp.Close()
-	row, recs, err := l.ingest(ctx, tx, h, req, sha, size, aeSHA, sp)
+	row, recs, err := l.ingest(ctx, tx, h, req, whole, sha, size, aeSHA, sp)
 	if err != nil {
 		var ie *InputError
 		if stream && errors.As(err, &ie) {
@@ -286,7 +282,7 @@ func (l *Ledger) elsewhere(ctx context.Context, q querier, h *Hull, column strin
 // come first, so the rest of the samples (and a hits file after them) is
 // read to know the file's hash; else the refusal stands.
 func (l *Ledger) refusedUpload(ctx context.Context, h *Hull, req LogRequest, whole *countingHash, refusal error) (*Dive, error) {
-	if _, err := io.Copy(io.Discard, req.Upload.Samples); err != nil {
+	if _, err := io.Copy(whole, req.Upload.Samples); err != nil {
 		return nil, refusal // cut off: the refusal is all there is to say
 	}
 	ae := req.AE
@@ -405,8 +401,10 @@ func fileErr(ctx context.Context, err error) error {
 }
 
 // ingest parses the samples (and hits) and stores blocks and hits in tx,
-// returning the dive row (not yet inserted) and the chain records.
-func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, sha []byte, size int64, aeSHA []byte, sp *cycleSpill) (*diveRow, []chainRec, error) {
+// returning the dive row (not yet inserted) and the chain records. tee
+// hashes and counts the samples' bytes as they are read: a file's must be
+// sha and size (known before), an upload's become them.
+func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest, tee *countingHash, sha []byte, size int64, aeSHA []byte, sp *cycleSpill) (*diveRow, []chainRec, error) {
 	var samples io.Reader
 	path := req.Samples
 	if req.Upload != nil {
@@ -419,7 +417,6 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		defer f.Close()
 		samples = f
 	}
-	tee := &countingHash{Hash: sha256.New()}
 	name := filepath.Base(path)
 	minT, maxT, err := l.timeWindow()
 	if err != nil {

@@ -516,19 +516,7 @@ func (l *Ledger) Fleet(ctx context.Context, at time.Time) ([]FleetEntry, error) 
 		}
 		out = make([]FleetEntry, 0, len(rows))
 		for _, r := range rows {
-			if r.currentAt {
-				out = append(out, r.entry)
-				continue
-			}
-			h, err := s.Hull(ctx, r.serial)
-			if err != nil {
-				return err
-			}
-			f, err := s.fitnessOf(ctx, h, at)
-			if err != nil {
-				return fmt.Errorf("status of hull %s: %w", r.serial, err)
-			}
-			e, err := docOf(f).entry(r.serial, h.Spec.Name, at, false)
+			e, err := s.entryAt(ctx, r, nil, at)
 			if err != nil {
 				return err
 			}
@@ -655,23 +643,35 @@ func (l *Ledger) FleetEntryOf(ctx context.Context, h *Hull, at time.Time) (*Flee
 		if err != nil {
 			return err
 		}
-		if len(rows) == 1 && rows[0].currentAt {
-			e := rows[0].entry
-			out = &e
-			return nil
+		var r *summaryRow
+		if len(rows) == 1 {
+			r = rows[0]
 		}
-		f, err := s.fitnessOf(ctx, h, at)
-		if err != nil {
-			return fmt.Errorf("status of hull %s: %w", h.Serial, err)
-		}
-		e, err := docOf(f).entry(h.Serial, h.Spec.Name, at, false)
-		if err != nil {
-			return err
-		}
+		e, err := s.entryAt(ctx, r, h, at)
 		out = &e
-		return nil
+		return err
 	})
 	return out, err
+}
+
+// entryAt is a hull's fleet entry at at: its summary row when the row
+// stands for the hull, else the hull evaluated from the ledger. r may be
+// nil (no row read), h nil (looked up by r's serial).
+func (l *Ledger) entryAt(ctx context.Context, r *summaryRow, h *Hull, at time.Time) (FleetEntry, error) {
+	if r != nil && r.currentAt {
+		return r.entry, nil
+	}
+	if h == nil {
+		var err error
+		if h, err = l.Hull(ctx, r.serial); err != nil {
+			return FleetEntry{}, err
+		}
+	}
+	f, err := l.fitnessOf(ctx, h, at)
+	if err != nil {
+		return FleetEntry{}, fmt.Errorf("status of hull %s: %w", h.Serial, err)
+	}
+	return docOf(f).entry(h.Serial, h.Spec.Name, at, false)
 }
 
 // RulesSource names the fitness rule set in force.

@@ -1,9 +1,7 @@
 package main
 
 import (
-	"bufio"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"net/http"
@@ -52,16 +50,9 @@ func timePages(bin, home, last string, n int) error {
 		_ = srv.Process.Signal(syscall.SIGTERM)
 		_ = srv.Wait()
 	}()
-	base := ""
-	lines := bufio.NewScanner(stderr)
-	for base == "" && lines.Scan() {
-		var rec struct{ Msg, URL string }
-		if json.Unmarshal(lines.Bytes(), &rec) == nil && rec.Msg == "serving" {
-			base = rec.URL
-		}
-	}
-	if base == "" {
-		return errors.New("serve never said where it listens")
+	base, err := benchproc.ServeURL(stderr)
+	if err != nil {
+		return err
 	}
 	go func() { _, _ = io.Copy(io.Discard, stderr) }()
 

@@ -15,14 +15,11 @@
 package main
 
 import (
-	"bufio"
 	"context"
 	"encoding/json"
 	"flag"
 	"fmt"
 	"io"
-	"mime/multipart"
-	"net/http"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -33,6 +30,8 @@ import (
 	"time"
 
 	"hulltally/internal/benchproc"
+	"hulltally/ledger"
+	"hulltally/reports/web/client"
 )
 
 type options struct {
@@ -124,7 +123,7 @@ func run(ctx context.Context, o options) error {
 		return err
 	}
 	defer func() { _ = srv.Process.Kill(); _ = srv.Wait() }()
-	url, err := serverURL(stderr)
+	url, err := benchproc.ServeURL(stderr)
 	if err != nil {
 		return err
 	}
@@ -222,60 +221,20 @@ func run(ctx context.Context, o options) error {
 	return nil
 }
 
-// serverURL reads serve's log until it says where it listens.
-func serverURL(r io.Reader) (string, error) {
-	s := bufio.NewScanner(r)
-	for s.Scan() {
-		var rec struct{ Msg, URL string }
-		if json.Unmarshal(s.Bytes(), &rec) == nil && rec.Msg == "serving" {
-			return rec.URL, nil
-		}
-	}
-	return "", fmt.Errorf("hulltally serve stopped before it said where it listens")
-}
-
-// uploadFile streams a samples file to the service as a multipart upload.
+// uploadFile logs a samples file through the service, as the command
+// line's client does (reports/web/client: a streamed multipart upload).
 func uploadFile(ctx context.Context, url, token, hull, file string, start time.Time) error {
-	pr, pw := io.Pipe()
-	mw := multipart.NewWriter(pw)
-	go func() {
-		err := func() error {
-			if err := mw.WriteField("start", start.Format(time.RFC3339)); err != nil {
-				return err
-			}
-			if err := mw.WriteField("lat", "45"); err != nil {
-				return err
-			}
-			w, err := mw.CreateFormFile("samples", filepath.Base(file))
-			if err != nil {
-				return err
-			}
-			f, err := os.Open(file)
-			if err != nil {
-				return err
-			}
-			defer f.Close()
-			if _, err := io.Copy(w, f); err != nil {
-				return err
-			}
-			return mw.Close()
-		}()
-		pw.CloseWithError(err)
-	}()
-	req, err := http.NewRequestWithContext(ctx, "POST", url+"/api/v1/hulls/"+hull+"/dives", pr)
+	c, err := client.New(url, token, nil)
 	if err != nil {
 		return err
 	}
-	req.Header.Set("Authorization", "Bearer "+token)
-	req.Header.Set("Content-Type", mw.FormDataContentType())
-	res, err := http.DefaultClient.Do(req)
+	lat := 45.0
+	d, _, err := c.LogDive(ctx, ledger.LogRequest{Hull: hull, Samples: file, Start: &start, Latitude: &lat}, nil)
 	if err != nil {
-		return err
+		return fmt.Errorf("upload to %s: %w", hull, err)
 	}
-	defer res.Body.Close()
-	b, _ := io.ReadAll(res.Body)
-	if res.StatusCode != http.StatusCreated {
-		return fmt.Errorf("upload to %s: %d %s", hull, res.StatusCode, b)
+	if d.Duplicate {
+		return fmt.Errorf("upload to %s: already recorded", hull)
 	}
 	return nil
 }

@@ -4,7 +4,11 @@
 package benchproc
 
 import (
+	"bufio"
+	"encoding/json"
+	"errors"
 	"fmt"
+	"io"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -89,4 +93,17 @@ func MinMedMax(v []float64, f string) string {
 	s := slices.Clone(v)
 	slices.Sort(s)
 	return fmt.Sprintf(f+"/"+f+"/"+f, s[0], Median(s), s[len(s)-1])
+}
+
+// ServeURL reads hulltally serve's log (its standard error) until it says
+// where it listens.
+func ServeURL(r io.Reader) (string, error) {
+	s := bufio.NewScanner(r)
+	for s.Scan() {
+		var rec struct{ Msg, URL string }
+		if json.Unmarshal(s.Bytes(), &rec) == nil && rec.Msg == "serving" {
+			return rec.URL, nil
+		}
+	}
+	return "", errors.New("hulltally serve stopped before it said where it listens")
 }

@@ -12,7 +12,9 @@ import (
 // WCAG 2 AA (4.5:1; 3:1 for the focus ring, a non-text indicator),
 // computed from the file with the WCAG 2 relative luminance (sRGB
 // linearised, 0.2126 R + 0.7152 G + 0.0722 B; ratio (L1 + 0.05) /
-// (L2 + 0.05)). Check value: black on white is 21:1.
+// (L2 + 0.05); W3C WCAG 2.1, definitions of relative luminance and
+// contrast ratio, from memory). Check value: black on white is 21:1, the
+// standard's maximum.
 func TestContrast(t *testing.T) {
 	css, err := pageFiles.ReadFile("assets/style.css")
 	if err != nil {

@@ -351,8 +351,11 @@ type hullBody struct {
 	History     []ledger.StatusChange
 	Dives       []ledger.Dive
 	Page, Pages int
-	Charts      []string
+	Charts      []chart
 }
+
+// chart is a hull chart to show: its name and its text alternative.
+type chart struct{ Name, Alt string }
 
 // hullPage shows a hull. Its status and reasons come as the fleet view's
 // do (ledger.FleetEntryOf: the summary the last write left, when it still
@@ -408,7 +411,9 @@ func (s *Server) hullPage(w http.ResponseWriter, r *http.Request, l *ledger.Ledg
 	}
 	b.Shown, b.Life = view.ShownDamage(b.Entry.Status, b.Entry.Damage), view.LifeOf(b.Entry.Status, b.Entry.Damage)
 	b.Reasons = view.CollapseReasons(b.Entry.Reasons, true)
-	b.Charts = []string{reports.ChartDamage, reports.ChartCycles, reports.ChartFelicity, reports.ChartCompliance, reports.ChartProfile}
+	for _, n := range []string{reports.ChartDamage, reports.ChartCycles, reports.ChartFelicity, reports.ChartCompliance, reports.ChartProfile} {
+		b.Charts = append(b.Charts, chart{Name: n, Alt: chartTitles[n] + " of " + b.Record.Serial})
+	}
 	s.render(w, http.StatusOK, "hull", s.pageOf(l, b.Record.Serial, b))
 	return nil
 }
@@ -486,19 +491,14 @@ func (s *Server) logPost(w http.ResponseWriter, r *http.Request, l *ledger.Ledge
 	if !mayOf(l.Identity()).LogDives {
 		return notPermitted(l, "log dives")
 	}
-	_, _, err := s.readUpload(w, r, func(*ledger.LogRequest, string, string) (bool, error) { return false, nil },
-		func(req ledger.LogRequest) (int, any, error) {
-			g, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
-			if err != nil {
-				return 0, nil, err
-			}
-			if !g.Duplicate {
-				s.dives.Inc()
-				s.noteHull(r, g.Hull)
-			}
-			s.render(w, http.StatusOK, "logged", s.pageOf(l, "Dive logged", map[string]any{"L": g, "After": view.CollapseReasons(g.Reasons, false)}))
-			return 0, nil, nil
-		})
+	_, _, err := s.readUpload(w, r, nil, func(req ledger.LogRequest) (int, any, error) {
+		g, err := s.logUploaded(r, l, req)
+		if err != nil {
+			return 0, nil, err
+		}
+		s.render(w, http.StatusOK, "logged", s.pageOf(l, "Dive logged", map[string]any{"L": g, "After": view.CollapseReasons(g.Reasons, false)}))
+		return 0, nil, nil
+	})
 	return err
 }
 
@@ -641,16 +641,9 @@ func (s *Server) verifyPost(w http.ResponseWriter, r *http.Request, l *ledger.Le
 	}
 	defer os.RemoveAll(dir)
 	path := filepath.Join(dir, "report.pdf")
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+	n, err := spool(path, io.LimitReader(p, maxReport+1))
 	if err != nil {
 		return err
-	}
-	n, err := io.Copy(f, io.LimitReader(p, maxReport+1))
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err != nil {
-		return uploadErr(err)
 	}
 	if n > maxReport {
 		return &http.MaxBytesError{Limit: maxReport}

@@ -559,21 +559,31 @@ func (s *Server) verify(_ http.ResponseWriter, r *http.Request, l *ledger.Ledger
 // then the part "samples", with an optional part "hits" before or right
 // after it) and logs the dive as the person, all or nothing (readUpload).
 func (s *Server) logDive(w http.ResponseWriter, r *http.Request, l *ledger.Ledger) (int, any, error) {
-	return s.readUpload(w, r, func(*ledger.LogRequest, string, string) (bool, error) { return false, nil },
-		func(req ledger.LogRequest) (int, any, error) {
-			d, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
-			if err != nil {
-				return 0, nil, err
-			}
-			code := http.StatusCreated
-			if d.Duplicate {
-				code = http.StatusOK
-			} else {
-				s.dives.Inc()
-				s.noteHull(r, d.Hull)
-			}
-			return code, d, nil
-		})
+	return s.readUpload(w, r, nil, func(req ledger.LogRequest) (int, any, error) {
+		d, err := s.logUploaded(r, l, req)
+		if err != nil {
+			return 0, nil, err
+		}
+		if d.Duplicate {
+			return http.StatusOK, d, nil
+		}
+		return http.StatusCreated, d, nil
+	})
+}
+
+// logUploaded logs an uploaded dive as the person (view.LogDive, the
+// command line's answer) and, for a new dive, counts it and writes its
+// hull's fleet summary (noteHull).
+func (s *Server) logUploaded(r *http.Request, l *ledger.Ledger, req ledger.LogRequest) (*view.Logged, error) {
+	d, err := view.LogDive(r.Context(), l, req, time.Now().UTC(), reports.Caution)
+	if err != nil {
+		return nil, err
+	}
+	if !d.Duplicate {
+		s.dives.Inc()
+		s.noteHull(r, d.Hull)
+	}
+	return d, nil
 }
 
 // noteHull writes, as the owner, the fleet summary of a hull a person has
@@ -588,7 +598,7 @@ func (s *Server) noteHull(r *http.Request, serial string) {
 
 // readUpload reads a multipart upload of a dive's files and hands the log
 // request to store: fields first (lat, site, operator, start, and those
-// extra knows), then the part "samples", with an optional part "hits"
+// extra, when not nil, knows), then the part "samples", with an optional part "hits"
 // before it or right after it. The samples stream straight into the parse
 // (ledger.Upload): nothing waits for the whole upload, and a hits file
 // (small) is spooled to disk. A field after the samples is refused (the
@@ -616,17 +626,10 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 		}
 		seen["hits"] = true
 		path := filepath.Join(dir, fileName(p.FileName(), "hits.csv"))
-		f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+		n, err := spool(path, p)
+		s.ingest.Add(float64(n))
 		if err != nil {
 			return "", err
-		}
-		n, err := io.Copy(f, p)
-		s.ingest.Add(float64(n))
-		if cerr := f.Close(); err == nil {
-			err = cerr
-		}
-		if err != nil {
-			return "", uploadErr(err)
 		}
 		if n == 0 && p.FileName() == "" {
 			// A form's file field left empty (a browser sends it so): no
@@ -702,16 +705,8 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 				if err := os.Mkdir(filepath.Dir(path), 0o700); err != nil {
 					return 0, nil, err
 				}
-				f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
-				if err != nil {
+				if _, err := spool(path, samples); err != nil {
 					return 0, nil, err
-				}
-				_, err = io.Copy(f, samples)
-				if cerr := f.Close(); err == nil {
-					err = cerr
-				}
-				if err != nil {
-					return 0, nil, uploadErr(err)
 				}
 				hits, err := rest()
 				if err != nil {
@@ -752,8 +747,11 @@ func (s *Server) readUpload(w http.ResponseWriter, r *http.Request, extra func(r
 		case "lat", "site", "operator", "start":
 			err = setField(&req, name, value)
 		default:
-			var known bool
-			if known, err = extra(&req, name, value); err == nil && !known {
+			known := false
+			if extra != nil {
+				known, err = extra(&req, name, value)
+			}
+			if err == nil && !known {
 				err = &ledger.InputError{Err: fmt.Errorf("unknown part %q", name)}
 			}
 		}
@@ -827,6 +825,24 @@ func (s *Server) tryHeavy() (func(), bool) {
 	default:
 		return nil, false
 	}
+}
+
+// spool copies an upload's part into a new private file at path (never
+// one that exists): a failure to make the file is the service's, one to
+// copy is the upload's (uploadErr). It returns the bytes copied.
+func spool(path string, r io.Reader) (int64, error) {
+	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
+	if err != nil {
+		return 0, err
+	}
+	n, err := io.Copy(f, r)
+	if cerr := f.Close(); err == nil {
+		err = cerr
+	}
+	if err != nil {
+		return n, uploadErr(err)
+	}
+	return n, nil
 }
 
 // uploadErr is an error reading the upload: too large, cut off, or
@@ -1082,16 +1098,8 @@ func (s *Server) verifyReport(w http.ResponseWriter, r *http.Request, l *ledger.
 	}
 	defer os.RemoveAll(dir)
 	path := filepath.Join(dir, "report.pdf")
-	f, err := os.OpenFile(path, os.O_CREATE|os.O_EXCL|os.O_WRONLY, 0o600)
-	if err != nil {
+	if _, err := spool(path, http.MaxBytesReader(w, r.Body, maxReport)); err != nil {
 		return 0, nil, err
-	}
-	_, err = io.Copy(f, http.MaxBytesReader(w, r.Body, maxReport))
-	if cerr := f.Close(); err == nil {
-		err = cerr
-	}
-	if err != nil {
-		return 0, nil, uploadErr(err)
 	}
 	v, err := s.checkReport(r.Context(), l, path)
 	if err != nil {
