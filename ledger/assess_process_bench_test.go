@@ -38,7 +38,7 @@ func BenchmarkAssessProcess(b *testing.B) {
 	var peakKB int64
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		c := exec.Command(bin, "assess", "--reason", "benchmark", "--actor", "bench", "--json")
+		c := exec.Command(bin, "assess", "--reason", "benchmark", "--json")
 		c.Env = append(os.Environ(), "HULLTALLY_DATABASE_URL="+cfg.Database.URL, "HULLTALLY_HOME="+dir)
 		if out, err := c.CombinedOutput(); err != nil {
 			b.Fatalf("assess: %v\n%s", err, out[:min(len(out), 2000)])

@@ -29,14 +29,14 @@ func TestAssessHullByHull(t *testing.T) {
 	dives := func(h int) int { return h % 4 }
 	copyFleet(t, l, "CHUNK", hulls, dives)
 
-	first, err := l.Assess(ctx, ledger.AssessOptions{Actor: "test", Reason: "fleet"})
+	first, err := l.Assess(ctx, ledger.AssessOptions{Reason: "fleet"})
 	if err != nil {
 		t.Fatal(err)
 	}
 	if len(first) != hulls {
 		t.Fatalf("assessed %d hulls, want %d", len(first), hulls)
 	}
-	second, err := l.Assess(ctx, ledger.AssessOptions{Actor: "test", Reason: "fleet again"})
+	second, err := l.Assess(ctx, ledger.AssessOptions{Reason: "fleet again"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -56,7 +56,7 @@ func TestAssessHullByHull(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		alone, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: "test", Reason: "alone"})
+		alone, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Reason: "alone"})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -92,10 +92,10 @@ func TestAssessLeavesVoidedDivesOut(t *testing.T) {
 	if err := l.Pool().QueryRow(ctx, `SELECT d.id FROM dives d JOIN hulls h ON h.id = d.hull_id WHERE h.serial = 'VOIDED-000' ORDER BY d.max_pressure_mpa DESC LIMIT 1`).Scan(&id); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := l.VoidDive(ctx, id.String(), "logger fault", "test"); err != nil {
+	if _, err := l.VoidDive(ctx, id.String(), "logger fault", ""); err != nil {
 		t.Fatal(err)
 	}
-	res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "test", Reason: "after the void"})
+	res, err := l.Assess(ctx, ledger.AssessOptions{Reason: "after the void"})
 	if err != nil {
 		t.Fatal(err)
 	}

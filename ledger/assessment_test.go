@@ -100,7 +100,7 @@ func TestReassessKeepsOldAssessment(t *testing.T) {
 		t.Fatal(err)
 	}
 	defer l3.Close()
-	res, err := l3.Assess(ctx, ledger.AssessOptions{Actor: "eng", Reason: "DFF 3"})
+	res, err := l3.Assess(ctx, ledger.AssessOptions{Reason: "DFF 3"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -152,7 +152,7 @@ func TestUnknownCurveRefused(t *testing.T) {
 	sp.Serial = "EX-OTHER-02"
 	sp.Components = append([]spec.Component{}, sp.Components...)
 	sp.Components[0].Curve = "no-such-curve"
-	if _, err := l.AddHull(context.Background(), &sp, ledger.AddHullOptions{Actor: "t"}); err == nil {
+	if _, err := l.AddHull(context.Background(), &sp, ledger.AddHullOptions{}); err == nil {
 		t.Fatal("a hull naming an unknown curve was accepted")
 	}
 }

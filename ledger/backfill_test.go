@@ -176,7 +176,7 @@ func TestBackfillEqualsLogging(t *testing.T) {
 	forgetCounts(t, l, ids[0])
 	forgetCounts(t, l, ids[2])
 
-	res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "eng", Reason: "count old dives"})
+	res, err := l.Assess(ctx, ledger.AssessOptions{Reason: "count old dives"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -271,7 +271,7 @@ func TestBackfillEqualsLogging(t *testing.T) {
 	}
 
 	// A second assessment finds nothing left to count.
-	res, err = l.Assess(ctx, ledger.AssessOptions{Actor: "eng", Reason: "again"})
+	res, err = l.Assess(ctx, ledger.AssessOptions{Reason: "again"})
 	if err != nil {
 		t.Fatal(err)
 	}

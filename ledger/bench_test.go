@@ -40,7 +40,7 @@ func BenchmarkReassessFleet(b *testing.B) {
 	peak := watchHeap()
 	b.ResetTimer()
 	for i := 0; i < b.N; i++ {
-		res, err := l.Assess(ctx, ledger.AssessOptions{Actor: "bench", Reason: "benchmark"})
+		res, err := l.Assess(ctx, ledger.AssessOptions{Reason: "benchmark"})
 		if err != nil {
 			b.Fatal(err)
 		}
@@ -108,7 +108,7 @@ func BenchmarkLogDive(b *testing.B) {
 	for g := 0; g < 8; g++ {
 		sp.Gauges = append(sp.Gauges, spec.Gauge{Name: fmt.Sprintf("g%d", g+1), Kind: "strain", Component: "laminate"})
 	}
-	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
 		b.Fatal(err)
 	}
 	dir := b.TempDir()

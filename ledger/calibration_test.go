@@ -61,7 +61,7 @@ func TestAddHullRefusesCurveOfWrongSign(t *testing.T) {
 			if err := h.Validate(); err != nil {
 				t.Fatalf("the spec itself is valid: %v", err)
 			}
-			_, err := l.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"})
+			_, err := l.AddHull(ctx, h, ledger.AddHullOptions{})
 			var ie *ledger.InputError
 			if err == nil || !errors.As(err, &ie) {
 				t.Fatalf("error %v, want an input error", err)
@@ -92,7 +92,7 @@ func TestComponentSettingsShown(t *testing.T) {
 	lowRing := h.Components[1]
 	lowRing.Name, lowRing.DesignFatigueFactor, lowRing.MeanStress = "end-ring-aft", &low, ""
 	h.Components = append(h.Components, lowRing)
-	if _, err := l.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := l.AddHull(ctx, h, ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 	d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "p.csv", twoPeaks), Start: &start0})
@@ -156,7 +156,7 @@ func TestComponentSettingsShown(t *testing.T) {
 	if got := float64(dd["end-ring-aft"].Cyclic); math.Abs(got-wantAft) > 1e-9*wantAft {
 		t.Errorf("aft ring damage %g, want %g (the global factor, not the spec's lower one)", got, wantAft)
 	}
-	if _, err := l.Assess(ctx, ledger.AssessOptions{Actor: "test"}); err != nil {
+	if _, err := l.Assess(ctx, ledger.AssessOptions{}); err != nil {
 		t.Fatal(err)
 	}
 	check("re-assessed")
@@ -189,7 +189,7 @@ func gaugeHull(t *testing.T, l *ledger.Ledger) {
 	e, nu := calE, calNu
 	h.Components[0].Transfer = spec.Transfer{Basis: "gauge"}
 	h.Components[0].ModulusGPa, h.Components[0].PoissonRatio = &e, &nu
-	if _, err := l.AddHull(context.Background(), h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := l.AddHull(context.Background(), h, ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 }
@@ -225,7 +225,7 @@ func TestGaugeCalibrationFromProofTest(t *testing.T) {
 	// Adversarial: a failed proof test with samples calibrates nothing.
 	proof := calDive(time.Date(2026, 3, 25, 8, 0, 0, 0, time.UTC), seawater.MPaToDepth(45, lat), gauges)
 	s, _ = synthDive(t, proof, 12)
-	if _, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "fail", Actor: "yard"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat}); err != nil {
+	if _, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "fail"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat}); err != nil {
 		t.Fatal(err)
 	}
 	// Adversarial: a passing proof test whose axial gauge gave nothing
@@ -233,7 +233,7 @@ func TestGaugeCalibrationFromProofTest(t *testing.T) {
 	// hoop stress by 1 − ν/2 (15 %). Lamé stays, and the reason says so.
 	proof = calDive(time.Date(2026, 3, 28, 8, 0, 0, 0, time.UTC), seawater.MPaToDepth(50, lat), gauges[:1])
 	s, _ = synthDive(t, proof, 13)
-	if _, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass", Actor: "yard"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat}); err != nil {
+	if _, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat}); err != nil {
 		t.Fatal(err)
 	}
 	s, _ = synthDive(t, calDive(time.Date(2026, 3, 30, 8, 0, 0, 0, time.UTC), 2000, gauges), 14)
@@ -249,7 +249,7 @@ func TestGaugeCalibrationFromProofTest(t *testing.T) {
 	// The proof test with both gauges: the calibration is −r/t.
 	proof = calDive(time.Date(2026, 4, 1, 8, 0, 0, 0, time.UTC), seawater.MPaToDepth(50, lat), gauges)
 	s, _ = synthDive(t, proof, 15)
-	pt, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass", Actor: "yard"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat})
+	pt, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass"}, ledger.LogRequest{Hull: serial, Samples: s, Latitude: &lat})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -290,7 +290,7 @@ func TestGaugeCalibrationFromProofTest(t *testing.T) {
 	}
 	// Re-assessing applies the calibration to every dive, the ones logged
 	// before the proof test included.
-	res, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: "test", Reason: "proof test recorded"})
+	res, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Reason: "proof test recorded"})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -324,14 +324,14 @@ func TestGaugeCalibrationSphere(t *testing.T) {
 		Components: []spec.Component{{Name: "laminate", Kind: "laminate_sphere", Transfer: spec.Transfer{Basis: "gauge"},
 			Curve: "glass-epoxy-cc-illustrative", RuptureCurve: "glass-epoxy-rupture-compression-illustrative", ModulusGPa: &e, PoissonRatio: &nu}},
 		Gauges: []spec.Gauge{{Name: "hoop1", Kind: "strain", Component: "laminate", Direction: "hoop"}}}
-	if _, err := l.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := l.AddHull(ctx, h, ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 	lat := 45.0
 	c := -(rt / 2) * (1 - nu) / (e * 1e3) * 1e6
 	gauges := []synth.Gauge{{Name: "hoop1", ComplianceUEPerMPa: c, NoiseUE: 0.5}}
 	s, _ := synthDive(t, calDive(time.Date(2026, 4, 1, 8, 0, 0, 0, time.UTC), seawater.MPaToDepth(12.5, lat), gauges), 21)
-	if _, err := l.ProofTestWithSamples(ctx, h.Serial, ledger.ProofTest{Result: "pass", Actor: "yard"}, ledger.LogRequest{Hull: h.Serial, Samples: s, Latitude: &lat}); err != nil {
+	if _, err := l.ProofTestWithSamples(ctx, h.Serial, ledger.ProofTest{Result: "pass"}, ledger.LogRequest{Hull: h.Serial, Samples: s, Latitude: &lat}); err != nil {
 		t.Fatal(err)
 	}
 	s, _ = synthDive(t, calDive(time.Date(2026, 4, 3, 8, 0, 0, 0, time.UTC), 800, gauges), 22)

@@ -52,7 +52,7 @@ func addSecondHull(t *testing.T, l *ledger.Ledger) {
 	t.Helper()
 	h := exampleSpec(t)
 	h.Serial = serial2
-	if _, err := l.AddHull(context.Background(), h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := l.AddHull(context.Background(), h, ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 }

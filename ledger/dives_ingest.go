@@ -518,7 +518,7 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 		return nil, nil, fmt.Errorf("assessing the dive: %w", err)
 	}
 	ah := &assessmentHead{id: uuid.New(), hull: h.ID, revision: h.Revision, kind: "dive", configHash: l.fat.hash,
-		configJSON: l.fat.json, reason: "dive logged", actor: l.diveActor(req.Operator), at: now()}
+		configJSON: l.fat.json, reason: "dive logged", actor: l.identity.Name, at: now()}
 	cols := newColumns(comps, 1)
 	addDive(cols, row.ID, res)
 	arec, err := storeAssessment(ctx, tx, ah, cols)
@@ -571,22 +571,6 @@ func (l *Ledger) ingest(ctx context.Context, tx pgx.Tx, h *Hull, req LogRequest,
 	recs = append(recs, erec)
 	row.RecordedAt = now()
 	return row, recs, nil
-}
-
-// diveActor is the actor of a logged dive's assessment: the person signed
-// in, or for the owner the dive's operator (or "dive log").
-func (l *Ledger) diveActor(op string) string {
-	if !l.identity.Owner {
-		return l.identity.Name
-	}
-	return actorOr(op)
-}
-
-func actorOr(op string) string {
-	if strings.TrimSpace(op) == "" {
-		return "dive log"
-	}
-	return op
 }
 
 func (l *Ledger) latitude(given *float64, load logfile.Load) (float64, bool) {

@@ -42,7 +42,7 @@ func TestEvidenceAgainstProofTest(t *testing.T) {
 	proof.Start = time.Date(2026, 4, 1, 8, 0, 0, 0, time.UTC)
 	proof.MaxDepthM = seawater.MPaToDepth(50, lat) // the spec's 50 MPa proof pressure: beyond the 4000 m rating on purpose
 	s, h := synthDive(t, proof, 1)
-	pt, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass", Actor: "yard"},
+	pt, err := l.ProofTestWithSamples(ctx, serial, ledger.ProofTest{Result: "pass"},
 		ledger.LogRequest{Hull: serial, Samples: s, AE: h, Latitude: &lat})
 	if err != nil {
 		t.Fatal(err)

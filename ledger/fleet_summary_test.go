@@ -87,7 +87,7 @@ func TestFleetSummaryFollowsWrites(t *testing.T) {
 		t.Fatal(err)
 	}
 	check("dive logged")
-	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "delamination", Actor: "I. Nspector"}); err != nil {
+	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "delamination"}); err != nil {
 		t.Fatal(err)
 	}
 	check("failed inspection")
@@ -105,7 +105,7 @@ func TestFleetSummaryNotUsedWhenTimeMoves(t *testing.T) {
 	now := time.Now().UTC()
 	// The shipped rules watch at 292 days since the last passing
 	// inspection (configs/rules.yaml, inspection-due-by-days).
-	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: now.AddDate(0, 0, -280), Method: "visual", Result: "pass", Actor: "I. Nspector"}); err != nil {
+	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: now.AddDate(0, 0, -280), Method: "visual", Result: "pass"}); err != nil {
 		t.Fatal(err)
 	}
 	e, f := entryOf(t, l, time.Now().UTC())
@@ -137,7 +137,7 @@ func TestFleetSummaryNeverBetter(t *testing.T) {
 	}
 	t.Cleanup(l.Close)
 	addExampleHull(t, l)
-	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "crack", Actor: "I. Nspector"}); err != nil {
+	if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "crack"}); err != nil {
 		t.Fatal(err)
 	}
 	if e, _ := entryOf(t, l, time.Now().UTC()); !e.Derived || e.Status != "hold" {
@@ -229,7 +229,7 @@ func TestFleetSummaryRace(t *testing.T) {
 	ctx := context.Background()
 	l := newLedger(t, 0)
 	err := l.EvaluateAcross(ctx, serial, time.Now().UTC(), func() error {
-		_, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "crack", Actor: "I. Nspector"})
+		_, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: time.Now().UTC().Add(-time.Hour), Method: "ultrasonic", Result: "fail", Findings: "crack"})
 		return err
 	})
 	if err != nil {
@@ -269,7 +269,7 @@ func TestFleetSummaryForgottenOnInsert(t *testing.T) {
 	}
 	at := time.Now().UTC().Add(-time.Minute)
 	if _, err := l.Pool().Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, findings, result, actor, recorded_at)
-		VALUES (gen_random_uuid(), $1, $2, 'visual', 'inserted behind the chain', 'fail', 'nobody', $2)`, h.ID, at); err != nil {
+		VALUES (gen_random_uuid(), $1, $2, 'visual', 'inserted behind the chain', 'fail', current_user, $2)`, h.ID, at); err != nil {
 		t.Fatal(err)
 	}
 	e, f := entryOf(t, l, time.Now().UTC())

@@ -88,7 +88,7 @@ func TestGuardsWatched(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", "tester"); err != nil {
+			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", ""); err != nil {
 				t.Fatal(err)
 			}
 			res, err := l.Verify(ctx)
@@ -211,7 +211,7 @@ func TestCorrectionKindBehindChain(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", "tester"); err != nil {
+			if _, err := l.CorrectDive(ctx, d.ID.String(), "site", "Loch Ness", "typo in the log", ""); err != nil {
 				t.Fatal(err)
 			}
 			if res, err := l.Verify(ctx); err != nil || !res.OK {

@@ -45,7 +45,7 @@ func newLedger(t *testing.T, blockSamples int) *ledger.Ledger {
 
 func addExampleHull(t testing.TB, l *ledger.Ledger) {
 	t.Helper()
-	if _, err := l.AddHull(context.Background(), exampleSpec(t), ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := l.AddHull(context.Background(), exampleSpec(t), ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 }
@@ -473,14 +473,14 @@ func TestHullRevision(t *testing.T) {
 		t.Fatal(err)
 	}
 	sp := *h.Spec
-	if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "test"}); !errors.Is(err, ledger.ErrHullExists) {
+	if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{}); !errors.Is(err, ledger.ErrHullExists) {
 		t.Fatalf("adding again: %v", err)
 	}
 	sp.RatedDepthM = 3500
-	if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "test", Revise: true}); err == nil {
+	if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Revise: true}); err == nil {
 		t.Fatal("revision without reason accepted")
 	}
-	r, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "eng", Revise: true, Reason: "derated after inspection"})
+	r, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Revise: true, Reason: "derated after inspection"})
 	if err != nil {
 		t.Fatal(err)
 	}

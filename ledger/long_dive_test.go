@@ -107,7 +107,7 @@ func TestLongDiveInParts(t *testing.T) {
 			if err != nil {
 				t.Fatal(err)
 			}
-			again, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: "test"})
+			again, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -146,7 +146,7 @@ func TestLongDiveInParts(t *testing.T) {
 			if r, _, err := l.HullCycles(ctx, h.ID); err == nil {
 				t.Fatalf("the load histogram was read with %s: %d ranges", tc.name, len(r))
 			}
-			if _, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: "test"}); err == nil {
+			if _, err := l.Assess(ctx, ledger.AssessOptions{Hull: serial}); err == nil {
 				t.Fatalf("assess counted the dive with %s", tc.name)
 			}
 			if _, err := l.Clear(ctx, serial, 100, 30, time.Now()); err == nil {

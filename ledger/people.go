@@ -82,14 +82,11 @@ func readIdentity(ctx context.Context, q querier) (Identity, error) {
 	return id, nil
 }
 
-// actorFor is the actor of a record the connection makes: for a person,
-// always the person (a different name given is refused: records carry
-// the identity of who is signed in, and the database refuses any other);
-// for the owner, the name given as it is (each write path requires it).
+// actorFor is the actor of a record the connection makes: always the
+// identity the database authenticated (the person signed in, or the
+// owner's own login); a different name given is refused, and the
+// database refuses it too (migration 018). An actor is never free text.
 func (l *Ledger) actorFor(given string) (string, error) {
-	if l.identity.Owner {
-		return given, nil
-	}
 	if g := strings.TrimSpace(given); g != "" && g != l.identity.Name {
 		return "", inputErr(fmt.Errorf("signed in as %s: a record cannot name %q as its actor (records carry the identity of who is signed in; leave --actor out)", l.identity.Name, g))
 	}

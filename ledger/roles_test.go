@@ -278,3 +278,100 @@ func TestRolesResistRawSQL(t *testing.T) {
 		t.Fatalf("the fleet after a person's dive: %v %+v, want the hull evaluated from the ledger", err, after)
 	}
 }
+
+// TestOwnerRecordsCarryItsLogin: the owner of the tables (the command line
+// on the managed cluster, the service's own connection) may no longer
+// name anyone as a record's actor. The adversarial inputs: a free-text
+// name through every write path that takes an actor (refused as input,
+// nothing stored), and the same through raw SQL (refused by the database,
+// migration 018). A name equal to the login is accepted, and a blank one
+// takes the login.
+func TestOwnerRecordsCarryItsLogin(t *testing.T) {
+	ctx := context.Background()
+	cfg := testConfig(t)
+	owner, err := ledger.Open(ctx, cfg)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer owner.Close()
+	addExampleHull(t, owner)
+	me := owner.Identity().Name
+	r, err := owner.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive), Operator: "Pilot P."})
+	if err != nil {
+		t.Fatal(err)
+	}
+	at := time.Now().UTC().Add(-time.Hour)
+	sp := exampleSpec(t)
+	for what, write := range map[string]func(actor string) (string, error){
+		"hull revision": func(a string) (string, error) {
+			rec, err := owner.AddHull(ctx, sp, ledger.AddHullOptions{Actor: a, Revise: true, Reason: "re-issued"})
+			if err != nil {
+				return "", err
+			}
+			return rec.Actor, nil
+		},
+		"inspection": func(a string) (string, error) {
+			in, err := owner.RecordInspection(ctx, serial, ledger.Inspection{At: at, Method: "visual", Result: "pass", Actor: a})
+			if err != nil {
+				return "", err
+			}
+			return in.Actor, nil
+		},
+		"proof test": func(a string) (string, error) {
+			p, err := owner.RecordProofTest(ctx, serial, ledger.ProofTest{At: at, PressureMPa: 50, Result: "pass", Actor: a})
+			if err != nil {
+				return "", err
+			}
+			return p.Actor, nil
+		},
+		"decision": func(a string) (string, error) {
+			d, err := owner.RecordDecision(ctx, serial, ledger.Decision{At: at, Kind: ledger.DecisionWithdraw, Reason: "lay-up", Actor: a})
+			if err != nil {
+				return "", err
+			}
+			return d.Actor, nil
+		},
+		"correction": func(a string) (string, error) {
+			c, err := owner.CorrectDive(ctx, r.ID.String(), "site", "North Bay", "typed the wrong site", a)
+			if err != nil {
+				return "", err
+			}
+			return c.Actor, nil
+		},
+		"assessment": func(a string) (string, error) {
+			if _, err := owner.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: a, Reason: "again"}); err != nil {
+				return "", err
+			}
+			var got string
+			err := owner.Pool().QueryRow(ctx, "SELECT actor FROM assessments ORDER BY seq DESC LIMIT 1").Scan(&got)
+			return got, err
+		},
+	} {
+		t.Run(what, func(t *testing.T) {
+			var ie *ledger.InputError
+			if got, err := write("Chief Eng."); !errors.As(err, &ie) {
+				t.Fatalf("the owner naming %q: actor %q, err %v; want refused as input", "Chief Eng.", got, err)
+			}
+			for _, a := range []string{"", me} {
+				if got, err := write(a); err != nil || got != me {
+					t.Fatalf("actor %q given: recorded %q, err %v; want %q", a, got, err, me)
+				}
+			}
+		})
+	}
+	var n int
+	if err := owner.Pool().QueryRow(ctx, `SELECT (SELECT count(*) FROM inspections WHERE actor <> current_user) + (SELECT count(*) FROM proof_tests WHERE actor <> current_user)
+		+ (SELECT count(*) FROM decisions WHERE actor <> current_user) + (SELECT count(*) FROM hull_revisions WHERE actor <> current_user)
+		+ (SELECT count(*) FROM corrections WHERE actor <> current_user) + (SELECT count(*) FROM assessments WHERE actor <> current_user)`).Scan(&n); err != nil || n != 0 {
+		t.Fatalf("records whose actor is not the owner's login: %d (%v)", n, err)
+	}
+	// The database's own word, with the application bypassed.
+	_, err = owner.Pool().Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
+		SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'Chief Eng.', now() FROM hulls LIMIT 1`)
+	if !ledger.IsNotPermitted(err) || !strings.Contains(err.Error(), "identity") {
+		t.Fatalf("the owner's raw insert naming someone else as the actor: %v, want refused by the database", err)
+	}
+	if res, err := owner.Verify(ctx); err != nil || !res.OK {
+		t.Fatalf("verify: %v %+v", err, res.FirstBroken)
+	}
+}

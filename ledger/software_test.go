@@ -22,7 +22,7 @@ func TestAssessmentRecordsSoftware(t *testing.T) {
 	if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "p.csv", "t_s,pressure_mpa\n0,0\n900,20\n1800,0\n"), Start: &st}); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := l.Assess(ctx, ledger.AssessOptions{Actor: "eng", Reason: "again"}); err != nil {
+	if _, err := l.Assess(ctx, ledger.AssessOptions{Reason: "again"}); err != nil {
 		t.Fatal(err)
 	}
 	bi, ok := debug.ReadBuildInfo()

@@ -129,7 +129,7 @@ func TestRefusedUploadAnsweredAsFile(t *testing.T) {
 		}
 	}
 	sp.Gauges = kept
-	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "test", Revise: true, Reason: "gauge hoop1 removed"}); err != nil {
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Revise: true, Reason: "gauge hoop1 removed"}); err != nil {
 		t.Fatal(err)
 	}
 	fromFile, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
@@ -159,7 +159,7 @@ func TestDivesPageCountsVoidDives(t *testing.T) {
 	if _, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d2.csv", strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-02"))}); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := l.VoidDive(ctx, d1.ID.String(), "logged to the wrong hull", "test"); err != nil {
+	if _, err := l.VoidDive(ctx, d1.ID.String(), "logged to the wrong hull", ""); err != nil {
 		t.Fatal(err)
 	}
 	page, total, err := l.DivesPage(ctx, serial, 1, 1)

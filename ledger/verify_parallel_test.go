@@ -27,7 +27,7 @@ func fleetLedger(t *testing.T) *ledger.Ledger {
 	for h := 1; h <= 4; h++ {
 		sp := exampleSpec(t)
 		sp.Serial = fmt.Sprintf("PAR-%02d", h)
-		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "test"}); err != nil {
+		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
 			t.Fatal(err)
 		}
 		serials = append(serials, sp.Serial)
@@ -186,7 +186,7 @@ func TestVerifySince(t *testing.T) {
 	t.Run("a row added behind the chain since", func(t *testing.T) {
 		l := fleetLedger(t)
 		start := heads(t, l)
-		tamper(t, l, "INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at) SELECT gen_random_uuid(), d.hull_id, d.id, 'forged', 'nobody', now() FROM dives d JOIN hulls h ON h.id = d.hull_id WHERE h.serial = 'PAR-01' LIMIT 1")
+		tamper(t, l, "INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at) SELECT gen_random_uuid(), d.hull_id, d.id, 'forged', current_user, now() FROM dives d JOIN hulls h ON h.id = d.hull_id WHERE h.serial = 'PAR-01' LIMIT 1")
 		res, err := l.VerifySince(ctx, start)
 		if err != nil {
 			t.Fatal(err)
@@ -284,7 +284,7 @@ func benchVerifyLedger(b *testing.B) *ledger.Ledger {
 	for h := 0; h < hulls; h++ {
 		sp := *base
 		sp.Serial = fmt.Sprintf("VER-%03d", h)
-		if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+		if _, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{}); err != nil {
 			b.Fatal(err)
 		}
 		wg.Add(1)

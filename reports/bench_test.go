@@ -29,7 +29,7 @@ func BenchmarkHullReport1000(b *testing.B) {
 	if err != nil {
 		b.Fatal(err)
 	}
-	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
 		b.Fatal(err)
 	}
 	dir := b.TempDir()

@@ -31,10 +31,10 @@ func TestEarlierReportsStillVerify(t *testing.T) {
 		t.Fatalf("dives: %v %d", err, len(ds))
 	}
 	id := ds[len(ds)-1].ID.String()
-	if _, err := l.CorrectDive(ctx, id, "site", "North Bank", "typed wrong", "test"); err != nil {
+	if _, err := l.CorrectDive(ctx, id, "site", "North Bank", "typed wrong", ""); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := l.VoidDive(ctx, id, "logged to the wrong hull", "test"); err != nil {
+	if _, err := l.VoidDive(ctx, id, "logged to the wrong hull", ""); err != nil {
 		t.Fatal(err)
 	}
 	path := filepath.Join(t.TempDir(), "dive.pdf")

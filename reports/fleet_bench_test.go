@@ -42,7 +42,7 @@ func BenchmarkFleetView(b *testing.B) {
 					b.Fatal(err)
 				}
 				sp.Serial = fmt.Sprintf("FV-%03d", h)
-				if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+				if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
 					b.Fatal(err)
 				}
 				for i := 0; i < size.dives; i++ {

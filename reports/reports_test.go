@@ -218,7 +218,7 @@ func TestReportSeesRecordJustMade(t *testing.T) {
 		t.Fatal(err)
 	}
 	for i := 0; i < 3; i++ {
-		in, err := l.RecordInspection(ctx, "CSC-QUI-03", ledger.Inspection{At: time.Now().Add(-time.Hour), Method: "visual", Findings: "none", Result: "pass", Actor: "tester"})
+		in, err := l.RecordInspection(ctx, "CSC-QUI-03", ledger.Inspection{At: time.Now().Add(-time.Hour), Method: "visual", Findings: "none", Result: "pass"})
 		if err != nil {
 			t.Fatal(err)
 		}

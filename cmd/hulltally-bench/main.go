@@ -298,7 +298,7 @@ func addHull(ctx context.Context, l *ledger.Ledger, serial string, gauges int) e
 	for g := 0; g < gauges; g++ {
 		sp.Gauges = append(sp.Gauges, spec.Gauge{Name: fmt.Sprintf("g%d", g+1), Kind: "strain", Component: "laminate"})
 	}
-	_, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"})
+	_, err := l.AddHull(ctx, sp, ledger.AddHullOptions{})
 	return err
 }
 

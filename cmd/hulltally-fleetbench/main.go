@@ -143,7 +143,7 @@ var commands = []command{
 	{"clear", func(s, _ string) []string { return []string{"clear", s, "--depth", "1000"} }},
 	{"verify", func(string, string) []string { return []string{"verify"} }},
 	{"verify --chain-only", func(string, string) []string { return []string{"verify", "--chain-only"} }},
-	{"assess", func(string, string) []string { return []string{"assess", "--reason", "benchmark", "--actor", "bench"} }},
+	{"assess", func(string, string) []string { return []string{"assess", "--reason", "benchmark"} }},
 	{"fleet after assess", func(string, string) []string { return []string{"fleet"} }},
 	{"fleet rebuild", func(string, string) []string { return []string{"fleet", "rebuild"} }},
 }
@@ -281,7 +281,7 @@ func fillHull(ctx context.Context, l *ledger.Ledger, specYAML []byte, serial str
 		return err
 	}
 	sp.Serial = serial
-	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{Actor: "bench"}); err != nil {
+	if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
 		return err
 	}
 	lat := 45.0
@@ -304,10 +304,10 @@ func fillHull(ctx context.Context, l *ledger.Ledger, specYAML []byte, serial str
 	}
 	if h%2 == 0 {
 		at := t0.Add(time.Duration(dives) * 20 * time.Hour)
-		if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: at, Method: "visual", Result: "pass", Actor: "bench"}); err != nil {
+		if _, err := l.RecordInspection(ctx, serial, ledger.Inspection{At: at, Method: "visual", Result: "pass"}); err != nil {
 			return err
 		}
-		if _, err := l.RecordProofTest(ctx, serial, ledger.ProofTest{At: at, PressureMPa: sp.ProofPressureMPa, Result: "pass", Actor: "bench"}); err != nil {
+		if _, err := l.RecordProofTest(ctx, serial, ledger.ProofTest{At: at, PressureMPa: sp.ProofPressureMPa, Result: "pass"}); err != nil {
 			return err
 		}
 	}

@@ -21,7 +21,6 @@ func (a *app) assessCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			o.Actor = a.actorOr(l, o.Actor)
 			res, err := l.Assess(cmd.Context(), o)
 			if err != nil {
 				return err
@@ -47,7 +46,7 @@ func (a *app) assessCmd() *cobra.Command {
 	}
 	c.Flags().StringVar(&o.Hull, "hull", "", "one hull (default: every hull)")
 	c.Flags().StringVar(&o.Reason, "reason", "", "why (for the record)")
-	c.Flags().StringVar(&o.Actor, "actor", "", "who (default: the login name)")
+	actorFlag(c.Flags(), &o.Actor)
 	must(c.RegisterFlagCompletionFunc("hull", a.completeHullFlag))
 	return c
 }

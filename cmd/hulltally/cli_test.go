@@ -289,8 +289,8 @@ func (e *env) readsLeaveLedger(cfg string, counts map[string]int64, reads [][]st
 func pendingStatusChange(t *testing.T) (e *env, cfg, id, pdf string, noted any) {
 	e = newEnv(t)
 	const serial = "EX-C4000-01"
-	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--actor", "insp", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	for d := 1; d <= 3; d++ {
 		e.logDive(t, d, 2000)
 	}
@@ -362,8 +362,8 @@ func statusRecordNotesOnce(t *testing.T, e *env, cfg string, counts map[string]i
 func TestHullListJSON(t *testing.T) {
 	e := newEnv(t)
 	const serial = "EX-C4000-01"
-	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--actor", "insp", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	for d := 1; d <= 4; d++ {
 		e.logDive(t, d, 2000)
 	}

@@ -34,7 +34,24 @@ func (a *app) demoCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			sum, err := demo.Run(cmd.Context(), l, demo.Options{Dir: filepath.Join(a.cfg.Home, "demo"), DivesPerHull: dives, SampleHz: hz, Log: a.errOut})
+			people, err := a.demoPeople(cmd, l)
+			if err != nil {
+				return err
+			}
+			o := demo.Options{Dir: filepath.Join(a.cfg.Home, "demo"), DivesPerHull: dives, SampleHz: hz, Log: a.errOut}
+			if people != "" {
+				// The demo's records are made by its people, each in their
+				// role, and carry their names.
+				if o.Maintenance, err = l.As(cmd.Context(), "demo-maintenance", 2); err != nil {
+					return fmt.Errorf("demo: acting as demo-maintenance: %w", err)
+				}
+				defer o.Maintenance.Close()
+				if o.Operator, err = l.As(cmd.Context(), "demo-operator", 2); err != nil {
+					return fmt.Errorf("demo: acting as demo-operator: %w", err)
+				}
+				defer o.Operator.Close()
+			}
+			sum, err := demo.Run(cmd.Context(), l, o)
 			if err != nil {
 				return err
 			}
@@ -57,10 +74,6 @@ func (a *app) demoCmd() *cobra.Command {
 			}
 			for _, w := range written {
 				a.reportWarning(w)
-			}
-			people, err := a.demoPeople(cmd, l)
-			if err != nil {
-				return err
 			}
 			if a.asJSON {
 				return a.printJSON(map[string]any{"demo": sum, "hulls": hs, "damage": dmg, "fleet": fl, "reports": written, "people_file": people, "seconds": time.Since(t0).Seconds(), "caution": cautionText()})

@@ -160,9 +160,9 @@ func (a *app) diveCmd() *cobra.Command {
 	}
 	var voidReason, voidActor string
 	void := &cobra.Command{
-		Use:               "void ID --reason TEXT [--actor NAME]",
+		Use:               "void ID --reason TEXT",
 		Short:             "Take a dive out of damage, evidence and status from now on (logged to the wrong hull, say); the record stays",
-		Example:           `  hulltally dive void 1a2b3c4d --reason "logged to the wrong hull" --actor "Ops"`,
+		Example:           `  hulltally dive void 1a2b3c4d --reason "logged to the wrong hull"`,
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeDiveArg,
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -174,7 +174,6 @@ func (a *app) diveCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			voidActor = a.actorOr(l, voidActor)
 			v, err := l.VoidDive(cmd.Context(), args[0], voidReason, voidActor)
 			if err != nil {
 				return err
@@ -190,11 +189,11 @@ func (a *app) diveCmd() *cobra.Command {
 		},
 	}
 	void.Flags().StringVar(&voidReason, "reason", "", "why (required)")
-	void.Flags().StringVar(&voidActor, "actor", "", "who decides (default: the login name)")
+	actorFlag(void.Flags(), &voidActor)
 	must(void.MarkFlagRequired("reason"))
 	var field, value, reason, actor string
 	correct := &cobra.Command{
-		Use:               "correct ID --field site|operator --value TEXT --reason TEXT [--actor NAME]",
+		Use:               "correct ID --field site|operator --value TEXT --reason TEXT",
 		Short:             "Record a correction of a dive's site or operator (the original record stays)",
 		Example:           `  hulltally dive correct 1a2b3c4d --field site --value "Right Bay" --reason "typed the wrong site"`,
 		Args:              cobra.ExactArgs(1),
@@ -205,7 +204,6 @@ func (a *app) diveCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			actor = a.actorOr(l, actor)
 			c, err := l.CorrectDive(cmd.Context(), args[0], field, value, reason, actor)
 			if err != nil {
 				return err
@@ -221,7 +219,7 @@ func (a *app) diveCmd() *cobra.Command {
 	cf.StringVar(&field, "field", "", "site or operator")
 	cf.StringVar(&value, "value", "", "the value it should have had")
 	cf.StringVar(&reason, "reason", "", "why (required)")
-	cf.StringVar(&actor, "actor", "", "who (default: the login name)")
+	actorFlag(cf, &actor)
 	must(correct.MarkFlagRequired("field"))
 	must(correct.MarkFlagRequired("value"))
 	must(correct.MarkFlagRequired("reason"))

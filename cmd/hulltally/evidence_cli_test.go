@@ -221,8 +221,8 @@ func (e *env) hullJSON(serial string) map[string]any {
 // Felicity reference (50 MPa) of every later dive.
 func (e *env) makeFit(serial string) {
 	e.t.Helper()
-	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--actor", "insp", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", serial, "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", serial, "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 }
 
 func evOf(t *testing.T, d map[string]any) map[string]any {
@@ -765,8 +765,8 @@ func TestAdversarialLateDiveRejudges(t *testing.T) {
 	e := newEnv(t)
 	// Inspection and proof test recorded now, before the dives: not a
 	// reference for May, and no clearing of dives recorded after them.
-	e.ok("prooftest", advHull, "--pressure", "50", "--result", "pass", "--actor", "yard")
-	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--actor", "insp")
+	e.ok("prooftest", advHull, "--pressure", "50", "--result", "pass")
+	e.ok("inspect", advHull, "--method", "visual", "--result", "pass")
 	dir := t.TempDir()
 	startB := advDay(10)
 	rows := surfaceChecks()
@@ -810,9 +810,9 @@ func TestAdversarialLateDiveRejudges(t *testing.T) {
 // clearing records: the hull is on hold and clearance is no-go (exit 3).
 func TestAdversarialSlowClockAfterClearing(t *testing.T) {
 	e := newEnv(t)
-	e.ok("prooftest", advHull, "--pressure", "50", "--result", "pass", "--actor", "yard")
-	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--actor", "insp")
-	e.ok("decide", advHull, "--return-to-service", "--reason", "inspected and proof-tested", "--actor", "Chief Eng.")
+	e.ok("prooftest", advHull, "--pressure", "50", "--result", "pass")
+	e.ok("inspect", advHull, "--method", "visual", "--result", "pass")
+	e.ok("decide", advHull, "--return-to-service", "--reason", "inspected and proof-tested")
 	if _, code := e.clearCode(advHull, "1000"); code != 0 {
 		t.Logf("note: clearance before the dive is already no-go (exit %d)", code)
 	}
@@ -914,7 +914,7 @@ func TestAdversarialWrongHullVoid(t *testing.T) {
 	if code != 2 || !strings.Contains(errs, wid) {
 		t.Errorf("same samples (another file) on another hull before voiding: exit %d, want 2 naming %s: %s", code, wid, errs)
 	}
-	e.ok("dive", "void", wid, "--reason", "logged to the wrong hull", "--actor", "Ops")
+	e.ok("dive", "void", wid, "--reason", "logged to the wrong hull")
 	right := e.logJSON("--hull", advHull2, s)
 	if right["duplicate"] != false || right["replaces_void_dive"] != wid {
 		t.Errorf("after voiding: duplicate %v, replaces_void_dive %v, want false and %s", right["duplicate"], right["replaces_void_dive"], wid)
@@ -943,8 +943,8 @@ func TestAdversarialWrongHullVoid(t *testing.T) {
 	if wh["dive_count"] != 0.0 || wh["max_pressure_mpa"] != 0.0 {
 		t.Errorf("wrong hull after the void: dive_count %v, max_pressure_mpa %v, want 0 (a void dive counts nowhere in the totals)", wh["dive_count"], wh["max_pressure_mpa"])
 	}
-	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--actor", "Insp")
-	e.ok("decide", advHull, "--return-to-service", "--reason", "the void dive was another hull's", "--actor", "Chief")
+	e.ok("inspect", advHull, "--method", "visual", "--result", "pass")
+	e.ok("decide", advHull, "--return-to-service", "--reason", "the void dive was another hull's")
 	wh = e.hullJSON(advHull)
 	for _, r := range wh["status_reasons"].([]any) {
 		m := r.(map[string]any)

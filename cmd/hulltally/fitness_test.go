@@ -45,8 +45,8 @@ func (e *env) status(t *testing.T) (string, []any) {
 
 func TestHoldClearsOnlyWithInspectionAndDecision(t *testing.T) {
 	e := newEnv(t)
-	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "I. Nspector", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	for d := 1; d <= 4; d++ {
 		e.logDive(t, d, 2000)
 	}
@@ -56,31 +56,31 @@ func TestHoldClearsOnlyWithInspectionAndDecision(t *testing.T) {
 		t.Fatalf("status after a dive beyond the rated depth: %s", st)
 	}
 	// A return-to-service decision without a later inspection clears nothing.
-	e.ok("decide", "EX-C4000-01", "--return-to-service", "--reason", "looks fine", "--actor", "Chief Eng.")
+	e.ok("decide", "EX-C4000-01", "--return-to-service", "--reason", "looks fine")
 	if st, _ := e.status(t); st != "hold" {
 		t.Fatalf("status after a decision without an inspection: %s", st)
 	}
 	// A failed inspection clears nothing either.
-	e.ok("inspect", "EX-C4000-01", "--method", "ultrasonic", "--result", "fail", "--findings", "indication at mid-length", "--actor", "I. Nspector")
+	e.ok("inspect", "EX-C4000-01", "--method", "ultrasonic", "--result", "fail", "--findings", "indication at mid-length")
 	if st, _ := e.status(t); st != "hold" {
 		t.Fatalf("status after a failed inspection: %s", st)
 	}
 	// A passing inspection, then a named decision with a reason: cleared.
-	e.ok("inspect", "EX-C4000-01", "--method", "ultrasonic", "--result", "pass", "--findings", "indication re-examined: surface scratch", "--actor", "I. Nspector")
+	e.ok("inspect", "EX-C4000-01", "--method", "ultrasonic", "--result", "pass", "--findings", "indication re-examined: surface scratch")
 	if st, _ := e.status(t); st != "hold" {
 		t.Fatalf("status after the inspection alone: %s", st)
 	}
-	e.ok("decide", "EX-C4000-01", "--return-to-service", "--reason", "inspected after the deep dive, no damage found", "--actor", "Chief Eng.")
+	e.ok("decide", "EX-C4000-01", "--return-to-service", "--reason", "inspected after the deep dive, no damage found")
 	st, reasons := e.status(t)
 	if st == "hold" || st == "withdrawn" {
 		t.Fatalf("status after inspection and decision: %s %v", st, reasons)
 	}
 	// Withdrawal by decision, and back.
-	e.ok("decide", "EX-C4000-01", "--withdraw", "--reason", "end of season lay-up", "--actor", "Chief Eng.")
+	e.ok("decide", "EX-C4000-01", "--withdraw", "--reason", "end of season lay-up")
 	if st, _ := e.status(t); st != "withdrawn" {
 		t.Fatalf("status after withdrawal: %s", st)
 	}
-	_, errs, code := e.run("decide", "EX-C4000-01", "--return-to-service", "--actor", "Chief Eng.")
+	_, errs, code := e.run("decide", "EX-C4000-01", "--return-to-service")
 	if code != 2 || !strings.Contains(errs, "reason") {
 		t.Fatalf("decision without a reason: exit %d %s", code, errs)
 	}
@@ -98,8 +98,8 @@ func TestHoldClearsOnlyWithInspectionAndDecision(t *testing.T) {
 
 func TestClearance(t *testing.T) {
 	e := newEnv(t)
-	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "I. Nspector", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	for d := 1; d <= 4; d++ {
 		e.logDive(t, d, 2000)
 	}
@@ -141,7 +141,7 @@ func TestClearanceDamageExceedsWhatIsLeft(t *testing.T) {
 	p := filepath.Join(t.TempDir(), "old.yaml")
 	os.WriteFile(p, []byte(s), 0o644)
 	e.ok("hull", "add", "-f", p)
-	e.ok("prooftest", "EX-OLD-02", "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
+	e.ok("prooftest", "EX-OLD-02", "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
 	out, _, code := e.run("clear", "EX-OLD-02", "--depth", "3000", "--json")
 	var c map[string]any
 	json.Unmarshal([]byte(out), &c)
@@ -167,8 +167,8 @@ func TestFleetMostUrgentFirst(t *testing.T) {
 	os.WriteFile(p, []byte(strings.Replace(string(spec), "serial: EX-C4000-01", "serial: EX-B-02", 1)), 0o644)
 	e.ok("hull", "add", "-f", p)
 	for _, s := range []string{"EX-C4000-01", "EX-B-02"} {
-		e.ok("prooftest", s, "--pressure", "50", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-		e.ok("inspect", s, "--method", "visual", "--result", "pass", "--actor", "I. Nspector", "--at", "2026-04-02T08:00:00Z")
+		e.ok("prooftest", s, "--pressure", "50", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+		e.ok("inspect", s, "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	}
 	e.logDive(t, 1, 4100) // EX-C4000-01 beyond its rated depth
 	var fl map[string]any

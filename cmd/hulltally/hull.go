@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"hulltally/ledger/files"
 	"io/fs"
-	"os/user"
 	"strings"
 	"text/tabwriter"
 	"time"
@@ -17,13 +16,6 @@ import (
 	"hulltally/ledger/spec"
 	"hulltally/reports/view"
 )
-
-func currentActor() string {
-	if u, err := user.Current(); err == nil {
-		return u.Username
-	}
-	return "unknown"
-}
 
 func (a *app) hullCmd() *cobra.Command {
 	hull := &cobra.Command{Use: "hull", Short: "Hulls: add from a spec, list, show",
@@ -68,7 +60,6 @@ func (a *app) hullCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			actor = a.actorOr(l, actor)
 			rec, err := l.AddHull(cmd.Context(), sp, ledger.AddHullOptions{Actor: actor, Reason: reason, Revise: revise})
 			if err != nil {
 				if !revise {
@@ -85,7 +76,7 @@ func (a *app) hullCmd() *cobra.Command {
 	}
 	f := add.Flags()
 	f.StringVarP(&file, "file", "f", "", "hull spec YAML (see testdata/hulls/example-cylinder.yaml)")
-	f.StringVar(&actor, "actor", "", "who records it (default: the login name)")
+	actorFlag(f, &actor)
 	f.StringVar(&reason, "reason", "", "why (required with --revise)")
 	f.BoolVar(&revise, "revise", false, "record a new revision of an existing hull's spec")
 	f.StringVar(&h.Serial, "serial", "", "hull serial")

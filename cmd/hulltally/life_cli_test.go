@@ -84,8 +84,8 @@ func (e *env) lifeLog(t *testing.T, start time.Time, depth float64) string {
 // lifeFit records a passing inspection and a passing proof test, so that
 // the hull is not on hold for want of them.
 func (e *env) lifeFit() {
-	e.ok("inspect", lifeSerial, "--method", "visual", "--result", "pass", "--actor", "insp")
-	e.ok("prooftest", lifeSerial, "--pressure", "50", "--result", "pass", "--actor", "yard")
+	e.ok("inspect", lifeSerial, "--method", "visual", "--result", "pass")
+	e.ok("prooftest", lifeSerial, "--pressure", "50", "--result", "pass")
 }
 
 // fnum reads a JSON number; a string ("inf", "nan") or anything else fails.
@@ -414,7 +414,7 @@ func (e *env) proofTests(t *testing.T) int {
 // whose proof pressure is 50 MPa is refused and nothing is stored.
 func TestLifeProofBelowSpecRefused(t *testing.T) {
 	e := newEnv(t)
-	_, errs, code := e.run("prooftest", lifeSerial, "--pressure", "5", "--result", "pass", "--actor", "yard")
+	_, errs, code := e.run("prooftest", lifeSerial, "--pressure", "5", "--result", "pass")
 	// 50 × (1 − 0.02) = 49 MPa is the lowest passing test pressure
 	// (proof.tolerance 0.02).
 	if code != 2 || !strings.Contains(errs, "proof pressure") {
@@ -424,7 +424,7 @@ func TestLifeProofBelowSpecRefused(t *testing.T) {
 		t.Errorf("%d proof tests stored after a refused one", n)
 	}
 	// The boundary: 49 MPa is within the tolerance and is accepted.
-	e.ok("prooftest", lifeSerial, "--pressure", "49", "--result", "pass", "--actor", "yard")
+	e.ok("prooftest", lifeSerial, "--pressure", "49", "--result", "pass")
 	if n := e.proofTests(t); n != 1 {
 		t.Errorf("%d proof tests after one at 49 MPa", n)
 	}
@@ -436,7 +436,7 @@ func TestLifeProofBelowSpecRefused(t *testing.T) {
 func TestLifeProofSamplesDisagreeRefused(t *testing.T) {
 	e := newEnv(t)
 	p := lifeProfile(t, t.TempDir(), "p10.csv", time.Date(2026, 3, 1, 8, 0, 0, 0, time.UTC), "pressure_mpa", 10)
-	_, errs, code := e.run("prooftest", lifeSerial, "--pressure", "50", "--result", "pass", "--actor", "yard", "--samples", p)
+	_, errs, code := e.run("prooftest", lifeSerial, "--pressure", "50", "--result", "pass", "--samples", p)
 	if code != 2 || !strings.Contains(errs, "peak") {
 		t.Errorf("proof test at 50 MPa with samples peaking at 10 MPa: exit %d, %q; want exit 2 naming the samples' peak", code, errs)
 	}
@@ -461,9 +461,9 @@ func TestLifeProofSamplesDisagreeRefused(t *testing.T) {
 // rated depth, and raises no beyond-rated-depth flag.
 func TestLifeProofOvershootHolds(t *testing.T) {
 	e := newEnv(t)
-	e.ok("inspect", lifeSerial, "--method", "visual", "--result", "pass", "--actor", "insp", "--at", "2026-02-01T08:00:00Z")
+	e.ok("inspect", lifeSerial, "--method", "visual", "--result", "pass", "--at", "2026-02-01T08:00:00Z")
 	p := lifeProfile(t, t.TempDir(), "p55.csv", time.Date(2026, 3, 1, 8, 0, 0, 0, time.UTC), "pressure_mpa", 55)
-	e.ok("prooftest", lifeSerial, "--pressure", "55", "--result", "pass", "--actor", "yard", "--samples", p)
+	e.ok("prooftest", lifeSerial, "--pressure", "55", "--result", "pass", "--samples", p)
 	var s map[string]any
 	e.jsonOK(&s, "hull", "show", lifeSerial)
 	if s["status"] != "hold" {
@@ -521,7 +521,7 @@ func TestLifeProofOvershootHolds(t *testing.T) {
 func TestLifeFailedProofCounts(t *testing.T) {
 	e := newEnv(t)
 	p := lifeProfile(t, t.TempDir(), "p50.csv", time.Date(2026, 3, 1, 8, 0, 0, 0, time.UTC), "pressure_mpa", 50)
-	e.ok("prooftest", lifeSerial, "--pressure", "50", "--result", "fail", "--actor", "yard", "--samples", p)
+	e.ok("prooftest", lifeSerial, "--pressure", "50", "--result", "fail", "--samples", p)
 	var s map[string]any
 	e.jsonOK(&s, "hull", "show", lifeSerial)
 	if s["dive_count"] != 1.0 {

@@ -231,8 +231,8 @@ func TestAssessAfterCurveChange(t *testing.T) {
 	e := newEnv(t)
 	// An inspection and a proof test on record, so that the hull is not
 	// on hold and its remaining life is shown.
-	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "insp")
-	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass", "--actor", "yard")
+	e.ok("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass")
+	e.ok("prooftest", "EX-C4000-01", "--pressure", "50", "--result", "pass")
 	for i, depth := range []int{500, 800, 650} {
 		p := filepath.Join(t.TempDir(), fmt.Sprintf("d%d.csv", i))
 		os.WriteFile(p, []byte(fmt.Sprintf("time,depth_m\n2026-05-0%dT08:00:00Z,0\n2026-05-0%dT08:10:00Z,%d\n2026-05-0%dT08:20:00Z,0\n", i+1, i+1, depth, i+1)), 0o644)
@@ -459,7 +459,7 @@ func TestCorrection(t *testing.T) {
 	var d map[string]any
 	e.jsonOK(&d, "dive", "log", "--hull", "EX-C4000-01", "--site", "Wrong Bay", p)
 	id := d["dive_id"].(string)
-	e.ok("dive", "correct", id[:8], "--field", "site", "--value", "Right Bay", "--reason", "typed the wrong site", "--actor", "Ops")
+	e.ok("dive", "correct", id[:8], "--field", "site", "--value", "Right Bay", "--reason", "typed the wrong site")
 	var show map[string]any
 	e.jsonOK(&show, "dive", "show", id)
 	if show["site"] != "Right Bay" || len(show["corrections"].([]any)) != 1 {
@@ -468,7 +468,7 @@ func TestCorrection(t *testing.T) {
 	if n := e.count("dives WHERE site = 'Wrong Bay'"); n != 1 {
 		t.Fatalf("the original dive row changed (%d rows with the original site)", n)
 	}
-	_, errs, code := e.run("dive", "correct", id, "--field", "latitude", "--value", "10", "--reason", "x", "--actor", "Ops")
+	_, errs, code := e.run("dive", "correct", id, "--field", "latitude", "--value", "10", "--reason", "x")
 	if code != 2 || !strings.Contains(errs, "cannot be corrected") {
 		t.Fatalf("latitude correction: exit %d %s", code, errs)
 	}

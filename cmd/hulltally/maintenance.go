@@ -26,9 +26,9 @@ func (a *app) inspectCmd() *cobra.Command {
 	var in ledger.Inspection
 	var at string
 	c := &cobra.Command{
-		Use:   "inspect SERIAL --method M --result pass|fail [--findings TEXT] [--actor NAME] [--at TIME]",
+		Use:   "inspect SERIAL --method M --result pass|fail [--findings TEXT] [--at TIME]",
 		Short: "Record an inspection of a hull (append-only, in the audit chain)",
-		Example: `  hulltally inspect EX-C4000-01 --method visual --result pass --actor "I. Nspector"
+		Example: `  hulltally inspect EX-C4000-01 --method visual --result pass
   hulltally inspect EX-C4000-01 --method ultrasonic --result fail --findings "delamination at the fwd ring" --at 2026-07-01T09:00:00Z`,
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeSerialArg,
@@ -42,7 +42,6 @@ func (a *app) inspectCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			in.Actor = a.actorOr(l, in.Actor)
 			rec, err := l.RecordInspection(cmd.Context(), args[0], in)
 			if err != nil {
 				return err
@@ -58,7 +57,7 @@ func (a *app) inspectCmd() *cobra.Command {
 	f.StringVar(&in.Method, "method", "", "inspection method (e.g. visual, ultrasonic, shearography)")
 	f.StringVar(&in.Findings, "findings", "", "what was found")
 	f.StringVar(&in.Result, "result", "", "pass or fail")
-	f.StringVar(&in.Actor, "actor", "", "inspector (default: the login name)")
+	actorFlag(f, &in.Actor)
 	f.StringVar(&at, "at", "", "when it was done (RFC 3339; default now)")
 	must(c.MarkFlagRequired("method"))
 	must(c.MarkFlagRequired("result"))
@@ -70,9 +69,9 @@ func (a *app) prooftestCmd() *cobra.Command {
 	var p ledger.ProofTest
 	var at, samples, ae, start, lat string
 	c := &cobra.Command{
-		Use:   "prooftest SERIAL --pressure MPA --result pass|fail [--samples FILE.csv [--ae HITS.csv]] [--actor NAME] [--at TIME]",
+		Use:   "prooftest SERIAL --pressure MPA --result pass|fail [--samples FILE.csv [--ae HITS.csv]] [--at TIME]",
 		Short: "Record a proof test; its samples file (optional) is logged as a dive and sets the strain baseline and Felicity reference",
-		Example: `  hulltally prooftest EX-C4000-01 --pressure 50 --result pass --actor yard
+		Example: `  hulltally prooftest EX-C4000-01 --pressure 50 --result pass
   hulltally prooftest EX-C4000-01 --pressure 50 --result pass --samples proof.csv --ae proof-hits.csv`,
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeSerialArg,
@@ -86,7 +85,6 @@ func (a *app) prooftestCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			p.Actor = a.actorOr(l, p.Actor)
 			req := ledger.LogRequest{Hull: args[0], Samples: samples, AE: ae, Site: "proof test", Operator: p.Actor}
 			if samples != "" {
 				if err := a.fillLog(&req, lat, start); err != nil {
@@ -111,7 +109,7 @@ func (a *app) prooftestCmd() *cobra.Command {
 	f.Float64Var(&p.PressureMPa, "pressure", 0, "test pressure, MPa gauge")
 	f.StringVar(&p.Result, "result", "", "pass or fail")
 	f.StringVar(&p.Notes, "notes", "", "notes")
-	f.StringVar(&p.Actor, "actor", "", "who ran the test (default: the login name)")
+	actorFlag(f, &p.Actor)
 	f.StringVar(&at, "at", "", "when (RFC 3339; default now, or the samples' start)")
 	f.StringVar(&samples, "samples", "", "the test's data-logger file")
 	f.StringVar(&ae, "ae", "", "the test's acoustic-emission hits")
@@ -130,9 +128,9 @@ func (a *app) decideCmd() *cobra.Command {
 	var at string
 	var ret, withdraw bool
 	c := &cobra.Command{
-		Use:   "decide SERIAL (--return-to-service | --withdraw) --reason TEXT [--actor NAME] [--at TIME]",
+		Use:   "decide SERIAL (--return-to-service | --withdraw) --reason TEXT [--at TIME]",
 		Short: "Record a decision to return a hull to service or to withdraw it",
-		Example: `  hulltally decide EX-C4000-01 --return-to-service --reason "inspection passed" --actor "Chief Eng."
+		Example: `  hulltally decide EX-C4000-01 --return-to-service --reason "inspection passed"
   hulltally decide EX-C4000-01 --withdraw --reason "end of season lay-up"`,
 		Args:              cobra.ExactArgs(1),
 		ValidArgsFunction: a.completeSerialArg,
@@ -157,7 +155,6 @@ func (a *app) decideCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			d.Actor = a.actorOr(l, d.Actor)
 			rec, err := l.RecordDecision(cmd.Context(), args[0], d)
 			if err != nil {
 				return err
@@ -173,7 +170,7 @@ func (a *app) decideCmd() *cobra.Command {
 	f.BoolVar(&ret, "return-to-service", false, "return the hull to service")
 	f.BoolVar(&withdraw, "withdraw", false, "withdraw the hull from service")
 	f.StringVar(&d.Reason, "reason", "", "why (required)")
-	f.StringVar(&d.Actor, "actor", "", "who decides (default: the login name)")
+	actorFlag(f, &d.Actor)
 	f.StringVar(&at, "at", "", "when (RFC 3339; default now)")
 	must(c.MarkFlagRequired("reason"))
 	c.MarkFlagsMutuallyExclusive("return-to-service", "withdraw")

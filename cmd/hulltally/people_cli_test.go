@@ -91,6 +91,19 @@ func TestPeopleCLI(t *testing.T) {
 	if _, errs, code := mt.run("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "I. Nspector"); code != 2 || !strings.Contains(errs, "signed in as mt-"+suffix) {
 		t.Fatalf("inspection naming someone else: exit %d %s", code, errs)
 	}
+	// The owner too: a typed name is refused and nothing is stored; the
+	// owner's records carry its own login.
+	inspections := e.count("inspections")
+	if _, errs, code := e.run("decide", "EX-C4000-01", "--withdraw", "--reason", "lay-up", "--actor", "Chief Eng."); code != 2 || !strings.Contains(errs, "signed in as") {
+		t.Fatalf("the owner naming someone else: exit %d %s", code, errs)
+	}
+	if _, errs, code := e.run("inspect", "EX-C4000-01", "--method", "visual", "--result", "pass", "--actor", "I. Nspector"); code != 2 || !strings.Contains(errs, "signed in as") || e.count("inspections") != inspections {
+		t.Fatalf("the owner naming someone else: exit %d %s", code, errs)
+	}
+	e.jsonOK(&rec, "inspect", "EX-C4000-01", "--method", "visual", "--result", "pass")
+	if rec.Actor == "" || rec.Actor == "I. Nspector" || strings.HasPrefix(rec.Actor, "mt-") {
+		t.Fatalf("the owner's inspection carries %q, want the owner's login", rec.Actor)
+	}
 
 	in.ok("verify")
 	in.ok("fleet")

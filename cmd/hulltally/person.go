@@ -9,18 +9,19 @@ import (
 	"text/tabwriter"
 
 	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
 
 	"hulltally/ledger"
 )
 
-// actorOr is the actor to give a write: the one given, else for the owner
-// of the ledger the login name; for a person, nothing (the ledger takes
-// the person signed in, and refuses any other name).
-func (a *app) actorOr(l *ledger.Ledger, given string) string {
-	if given != "" || !l.Identity().Owner {
-		return given
-	}
-	return currentActor()
+// actorFlag defines the --actor flag that writes used to take. It is
+// hidden: a record's actor is who is signed in (the person, or the
+// ledger owner's own login), stamped by the database; a name given that
+// differs is refused (exit 2), the same name is accepted, so scripts that
+// passed their own login keep working.
+func actorFlag(f *pflag.FlagSet, p *string) {
+	f.StringVar(p, "actor", "", "who is signed in (records carry it; any other name is refused)")
+	_ = f.MarkHidden("actor") // the flag was defined on the line above
 }
 
 func (a *app) stdin() io.Reader {

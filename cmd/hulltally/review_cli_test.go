@@ -111,7 +111,7 @@ func TestReviewSpecRevisionKeepsOldDiveHold(t *testing.T) {
 	if d["beyond_rated"] != true || flagLevel(show, "beyond-rated-depth", id) != "hold" {
 		t.Fatalf("dive to 4100 m before the revision: beyond_rated %v; flags:\n%s", d["beyond_rated"], dumpFlags(show))
 	}
-	e.ok("hull", "add", "-f", revUprated, "--revise", "--reason", "uprated", "--actor", "Eng")
+	e.ok("hull", "add", "-f", revUprated, "--revise", "--reason", "uprated")
 	show = e.hullJSON(advHull)
 	if show["rated_depth_m"] != 4300.0 {
 		t.Fatalf("after the revision: rated_depth_m %v, want 4300", show["rated_depth_m"])
@@ -152,7 +152,7 @@ func TestReviewSpecRevisionKeepsMissingEvidence(t *testing.T) {
 	if len(fs) == 0 || fs[0]["value"] != 2.0 {
 		t.Fatalf("dive without hits before the revision: missing-evidence %v, want value 2; flags:\n%s", fs, dumpFlags(show))
 	}
-	e.ok("hull", "add", "-f", revNoAE, "--revise", "--reason", "acoustic-emission system removed", "--actor", "Eng")
+	e.ok("hull", "add", "-f", revNoAE, "--revise", "--reason", "acoustic-emission system removed")
 	show = e.hullJSON(advHull)
 	fs = flagsOf(show, "missing-evidence", id)
 	if len(fs) == 0 || fs[0]["value"] != 2.0 {
@@ -189,7 +189,7 @@ func TestReviewVoidAndRelog(t *testing.T) {
 	if flagLevel(show, "hold-hits-after-settle", id) != "hold" || show["status"] != "hold" {
 		t.Fatalf("before the void: status %v; flags:\n%s", show["status"], dumpFlags(show))
 	}
-	e.ok("dive", "void", id, "--reason", "re-export of the logger file", "--actor", "Ops")
+	e.ok("dive", "void", id, "--reason", "re-export of the logger file")
 	show = e.hullJSON(advHull)
 	voided := false
 	for _, f := range flagsOf(show, "data-quality", id) {
@@ -225,8 +225,8 @@ func TestReviewVoidAndRelog(t *testing.T) {
 // components[].proof_tests has count 1 and cyclic damage > 0.
 func TestReviewProofWithoutSamplesOvershoot(t *testing.T) {
 	e := newEnv(t)
-	e.ok("prooftest", advHull, "--pressure", "60", "--result", "pass", "--actor", "yard", "--at", "2026-04-01T08:00:00Z")
-	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--actor", "insp", "--at", "2026-04-02T08:00:00Z")
+	e.ok("prooftest", advHull, "--pressure", "60", "--result", "pass", "--at", "2026-04-01T08:00:00Z")
+	e.ok("inspect", advHull, "--method", "visual", "--result", "pass", "--at", "2026-04-02T08:00:00Z")
 	show := e.hullJSON(advHull)
 	fs := flagsOf(show, "proof-overshoot", "")
 	lv := flagLevel(show, "proof-overshoot", "")
@@ -272,7 +272,7 @@ func TestReviewProofWithoutSamplesOvershoot(t *testing.T) {
 // holds the hull. Counting one cycle per dive (2 / 4 = 0.5) would not.
 func TestReviewYoyoDesignCycles(t *testing.T) {
 	e := newEnv(t)
-	e.ok("hull", "add", "-f", revQualified, "--revise", "--reason", "qualification record: 4 pressure cycles", "--actor", "Eng")
+	e.ok("hull", "add", "-f", revQualified, "--revise", "--reason", "qualification record: 4 pressure cycles")
 	e.makeFit(advHull)
 	k := []knot{{0, 0}, {60, 0}}
 	tt := 60.0

@@ -7,6 +7,7 @@
 package demo
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
@@ -35,6 +36,12 @@ type Options struct {
 	SampleHz float64
 	// Log receives progress lines.
 	Log io.Writer
+	// Maintenance, when set, makes the demo's maintenance records (hulls,
+	// proof tests, inspections) as a person of the maintenance role, and
+	// Operator logs the dives as a person of the operator role, so that
+	// each record carries the name of who made it. Nil: the ledger Run is
+	// given makes them, as whoever it is signed in as.
+	Maintenance, Operator *ledger.Ledger
 }
 
 // Summary is what a demo run did.
@@ -143,6 +150,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 	if o.Log == nil {
 		o.Log = io.Discard
 	}
+	maint, ops := cmp.Or(o.Maintenance, l), cmp.Or(o.Operator, l)
 	sum := &Summary{Dir: o.Dir}
 	season := time.Date(2026, 3, 2, 7, 30, 0, 0, time.UTC)
 	for hi, hp := range fleet() {
@@ -160,7 +168,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 		if err := files.WriteAtomic(specFile, func(w io.Writer) error { _, err := w.Write(text); return err }, 0o644); err != nil {
 			return nil, fmt.Errorf("demo: %w", err)
 		}
-		_, err = l.AddHull(ctx, hp.spec, ledger.AddHullOptions{Actor: "demo", Reason: "demo fleet"})
+		_, err = maint.AddHull(ctx, hp.spec, ledger.AddHullOptions{Reason: "demo fleet"})
 		switch {
 		case err == nil:
 			sum.HullsAdded++
@@ -180,7 +188,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 		}
 		// The season opens with the hull's proof test.
 		if len(m.ProofTests) == 0 {
-			if err := proofTest(ctx, l, hp, hdir, day.Add(-24*time.Hour), o.SampleHz); err != nil {
+			if err := proofTest(ctx, maint, hp, hdir, day.Add(-24*time.Hour), o.SampleHz); err != nil {
 				return nil, err
 			}
 		}
@@ -216,7 +224,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 				}
 			}
 			lat := hp.lat
-			r, err := l.LogDive(ctx, ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: hp.site, Operator: hp.pilot})
+			r, err := ops.LogDive(ctx, ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: hp.site, Operator: hp.pilot})
 			if err != nil {
 				return nil, fmt.Errorf("demo: %w", err)
 			}
@@ -229,11 +237,18 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 			}
 			// The mid-season inspection.
 			if i == o.DivesPerHull/2 && len(m.Inspections) == 0 {
-				_, err := l.RecordInspection(ctx, hp.spec.Serial, ledger.Inspection{At: r.End.Add(6 * time.Hour), Method: "visual and ultrasonic (invented)",
-					Findings: "no indications", Result: "pass", Actor: "M. Ferreira-Lund (invented)"})
+				_, err := maint.RecordInspection(ctx, hp.spec.Serial, ledger.Inspection{At: r.End.Add(6 * time.Hour), Method: "visual and ultrasonic (invented)",
+					Findings: "no indications", Result: "pass"})
 				if err != nil {
 					return nil, fmt.Errorf("demo: %w", err)
 				}
+			}
+		}
+		if maint != l || ops != l {
+			// A person may not write the fleet summary (migration 014):
+			// the owner notes the hull after the people's records.
+			if err := l.NoteHull(ctx, hp.spec.Serial); err != nil {
+				return nil, fmt.Errorf("demo: %w", err)
 			}
 		}
 		fmt.Fprintf(o.Log, "demo: %s %s: %d dives in %s\n", hp.spec.Serial, hp.spec.Name, o.DivesPerHull, hdir)
@@ -245,7 +260,7 @@ func Run(ctx context.Context, l *ledger.Ledger, o Options) (*Summary, error) {
 // with a logged samples file for the hull that has one, else from its
 // certificate.
 func proofTest(ctx context.Context, l *ledger.Ledger, hp hullPlan, dir string, at time.Time, hz float64) error {
-	p := ledger.ProofTest{At: at, PressureMPa: hp.spec.ProofPressureMPa, Result: "pass", Actor: "yard test crew (invented)",
+	p := ledger.ProofTest{At: at, PressureMPa: hp.spec.ProofPressureMPa, Result: "pass",
 		Notes: "proof test at the opening of the season (invented)"}
 	var req ledger.LogRequest
 	if hp.proofSamples {
@@ -260,7 +275,7 @@ func proofTest(ctx context.Context, l *ledger.Ledger, hp hullPlan, dir string, a
 			}
 		}
 		lat := hp.lat
-		req = ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: "proof test tank (invented)", Operator: p.Actor}
+		req = ledger.LogRequest{Hull: hp.spec.Serial, Samples: samples, AE: hits, Latitude: &lat, Site: "proof test tank (invented)", Operator: "yard test crew (invented)"}
 		p.At, p.PressureMPa = time.Time{}, 0 // from the samples
 	} else {
 		p.Notes = "proof test certificate of the yard (invented); no samples on record"

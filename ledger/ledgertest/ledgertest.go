@@ -187,7 +187,7 @@ func CopyFleet(tb testing.TB, l *ledger.Ledger, base *spec.Hull, prefix string, 
 	for h := 0; h < hulls; h++ {
 		sp := *base
 		sp.Serial = fmt.Sprintf("%s-%03d", prefix, h)
-		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{Actor: "bench"})
+		rec, err := l.AddHull(ctx, &sp, ledger.AddHullOptions{})
 		if err != nil {
 			tb.Fatal(err)
 		}

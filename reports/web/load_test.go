@@ -34,7 +34,7 @@ func TestLoad(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if _, err := f.owner.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+		if _, err := f.owner.AddHull(ctx, h, ledger.AddHullOptions{}); err != nil {
 			t.Fatal(err)
 		}
 		hulls = append(hulls, h.Serial)

@@ -40,7 +40,7 @@ func BenchmarkPages(b *testing.B) {
 	t0 := time.Now()
 	ledgertest.CopyFleet(b, owner, sp, "FLEET", 1000, func(int) int { return 1 })
 	ledgertest.CopyFleet(b, owner, sp, "LONG", 1, func(int) int { return 10000 })
-	if _, err := owner.Assess(ctx, ledger.AssessOptions{Actor: "bench", Reason: "benchmark"}); err != nil {
+	if _, err := owner.Assess(ctx, ledger.AssessOptions{Reason: "benchmark"}); err != nil {
 		b.Fatal(err)
 	}
 	if _, err := owner.RebuildFleetSummary(ctx, time.Now().UTC(), 0); err != nil {

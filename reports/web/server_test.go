@@ -86,7 +86,7 @@ func newFixture(t *testing.T, opt Options) *fixture {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := owner.AddHull(ctx, h, ledger.AddHullOptions{Actor: "test"}); err != nil {
+	if _, err := owner.AddHull(ctx, h, ledger.AddHullOptions{}); err != nil {
 		t.Fatal(err)
 	}
 	f := &fixture{t: t, owner: owner, tokens: map[ledger.Role]*ledger.Token{}, names: map[ledger.Role]string{}, passwords: map[ledger.Role]string{}}
