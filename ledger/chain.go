@@ -7,6 +7,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"time"
 
 	"github.com/google/uuid"
@@ -25,6 +26,10 @@ func newCanon(kind string) *canon {
 }
 
 func (c *canon) tag(t byte) { c.b = append(c.b, t) }
+
+// growF64 makes room for n more f64 values (a tag and 8 bytes each), so
+// that a record of long arrays is not copied as it grows.
+func (c *canon) growF64(n int) { c.b = slices.Grow(c.b, 9*n) }
 func (c *canon) str(s string) {
 	c.tag('s')
 	c.b = binary.AppendUvarint(c.b, uint64(len(s)))

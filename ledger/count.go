@@ -217,6 +217,7 @@ func profileCanon(dive uuid.UUID, p *profileAcc) []byte {
 	c.uuid(dive)
 	c.f64(p.step)
 	c.i64(int64(len(p.TimeS)))
+	c.growF64(len(p.TimeS) * (2 + len(p.Strain)))
 	for i := range p.TimeS {
 		c.f64(p.TimeS[i])
 		c.f64(p.Press[i])

@@ -96,6 +96,7 @@ func writeCyclesCanon(w io.Writer, dive uuid.UUID, ss []series, sp *cycleSpill) 
 		c.f64(s.gate)
 		c.i64(s.n())
 		err := s.parts(sp, func(cs []rainflow.Cycle) error {
+			c.growF64(3 * len(cs))
 			for _, y := range cs {
 				c.f64(y.Range)
 				c.f64(y.Mean)
@@ -115,6 +116,7 @@ func holdsCanon(dive uuid.UUID, bin float64, hs []assess.Hold) []byte {
 	c.uuid(dive)
 	c.f64(bin)
 	c.i64(int64(len(hs)))
+	c.growF64(2 * len(hs))
 	for _, h := range hs {
 		c.f64(h.LevelMPa)
 		c.f64(h.Seconds)

@@ -18,3 +18,11 @@ func (l *Ledger) EvaluateAcross(ctx context.Context, serial string, at time.Time
 	}
 	return l.noteFitness(ctx, e)
 }
+
+// AppendFloat8Array, Float8Column and ErrFloat8Array expose the float8[] decoder to
+// its test, which needs a real server (TestFloat8ArrayMatchesPgx).
+var (
+	AppendFloat8Array = appendFloat8Array
+	Float8Column      = float8Column
+	ErrFloat8Array    = errFloat8Array
+)

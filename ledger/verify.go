@@ -760,15 +760,26 @@ func batchCycles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) e
 		var name, unit string
 		var gate float64
 		var chunk int32
-		var r, m, n []float64
-		if err := rows.Scan(&id, &name, &unit, &gate, &chunk, &r, &m, &n); err != nil {
+		if err := rows.Scan(&id, &name, &unit, &gate, &chunk, nil, nil, nil); err != nil {
+			return err
+		}
+		// Each chunk's arrays are kept by the joiner: fresh slices.
+		a := make([][]float64, 3)
+		why, err := float8Columns(rows, a, 5, 6, 7)
+		if err != nil {
 			return err
 		}
 		if j == nil || id != cur {
 			flush()
 			cur, j = id, &seriesJoiner{}
 		}
-		j.add(name, unit, gate, chunk, r, m, n)
+		if why != "" {
+			if j.why == "" {
+				j.why = why
+			}
+			return nil
+		}
+		j.add(name, unit, gate, chunk, a[0], a[1], a[2])
 		return nil
 	})
 	if err != nil {
@@ -778,13 +789,33 @@ func batchCycles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) e
 	return nil
 }
 
+// holdsMismatch is the finding for a time-at-pressure record whose two
+// arrays differ in length: it was changed (the ledger stores them
+// together).
+func holdsMismatch(lv, sec []float64) string {
+	return fmt.Sprintf("time at pressure has %d levels and %d durations (the stored record was changed)", len(lv), len(sec))
+}
+
 func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	a := make([][]float64, 2) // reused from row to row
 	return each(ctx, q, "time at pressure", "SELECT dive_id, bin_mpa, levels, seconds FROM dive_holds WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
 		var id uuid.UUID
 		var bin float64
-		var lv, sec []float64
-		if err := rows.Scan(&id, &bin, &lv, &sec); err != nil {
+		if err := rows.Scan(&id, &bin, nil, nil); err != nil {
 			return err
+		}
+		why, err := float8Columns(rows, a, 2, 3)
+		if err != nil {
+			return err
+		}
+		lv, sec := a[0], a[1]
+		if why == "" && len(lv) != len(sec) {
+			why = holdsMismatch(lv, sec)
+		}
+		if why != "" {
+			b.stored["dive_holds"]++
+			b.settle("dive_holds", id.String(), nil, 0, why, nil)
+			return nil
 		}
 		b.stored["dive_holds"]++
 		hs := make([]assess.Hold, len(lv))
@@ -797,13 +828,24 @@ func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) er
 }
 
 func batchProfiles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
+	a := make([][]float64, 3) // reused from row to row
 	return each(ctx, q, "dive profiles", "SELECT dive_id, step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
 		var id uuid.UUID
 		p := &profileAcc{}
-		var flat []float64
-		if err := rows.Scan(&id, &p.step, &p.TimeS, &p.Press, &p.gauges, &flat); err != nil {
+		if err := rows.Scan(&id, &p.step, nil, nil, &p.gauges, nil); err != nil {
 			return err
 		}
+		why, err := float8Columns(rows, a, 2, 3, 5)
+		if err != nil {
+			return err
+		}
+		if why != "" {
+			b.stored["dive_profile"]++
+			b.settle("dive_profile", id.String(), nil, 0, why, nil)
+			return nil
+		}
+		var flat []float64
+		p.TimeS, p.Press, flat = a[0], a[1], a[2]
 		b.stored["dive_profile"]++
 		n := len(p.TimeS)
 		if len(flat) != n*len(p.gauges) {
@@ -1262,6 +1304,9 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		}
 		if err != nil {
 			return nil, 0, "", err
+		}
+		if len(lv) != len(sec) {
+			return nil, 0, holdsMismatch(lv, sec), nil
 		}
 		hs := make([]assess.Hold, len(lv))
 		for i := range lv {

@@ -230,6 +230,11 @@ func TestTamperJudgedRecords(t *testing.T) {
 		{"drop a cycle", "UPDATE dive_cycles SET ranges = ranges[2:], means = means[2:], counts = counts[2:] WHERE " + row("dive_cycles", "WHERE cardinality(ranges) > 0"), "dive_cycles"},
 		{"remove a counted series", "DELETE FROM dive_cycles WHERE " + row("dive_cycles", ""), "dive_cycles"},
 		{"move a counted series to another hull", "UPDATE dive_cycles SET hull_id = gen_random_uuid() WHERE " + row("dive_cycles", ""), "dive_cycles"},
+		// Time at pressure and the profile: arrays cut so that they no
+		// longer pair up (found broken, not a crash of verify).
+		{"cut the durations of a time at pressure", "UPDATE dive_holds SET seconds = seconds[2:] WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
+		{"lower one time at pressure", "UPDATE dive_holds SET seconds[1] = seconds[1] / 2 WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
+		{"put a NULL into a profile", "UPDATE dive_profiles SET pressure_mpa[1] = NULL WHERE " + row("dive_profiles", "WHERE cardinality(pressure_mpa) > 0"), "dive_profile"},
 		// Evidence revisions: the latest is the evidence in force.
 		{"edit an evidence revision", "UPDATE evidence_revisions SET evidence_json = evidence_json || ' ' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
 		{"edit the cause of a revision", "UPDATE evidence_revisions SET cause = 'routine' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
@@ -257,6 +262,13 @@ func TestTamperJudgedRecords(t *testing.T) {
 					t.Fatalf("%s: %v", tc.sql, err)
 				}
 			} else {
+				if strings.HasPrefix(tc.name, "cut the durations") {
+					// The table's own check pairs the arrays; the attacker
+					// drops it first.
+					if _, err := l.Pool().Exec(ctx, "ALTER TABLE dive_holds DROP CONSTRAINT dive_holds_check"); err != nil {
+						t.Fatal(err)
+					}
+				}
 				tamper(t, l, tc.sql)
 			}
 			res, err = l.Verify(ctx)
