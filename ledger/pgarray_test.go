@@ -7,7 +7,6 @@ import (
 	"slices"
 	"testing"
 
-
 	"hulltally/ledger"
 )
 
