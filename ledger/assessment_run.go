@@ -6,7 +6,6 @@ import (
 	"encoding/json"
 	"fmt"
 	"sort"
-	"strings"
 	"time"
 
 	"github.com/google/uuid"
@@ -51,9 +50,6 @@ func (l *Ledger) Assess(ctx context.Context, o AssessOptions) ([]AssessResult, e
 	var err error
 	if o.Actor, err = l.actorFor(o.Actor); err != nil {
 		return nil, err
-	}
-	if strings.TrimSpace(o.Actor) == "" {
-		return nil, fmt.Errorf("assess: the actor is required")
 	}
 	if o.Reason == "" {
 		o.Reason = "re-assessment"

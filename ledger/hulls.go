@@ -155,9 +155,6 @@ func (l *Ledger) AddHull(ctx context.Context, h *spec.Hull, o AddHullOptions) (*
 	if o.Actor, err = l.actorFor(o.Actor); err != nil {
 		return nil, err
 	}
-	if strings.TrimSpace(o.Actor) == "" {
-		return nil, errors.New("adding a hull: the actor (who records it) is required")
-	}
 	if o.Revise && strings.TrimSpace(o.Reason) == "" {
 		return nil, errors.New("revising a hull spec: a reason is required")
 	}

@@ -403,6 +403,12 @@ func (l *Ledger) ProofTestWithSamples(ctx context.Context, serial string, p Proo
 	if req.Samples == "" && req.Upload == nil {
 		return l.RecordProofTest(ctx, serial, p)
 	}
+	// A name that is not who is signed in is refused before the file is
+	// read, not after it was parsed and stored in a transaction.
+	var err error
+	if p.Actor, err = l.actorFor(p.Actor); err != nil {
+		return nil, err
+	}
 	req.proof = &p
 	d, err := l.LogDive(ctx, req)
 	if err != nil {

@@ -46,7 +46,7 @@ func ParseRole(s string) (Role, error) {
 // Identity is who the ledger's connection is: a person (a login role in
 // one of the groups), or the owner of the ledger's tables (who runs the
 // migrations; on the managed local cluster, the local user), who may do
-// everything and whose records carry the actor given.
+// everything. Either way, records carry Name (actorFor).
 type Identity struct {
 	// Name is the database identity (current_user).
 	Name string `json:"name"`

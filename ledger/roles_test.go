@@ -11,6 +11,7 @@ import (
 	"testing"
 	"time"
 
+	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/ledger"
@@ -302,6 +303,7 @@ func TestOwnerRecordsCarryItsLogin(t *testing.T) {
 	}
 	at := time.Now().UTC().Add(-time.Hour)
 	sp := exampleSpec(t)
+	voids := 0
 	for what, write := range map[string]func(actor string) (string, error){
 		"hull revision": func(a string) (string, error) {
 			rec, err := owner.AddHull(ctx, sp, ledger.AddHullOptions{Actor: a, Revise: true, Reason: "re-issued"})
@@ -338,6 +340,18 @@ func TestOwnerRecordsCarryItsLogin(t *testing.T) {
 			}
 			return c.Actor, nil
 		},
+		"void": func(a string) (string, error) {
+			voids++ // a dive of its own each time, a year earlier
+			d, err := owner.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, fmt.Sprintf("v%d.csv", voids), strings.ReplaceAll(goodDive, "2026-", fmt.Sprintf("%d-", 2026-voids)))})
+			if err != nil {
+				return "", err
+			}
+			v, err := owner.VoidDive(ctx, d.ID.String(), "logged to the wrong hull", a)
+			if err != nil {
+				return "", err
+			}
+			return v.Actor, nil
+		},
 		"assessment": func(a string) (string, error) {
 			if _, err := owner.Assess(ctx, ledger.AssessOptions{Hull: serial, Actor: a, Reason: "again"}); err != nil {
 				return "", err
@@ -366,10 +380,48 @@ func TestOwnerRecordsCarryItsLogin(t *testing.T) {
 		t.Fatalf("records whose actor is not the owner's login: %d (%v)", n, err)
 	}
 	// The database's own word, with the application bypassed.
-	_, err = owner.Pool().Exec(ctx, `INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
-		SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'Chief Eng.', now() FROM hulls LIMIT 1`)
-	if !ledger.IsNotPermitted(err) || !strings.Contains(err.Error(), "identity") {
-		t.Fatalf("the owner's raw insert naming someone else as the actor: %v, want refused by the database", err)
+	for _, sql := range []string{
+		`INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
+			SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'Chief Eng.', now() FROM hulls LIMIT 1`,
+		`INSERT INTO decisions (id, hull_id, at, kind, actor, reason, recorded_at)
+			SELECT gen_random_uuid(), id, now(), 'withdraw', 'Chief Eng.', 'lay-up', now() FROM hulls LIMIT 1`,
+		`INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at)
+			SELECT gen_random_uuid(), hull_id, id, 'forged', 'Chief Eng.', now() FROM dives WHERE id NOT IN (SELECT dive_id FROM dive_voids) LIMIT 1`,
+	} {
+		if _, err := owner.Pool().Exec(ctx, sql); !ledger.IsNotPermitted(err) || !strings.Contains(err.Error(), "identity") {
+			t.Fatalf("the owner's raw insert naming someone else as the actor: %v, want refused by the database\n%s", err, sql)
+		}
+	}
+	// A role in the owner's group that cannot sign in, reached by SET
+	// ROLE: its name is one nobody signed in as, and the database refuses
+	// it as an actor and as who logged a dive.
+	ghost := "ghost-" + strings.ReplaceAll(uuid.NewString()[:8], "-", "")
+	var tablesOwner string
+	if err := owner.Pool().QueryRow(ctx, "SELECT relowner::regrole::text FROM pg_class WHERE oid = 'public.hulls'::regclass").Scan(&tablesOwner); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := owner.Pool().Exec(ctx, "CREATE ROLE "+pgx.Identifier{ghost}.Sanitize()+" NOLOGIN IN ROLE "+tablesOwner); err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(func() {
+		_, _ = owner.Pool().Exec(context.Background(), "DROP ROLE IF EXISTS "+pgx.Identifier{ghost}.Sanitize())
+	})
+	for _, sql := range []string{
+		`INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at)
+			SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', current_user, now() FROM hulls LIMIT 1`,
+		`INSERT INTO dives SELECT * FROM jsonb_populate_record(NULL::dives,
+			(SELECT to_jsonb(d) || jsonb_build_object('id', gen_random_uuid(), 'recorded_by', current_user) FROM dives d LIMIT 1))`,
+	} {
+		err := pgx.BeginFunc(ctx, owner.Pool(), func(tx pgx.Tx) error {
+			if _, err := tx.Exec(ctx, "SET LOCAL ROLE "+pgx.Identifier{ghost}.Sanitize()); err != nil {
+				return err
+			}
+			_, err := tx.Exec(ctx, sql)
+			return err
+		})
+		if !ledger.IsNotPermitted(err) || !strings.Contains(err.Error(), "cannot sign in") {
+			t.Fatalf("a record made as %s, a NOLOGIN role in the owner's group: %v, want refused by the database", ghost, err)
+		}
 	}
 	if res, err := owner.Verify(ctx); err != nil || !res.OK {
 		t.Fatalf("verify: %v %+v", err, res.FirstBroken)

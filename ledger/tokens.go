@@ -152,6 +152,40 @@ func (l *Ledger) As(ctx context.Context, person string, maxConns int32) (*Ledger
 	return &s, nil
 }
 
+// OpenAs opens the same ledger signed in as a person with their own
+// password, checked by the server (SCRAM required, as for SignIn): the
+// database authenticated them, so what they record carries their name on
+// their own sign-in rather than on the caller's SET ROLE. A wrong
+// password, the owner or a group is ErrBadPassword. Close it after use.
+func (l *Ledger) OpenAs(ctx context.Context, name, password string, maxConns int32) (*Ledger, error) {
+	if name == "" || password == "" {
+		return nil, ErrBadPassword
+	}
+	pc := l.pool.Config().Copy()
+	pc.MaxConns = maxConns
+	pc.ConnConfig.User, pc.ConnConfig.Password = name, password
+	pc.ConnConfig.RequireAuth = "scram-sha-256"
+	pool, err := pgxpool.NewWithConfig(ctx, pc)
+	if err != nil {
+		return nil, err
+	}
+	s := *l
+	s.pool, s.db = pool, pool
+	if s.identity, err = readIdentity(ctx, pool); err != nil {
+		pool.Close()
+		var pe *pgconn.PgError
+		if errors.As(err, &pe) && (pe.Code == "28P01" || pe.Code == "28000") {
+			return nil, ErrBadPassword
+		}
+		return nil, err
+	}
+	if s.identity.Name != name || s.identity.Owner || s.identity.Role == "" {
+		pool.Close()
+		return nil, ErrBadPassword
+	}
+	return &s, nil
+}
+
 // ErrBadPassword is a sign-in refused: an unknown person, a wrong
 // password, or a person who can no longer sign in. The caller says no
 // more than that.

@@ -34,22 +34,23 @@ func (a *app) demoCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			people, err := a.demoPeople(cmd, l)
+			people, passwords, err := a.demoPeople(cmd, l)
 			if err != nil {
 				return err
 			}
 			o := demo.Options{Dir: filepath.Join(a.cfg.Home, "demo"), DivesPerHull: dives, SampleHz: hz, Log: a.errOut}
 			if people != "" {
-				// The demo's records are made by its people, each in their
-				// role, and carry their names.
-				if o.Maintenance, err = l.As(cmd.Context(), "demo-maintenance", 2); err != nil {
-					return fmt.Errorf("demo: acting as demo-maintenance: %w", err)
+				// The demo's records are made by its people, each signed in
+				// with their own password, and carry their names.
+				maint, ops, err := a.demoSignIn(cmd, l, passwords)
+				if err != nil {
+					return err
 				}
-				defer o.Maintenance.Close()
-				if o.Operator, err = l.As(cmd.Context(), "demo-operator", 2); err != nil {
-					return fmt.Errorf("demo: acting as demo-operator: %w", err)
+				if maint != nil {
+					defer maint.Close()
+					defer ops.Close()
+					o.Maintenance, o.Operator = maint, ops
 				}
-				defer o.Operator.Close()
 			}
 			sum, err := demo.Run(cmd.Context(), l, o)
 			if err != nil {
@@ -204,18 +205,18 @@ func (a *app) demoSigner() (*sign.Signer, error) {
 const demoPeopleFile = "demo-people.txt"
 
 // demoPeople adds, on the managed cluster only, one invented person per
-// role for the web pages (demo-operator, demo-maintenance,
-// demo-inspector) with generated passwords kept in <home>/demo-people.txt
-// (0600). People already there keep their passwords. On a database of
-// someone else's (database.url) the demo adds no login roles: it returns
-// "".
-func (a *app) demoPeople(cmd *cobra.Command, l *ledger.Ledger) (string, error) {
+// role (demo-operator, demo-maintenance, demo-inspector) with generated
+// passwords kept in <home>/demo-people.txt (0600), for the web pages and
+// for the demo's own records. People already there keep their passwords.
+// It returns the file and the passwords in it. On a database of someone
+// else's (database.url) the demo adds no login roles: it returns "".
+func (a *app) demoPeople(cmd *cobra.Command, l *ledger.Ledger) (string, map[string]string, error) {
 	if a.cfg.Database.URL != "" {
-		return "", nil
+		return "", nil, nil
 	}
 	have, err := l.People(cmd.Context())
 	if err != nil {
-		return "", err
+		return "", nil, err
 	}
 	path := filepath.Join(a.cfg.Home, demoPeopleFile)
 	var lines []string
@@ -226,22 +227,56 @@ func (a *app) demoPeople(cmd *cobra.Command, l *ledger.Ledger) (string, error) {
 		}
 		p, err := l.AddPerson(cmd.Context(), name, role, "")
 		if err != nil {
-			return "", err
+			return "", nil, err
 		}
 		lines = append(lines, fmt.Sprintf("%s\t%s\t%s\n", p.Name, p.Role, p.Password))
 	}
 	if len(lines) > 0 {
 		f, err := os.OpenFile(path, os.O_CREATE|os.O_APPEND|os.O_WRONLY, 0o600)
 		if err != nil {
-			return "", err
+			return "", nil, err
 		}
 		if _, err := f.WriteString(strings.Join(lines, "")); err != nil {
 			f.Close()
-			return "", err
+			return "", nil, err
 		}
 		if err := f.Close(); err != nil {
-			return "", err
+			return "", nil, err
 		}
 	}
-	return path, nil
+	text, err := os.ReadFile(path)
+	if err != nil && !errors.Is(err, os.ErrNotExist) {
+		return "", nil, err
+	}
+	passwords := map[string]string{}
+	for _, line := range strings.Split(string(text), "\n") {
+		if f := strings.Split(line, "\t"); len(f) == 3 {
+			passwords[f[0]] = f[2] // the last line for a name wins
+		}
+	}
+	return path, passwords, nil
+}
+
+// demoSignIn signs demo-maintenance and demo-operator in with their
+// passwords. When either cannot sign in (the password file lost or
+// edited, the person disabled), it says so and returns nil ledgers: the
+// demo's records then carry the owner's login, not a name nobody signed
+// in as.
+func (a *app) demoSignIn(cmd *cobra.Command, l *ledger.Ledger, passwords map[string]string) (maint, ops *ledger.Ledger, err error) {
+	open := func(name string) (*ledger.Ledger, error) {
+		p, err := l.OpenAs(cmd.Context(), name, passwords[name], 2)
+		if errors.Is(err, ledger.ErrBadPassword) {
+			fmt.Fprintf(a.errOut, "demo: %s could not sign in with the password in %s; the demo's records carry %s instead\n", name, demoPeopleFile, l.Identity().Name)
+			return nil, nil
+		}
+		return p, err
+	}
+	if maint, err = open("demo-maintenance"); err != nil || maint == nil {
+		return nil, nil, err
+	}
+	if ops, err = open("demo-operator"); err != nil || ops == nil {
+		maint.Close()
+		return nil, nil, err
+	}
+	return maint, ops, nil
 }

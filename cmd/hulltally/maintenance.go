@@ -85,7 +85,7 @@ func (a *app) prooftestCmd() *cobra.Command {
 				return err
 			}
 			defer l.Close()
-			req := ledger.LogRequest{Hull: args[0], Samples: samples, AE: ae, Site: "proof test", Operator: p.Actor}
+			req := ledger.LogRequest{Hull: args[0], Samples: samples, AE: ae, Site: "proof test", Operator: l.Identity().Name}
 			if samples != "" {
 				if err := a.fillLog(&req, lat, start); err != nil {
 					return err

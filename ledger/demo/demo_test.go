@@ -5,6 +5,7 @@ import (
 	"context"
 	"crypto/rand"
 	"encoding/hex"
+	"errors"
 	"io/fs"
 	"os"
 	"path/filepath"
@@ -118,10 +119,12 @@ func TestConcurrentDemos(t *testing.T) {
 	}
 }
 
-// TestDemoAsItsPeople: given people to act as, the demo's maintenance
-// records carry the maintenance person's name and its dives the
-// operator's (never a typed name), and the owner has noted every hull so
-// the fleet summary stands and verify is clean.
+// TestDemoAsItsPeople: given people signed in with their own passwords,
+// the demo's maintenance records carry the maintenance person's name and
+// its dives the operator's (the proof test's dive, maintenance's), each
+// dive's assessment the name of who logged it, never a typed name; the
+// owner has noted every hull so the fleet summary stands and verify is
+// clean. Ledger.OpenAs refuses a wrong password and the owner.
 func TestDemoAsItsPeople(t *testing.T) {
 	owner := srv.Open(t)
 	ctx := context.Background()
@@ -129,48 +132,73 @@ func TestDemoAsItsPeople(t *testing.T) {
 	_, _ = rand.Read(b)
 	as := func(role ledger.Role) (*ledger.Ledger, string) {
 		name := "demo-test-" + string(role) + "-" + hex.EncodeToString(b)
-		if _, err := owner.AddPerson(ctx, name, role, ""); err != nil {
+		p, err := owner.AddPerson(ctx, name, role, "")
+		if err != nil {
 			t.Fatal(err)
 		}
 		t.Cleanup(func() {
 			_, _ = owner.Pool().Exec(context.Background(), "DROP OWNED BY "+pgx.Identifier{name}.Sanitize())
 			_, _ = owner.Pool().Exec(context.Background(), "DROP ROLE IF EXISTS "+pgx.Identifier{name}.Sanitize())
 		})
-		l, err := owner.As(ctx, name, 2)
+		if _, err := owner.OpenAs(ctx, name, p.Password+"x", 1); !errors.Is(err, ledger.ErrBadPassword) {
+			t.Fatalf("%s with a wrong password: %v, want ErrBadPassword", name, err)
+		}
+		l, err := owner.OpenAs(ctx, name, p.Password, 2)
 		if err != nil {
 			t.Fatal(err)
 		}
 		t.Cleanup(l.Close)
 		return l, name
 	}
+	if _, err := owner.OpenAs(ctx, owner.Identity().Name, "anything", 1); !errors.Is(err, ledger.ErrBadPassword) {
+		t.Fatalf("the owner through OpenAs: %v, want ErrBadPassword", err)
+	}
 	maint, mName := as(ledger.RoleMaintenance)
 	ops, oName := as(ledger.RoleOperator)
 	if _, err := demo.Run(ctx, owner, demo.Options{Dir: t.TempDir(), DivesPerHull: 3, SampleHz: 0.1, Maintenance: maint, Operator: ops}); err != nil {
 		t.Fatal(err)
 	}
-	var bad []string
+	type who struct{ Table, Name string }
 	rows, err := owner.Pool().Query(ctx, `SELECT 'hull_revisions', actor FROM hull_revisions UNION ALL SELECT 'inspections', actor FROM inspections
-		UNION ALL SELECT 'proof_tests', actor FROM proof_tests UNION ALL SELECT 'dives', recorded_by FROM dives`)
+		UNION ALL SELECT 'proof_tests', actor FROM proof_tests
+		UNION ALL SELECT CASE WHEN EXISTS (SELECT 1 FROM proof_tests p WHERE p.dive_id = d.id) THEN 'proof test dives' ELSE 'dives' END, recorded_by FROM dives d
+		UNION ALL SELECT 'dive assessments by their logger', CASE WHEN a.actor = d.recorded_by THEN 'yes' ELSE a.actor END
+			FROM assessments a JOIN assessment_damage x ON x.assessment_id = a.id AND x.hull_id = a.hull_id
+			JOIN dives d ON d.hull_id = a.hull_id AND d.id = x.dive_ids[cardinality(x.dive_ids)]
+			WHERE a.kind = 'dive'`)
 	if err != nil {
 		t.Fatal(err)
 	}
-	counts := map[string]int{}
-	for rows.Next() {
-		var table, who string
-		if err := rows.Scan(&table, &who); err != nil {
-			t.Fatal(err)
+	got, err := pgx.CollectRows(rows, pgx.RowToStructByPos[who])
+	if err != nil {
+		t.Fatal(err)
+	}
+	counts := map[who]int{}
+	for _, w := range got {
+		counts[w]++
+	}
+	want := map[who]int{
+		{"hull_revisions", mName}: 3, {"inspections", mName}: 3, {"proof_tests", mName}: 3,
+		{"proof test dives", mName}: 1, {"dives", oName}: 9,
+	}
+	for w, n := range counts {
+		if w.Table == "dive assessments by their logger" {
+			if w.Name != "yes" {
+				t.Errorf("a dive's assessment by %s, not by who logged the dive", w.Name)
+			}
+			continue
 		}
-		counts[table]++
-		want := mName
-		if table == "dives" {
-			want = oName
-		}
-		if who != want && !(table == "dives" && who == mName) { // a proof test's samples are logged by maintenance
-			bad = append(bad, table+": "+who)
+		if want[w] != n {
+			t.Errorf("%d %s by %s, want %d", n, w.Table, w.Name, want[w])
 		}
 	}
-	if rows.Err() != nil || len(bad) > 0 || counts["inspections"] != 3 || counts["proof_tests"] != 3 || counts["dives"] != 10 {
-		t.Fatalf("records %v, not made by the demo's people: %v (%v)", counts, bad, rows.Err())
+	for w, n := range want {
+		if counts[w] != n {
+			t.Errorf("%s by %s: %d, want %d", w.Table, w.Name, counts[w], n)
+		}
+	}
+	if counts[who{"dive assessments by their logger", "yes"}] == 0 {
+		t.Error("no dive assessment was checked")
 	}
 	var withSummary int
 	if err := owner.Pool().QueryRow(ctx, "SELECT count(*) FROM fleet_summary").Scan(&withSummary); err != nil || withSummary != 3 {
