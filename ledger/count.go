@@ -2,6 +2,7 @@ package ledger
 
 import (
 	"context"
+	"errors"
 	"fmt"
 
 	"github.com/google/uuid"
@@ -246,27 +247,56 @@ func storeProfile(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, p *profi
 		gauges = []string{}
 	}
 	_, err := tx.Exec(ctx, `INSERT INTO dive_profiles (dive_id, hull_id, step_s, time_s, pressure_mpa, gauges, strain_ue) VALUES ($1,$2,$3,$4,$5,$6,$7)`,
-		dive, hull, p.step, p.TimeS, p.Press, gauges, flatStrain(p))
+		dive, hull, p.step, appendFloat8Sent(nil, p.TimeS), appendFloat8Sent(nil, p.Press), gauges, appendFloat8Sent(nil, flatStrain(p)))
 	if err != nil {
 		return chainRec{}, fmt.Errorf("storing the dive profile: %w", err)
 	}
 	return chainRec{kind: "dive_profile", key: dive.String(), canon: profileCanon(dive, p)}, nil
 }
 
+// fromSent fills the profile's series from their stored bytes (migration
+// 019), the profile's gauges already read; a stored form it cannot read,
+// or series that do not pair up, is returned as a finding (the ledger
+// never stores one: the record was changed).
+func (p *profileAcc) fromSent(ts, press, strain []byte) string {
+	var flat []float64
+	var err error
+	if p.TimeS, err = appendFloat8Array(p.TimeS[:0], ts); err == nil {
+		if p.Press, err = appendFloat8Array(p.Press[:0], press); err == nil {
+			flat, err = appendFloat8Array(nil, strain)
+		}
+	}
+	if err != nil {
+		return fmt.Sprintf("profile: %v (the stored record was changed)", err)
+	}
+	n := len(p.TimeS)
+	if len(p.Press) != n {
+		return fmt.Sprintf("profile has %d times and %d pressures (the stored record was changed)", n, len(p.Press))
+	}
+	if len(flat) != n*len(p.gauges) {
+		return fmt.Sprintf("profile strain has %d values for %d gauges × %d points", len(flat), len(p.gauges), n)
+	}
+	p.Strain = p.Strain[:0]
+	for g := range p.gauges {
+		p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
+	}
+	return ""
+}
+
+// errProfileChanged is a stored profile hulltally cannot read as one: it
+// was changed (verify reports it as a broken record).
+var errProfileChanged = errors.New("the stored profile is not one hulltally wrote")
+
 // loadProfile reads a dive's stored profile.
 func loadProfile(ctx context.Context, q querier, dive uuid.UUID) (*profileAcc, error) {
 	p := &profileAcc{}
-	var flat []float64
-	err := q.QueryRow(ctx, "SELECT step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1", dive).Scan(&p.step, &p.TimeS, &p.Press, &p.gauges, &flat)
+	var ts, press, strain []byte
+	err := q.QueryRow(ctx, "SELECT step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1", dive).Scan(&p.step, &ts, &press, &p.gauges, &strain)
 	if err != nil {
 		return nil, err
 	}
-	n := len(p.TimeS)
-	if len(flat) != n*len(p.gauges) {
-		return nil, fmt.Errorf("dive %s: profile strain has %d values for %d gauges × %d points", dive, len(flat), len(p.gauges), n)
-	}
-	for g := range p.gauges {
-		p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
+	if why := p.fromSent(ts, press, strain); why != "" {
+		return nil, fmt.Errorf("dive %s: %w: %s", dive, errProfileChanged, why)
 	}
 	return p, nil
 }

@@ -24,5 +24,6 @@ func (l *Ledger) EvaluateAcross(ctx context.Context, serial string, at time.Time
 var (
 	AppendFloat8Array = appendFloat8Array
 	Float8Column      = float8Column
+	AppendFloat8Sent  = appendFloat8Sent
 	ErrFloat8Array    = errFloat8Array
 )

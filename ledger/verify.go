@@ -828,33 +828,18 @@ func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) er
 }
 
 func batchProfiles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
-	a := make([][]float64, 3) // reused from row to row
+	p := &profileAcc{} // its series reused from row to row
 	return each(ctx, q, "dive profiles", "SELECT dive_id, step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
 		var id uuid.UUID
-		p := &profileAcc{}
-		if err := rows.Scan(&id, &p.step, nil, nil, &p.gauges, nil); err != nil {
+		// The stored bytes, valid until the next row: decoded at once.
+		var ts, press, strain pgtype.DriverBytes
+		if err := rows.Scan(&id, &p.step, &ts, &press, &p.gauges, &strain); err != nil {
 			return err
 		}
-		why, err := float8Columns(rows, a, 2, 3, 5)
-		if err != nil {
-			return err
-		}
-		if why != "" {
-			b.stored["dive_profile"]++
+		b.stored["dive_profile"]++
+		if why := p.fromSent(ts, press, strain); why != "" {
 			b.settle("dive_profile", id.String(), nil, 0, why, nil)
 			return nil
-		}
-		var flat []float64
-		p.TimeS, p.Press, flat = a[0], a[1], a[2]
-		b.stored["dive_profile"]++
-		n := len(p.TimeS)
-		if len(flat) != n*len(p.gauges) {
-			// As the record's own read reports it.
-			b.settle("dive_profile", id.String(), nil, 0, "", fmt.Errorf("dive %s: profile strain has %d values for %d gauges × %d points", id, len(flat), len(p.gauges), n))
-			return nil
-		}
-		for g := range p.gauges {
-			p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
 		}
 		b.settle("dive_profile", id.String(), profileCanon(id, p), 0, "", nil)
 		return nil
@@ -1286,6 +1271,9 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		p, err := loadProfile(ctx, q, id)
 		if err == pgx.ErrNoRows {
 			return nil, 0, "dive profile is missing", nil
+		}
+		if errors.Is(err, errProfileChanged) {
+			return nil, 0, err.Error(), nil
 		}
 		if err != nil {
 			return nil, 0, "", err

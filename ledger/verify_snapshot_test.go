@@ -234,7 +234,9 @@ func TestTamperJudgedRecords(t *testing.T) {
 		// longer pair up (found broken, not a crash of verify).
 		{"cut the durations of a time at pressure", "UPDATE dive_holds SET seconds = seconds[2:] WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
 		{"lower one time at pressure", "UPDATE dive_holds SET seconds[1] = seconds[1] / 2 WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
-		{"put a NULL into a profile", "UPDATE dive_profiles SET pressure_mpa[1] = NULL WHERE " + row("dive_profiles", "WHERE cardinality(pressure_mpa) > 0"), "dive_profile"},
+		{"cut a profile short", "UPDATE dive_profiles SET pressure_mpa = substring(pressure_mpa FROM 1 FOR length(pressure_mpa) - 4), time_s = substring(time_s FROM 1 FOR length(time_s) - 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"change one pressure of a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x3f'::bytea FROM length(pressure_mpa) - 7 FOR 1) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"put a NULL into a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\xffffffff'::bytea FROM 21 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
 		// Evidence revisions: the latest is the evidence in force.
 		{"edit an evidence revision", "UPDATE evidence_revisions SET evidence_json = evidence_json || ' ' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
 		{"edit the cause of a revision", "UPDATE evidence_revisions SET cause = 'routine' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
