@@ -214,7 +214,14 @@ func (l *Ledger) backfillDive(ctx context.Context, h *Hull, dive uuid.UUID, hdr 
 }
 
 func profileCanon(dive uuid.UUID, p *profileAcc) []byte {
-	c := newCanon("dive_profile")
+	return appendProfileCanon(nil, dive, p)
+}
+
+// appendProfileCanon appends the profile's canonical bytes to dst (verify
+// reuses one buffer for every profile of a hull).
+func appendProfileCanon(dst []byte, dive uuid.UUID, p *profileAcc) []byte {
+	c := &canon{b: dst}
+	c.str("dive_profile")
 	c.uuid(dive)
 	c.f64(p.step)
 	c.i64(int64(len(p.TimeS)))
@@ -259,13 +266,13 @@ func storeProfile(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, p *profi
 // or series that do not pair up, is returned as a finding (the ledger
 // never stores one: the record was changed).
 func (p *profileAcc) fromSent(ts, press, strain []byte) string {
-	var flat []float64
 	var err error
 	if p.TimeS, err = appendFloat8Array(p.TimeS[:0], ts); err == nil {
 		if p.Press, err = appendFloat8Array(p.Press[:0], press); err == nil {
-			flat, err = appendFloat8Array(nil, strain)
+			p.flat, err = appendFloat8Array(p.flat[:0], strain)
 		}
 	}
+	flat := p.flat
 	if err != nil {
 		return fmt.Sprintf("profile: %v (the stored record was changed)", err)
 	}

@@ -3,10 +3,12 @@ package ledger_test
 import (
 	"bytes"
 	"context"
+	"encoding/binary"
 	"errors"
 	"fmt"
 	"math"
 	"slices"
+	"strings"
 	"testing"
 
 	"github.com/jackc/pgx/v5"
@@ -33,7 +35,6 @@ func TestFloat8ArrayMatchesPgx(t *testing.T) {
 		"ARRAY[1.5]::float8[]",
 		"ARRAY['NaN', '-0', 'Infinity', '-Infinity', 1e-310, 1.7976931348623157e308]::float8[]",
 		"(SELECT array_agg(i * 0.1) FROM generate_series(1, 100000) i)::float8[]",
-		"'[5:7]={1,2,3}'::float8[]",
 	} {
 		rows, err := l.Pool().Query(ctx, "SELECT "+expr+", "+expr)
 		if err != nil {
@@ -55,7 +56,7 @@ func TestFloat8ArrayMatchesPgx(t *testing.T) {
 			t.Fatalf("%s: decoded differently from pgx", expr)
 		}
 	}
-	for _, expr := range []string{"ARRAY[1, NULL, 3]::float8[]", "NULL::float8[]", "'{{1,2},{3,4}}'::float8[]", "ARRAY[1, 2]::float4[]"} {
+	for _, expr := range []string{"ARRAY[1, NULL, 3]::float8[]", "NULL::float8[]", "'[5:7]={1,2,3}'::float8[]", "'{{1,2},{3,4}}'::float8[]", "ARRAY[1, 2]::float4[]"} {
 		rows, err := l.Pool().Query(ctx, "SELECT "+expr)
 		if err != nil {
 			t.Fatal(err)
@@ -78,6 +79,19 @@ func TestFloat8ArrayMatchesPgx(t *testing.T) {
 	for n := 0; n < len(whole); n++ {
 		if got, err := ledger.AppendFloat8Array(nil, whole[:n]); !errors.Is(err, ledger.ErrFloat8Array) {
 			t.Fatalf("cut to %d bytes: read as %v", n, got)
+		}
+	}
+	// The header changed where the values would read the same, or so as
+	// to claim more elements than there are: refused.
+	for _, c := range []struct {
+		what string
+		at   int
+		to   uint32
+	}{{"NULL flag set", 4, 1}, {"lower bound 5", 16, 5}, {"lower bound 0", 16, 0}, {"no elements", 12, 0}, {"a huge count", 12, 0x15555556}, {"a negative count", 12, 0xffffffff}} {
+		b := slices.Clone(whole)
+		binary.BigEndian.PutUint32(b[c.at:], c.to)
+		if got, err := ledger.AppendFloat8Array(nil, b); !errors.Is(err, ledger.ErrFloat8Array) {
+			t.Errorf("%s: read as %v (%v), want refused", c.what, got, err)
 		}
 	}
 }
@@ -166,7 +180,10 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	err = pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
+	// asBefore puts the profile back as the schema before 019 kept it,
+	// with pressures given by the SQL expression press ($1: the values),
+	// then runs the migration.
+	asBefore := func(tx pgx.Tx, press string) error {
 		for _, s := range []string{
 			"SET CONSTRAINTS ALL IMMEDIATE",
 			"ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_points",
@@ -177,7 +194,7 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 				return fmt.Errorf("%s: %w", s, err)
 			}
 		}
-		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = $3, strain_ue = $4 WHERE dive_id = $1", d.ID, before.TimeS, before.PressureMPa, strain); err != nil {
+		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = "+press+", strain_ue = $4 WHERE dive_id = $1", d.ID, before.TimeS, before.PressureMPa, strain); err != nil {
 			return err
 		}
 		if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles ENABLE TRIGGER USER"); err != nil {
@@ -185,9 +202,21 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 		}
 		_, err := tx.Exec(ctx, string(sql))
 		return err
-	})
-	if err != nil {
+	}
+	// A form hulltally never stores is refused by the migration, not
+	// carried over into bytes (the table is left as it was).
+	for _, bad := range []string{"array_append($3::float8[], NULL)", "ARRAY[$3::float8[], $3::float8[]]", "('[2:' || cardinality($3::float8[]) + 1 || ']=' || $3::float8[]::text)::float8[]"} {
+		err := pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error { return asBefore(tx, bad) })
+		if err == nil || !strings.Contains(err.Error(), "migration 019") {
+			t.Fatalf("migrating pressures %s: %v, want refused by the migration", bad, err)
+		}
+	}
+	if err := pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error { return asBefore(tx, "$3") }); err != nil {
 		t.Fatal(err)
+	}
+	var stored []byte
+	if err := l.Pool().QueryRow(ctx, "SELECT pressure_mpa FROM dive_profiles WHERE dive_id = $1", d.ID).Scan(&stored); err != nil || !bytes.Equal(stored, ledger.AppendFloat8Sent(nil, before.PressureMPa)) {
+		t.Fatalf("the migrated pressures are not the bytes hulltally writes (%v)", err)
 	}
 	after, err := l.ProfileOf(ctx, d.ID)
 	if err != nil || after == nil {

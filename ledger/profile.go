@@ -17,6 +17,9 @@ type profileAcc struct {
 	TimeS  []float64
 	Press  []float64
 	Strain [][]float64 // per gauge
+	// flat is the strain of every gauge end to end, as stored; Strain's
+	// series are slices of it.
+	flat []float64
 }
 
 // Profile is a dive's stored decimated profile.

@@ -412,6 +412,9 @@ type hullBatch struct {
 	// stored is the number of rows of each kind the hull's tables hold,
 	// counted from the same reads (the count checks).
 	stored map[string]int64
+	// scratch holds one record's canonical bytes at a time: settle hashes
+	// them at once, so the next record reuses the buffer.
+	scratch []byte
 }
 
 // settle records the verdict on the link of (kind, key), if the chain has
@@ -841,7 +844,8 @@ func batchProfiles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch)
 			b.settle("dive_profile", id.String(), nil, 0, why, nil)
 			return nil
 		}
-		b.settle("dive_profile", id.String(), profileCanon(id, p), 0, "", nil)
+		b.scratch = appendProfileCanon(b.scratch[:0], id, p)
+		b.settle("dive_profile", id.String(), b.scratch, 0, "", nil)
 		return nil
 	})
 }
@@ -1150,11 +1154,20 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 			var name, unit string
 			var gate float64
 			var chunk int32
-			var r, m, n []float64
-			if err := rows.Scan(&name, &unit, &gate, &chunk, &r, &m, &n); err != nil {
+			if err := rows.Scan(&name, &unit, &gate, &chunk, nil, nil, nil); err != nil {
 				return nil, 0, "", err
 			}
-			j.add(name, unit, gate, chunk, r, m, n)
+			// Read as the batch reads them (float8Columns), so that both
+			// paths judge a changed array alike.
+			a := make([][]float64, 3)
+			why, err := float8Columns(rows, a, 4, 5, 6)
+			if err != nil {
+				return nil, 0, "", err
+			}
+			if why != "" {
+				return nil, 0, why, nil
+			}
+			j.add(name, unit, gate, chunk, a[0], a[1], a[2])
 		}
 		if err := rows.Err(); err != nil {
 			return nil, 0, "", err
@@ -1284,17 +1297,33 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		if err != nil {
 			return nil, 0, "bad record key", nil
 		}
-		var bin float64
-		var lv, sec []float64
-		err = q.QueryRow(ctx, "SELECT bin_mpa, levels, seconds FROM dive_holds WHERE dive_id = $1", id).Scan(&bin, &lv, &sec)
-		if err == pgx.ErrNoRows {
-			return nil, 0, "time at pressure is missing", nil
-		}
+		rows, err := q.Query(ctx, "SELECT bin_mpa, levels, seconds FROM dive_holds WHERE dive_id = $1", id)
 		if err != nil {
 			return nil, 0, "", err
 		}
-		if len(lv) != len(sec) {
-			return nil, 0, holdsMismatch(lv, sec), nil
+		defer rows.Close()
+		if !rows.Next() {
+			if err := rows.Err(); err != nil {
+				return nil, 0, "", err
+			}
+			return nil, 0, "time at pressure is missing", nil
+		}
+		var bin float64
+		if err := rows.Scan(&bin, nil, nil); err != nil {
+			return nil, 0, "", err
+		}
+		// Read as the batch reads them (float8Columns).
+		a := make([][]float64, 2)
+		why, err := float8Columns(rows, a, 1, 2)
+		if err != nil {
+			return nil, 0, "", err
+		}
+		lv, sec := a[0], a[1]
+		if why == "" && len(lv) != len(sec) {
+			why = holdsMismatch(lv, sec)
+		}
+		if why != "" {
+			return nil, 0, why, nil
 		}
 		hs := make([]assess.Hold, len(lv))
 		for i := range lv {
