@@ -135,19 +135,29 @@ func (l *Ledger) As(ctx context.Context, person string, maxConns int32) (*Ledger
 		_, err := c.Exec(ctx, "SET ROLE "+role)
 		return err
 	}
+	return l.derived(ctx, pc, func(id Identity) error {
+		if id.Name != person || id.Owner {
+			return fmt.Errorf("acting as %s: the connection is %s", person, id.Name)
+		}
+		return nil
+	})
+}
+
+// derived opens the same ledger on a pool of config pc, as whoever pc
+// signs in as; check refuses an identity (the pool is closed then).
+func (l *Ledger) derived(ctx context.Context, pc *pgxpool.Config, check func(Identity) error) (*Ledger, error) {
 	pool, err := pgxpool.NewWithConfig(ctx, pc)
 	if err != nil {
 		return nil, err
 	}
 	s := *l
 	s.pool, s.db = pool, pool
-	if s.identity, err = readIdentity(ctx, pool); err != nil {
+	if s.identity, err = readIdentity(ctx, pool); err == nil {
+		err = check(s.identity)
+	}
+	if err != nil {
 		pool.Close()
 		return nil, err
-	}
-	if s.identity.Name != person || s.identity.Owner {
-		pool.Close()
-		return nil, fmt.Errorf("acting as %s: the connection is %s", person, s.identity.Name)
 	}
 	return &s, nil
 }
@@ -165,25 +175,17 @@ func (l *Ledger) OpenAs(ctx context.Context, name, password string, maxConns int
 	pc.MaxConns = maxConns
 	pc.ConnConfig.User, pc.ConnConfig.Password = name, password
 	pc.ConnConfig.RequireAuth = "scram-sha-256"
-	pool, err := pgxpool.NewWithConfig(ctx, pc)
-	if err != nil {
-		return nil, err
-	}
-	s := *l
-	s.pool, s.db = pool, pool
-	if s.identity, err = readIdentity(ctx, pool); err != nil {
-		pool.Close()
-		var pe *pgconn.PgError
-		if errors.As(err, &pe) && (pe.Code == "28P01" || pe.Code == "28000") {
-			return nil, ErrBadPassword
+	s, err := l.derived(ctx, pc, func(id Identity) error {
+		if id.Name != name || id.Owner || id.Role == "" {
+			return ErrBadPassword
 		}
-		return nil, err
-	}
-	if s.identity.Name != name || s.identity.Owner || s.identity.Role == "" {
-		pool.Close()
+		return nil
+	})
+	var pe *pgconn.PgError
+	if errors.As(err, &pe) && (pe.Code == "28P01" || pe.Code == "28000") {
 		return nil, ErrBadPassword
 	}
-	return &s, nil
+	return s, err
 }
 
 // ErrBadPassword is a sign-in refused: an unknown person, a wrong
