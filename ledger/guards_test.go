@@ -32,6 +32,13 @@ func guardExec(t *testing.T, l *ledger.Ledger, stmts ...string) {
 	}
 }
 
+// typedInspection and typedDive insert records naming someone who did
+// not sign in: what the identity guards refuse.
+const (
+	typedInspection = "INSERT INTO inspections (id, hull_id, at, method, result, findings, actor, recorded_at) SELECT gen_random_uuid(), id, now(), 'visual', 'pass', '', 'Chief Eng.', now() FROM hulls LIMIT 1"
+	typedDive       = "INSERT INTO dives SELECT * FROM jsonb_populate_record(NULL::dives, (SELECT to_jsonb(d) || jsonb_build_object('id', gen_random_uuid(), 'recorded_by', 'Chief Eng.') FROM dives d LIMIT 1))"
+)
+
 // TestGuardsWatched: each way of taking an append-only guard down is
 // reported by verify (not OK, naming the trigger and the table), while
 // the chain itself still holds; Migrate puts the guard back and says so,
@@ -80,6 +87,26 @@ func TestGuardsWatched(t *testing.T) {
 				{Table: "dive_fingerprints", Trigger: "dive_fingerprints_no_truncate", Problem: ledger.GuardDisabled},
 			},
 			"UPDATE assessments SET reason = 'other'"},
+		// The identity guards (migrations 012, 016, 018): each edit is an
+		// insert naming someone who did not sign in.
+		{"disable an identity trigger", []string{"ALTER TABLE inspections DISABLE TRIGGER inspections_actor_is_identity"},
+			[]ledger.GuardFinding{{Table: "inspections", Trigger: "inspections_actor_is_identity", Problem: ledger.GuardDisabled}},
+			typedInspection},
+		{"drop the dives' recorded_by trigger", []string{"DROP TRIGGER dives_recorded_by ON dives"},
+			[]ledger.GuardFinding{{Table: "dives", Trigger: "dives_recorded_by", Problem: ledger.GuardMissing}},
+			typedDive},
+		{"identity trigger moved to UPDATE", []string{
+			"DROP TRIGGER dive_voids_actor_is_identity ON dive_voids",
+			"CREATE TRIGGER dive_voids_actor_is_identity BEFORE UPDATE ON dive_voids FOR EACH ROW EXECUTE FUNCTION ledger_actor_is_identity()"},
+			[]ledger.GuardFinding{{Table: "dive_voids", Trigger: "dive_voids_actor_is_identity", Problem: ledger.GuardAltered}},
+			"INSERT INTO dive_voids (id, hull_id, dive_id, reason, actor, recorded_at) SELECT gen_random_uuid(), hull_id, id, 'forged', 'Chief Eng.', now() FROM dives LIMIT 1"},
+		{"identity function replaced by one that lets any name through", []string{
+			"CREATE OR REPLACE FUNCTION ledger_actor_is_identity() RETURNS trigger LANGUAGE plpgsql SET search_path = pg_catalog, pg_temp AS $$ BEGIN RETURN NEW; END $$"},
+			[]ledger.GuardFinding{{Table: "", Trigger: "ledger_actor_is_identity", Problem: ledger.GuardAltered}},
+			"INSERT INTO decisions (id, hull_id, at, kind, actor, reason, recorded_at) SELECT gen_random_uuid(), id, now(), 'withdraw', 'Chief Eng.', 'lay-up', now() FROM hulls LIMIT 1"},
+		{"identity function's search_path reset", []string{"ALTER FUNCTION ledger_dive_recorded_by() RESET search_path"},
+			[]ledger.GuardFinding{{Table: "", Trigger: "ledger_dive_recorded_by", Problem: ledger.GuardAltered}},
+			typedDive},
 	}
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
@@ -108,7 +135,11 @@ func TestGuardsWatched(t *testing.T) {
 				t.Fatalf("guards %+v, want %+v", got, tc.want)
 			}
 			// Every chain holds: the first thing said is the guard.
-			if res.FirstBroken == nil || res.FirstBroken.Kind != "append_only_guard" || res.FirstBroken.Key != tc.want[0].Trigger {
+			kind := "append_only_guard"
+			if strings.Contains(tc.want[0].Trigger, "identity") || strings.Contains(tc.want[0].Trigger, "recorded_by") {
+				kind = "identity_guard"
+			}
+			if res.FirstBroken == nil || res.FirstBroken.Kind != kind || res.FirstBroken.Key != tc.want[0].Trigger {
 				t.Errorf("first broken %+v, want the guard %s", res.FirstBroken, tc.want[0].Trigger)
 			}
 			if !strings.Contains(res.Problem, tc.want[0].Trigger) || (tc.want[0].Table != "" && !strings.Contains(res.Problem, "table "+tc.want[0].Table)) {
@@ -139,8 +170,12 @@ func TestGuardsWatched(t *testing.T) {
 			// The guard refuses again.
 			_, err = l.Pool().Exec(ctx, tc.edit)
 			var pe *pgconn.PgError
-			if !errors.As(err, &pe) || pe.Code != "42501" || !strings.Contains(pe.Message, "append-only") {
-				t.Fatalf("%s after restore: %v, want refused as append-only", tc.edit, err)
+			refusal := "append-only"
+			if strings.HasPrefix(tc.edit, "INSERT") {
+				refusal = "identity"
+			}
+			if !errors.As(err, &pe) || pe.Code != "42501" || !strings.Contains(pe.Message, refusal) {
+				t.Fatalf("%s after restore: %v, want refused (%s)", tc.edit, err, refusal)
 			}
 			// Nothing left to restore.
 			if mr, err := l.Migrate(ctx); err != nil || len(mr.Restored) != 0 {

@@ -130,7 +130,8 @@ type MigrateResult struct {
 }
 
 // Migrate applies pending migrations under tern's advisory lock, then
-// restores the append-only guards: it recreates the trigger function
+// restores the append-only and identity guards: for the append-only
+// ones, it recreates the trigger function
 // ledger_append_only if it is missing or was replaced, creates any
 // missing <table>_append_only or <table>_no_truncate trigger with the SQL
 // of ledger_protect, recreates any altered one, and enables any disabled
@@ -158,7 +159,22 @@ func (l *Ledger) Migrate(ctx context.Context) (*MigrateResult, error) {
 		if err != nil {
 			return err
 		}
+		bodies, err := identityBodies()
+		if err != nil {
+			return err
+		}
 		for _, g := range found {
+			if stmts, ok := identityRepair(g, bodies); ok {
+				// An identity guard (its function listed before its
+				// triggers).
+				for _, stmt := range stmts {
+					if _, err := tx.Exec(ctx, stmt); err != nil {
+						return fmt.Errorf("restoring identity guard %s: %w", g.Trigger, err)
+					}
+				}
+				res.Restored = append(res.Restored, g)
+				continue
+			}
 			if g.Table == "" {
 				// The function, listed first: the triggers need it.
 				if _, err := tx.Exec(ctx, "CREATE OR REPLACE FUNCTION ledger_append_only() RETURNS trigger LANGUAGE plpgsql AS $hulltally$"+appendOnlyBody+"$hulltally$"); err != nil {

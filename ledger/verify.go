@@ -46,7 +46,7 @@ type VerifyResult struct {
 	// guards down the ledger can be edited in place, and a rewrite that
 	// recomputes a hull's later hashes is not caught by the chain alone.
 	// When every chain holds, FirstBroken then names the first finding
-	// (Kind "append_only_guard", Key the trigger) so that a reader of
+	// (Kind "append_only_guard" or "identity_guard", Key the trigger) so that a reader of
 	// FirstBroken alone still sees why the ledger is not OK.
 	Guards []GuardFinding `json:"guards"`
 	// Problem is the first thing to say when OK is false: the first
@@ -359,7 +359,7 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 			more = fmt.Sprintf(" (and %d more guard findings)", n)
 		}
 		if res.FirstBroken == nil {
-			res.FirstBroken = &Broken{Kind: "append_only_guard", Key: g.Trigger, Reason: g.Detail + more}
+			res.FirstBroken = &Broken{Kind: strings.ReplaceAll(g.Guard, "-", "_") + "_guard", Key: g.Trigger, Reason: g.Detail + more}
 			res.Problem = "ledger guard down: " + g.Detail + more + "; run `hulltally db migrate` to restore it, after finding out who turned it off"
 		} else {
 			res.Problem += "; and ledger guard down: " + g.Detail + more
@@ -1435,10 +1435,12 @@ func splitKey(key string) (uuid.UUID, int64, bool) {
 	return id, n, true
 }
 
-// GuardFinding is one append-only guard of the database that is not as the
-// migrations made it: a ledger table's trigger missing, disabled, or
-// altered, or the trigger function itself replaced.
+// GuardFinding is one guard of the database (append-only or identity)
+// that is not as the migrations made it: a ledger table's trigger
+// missing, disabled, or altered, or the trigger function itself replaced.
 type GuardFinding struct {
+	// Guard is which guard: GuardAppendOnly or GuardIdentity.
+	Guard string `json:"guard"`
 	// Table is the ledger table ("" for the trigger function).
 	Table string `json:"table"`
 	// Trigger is the trigger's name (<table>_append_only for UPDATE and
@@ -1450,6 +1452,16 @@ type GuardFinding struct {
 	// Detail says it in a sentence.
 	Detail string `json:"detail"`
 }
+
+// The guards a GuardFinding is about.
+const (
+	// GuardAppendOnly: the triggers that refuse UPDATE, DELETE and
+	// TRUNCATE of a ledger table.
+	GuardAppendOnly = "append-only"
+	// GuardIdentity: the triggers that make every record carry the
+	// identity that signed in (identity_guards.go).
+	GuardIdentity = "identity"
+)
 
 // The problems a GuardFinding names.
 const (
@@ -1505,7 +1517,8 @@ func foldSpace(s string) string { return strings.Join(strings.Fields(s), " ") }
 
 // checkGuards lists the append-only guards that are missing, disabled or
 // altered, in table order (row trigger before truncate trigger), the
-// trigger function first.
+// trigger function first; then the identity guards the same way
+// (checkIdentityGuards).
 func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 	var out []GuardFinding
 	var src *string
@@ -1516,10 +1529,10 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 	}
 	switch {
 	case src == nil:
-		out = append(out, GuardFinding{Trigger: "ledger_append_only", Problem: GuardMissing,
+		out = append(out, GuardFinding{Guard: GuardAppendOnly, Trigger: "ledger_append_only", Problem: GuardMissing,
 			Detail: "the trigger function ledger_append_only is missing: no ledger table is append-only"})
 	case foldSpace(*src) != foldSpace(appendOnlyBody):
-		out = append(out, GuardFinding{Trigger: "ledger_append_only", Problem: GuardAltered,
+		out = append(out, GuardFinding{Guard: GuardAppendOnly, Trigger: "ledger_append_only", Problem: GuardAltered,
 			Detail: "the trigger function ledger_append_only was replaced: it may no longer refuse UPDATE, DELETE and TRUNCATE"})
 	}
 	type trig struct {
@@ -1578,7 +1591,7 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 	}
 	for _, table := range all {
 		if !tables[table] {
-			out = append(out, GuardFinding{Table: table, Trigger: table + "_append_only", Problem: GuardTableMissing,
+			out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: table + "_append_only", Problem: GuardTableMissing,
 				Detail: fmt.Sprintf("ledger table %s is missing (dropped with its append-only triggers)", table)})
 			continue
 		}
@@ -1590,19 +1603,25 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 			tr, ok := trigs[table+"\x00"+name]
 			switch {
 			case !ok:
-				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardMissing,
+				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardMissing,
 					Detail: fmt.Sprintf("append-only trigger %s on table %s is missing: %s of its rows is not refused", name, table, want.what)})
 			case tr.typ != want.typ || tr.fn != "ledger_append_only":
-				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardAltered,
+				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardAltered,
 					Detail: fmt.Sprintf("append-only trigger %s on table %s was altered (runs %s, type %d; want ledger_append_only, type %d): %s may not be refused", name, table, tr.fn, tr.typ, want.typ, want.what)})
 			case tr.enabled != "O" && tr.enabled != "A":
 				// 'O' fires in ordinary sessions, 'A' always; 'D' never,
 				// 'R' only in replica sessions.
-				out = append(out, GuardFinding{Table: table, Trigger: name, Problem: GuardDisabled,
+				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardDisabled,
 					Detail: fmt.Sprintf("append-only trigger %s on table %s is disabled (tgenabled %q): %s of its rows is not refused", name, table, tr.enabled, want.what)})
 			}
 		}
 	}
+	// Then the identity guards (identity_guards.go).
+	ids, err := checkIdentityGuards(ctx, q)
+	if err != nil {
+		return nil, err
+	}
+	out = append(out, ids...)
 	return out, nil
 }
 

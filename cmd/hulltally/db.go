@@ -82,9 +82,9 @@ func (a *app) dbCmd() *cobra.Command {
 			if !a.asJSON {
 				for _, g := range restored {
 					if g.Table == "" {
-						a.printf("restored the append-only trigger function %s (it was %s)\n", g.Trigger, g.Problem)
+						a.printf("restored the %s trigger function %s (it was %s)\n", g.Guard, g.Trigger, g.Problem)
 					} else {
-						a.printf("restored append-only trigger %s on table %s (it was %s)\n", g.Trigger, g.Table, g.Problem)
+						a.printf("restored %s trigger %s on table %s (it was %s)\n", g.Guard, g.Trigger, g.Table, g.Problem)
 					}
 				}
 			}
