@@ -3,6 +3,8 @@ package main
 import (
 	"crypto"
 	"errors"
+	"os"
+	"runtime/debug"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -30,6 +32,15 @@ func (a *app) verifyCmd() *cobra.Command {
 		Example: "  hulltally verify\n  hulltally verify --json\n  hulltally verify --checkpoint ~/.local/share/hulltally/checkpoints.log --key operator.pub.pem\n  hulltally verify --bundle ex-c4000-01.bundle --key operator.pem\n  hulltally verify --since ~/.local/share/hulltally/checkpoints.log --key operator.pem",
 		Args:    cobra.NoArgs,
 		RunE: func(cmd *cobra.Command, _ []string) error {
+			// verify allocates and drops each record's bytes at once: a
+			// collection every 400 % of growth instead of 100 % took 9 %
+			// off verify --chain-only of 500 hulls × 100 dives (median of
+			// three alternated runs, 13.2 s against 14.5 s) for 15 MB more
+			// (52 MB peak); the live heap is still one hull's batch. A
+			// GOGC the user set is left as it is.
+			if os.Getenv("GOGC") == "" {
+				defer debug.SetGCPercent(debug.SetGCPercent(400))
+			}
 			if bundleFile != "" {
 				if cpFile != "" || sinceFile != "" || keyFile == "" {
 					return usageError{errors.New("--bundle takes --key (the operator's certificate) and not --checkpoint or --since")}
