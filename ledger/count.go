@@ -272,7 +272,6 @@ func (p *profileAcc) fromSent(ts, press, strain []byte) string {
 			p.flat, err = appendFloat8Array(p.flat[:0], strain)
 		}
 	}
-	flat := p.flat
 	if err != nil {
 		return fmt.Sprintf("profile: %v (the stored record was changed)", err)
 	}
@@ -280,12 +279,12 @@ func (p *profileAcc) fromSent(ts, press, strain []byte) string {
 	if len(p.Press) != n {
 		return fmt.Sprintf("profile has %d times and %d pressures (the stored record was changed)", n, len(p.Press))
 	}
-	if len(flat) != n*len(p.gauges) {
-		return fmt.Sprintf("profile strain has %d values for %d gauges × %d points", len(flat), len(p.gauges), n)
+	if len(p.flat) != n*len(p.gauges) {
+		return fmt.Sprintf("profile strain has %d values for %d gauges × %d points", len(p.flat), len(p.gauges), n)
 	}
 	p.Strain = p.Strain[:0]
 	for g := range p.gauges {
-		p.Strain = append(p.Strain, flat[g*n:(g+1)*n])
+		p.Strain = append(p.Strain, p.flat[g*n:(g+1)*n])
 	}
 	return ""
 }

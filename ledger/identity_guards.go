@@ -65,10 +65,11 @@ func identityBodies() (map[string]string, error) {
 }
 
 // checkIdentityGuards lists the identity guards that are missing,
-// disabled or altered: each function first, then each trigger. Tables
+// disabled or altered: each function first, then each trigger, judged on
+// checkGuards' reads of the triggers and of the tables that exist. Tables
 // that do not exist are left to the append-only check, which reports
 // them.
-func checkIdentityGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
+func checkIdentityGuards(ctx context.Context, q querier, trigs map[string]triggerState, tables map[string]bool) ([]GuardFinding, error) {
 	bodies, err := identityBodies()
 	if err != nil {
 		return nil, err
@@ -90,51 +91,12 @@ func checkIdentityGuards(ctx context.Context, q querier) ([]GuardFinding, error)
 				Detail: fmt.Sprintf("the identity function %s was replaced: records may carry a name nobody signed in as", fn)})
 		}
 	}
-	type trig struct {
-		enabled string
-		typ     int16
-		fn      string
-	}
-	trigs := map[string]trig{}
-	tables := map[string]bool{}
-	rows, err := q.Query(ctx, `SELECT c.relname, t.tgname, t.tgenabled::text, t.tgtype, t.tgfoid::regproc::text
-		FROM pg_class c JOIN pg_namespace n ON n.oid = c.relnamespace LEFT JOIN pg_trigger t ON t.tgrelid = c.oid AND NOT t.tgisinternal
-		WHERE n.nspname = current_schema() AND c.relkind IN ('r', 'p')`)
-	if err != nil {
-		return nil, fmt.Errorf("verify: reading the identity triggers: %w", err)
-	}
-	for rows.Next() {
-		var table string
-		var name, enabled, fn *string
-		var typ *int16
-		if err := rows.Scan(&table, &name, &enabled, &typ, &fn); err != nil {
-			rows.Close()
-			return nil, fmt.Errorf("verify: reading the identity triggers: %w", err)
-		}
-		tables[table] = true
-		if name != nil {
-			trigs[table+"\x00"+*name] = trig{*enabled, *typ, *fn}
-		}
-	}
-	rows.Close()
-	if err := rows.Err(); err != nil {
-		return nil, fmt.Errorf("verify: reading the identity triggers: %w", err)
-	}
 	for _, want := range identityTriggers() {
 		if !tables[want.table] {
 			continue
 		}
-		tr, ok := trigs[want.table+"\x00"+want.name]
-		switch {
-		case !ok:
-			out = append(out, GuardFinding{Guard: GuardIdentity, Table: want.table, Trigger: want.name, Problem: GuardMissing,
-				Detail: fmt.Sprintf("identity trigger %s on table %s is missing: its records may carry a name nobody signed in as", want.name, want.table)})
-		case tr.typ != guardInsertType || tr.fn != want.fn:
-			out = append(out, GuardFinding{Guard: GuardIdentity, Table: want.table, Trigger: want.name, Problem: GuardAltered,
-				Detail: fmt.Sprintf("identity trigger %s on table %s was altered (runs %s, type %d; want %s, type %d): its records may carry a name nobody signed in as", want.name, want.table, tr.fn, tr.typ, want.fn, guardInsertType)})
-		case tr.enabled != "O" && tr.enabled != "A":
-			out = append(out, GuardFinding{Guard: GuardIdentity, Table: want.table, Trigger: want.name, Problem: GuardDisabled,
-				Detail: fmt.Sprintf("identity trigger %s on table %s is disabled (tgenabled %q): its records may carry a name nobody signed in as", want.name, want.table, tr.enabled)})
+		if g := judgeTrigger(GuardIdentity, want.table, want.name, trigs, guardInsertType, want.fn, "its records may carry a name nobody signed in as"); g != nil {
+			out = append(out, *g)
 		}
 	}
 	return out, nil

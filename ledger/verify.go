@@ -792,11 +792,25 @@ func batchCycles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) e
 	return nil
 }
 
-// holdsMismatch is the finding for a time-at-pressure record whose two
-// arrays differ in length: it was changed (the ledger stores them
-// together).
-func holdsMismatch(lv, sec []float64) string {
-	return fmt.Sprintf("time at pressure has %d levels and %d durations (the stored record was changed)", len(lv), len(sec))
+// holdsRowCanon reads the levels and durations of a time-at-pressure row
+// (the float8[] columns levels and seconds of the current row) and
+// returns the record's canonical bytes, or a finding when the arrays are
+// not ones hulltally stores or do not pair up (the record was changed):
+// the batch and the one-record read judge alike. a holds two slices,
+// reused.
+func holdsRowCanon(rows pgx.Rows, a [][]float64, levels, seconds int, id uuid.UUID, bin float64) (canon []byte, why string, err error) {
+	if why, err = float8Columns(rows, a, levels, seconds); why != "" || err != nil {
+		return nil, why, err
+	}
+	lv, sec := a[0], a[1]
+	if len(lv) != len(sec) {
+		return nil, fmt.Sprintf("time at pressure has %d levels and %d durations (the stored record was changed)", len(lv), len(sec)), nil
+	}
+	hs := make([]assess.Hold, len(lv))
+	for i := range lv {
+		hs[i] = assess.Hold{LevelMPa: lv[i], Seconds: sec[i]}
+	}
+	return holdsCanon(id, bin, hs), "", nil
 }
 
 func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
@@ -807,25 +821,12 @@ func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) er
 		if err := rows.Scan(&id, &bin, nil, nil); err != nil {
 			return err
 		}
-		why, err := float8Columns(rows, a, 2, 3)
+		canon, why, err := holdsRowCanon(rows, a, 2, 3, id, bin)
 		if err != nil {
 			return err
 		}
-		lv, sec := a[0], a[1]
-		if why == "" && len(lv) != len(sec) {
-			why = holdsMismatch(lv, sec)
-		}
-		if why != "" {
-			b.stored["dive_holds"]++
-			b.settle("dive_holds", id.String(), nil, 0, why, nil)
-			return nil
-		}
 		b.stored["dive_holds"]++
-		hs := make([]assess.Hold, len(lv))
-		for i := range lv {
-			hs[i] = assess.Hold{LevelMPa: lv[i], Seconds: sec[i]}
-		}
-		b.settle("dive_holds", id.String(), holdsCanon(id, bin, hs), 0, "", nil)
+		b.settle("dive_holds", id.String(), canon, 0, why, nil)
 		return nil
 	})
 }
@@ -1312,24 +1313,8 @@ func recordCanon(ctx context.Context, q querier, kind, key string) ([]byte, int6
 		if err := rows.Scan(&bin, nil, nil); err != nil {
 			return nil, 0, "", err
 		}
-		// Read as the batch reads them (float8Columns).
-		a := make([][]float64, 2)
-		why, err := float8Columns(rows, a, 1, 2)
-		if err != nil {
-			return nil, 0, "", err
-		}
-		lv, sec := a[0], a[1]
-		if why == "" && len(lv) != len(sec) {
-			why = holdsMismatch(lv, sec)
-		}
-		if why != "" {
-			return nil, 0, why, nil
-		}
-		hs := make([]assess.Hold, len(lv))
-		for i := range lv {
-			hs[i] = assess.Hold{LevelMPa: lv[i], Seconds: sec[i]}
-		}
-		return holdsCanon(id, bin, hs), 0, "", nil
+		canon, why, err := holdsRowCanon(rows, make([][]float64, 2), 1, 2, id, bin)
+		return canon, 0, why, err
 	case "assessment":
 		id, err := uuid.Parse(key)
 		if err != nil {
@@ -1535,13 +1520,8 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 		out = append(out, GuardFinding{Guard: GuardAppendOnly, Trigger: "ledger_append_only", Problem: GuardAltered,
 			Detail: "the trigger function ledger_append_only was replaced: it may no longer refuse UPDATE, DELETE and TRUNCATE"})
 	}
-	type trig struct {
-		enabled string
-		typ     int16
-		fn      string
-	}
-	trigs := map[string]trig{}  // trigger name → state
-	tables := map[string]bool{} // tables that exist
+	trigs := map[string]triggerState{} // table and trigger name → state
+	tables := map[string]bool{}        // tables that exist
 	rows, err := q.Query(ctx, `SELECT c.relname, t.tgname, t.tgenabled::text, t.tgtype, t.tgfoid::regproc::text
 		FROM pg_trigger t JOIN pg_class c ON c.oid = t.tgrelid JOIN pg_namespace n ON n.oid = c.relnamespace
 		WHERE n.nspname = current_schema() AND NOT t.tgisinternal`)
@@ -1555,7 +1535,7 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 	}
 	for rows.Next() {
 		var table, name string
-		var tr trig
+		var tr triggerState
 		if err := rows.Scan(&table, &name, &tr.enabled, &tr.typ, &tr.fn); err != nil {
 			rows.Close()
 			return nil, fmt.Errorf("verify: reading the append-only triggers: %w", err)
@@ -1600,29 +1580,51 @@ func checkGuards(ctx context.Context, q querier) ([]GuardFinding, error) {
 			typ          int16
 		}{{"_append_only", "UPDATE and DELETE", guardRowType}, {"_no_truncate", "TRUNCATE", guardTruncateType}} {
 			name := table + want.suffix
-			tr, ok := trigs[table+"\x00"+name]
-			switch {
-			case !ok:
-				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardMissing,
-					Detail: fmt.Sprintf("append-only trigger %s on table %s is missing: %s of its rows is not refused", name, table, want.what)})
-			case tr.typ != want.typ || tr.fn != "ledger_append_only":
-				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardAltered,
-					Detail: fmt.Sprintf("append-only trigger %s on table %s was altered (runs %s, type %d; want ledger_append_only, type %d): %s may not be refused", name, table, tr.fn, tr.typ, want.typ, want.what)})
-			case tr.enabled != "O" && tr.enabled != "A":
-				// 'O' fires in ordinary sessions, 'A' always; 'D' never,
-				// 'R' only in replica sessions.
-				out = append(out, GuardFinding{Guard: GuardAppendOnly, Table: table, Trigger: name, Problem: GuardDisabled,
-					Detail: fmt.Sprintf("append-only trigger %s on table %s is disabled (tgenabled %q): %s of its rows is not refused", name, table, tr.enabled, want.what)})
+			if g := judgeTrigger(GuardAppendOnly, table, name, trigs, want.typ, "ledger_append_only", want.what+" of its rows is not refused"); g != nil {
+				out = append(out, *g)
 			}
 		}
 	}
-	// Then the identity guards (identity_guards.go).
-	ids, err := checkIdentityGuards(ctx, q)
+	// Then the identity guards (identity_guards.go), on the same reads:
+	// their tables are all ledger tables.
+	ids, err := checkIdentityGuards(ctx, q, trigs, tables)
 	if err != nil {
 		return nil, err
 	}
 	out = append(out, ids...)
 	return out, nil
+}
+
+// triggerState is a trigger as pg_trigger has it.
+type triggerState struct {
+	enabled string
+	typ     int16
+	fn      string
+}
+
+// judgeTrigger is the finding for trigger name on table, of the guard
+// given, when it is not as the migrations made it (nil when it is):
+// missing, running another function or on other events than typ, or not
+// firing in ordinary sessions. consequence says what then goes through.
+func judgeTrigger(guard, table, name string, trigs map[string]triggerState, typ int16, fn, consequence string) *GuardFinding {
+	tr, ok := trigs[table+"\x00"+name]
+	g := &GuardFinding{Guard: guard, Table: table, Trigger: name}
+	switch {
+	case !ok:
+		g.Problem = GuardMissing
+		g.Detail = fmt.Sprintf("%s trigger %s on table %s is missing: %s", guard, name, table, consequence)
+	case tr.typ != typ || tr.fn != fn:
+		g.Problem = GuardAltered
+		g.Detail = fmt.Sprintf("%s trigger %s on table %s was altered (runs %s, type %d; want %s, type %d): %s", guard, name, table, tr.fn, tr.typ, fn, typ, consequence)
+	case tr.enabled != "O" && tr.enabled != "A":
+		// 'O' fires in ordinary sessions, 'A' always; 'D' never, 'R' only
+		// in replica sessions.
+		g.Problem = GuardDisabled
+		g.Detail = fmt.Sprintf("%s trigger %s on table %s is disabled (tgenabled %q): %s", guard, name, table, tr.enabled, consequence)
+	default:
+		return nil
+	}
+	return g
 }
 
 // SinceHead is a hull's chain head recorded earlier (by a checkpoint): the
