@@ -99,10 +99,12 @@ func TestServeCLI(t *testing.T) {
 	if err := c.Process.Signal(syscall.SIGTERM); err != nil {
 		t.Fatal(err)
 	}
+	// Every line of the log is read (the pipe is at its end when serve
+	// exits) before Wait, which closes the pipe and could cut the read.
+	log := <-rest
 	if err := c.Wait(); err != nil {
 		t.Fatalf("serve after SIGTERM: %v", err)
 	}
-	log := <-rest
 	if !strings.Contains(log, `"msg":"stopped"`) || strings.Contains(log, tok.Token) {
 		t.Fatalf("serve's log after SIGTERM (no token may appear in it):\n%s", log)
 	}
