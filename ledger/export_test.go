@@ -27,3 +27,18 @@ var (
 	AppendFloat8Sent  = appendFloat8Sent
 	ErrFloat8Array    = errFloat8Array
 )
+
+// ProfileCanonBothWays returns a stored profile's canonical bytes, or its
+// finding, made both ways: straight from the stored series (what verify's
+// batch does) and from the series decoded (what the one-record read does).
+func ProfileCanonBothWays(dive [16]byte, step float64, gauges []string, ts, press, strain []byte) (direct []byte, directWhy string, decoded []byte, decodedWhy string) {
+	direct, directWhy = appendProfileCanonSent(nil, dive, step, gauges, ts, press, strain)
+	p := &profileAcc{step: step, gauges: gauges}
+	if decodedWhy = p.fromSent(ts, press, strain); decodedWhy == "" {
+		decoded = profileCanon(dive, p)
+	}
+	if directWhy != "" {
+		direct = nil
+	}
+	return direct, directWhy, decoded, decodedWhy
+}

@@ -62,48 +62,71 @@ func float8Columns(rows pgx.Rows, dst [][]float64, cols ...int) (why string, err
 // never stores such a form, so the record was changed
 // (TestFloat8ArrayMatchesPgx checks it against pgx's own decoding).
 func appendFloat8Array(dst []float64, src []byte) ([]float64, error) {
-	if len(src) < 12 {
-		return dst, fmt.Errorf("%w: %d bytes of header", errFloat8Array, len(src))
+	body, err := float8Sent(src)
+	if err != nil {
+		return dst, err
 	}
-	ndim := binary.BigEndian.Uint32(src[0:])
-	if flag := binary.BigEndian.Uint32(src[4:]); flag != 0 {
-		return dst, fmt.Errorf("%w: NULL flag %d", errFloat8Array, flag)
-	}
-	elem := binary.BigEndian.Uint32(src[8:])
-	if elem != float8OID {
-		return dst, fmt.Errorf("%w: element type %d", errFloat8Array, elem)
-	}
-	switch ndim {
-	case 0:
-		if len(src) != 12 {
-			return dst, fmt.Errorf("%w: %d bytes after an empty array", errFloat8Array, len(src)-12)
-		}
-		return dst, nil
-	case 1:
-	default:
-		return dst, fmt.Errorf("%w: %d dimensions", errFloat8Array, ndim)
-	}
-	if len(src) < 20 {
-		return dst, fmt.Errorf("%w: cut short in its dimension", errFloat8Array)
-	}
-	n := int(int32(binary.BigEndian.Uint32(src[12:])))
-	if lb := int32(binary.BigEndian.Uint32(src[16:])); lb != 1 {
-		return dst, fmt.Errorf("%w: lower bound %d", errFloat8Array, lb)
-	}
-	body := src[20:]
-	// n > len(body)/12 first: 12*n cannot overflow then, on any int size.
-	if n < 1 || n > len(body)/12 || len(body) != 12*n {
-		return dst, fmt.Errorf("%w: %d elements in %d bytes", errFloat8Array, n, len(body))
-	}
+	n := len(body) / 12
 	dst = slices.Grow(dst, n)
 	for i := 0; i < n; i++ {
 		e := body[12*i:]
-		if l := int32(binary.BigEndian.Uint32(e)); l != 8 {
-			return dst, fmt.Errorf("%w: element %d has length %d", errFloat8Array, i+1, l)
+		if err := float8Elem(e, i); err != nil {
+			return dst, err
 		}
 		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(e[4:])))
 	}
 	return dst, nil
+}
+
+// float8Sent checks the header of a float8[] value in PostgreSQL's binary
+// array format, as appendFloat8Array accepts it, and returns its
+// elements: 12 bytes each, a length then the value (each element's
+// length is checked by float8Elem as it is read). An empty array has no
+// elements.
+func float8Sent(src []byte) (body []byte, err error) {
+	if len(src) < 12 {
+		return nil, fmt.Errorf("%w: %d bytes of header", errFloat8Array, len(src))
+	}
+	ndim := binary.BigEndian.Uint32(src[0:])
+	if flag := binary.BigEndian.Uint32(src[4:]); flag != 0 {
+		return nil, fmt.Errorf("%w: NULL flag %d", errFloat8Array, flag)
+	}
+	elem := binary.BigEndian.Uint32(src[8:])
+	if elem != float8OID {
+		return nil, fmt.Errorf("%w: element type %d", errFloat8Array, elem)
+	}
+	switch ndim {
+	case 0:
+		if len(src) != 12 {
+			return nil, fmt.Errorf("%w: %d bytes after an empty array", errFloat8Array, len(src)-12)
+		}
+		return src[12:], nil
+	case 1:
+	default:
+		return nil, fmt.Errorf("%w: %d dimensions", errFloat8Array, ndim)
+	}
+	if len(src) < 20 {
+		return nil, fmt.Errorf("%w: cut short in its dimension", errFloat8Array)
+	}
+	n := int(int32(binary.BigEndian.Uint32(src[12:])))
+	if lb := int32(binary.BigEndian.Uint32(src[16:])); lb != 1 {
+		return nil, fmt.Errorf("%w: lower bound %d", errFloat8Array, lb)
+	}
+	body = src[20:]
+	// n > len(body)/12 first: 12*n cannot overflow then, on any int size.
+	if n < 1 || n > len(body)/12 || len(body) != 12*n {
+		return nil, fmt.Errorf("%w: %d elements in %d bytes", errFloat8Array, n, len(body))
+	}
+	return body, nil
+}
+
+// float8Elem checks the length word of element i (from 0) at the start
+// of e: every float8 element is 8 bytes (-1 would be a NULL).
+func float8Elem(e []byte, i int) error {
+	if l := int32(binary.BigEndian.Uint32(e)); l != 8 {
+		return fmt.Errorf("%w: element %d has length %d", errFloat8Array, i+1, l)
+	}
+	return nil
 }
 
 // appendFloat8Sent appends vs to dst in the binary form PostgreSQL sends

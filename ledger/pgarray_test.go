@@ -237,3 +237,67 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 		t.Fatalf("verify after the migration: %v %+v", err, res.FirstBroken)
 	}
 }
+
+// TestProfileCanonSentMatches: the canonical bytes verify makes straight
+// from a stored profile's series are the bytes the chain hashed when the
+// profile was written (made from the decoded values), and a stored form
+// the decoder refuses is refused with the same finding. The expected
+// bytes come from the decoding path, which TestFloat8ArrayMatchesPgx
+// checks against PostgreSQL's own array codec.
+func TestProfileCanonSentMatches(t *testing.T) {
+	sent := ledger.AppendFloat8Sent
+	ts := sent(nil, []float64{0, 5, 10})
+	press := sent(nil, []float64{0.1, math.NaN(), math.Inf(1)})
+	strain := sent(nil, []float64{1, 2, 3, math.Copysign(0, -1), 5, 6})
+	nullElem := slices.Clone(press)
+	binary.BigEndian.PutUint32(nullElem[20+12:], 0xffffffff)
+	for _, c := range []struct {
+		name              string
+		gauges            []string
+		ts, press, strain []byte
+		wantWhy           string // a part of the finding; "" for none
+	}{
+		{"two gauges", []string{"hoop", "axial"}, ts, press, strain, ""},
+		{"no gauges", nil, ts, press, sent(nil, nil), ""},
+		{"empty profile", nil, sent(nil, nil), sent(nil, nil), sent(nil, nil), ""},
+		{"a pressure short", []string{"hoop", "axial"}, ts, sent(nil, []float64{1, 2}), strain, "3 times and 2 pressures"},
+		{"strain for one gauge too few", []string{"hoop", "axial", "third"}, ts, press, strain, "6 values for 3 gauges"},
+		{"a NULL element", []string{"hoop", "axial"}, ts, nullElem, strain, "element 2 has length -1"},
+		{"cut short", []string{"hoop", "axial"}, ts[:len(ts)-1], press, strain, "elements in"},
+		{"two faults: the first series' is told", []string{"hoop", "axial"}, ts[:len(ts)-1], nullElem, strain, "elements in"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{1, 2, 3}, 5, c.gauges, c.ts, c.press, c.strain)
+			if dWhy != why {
+				t.Fatalf("findings differ: direct %q, decoded %q", dWhy, why)
+			}
+			if c.wantWhy == "" {
+				if why != "" || len(direct) == 0 || !bytes.Equal(direct, decoded) {
+					t.Fatalf("canonical bytes differ (%d against %d bytes), finding %q", len(direct), len(decoded), why)
+				}
+			} else if !strings.Contains(why, c.wantWhy) {
+				t.Fatalf("finding %q, want one with %q", why, c.wantWhy)
+			}
+		})
+	}
+}
+
+// FuzzProfileCanonSent: on any stored bytes, the canonical bytes made
+// straight from the stored series and those made from the decoded values
+// are the same, or both ways find the same fault.
+func FuzzProfileCanonSent(f *testing.F) {
+	sent := ledger.AppendFloat8Sent
+	f.Add(sent(nil, []float64{0, 5}), sent(nil, []float64{1, 2}), sent(nil, []float64{3, 4}), uint8(1))
+	f.Add(sent(nil, nil), sent(nil, nil), sent(nil, nil), uint8(0))
+	f.Add(sent(nil, []float64{0}), sent(nil, []float64{1}), sent(nil, []float64{3, 4}), uint8(2))
+	f.Fuzz(func(t *testing.T, ts, press, strain []byte, ng uint8) {
+		gauges := make([]string, ng%4)
+		for i := range gauges {
+			gauges[i] = fmt.Sprint("g", i)
+		}
+		direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{9}, 1, gauges, ts, press, strain)
+		if dWhy != why || !bytes.Equal(direct, decoded) {
+			t.Fatalf("direct (%d bytes, %q) and decoded (%d bytes, %q) differ", len(direct), dWhy, len(decoded), why)
+		}
+	})
+}

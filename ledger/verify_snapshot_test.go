@@ -167,6 +167,54 @@ func judgedLedger(t *testing.T) *ledger.Ledger {
 	return l
 }
 
+// TestHitlessDiveJudged: a dive whose acoustic-emission file held no hits
+// has no hit rows, and verify judges its record from the hull's rows
+// (not by a read of its own): clean as logged, broken once a hit is
+// forged for it, by verify and by verify --since from the hull's first
+// record.
+func TestHitlessDiveJudged(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	d := shortDive(time.Date(2026, 5, 10, 8, 0, 0, 0, time.UTC), 200)
+	d.AEBottomRate = 0
+	sp, hp := writeSynth(t, t.TempDir(), "quiet", d, 1)
+	lat := 45.0
+	r, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: sp, AE: hp, Latitude: &lat})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var withFile, hits int
+	if err := l.Pool().QueryRow(ctx, "SELECT count(*) FILTER (WHERE ae_source_sha256 IS NOT NULL), (SELECT count(*) FROM ae_hits) FROM dives").Scan(&withFile, &hits); err != nil {
+		t.Fatal(err)
+	}
+	if withFile != 1 || hits != 0 {
+		t.Fatalf("setup: %d dives with a hits file, %d hits; want one dive whose file held none", withFile, hits)
+	}
+	if res, err := l.Verify(ctx); err != nil || !res.OK {
+		t.Fatalf("clean ledger: %v %+v", err, res)
+	}
+	tamper(t, l, "INSERT INTO ae_hits (dive_id, hull_id, seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us) SELECT id, hull_id, 1, 0, 1, 60, 1, 1, 1, 1 FROM dives WHERE id = $1", r.ID)
+	res, err := l.Verify(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.OK || res.FirstBroken == nil || res.FirstBroken.Kind != "ae_hits" {
+		t.Fatalf("a hit forged for a hitless dive: %+v, want the dive's hits record broken", res.FirstBroken)
+	}
+	var id uuid.UUID
+	var head []byte
+	if err := l.Pool().QueryRow(ctx, "SELECT c.hull_id, c.hash FROM audit_chain c JOIN hulls h ON h.id = c.hull_id WHERE h.serial = $1 AND c.seq = 1", serial).Scan(&id, &head); err != nil {
+		t.Fatal(err)
+	}
+	res, err = l.VerifySince(ctx, map[uuid.UUID]ledger.SinceHead{id: {Length: 1, Head: head}})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.OK {
+		t.Fatal("verify --since passed a hit forged for a hitless dive")
+	}
+}
+
 // tamper runs sql with the append-only guard switched off, as a rogue
 // administrator would, and fails the test when it changed nothing.
 func tamper(t *testing.T, l *ledger.Ledger, sql string, args ...any) {
@@ -242,6 +290,10 @@ func TestTamperJudgedRecords(t *testing.T) {
 		{"cut a profile short", "UPDATE dive_profiles SET pressure_mpa = substring(pressure_mpa FROM 1 FOR length(pressure_mpa) - 4), time_s = substring(time_s FROM 1 FOR length(time_s) - 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
 		{"change one pressure of a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x3f'::bytea FROM length(pressure_mpa) - 7 FOR 1) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
 		{"put a NULL into a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\xffffffff'::bytea FROM 21 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		// Acoustic-emission hits (a dive whose file held none:
+		// TestHitlessDiveJudged).
+		{"remove every hit of a dive", "DELETE FROM ae_hits WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},
+		{"move a dive's hits to another hull", "UPDATE ae_hits SET hull_id = gen_random_uuid() WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},
 		// Evidence revisions: the latest is the evidence in force.
 		{"edit an evidence revision", "UPDATE evidence_revisions SET evidence_json = evidence_json || ' ' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
 		{"edit the cause of a revision", "UPDATE evidence_revisions SET cause = 'routine' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
