@@ -42,3 +42,6 @@ func ProfileCanonBothWays(dive [16]byte, step float64, gauges []string, ts, pres
 	}
 	return direct, directWhy, decoded, decodedWhy
 }
+
+// HullRowTables exposes the tables verify checks for rows of no hull.
+var HullRowTables = hullRowTables[:]

@@ -343,6 +343,19 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 		res.OK = false
 		res.FirstBroken = &Broken{Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
 	}
+	// Rows of the other ledger tables under a hull id that is no hull: no
+	// hull's reads see them, but the readers that read by dive would.
+	if res.FirstBroken == nil {
+		table, ids, err := rowsOfNoHull(ctx, q)
+		if err != nil {
+			return nil, err
+		}
+		if ids > 0 {
+			res.OK = false
+			res.FirstBroken = &Broken{Kind: "rows_of_no_hull", Key: table,
+				Reason: fmt.Sprintf("%s holds rows under %d hull ids that are no recorded hull (rows moved or forged behind the chain)", table, ids)}
+		}
+	}
 	if tail != nil {
 		if err := tail(ctx, q, hulls, res); err != nil {
 			return nil, err
@@ -369,6 +382,43 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 		res.AddSummaryCheck(sc)
 	}
 	return res, nil
+}
+
+// hullRowTables are the ledger tables whose rows belong to a hull
+// (hull_id), other than hulls and audit_chain, in the order they are
+// checked for rows of no hull.
+var hullRowTables = [...]string{"hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections",
+	"dive_cycles", "dive_holds", "assessments", "assessment_damage", "dive_profiles", "dive_evidence", "inspections", "proof_tests",
+	"decisions", "status_history", "evidence_revisions", "dive_voids", "dive_fingerprints"}
+
+// rowsOfNoHull returns the first of hullRowTables that holds rows under
+// a hull id that is no hull, and how many such ids it holds (0: none in
+// any table). Each table's distinct hull ids are walked down its index
+// led by hull_id (every ledger table has one: TestKeysIncludeHull), one
+// probe per hull id, not per row; a table that is missing is left to
+// the guard check, which reports it.
+func rowsOfNoHull(ctx context.Context, q querier) (string, int64, error) {
+	var present []string
+	if err := q.QueryRow(ctx, `SELECT coalesce(array_agg(t ORDER BY o), '{}') FROM unnest($1::text[]) WITH ORDINALITY AS x(t, o) WHERE to_regclass(t) IS NOT NULL`,
+		hullRowTables[:]).Scan(&present); err != nil {
+		return "", 0, fmt.Errorf("verify: listing the ledger tables: %w", err)
+	}
+	for _, t := range present {
+		var ids int64
+		id := pgx.Identifier{t}.Sanitize()
+		err := q.QueryRow(ctx, `WITH RECURSIVE ids AS (
+			SELECT (SELECT hull_id FROM `+id+` ORDER BY hull_id LIMIT 1) AS hull_id
+			UNION ALL
+			SELECT (SELECT hull_id FROM `+id+` WHERE hull_id > ids.hull_id ORDER BY hull_id LIMIT 1) FROM ids WHERE ids.hull_id IS NOT NULL)
+			SELECT count(*) FROM ids WHERE hull_id IS NOT NULL AND NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = ids.hull_id)`).Scan(&ids)
+		if err != nil {
+			return "", 0, fmt.Errorf("verify: rows of no hull in %s: %w", t, err)
+		}
+		if ids > 0 {
+			return t, ids, nil
+		}
+	}
+	return "", 0, nil
 }
 
 // ChainHead returns the hash at the head of a hull's chain and its length.
@@ -583,7 +633,8 @@ func loadHullBatch(ctx context.Context, q querier, hull uuid.UUID, serial string
 	return b, nil
 }
 
-// each runs sql with the hull's id and calls scan for every row.
+// each runs sql with its one argument (the hull's id, mostly) and calls
+// scan for every row.
 //
 // The batch reads scan by position on purpose, even where the record's
 // struct carries db tags (inspections, proof tests, decisions, voids,
@@ -591,8 +642,8 @@ func loadHullBatch(ctx context.Context, q querier, hull uuid.UUID, serial string
 // time, and settles it as it goes; collecting the rows into a slice first
 // would hold a whole hull's records (blocks, hits, cycles) in memory and
 // add a per-row reflection step to the one path that reads everything.
-func each(ctx context.Context, q querier, what, sql string, hull uuid.UUID, scan func(pgx.Rows) error) error {
-	rows, err := q.Query(ctx, sql, hull)
+func each(ctx context.Context, q querier, what, sql string, arg any, scan func(pgx.Rows) error) error {
+	rows, err := q.Query(ctx, sql, arg)
 	if err != nil {
 		return fmt.Errorf("reading %s: %w", what, err)
 	}
@@ -767,19 +818,42 @@ func batchHits(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) err
 		return err
 	}
 	flush()
-	// A dive whose acoustic-emission file held no hits has no rows here:
-	// its record is the digest of no hits, judged as the one-record read
-	// would judge it (that read, one query per such dive, took the most
-	// queries of verify where most dives' files were empty). A record of
-	// a dive whose hits are stored under another hull is then judged
-	// changed here, and those rows counted on that hull.
-	none := sha256.Sum256(nil)
+	// A dive whose acoustic-emission file held no hits has no rows: its
+	// record is the digest of no hits. Such records are settled here
+	// when no hit row of the dive is stored anywhere, under any hull (one
+	// query for the hull, where the one-record read took one query per
+	// dive, the most queries of verify where most dives' files were
+	// empty); a dive with rows elsewhere (moved, or forged under a hull
+	// that is not listed) is left to the one-record read, which reads its
+	// hits by dive wherever they are, as every reader of hits does.
+	var ids []uuid.UUID
 	for key, i := range b.index["ae_hits"] {
 		if b.v[i].done {
 			continue
 		}
 		if id, err := uuid.Parse(key); err == nil && id.String() == key {
-			b.settle("ae_hits", key, hitsCanon(id, 0, none[:]), 0, "", nil)
+			ids = append(ids, id)
+		}
+	}
+	if len(ids) == 0 {
+		return nil
+	}
+	elsewhere := map[uuid.UUID]bool{}
+	err = each(ctx, q, "acoustic-emission hits stored elsewhere", "SELECT DISTINCT dive_id FROM ae_hits WHERE dive_id = ANY($1)", ids, func(rows pgx.Rows) error {
+		var id uuid.UUID
+		if err := rows.Scan(&id); err != nil {
+			return err
+		}
+		elsewhere[id] = true
+		return nil
+	})
+	if err != nil {
+		return err
+	}
+	none := sha256.Sum256(nil)
+	for _, id := range ids {
+		if !elsewhere[id] {
+			b.settle("ae_hits", id.String(), hitsCanon(id, 0, none[:]), 0, "", nil)
 		}
 	}
 	return nil

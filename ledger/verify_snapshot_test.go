@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"sync"
 	"testing"
@@ -169,50 +170,127 @@ func judgedLedger(t *testing.T) *ledger.Ledger {
 
 // TestHitlessDiveJudged: a dive whose acoustic-emission file held no hits
 // has no hit rows, and verify judges its record from the hull's rows
-// (not by a read of its own): clean as logged, broken once a hit is
-// forged for it, by verify and by verify --since from the hull's first
-// record.
+// where no hit of the dive is stored anywhere: clean as logged; broken
+// once a hit is forged for it, under its own hull or under a hull id that
+// is not listed (the foreign keys switched off, as a rogue administrator
+// would) — the readers of hits read them by dive, so such a row would be
+// used (a passing sensor check, say) — by verify and by verify --since
+// from the hull's first record.
 func TestHitlessDiveJudged(t *testing.T) {
+	const forge = "INSERT INTO ae_hits (dive_id, hull_id, seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event) SELECT id, %s, 1, 0, 1, 90, 1, 1, 1, 1, 'lead_break' FROM dives WHERE id = $1"
+	for _, c := range []struct{ name, hull, scope string }{
+		{"under its own hull", "hull_id", "USER"},
+		{"under a hull that is not listed", "gen_random_uuid()", "ALL"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			ctx := context.Background()
+			l := newLedger(t, 0)
+			d := shortDive(time.Date(2026, 5, 10, 8, 0, 0, 0, time.UTC), 200)
+			d.AEBottomRate = 0
+			sp, hp := writeSynth(t, t.TempDir(), "quiet", d, 1)
+			lat := 45.0
+			r, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: sp, AE: hp, Latitude: &lat})
+			if err != nil {
+				t.Fatal(err)
+			}
+			var withFile, hits int
+			if err := l.Pool().QueryRow(ctx, "SELECT count(*) FILTER (WHERE ae_source_sha256 IS NOT NULL), (SELECT count(*) FROM ae_hits) FROM dives").Scan(&withFile, &hits); err != nil {
+				t.Fatal(err)
+			}
+			if withFile != 1 || hits != 0 {
+				t.Fatalf("setup: %d dives with a hits file, %d hits; want one dive whose file held none", withFile, hits)
+			}
+			if res, err := l.Verify(ctx); err != nil || !res.OK {
+				t.Fatalf("clean ledger: %v %+v", err, res)
+			}
+			if err := tamperWith(l, c.scope, fmt.Sprintf(forge, c.hull), r.ID); err != nil {
+				t.Fatal(err)
+			}
+			if err := l.Pool().QueryRow(ctx, "SELECT count(*) FROM ae_hits").Scan(&hits); err != nil || hits != 1 {
+				t.Fatalf("the forged hit was not stored: %d rows, %v", hits, err)
+			}
+			res, err := l.Verify(ctx)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.OK || res.FirstBroken == nil || res.FirstBroken.Kind != "ae_hits" {
+				t.Fatalf("a hit forged for a hitless dive: %+v, want the dive's hits record broken", res.FirstBroken)
+			}
+			var id uuid.UUID
+			var head []byte
+			if err := l.Pool().QueryRow(ctx, "SELECT c.hull_id, c.hash FROM audit_chain c JOIN hulls h ON h.id = c.hull_id WHERE h.serial = $1 AND c.seq = 1", serial).Scan(&id, &head); err != nil {
+				t.Fatal(err)
+			}
+			res, err = l.VerifySince(ctx, map[uuid.UUID]ledger.SinceHead{id: {Length: 1, Head: head}})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if res.OK {
+				t.Fatal("verify --since passed a hit forged for a hitless dive")
+			}
+		})
+	}
+}
+
+// TestRowsOfNoHull: a copy of a record's rows under a hull id that is no
+// hull (the foreign keys switched off) is seen by no hull's reads, but
+// the readers that read by dive would find it; verify reports the table.
+// And every ledger table with a hull_id is checked.
+func TestRowsOfNoHull(t *testing.T) {
 	ctx := context.Background()
-	l := newLedger(t, 0)
-	d := shortDive(time.Date(2026, 5, 10, 8, 0, 0, 0, time.UTC), 200)
-	d.AEBottomRate = 0
-	sp, hp := writeSynth(t, t.TempDir(), "quiet", d, 1)
-	lat := 45.0
-	r, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: sp, AE: hp, Latitude: &lat})
-	if err != nil {
-		t.Fatal(err)
+	for _, tb := range []string{"dive_profiles", "reading_blocks", "dive_evidence", "dive_cycles"} {
+		t.Run(tb, func(t *testing.T) {
+			l := judgedLedger(t)
+			if res, err := l.Verify(ctx); err != nil || !res.OK {
+				t.Fatalf("clean ledger: %v %+v", err, res)
+			}
+			var cols string
+			if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN 'gen_random_uuid()' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
+				FROM pg_attribute WHERE attrelid = $1::regclass AND attnum > 0 AND NOT attisdropped`, tb).Scan(&cols); err != nil {
+				t.Fatal(err)
+			}
+			if err := tamperWith(l, "ALL", "INSERT INTO "+tb+" SELECT "+cols+" FROM "+tb+" LIMIT 1"); err != nil {
+				t.Fatal(err)
+			}
+			for _, since := range []bool{false, true} {
+				var res *ledger.VerifyResult
+				var err error
+				if since {
+					res, err = l.VerifySince(ctx, map[uuid.UUID]ledger.SinceHead{})
+				} else {
+					res, err = l.Verify(ctx)
+				}
+				if err != nil {
+					t.Fatal(err)
+				}
+				if res.OK || res.FirstBroken == nil || res.FirstBroken.Kind != "rows_of_no_hull" || res.FirstBroken.Key != tb {
+					t.Fatalf("since %v: a copy of a %s row under no hull: %+v", since, tb, res.FirstBroken)
+				}
+			}
+		})
 	}
-	var withFile, hits int
-	if err := l.Pool().QueryRow(ctx, "SELECT count(*) FILTER (WHERE ae_source_sha256 IS NOT NULL), (SELECT count(*) FROM ae_hits) FROM dives").Scan(&withFile, &hits); err != nil {
-		t.Fatal(err)
-	}
-	if withFile != 1 || hits != 0 {
-		t.Fatalf("setup: %d dives with a hits file, %d hits; want one dive whose file held none", withFile, hits)
-	}
-	if res, err := l.Verify(ctx); err != nil || !res.OK {
-		t.Fatalf("clean ledger: %v %+v", err, res)
-	}
-	tamper(t, l, "INSERT INTO ae_hits (dive_id, hull_id, seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us) SELECT id, hull_id, 1, 0, 1, 60, 1, 1, 1, 1 FROM dives WHERE id = $1", r.ID)
-	res, err := l.Verify(ctx)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if res.OK || res.FirstBroken == nil || res.FirstBroken.Kind != "ae_hits" {
-		t.Fatalf("a hit forged for a hitless dive: %+v, want the dive's hits record broken", res.FirstBroken)
-	}
-	var id uuid.UUID
-	var head []byte
-	if err := l.Pool().QueryRow(ctx, "SELECT c.hull_id, c.hash FROM audit_chain c JOIN hulls h ON h.id = c.hull_id WHERE h.serial = $1 AND c.seq = 1", serial).Scan(&id, &head); err != nil {
-		t.Fatal(err)
-	}
-	res, err = l.VerifySince(ctx, map[uuid.UUID]ledger.SinceHead{id: {Length: 1, Head: head}})
-	if err != nil {
-		t.Fatal(err)
-	}
-	if res.OK {
-		t.Fatal("verify --since passed a hit forged for a hitless dive")
-	}
+	t.Run("every table", func(t *testing.T) {
+		l := newLedger(t, 0)
+		rows, err := l.Pool().Query(ctx, `SELECT c.relname FROM pg_class c JOIN pg_attribute a ON a.attrelid = c.oid
+			WHERE c.relkind = 'r' AND c.relnamespace = 'public'::regnamespace AND a.attname = 'hull_id' AND NOT a.attisdropped
+			AND EXISTS (SELECT 1 FROM pg_trigger g WHERE g.tgrelid = c.oid AND g.tgname = c.relname || '_append_only')
+			AND c.relname NOT IN ('hulls', 'audit_chain')`)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tables, err := pgx.CollectRows(rows, pgx.RowTo[string])
+		if err != nil {
+			t.Fatal(err)
+		}
+		if len(tables) < 10 {
+			t.Fatalf("found only %d append-only tables with a hull_id: %v", len(tables), tables)
+		}
+		for _, tb := range tables {
+			if !slices.Contains(ledger.HullRowTables, tb) {
+				t.Errorf("append-only table %s has a hull_id but verify does not check it for rows of no hull", tb)
+			}
+		}
+	})
 }
 
 // tamper runs sql with the append-only guard switched off, as a rogue
@@ -293,7 +371,7 @@ func TestTamperJudgedRecords(t *testing.T) {
 		// Acoustic-emission hits (a dive whose file held none:
 		// TestHitlessDiveJudged).
 		{"remove every hit of a dive", "DELETE FROM ae_hits WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},
-		{"move a dive's hits to another hull", "UPDATE ae_hits SET hull_id = gen_random_uuid() WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},
+		{"move a dive's hits to another hull", "UPDATE ae_hits SET hull_id = gen_random_uuid() WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hit_rows"},
 		// Evidence revisions: the latest is the evidence in force.
 		{"edit an evidence revision", "UPDATE evidence_revisions SET evidence_json = evidence_json || ' ' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
 		{"edit the cause of a revision", "UPDATE evidence_revisions SET cause = 'routine' WHERE " + row("evidence_revisions", ""), "evidence_revision"},
