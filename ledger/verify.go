@@ -341,7 +341,7 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 	}
 	if orphans > 0 && res.FirstBroken == nil {
 		res.OK = false
-		res.FirstBroken = &Broken{Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
+		res.FirstBroken = &Broken{Kind: "chain_of_no_hull", Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
 	}
 	// Rows of the other ledger tables under a hull id that is no hull: no
 	// hull's reads see them, but the readers that read by dive would.
@@ -356,13 +356,27 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 				Reason: fmt.Sprintf("%s holds rows under %d hull ids that are no recorded hull (rows moved or forged behind the chain)", table, ids)}
 		}
 	}
+	if res.FirstBroken == nil {
+		b, err := diveOfTwoHulls(ctx, q)
+		if err != nil {
+			return nil, err
+		}
+		if b != nil {
+			res.OK, res.FirstBroken = false, b
+		}
+	}
 	if tail != nil {
 		if err := tail(ctx, q, hulls, res); err != nil {
 			return nil, err
 		}
 	}
 	if b := res.FirstBroken; b != nil {
-		res.Problem = fmt.Sprintf("first broken link: hull %s, record %d (%s %s): %s", b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
+		if b.Hull == "" {
+			// A finding of the ledger as a whole, not of one hull's chain.
+			res.Problem = fmt.Sprintf("%s: %s", b.Kind, b.Reason)
+		} else {
+			res.Problem = fmt.Sprintf("first broken link: hull %s, record %d (%s %s): %s", b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
+		}
 	}
 	if len(res.Guards) > 0 {
 		res.OK = false
@@ -384,6 +398,25 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 	return res, nil
 }
 
+// diveOfTwoHulls finds a dive id stored under two hulls (nil: none). The
+// readers that read a dive's rows by its id (hits, blocks, profiles)
+// would mix the two hulls' rows, and each hull's chain may hold its copy;
+// a dive belongs to one hull. One pass over the dives' ids.
+func diveOfTwoHulls(ctx context.Context, q querier) (*Broken, error) {
+	var dive uuid.UUID
+	var serials []string
+	err := q.QueryRow(ctx, `SELECT d.id, array_agg(coalesce(h.serial, d.hull_id::text) ORDER BY 1) FROM dives d LEFT JOIN hulls h ON h.id = d.hull_id
+		WHERE d.id IN (SELECT id FROM dives GROUP BY id HAVING count(*) > 1) GROUP BY d.id ORDER BY d.id LIMIT 1`).Scan(&dive, &serials)
+	if errors.Is(err, pgx.ErrNoRows) {
+		return nil, nil
+	}
+	if err != nil {
+		return nil, fmt.Errorf("verify: dives under two hulls: %w", err)
+	}
+	return &Broken{Kind: "dive_of_two_hulls", Key: dive.String(),
+		Reason: fmt.Sprintf("dive %s is stored under %d hulls (%s): a dive belongs to one hull", dive, len(serials), strings.Join(serials, ", "))}, nil
+}
+
 // hullRowTables are the ledger tables whose rows belong to a hull
 // (hull_id), other than hulls and audit_chain, in the order they are
 // checked for rows of no hull.
@@ -393,7 +426,8 @@ var hullRowTables = [...]string{"hull_revisions", "hull_components", "gauges", "
 
 // rowsOfNoHull returns the first of hullRowTables that holds rows under
 // a hull id that is no hull, and how many such ids it holds (0: none in
-// any table). Each table's distinct hull ids are walked down its index
+// any table; rows without a hull id, were the column's NOT NULL dropped,
+// count as one). Each table's distinct hull ids are walked down its index
 // led by hull_id (every ledger table has one: TestKeysIncludeHull), one
 // probe per hull id, not per row; a table that is missing is left to
 // the guard check, which reports it.
@@ -410,7 +444,8 @@ func rowsOfNoHull(ctx context.Context, q querier) (string, int64, error) {
 			SELECT (SELECT hull_id FROM `+id+` ORDER BY hull_id LIMIT 1) AS hull_id
 			UNION ALL
 			SELECT (SELECT hull_id FROM `+id+` WHERE hull_id > ids.hull_id ORDER BY hull_id LIMIT 1) FROM ids WHERE ids.hull_id IS NOT NULL)
-			SELECT count(*) FROM ids WHERE hull_id IS NOT NULL AND NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = ids.hull_id)`).Scan(&ids)
+			SELECT (SELECT count(*) FROM ids WHERE hull_id IS NOT NULL AND NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = ids.hull_id))
+				+ (SELECT count(*) FROM (SELECT 1 FROM `+id+` WHERE hull_id IS NULL LIMIT 1) AS no_id)`).Scan(&ids)
 		if err != nil {
 			return "", 0, fmt.Errorf("verify: rows of no hull in %s: %w", t, err)
 		}

@@ -269,6 +269,33 @@ func TestRowsOfNoHull(t *testing.T) {
 			}
 		})
 	}
+	t.Run("a dive under two hulls", func(t *testing.T) {
+		l := judgedLedger(t)
+		if b, err := l.DiveOfTwoHulls(ctx); err != nil || b != nil {
+			t.Fatalf("clean ledger: %+v %v", b, err)
+		}
+		sp := exampleSpec(t)
+		sp.Serial = "EX-C4000-02"
+		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
+			t.Fatal(err)
+		}
+		var cols string
+		if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN '(SELECT id FROM hulls WHERE serial = ''EX-C4000-02'')' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
+			FROM pg_attribute WHERE attrelid = 'dives'::regclass AND attnum > 0 AND NOT attisdropped`).Scan(&cols); err != nil {
+			t.Fatal(err)
+		}
+		tamper(t, l, "INSERT INTO dives SELECT "+cols+" FROM dives WHERE hull_id <> (SELECT id FROM hulls WHERE serial = 'EX-C4000-02') LIMIT 1")
+		b, err := l.DiveOfTwoHulls(ctx)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if b == nil || b.Kind != "dive_of_two_hulls" || !strings.Contains(b.Reason, serial) || !strings.Contains(b.Reason, "EX-C4000-02") {
+			t.Fatalf("a dive copied under a second hull: %+v", b)
+		}
+		if res, err := l.Verify(ctx); err != nil || res.OK {
+			t.Fatalf("verify passed a dive copied under a second hull: %v %+v", err, res)
+		}
+	})
 	t.Run("every table", func(t *testing.T) {
 		l := newLedger(t, 0)
 		rows, err := l.Pool().Query(ctx, `SELECT c.relname FROM pg_class c JOIN pg_attribute a ON a.attrelid = c.oid

@@ -104,7 +104,7 @@ func (a *app) printChain(res *ledger.VerifyResult) {
 		a.printf("ledger verified: %d records on %d hull chains, every link holds\n", res.Records, res.Hulls)
 		return
 	}
-	if b := res.FirstBroken; b != nil && !strings.HasSuffix(b.Kind, "_guard") {
+	if b := res.FirstBroken; b != nil && b.Hull != "" && !strings.HasSuffix(b.Kind, "_guard") {
 		a.printf("LEDGER BROKEN: %d records checked; first broken link: hull %s, record %d (%s %s): %s\n", res.Records, b.Hull, b.Seq, b.Kind, b.Key, b.Reason)
 	} else {
 		a.printf("LEDGER BROKEN: %s\n", res.Problem)
