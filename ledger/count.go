@@ -365,11 +365,18 @@ func (p *profileAcc) fromSent(ts, press, strain []byte) string {
 // was changed (verify reports it as a broken record).
 var errProfileChanged = errors.New("the stored profile is not one hulltally wrote")
 
+// diveHull is the hull of the dive $1, for the readers that read a dive's
+// rows by its id: they read the rows of the dive's own hull only, so rows
+// stored under a hull id that is no hull are never used, and a dive
+// stored under two hulls is refused (the subquery returns two rows) —
+// both of which verify reports (rows_of_no_hull, dive_of_two_hulls).
+const diveHull = "(SELECT d.hull_id FROM dives d WHERE d.id = $1)"
+
 // loadProfile reads a dive's stored profile.
 func loadProfile(ctx context.Context, q querier, dive uuid.UUID) (*profileAcc, error) {
 	p := &profileAcc{}
 	var ts, press, strain []byte
-	err := q.QueryRow(ctx, "SELECT step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1", dive).Scan(&p.step, &ts, &press, &p.gauges, &strain)
+	err := q.QueryRow(ctx, "SELECT step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1 AND hull_id = "+diveHull, dive).Scan(&p.step, &ts, &press, &p.gauges, &strain)
 	if err != nil {
 		return nil, err
 	}

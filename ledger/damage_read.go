@@ -489,7 +489,7 @@ type Cycle struct {
 
 // DiveCycles returns the rainflow cycles of gauge pressure of a dive.
 func (l *Ledger) DiveCycles(ctx context.Context, dive uuid.UUID) ([]Cycle, error) {
-	rows, err := l.db.Query(ctx, "SELECT series, unit, gate, chunk, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND series = 'pressure' ORDER BY chunk", dive)
+	rows, err := l.db.Query(ctx, "SELECT series, unit, gate, chunk, ranges, means, counts FROM dive_cycles WHERE dive_id = $1 AND hull_id = "+diveHull+" AND series = 'pressure' ORDER BY chunk", dive)
 	if err != nil {
 		return nil, err
 	}

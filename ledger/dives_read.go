@@ -114,7 +114,7 @@ type DecodedBlock = blocks.Decoded
 
 // ReadBlocks streams a dive's decoded reading blocks in order.
 func (l *Ledger) ReadBlocks(ctx context.Context, dive uuid.UUID, fn func(*DecodedBlock) error) error {
-	rows, err := l.db.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 ORDER BY block_no", dive)
+	rows, err := l.db.Query(ctx, "SELECT data FROM reading_blocks WHERE dive_id = $1 AND hull_id = "+diveHull+" ORDER BY block_no", dive)
 	if err != nil {
 		return fmt.Errorf("reading blocks of dive %s: %w", dive, err)
 	}

@@ -257,10 +257,10 @@ func fmtOpt(v *float64) string {
 // in the evidence package's form (time from the dive's first sample).
 func loadHits(ctx context.Context, q querier, dive uuid.UUID) ([]evidence.Hit, []evidence.SensorCheck, error) {
 	var firstNS int64
-	if err := q.QueryRow(ctx, "SELECT t_first_ns FROM reading_blocks WHERE dive_id = $1 AND block_no = 0", dive).Scan(&firstNS); err != nil {
+	if err := q.QueryRow(ctx, "SELECT t_first_ns FROM reading_blocks WHERE dive_id = $1 AND block_no = 0 AND hull_id = "+diveHull, dive).Scan(&firstNS); err != nil {
 		return nil, nil, fmt.Errorf("dive %s: first sample: %w", dive, err)
 	}
-	rows, err := q.Query(ctx, "SELECT t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 ORDER BY seq", dive)
+	rows, err := q.Query(ctx, "SELECT t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event FROM ae_hits WHERE dive_id = $1 AND hull_id = "+diveHull+" ORDER BY seq", dive)
 	if err != nil {
 		return nil, nil, fmt.Errorf("dive %s: hits: %w", dive, err)
 	}

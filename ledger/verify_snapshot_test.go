@@ -296,6 +296,55 @@ func TestRowsOfNoHull(t *testing.T) {
 			t.Fatalf("verify passed a dive copied under a second hull: %v %+v", err, res)
 		}
 	})
+	// The readers that read a dive's rows by its id read its own hull's
+	// rows only: a forged sensor check and a forged profile under a hull
+	// id that is no hull are not used (verify reports them; the readers
+	// do not wait for it), and a dive under two hulls is refused.
+	t.Run("readers read the dive's own hull", func(t *testing.T) {
+		l := judgedLedger(t)
+		var dive uuid.UUID
+		if err := l.Pool().QueryRow(ctx, "SELECT dive_id FROM ae_hits GROUP BY dive_id ORDER BY count(*) DESC LIMIT 1").Scan(&dive); err != nil {
+			t.Fatal(err)
+		}
+		hits, checks, err := l.HitsOf(ctx, dive)
+		if err != nil || len(hits) == 0 {
+			t.Fatalf("hits of the dive: %d, %v", len(hits), err)
+		}
+		prof, err := l.ProfileOf(ctx, dive)
+		if err != nil || prof == nil || len(prof.PressureMPa) == 0 {
+			t.Fatalf("profile of the dive: %v", err)
+		}
+		if err := tamperWith(l, "ALL", `INSERT INTO ae_hits (dive_id, hull_id, seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, event)
+			SELECT dive_id, '00000000-0000-4000-8000-000000000001', seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, 'lead_break' FROM ae_hits WHERE dive_id = $1`, dive); err != nil {
+			t.Fatal(err)
+		}
+		if err := tamperWith(l, "ALL", `INSERT INTO dive_profiles (dive_id, hull_id, step_s, time_s, pressure_mpa, gauges, strain_ue)
+			SELECT dive_id, '00000000-0000-4000-8000-000000000001', step_s, time_s, time_s, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1`, dive); err != nil {
+			t.Fatal(err)
+		}
+		hits2, checks2, err := l.HitsOf(ctx, dive)
+		if err != nil || len(hits2) != len(hits) || len(checks2) != len(checks) {
+			t.Fatalf("hits read with forged rows under no hull: %d hits, %d checks, %v; want %d and %d", len(hits2), len(checks2), err, len(hits), len(checks))
+		}
+		prof2, err := l.ProfileOf(ctx, dive)
+		if err != nil || prof2 == nil || !slices.Equal(prof2.PressureMPa, prof.PressureMPa) {
+			t.Fatalf("profile read with a forged copy under no hull: %v", err)
+		}
+		sp := exampleSpec(t)
+		sp.Serial = "EX-C4000-02"
+		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
+			t.Fatal(err)
+		}
+		var cols string
+		if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN '(SELECT id FROM hulls WHERE serial = ''EX-C4000-02'')' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
+			FROM pg_attribute WHERE attrelid = 'dives'::regclass AND attnum > 0 AND NOT attisdropped`).Scan(&cols); err != nil {
+			t.Fatal(err)
+		}
+		tamper(t, l, "INSERT INTO dives SELECT "+cols+" FROM dives WHERE id = $1", dive)
+		if _, _, err := l.HitsOf(ctx, dive); err == nil {
+			t.Fatal("hits of a dive stored under two hulls were read")
+		}
+	})
 	t.Run("every table", func(t *testing.T) {
 		l := newLedger(t, 0)
 		rows, err := l.Pool().Query(ctx, `SELECT c.relname FROM pg_class c JOIN pg_attribute a ON a.attrelid = c.oid
