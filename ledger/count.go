@@ -215,18 +215,9 @@ func (l *Ledger) backfillDive(ctx context.Context, h *Hull, dive uuid.UUID, hdr 
 	return tx.Commit(ctx)
 }
 
+// profileCanon is the profile's canonical bytes.
 func profileCanon(dive uuid.UUID, p *profileAcc) []byte {
-	return appendProfileCanon(nil, dive, p)
-}
-
-// appendProfileCanon appends the profile's canonical bytes to dst (verify
-// reuses one buffer for every profile of a hull).
-func appendProfileCanon(dst []byte, dive uuid.UUID, p *profileAcc) []byte {
-	c := &canon{b: dst}
-	c.str("dive_profile")
-	c.uuid(dive)
-	c.f64(p.step)
-	c.i64(int64(len(p.TimeS)))
+	c := profileCanonHead(nil, dive, p.step, len(p.TimeS))
 	c.growF64(len(p.TimeS) * (2 + len(p.Strain)))
 	for i := range p.TimeS {
 		c.f64(p.TimeS[i])
@@ -241,9 +232,20 @@ func appendProfileCanon(dst []byte, dive uuid.UUID, p *profileAcc) []byte {
 	return c.b
 }
 
+// profileCanonHead starts a profile's canonical bytes on dst: the kind,
+// the dive, the step and the number of points.
+func profileCanonHead(dst []byte, dive uuid.UUID, step float64, n int) *canon {
+	c := &canon{b: dst}
+	c.str("dive_profile")
+	c.uuid(dive)
+	c.f64(step)
+	c.i64(int64(n))
+	return c
+}
+
 // appendProfileCanonSent appends the canonical bytes of a stored profile
 // to dst straight from its stored series (array_send form, migration
-// 019), without decoding them: the same bytes as appendProfileCanon of
+// 019), without decoding them: the same bytes as profileCanon of
 // the profile fromSent reads, and the same finding where fromSent finds
 // one (TestProfileCanonSentMatches, FuzzProfileCanonSent). Hand-written
 // for a measured reason: a stored element is a length word and the
@@ -252,29 +254,13 @@ func appendProfileCanon(dst []byte, dive uuid.UUID, p *profileAcc) []byte {
 // decoding and encoding the profiles took 17 % of verify's CPU time on
 // the 500 × 100 fleet (pprof), profiles being most of its bytes.
 func appendProfileCanonSent(dst []byte, dive uuid.UUID, step float64, gauges []string, ts, press, strain []byte) ([]byte, string) {
-	tb, err := float8Checked(ts)
-	var pb, sb []byte
-	if err == nil {
-		if pb, err = float8Checked(press); err == nil {
-			sb, err = float8Checked(strain)
-		}
+	tb, pb, sb, why := profileSent(gauges, ts, press, strain)
+	if why != "" {
+		return dst, why
 	}
-	if err != nil {
-		return dst, fmt.Sprintf("profile: %v (the stored record was changed)", err)
-	}
-	n := len(tb) / 12
-	if m := len(pb) / 12; m != n {
-		return dst, fmt.Sprintf("profile has %d times and %d pressures (the stored record was changed)", n, m)
-	}
-	if m := len(sb) / 12; m != n*len(gauges) {
-		return dst, fmt.Sprintf("profile strain has %d values for %d gauges × %d points", m, len(gauges), n)
-	}
-	c := &canon{b: dst}
-	c.str("dive_profile")
-	c.uuid(dive)
-	c.f64(step)
-	c.i64(int64(n))
-	c.growF64(2*n + len(sb)/12)
+	n, m := len(tb)/12, len(sb)/12
+	c := profileCanonHead(dst, dive, step, n)
+	c.growF64(2*n + m)
 	o := len(c.b)
 	c.b = c.b[:o+18*n]
 	for i := 0; i < n; i++ {
@@ -285,7 +271,6 @@ func appendProfileCanonSent(dst []byte, dive uuid.UUID, step float64, gauges []s
 		binary.LittleEndian.PutUint64(d[10:], binary.LittleEndian.Uint64(pb[12*i+4:]))
 	}
 	c.strs(gauges)
-	m := len(sb) / 12
 	c.b = slices.Grow(c.b, 9*m)
 	o = len(c.b)
 	c.b = c.b[:o+9*m]
@@ -297,18 +282,29 @@ func appendProfileCanonSent(dst []byte, dive uuid.UUID, step float64, gauges []s
 	return c.b, ""
 }
 
-// float8Checked is float8Sent with every element's length checked.
-func float8Checked(src []byte) ([]byte, error) {
-	body, err := float8Sent(src)
-	if err != nil {
-		return nil, err
-	}
-	for i := 0; i < len(body)/12; i++ {
-		if err := float8Elem(body[12*i:], i); err != nil {
-			return nil, err
+// profileSent checks a stored profile's series (migration 019) for the
+// profile's gauges and returns their elements (float8Checked), or a
+// finding: a form hulltally never stores, or series that do not pair up
+// (the record was changed). fromSent and appendProfileCanonSent judge
+// alike through it.
+func profileSent(gauges []string, ts, press, strain []byte) (tb, pb, sb []byte, why string) {
+	tb, err := float8Checked(ts)
+	if err == nil {
+		if pb, err = float8Checked(press); err == nil {
+			sb, err = float8Checked(strain)
 		}
 	}
-	return body, nil
+	if err != nil {
+		return nil, nil, nil, fmt.Sprintf("profile: %v (the stored record was changed)", err)
+	}
+	n := len(tb) / 12
+	if m := len(pb) / 12; m != n {
+		return nil, nil, nil, fmt.Sprintf("profile has %d times and %d pressures (the stored record was changed)", n, m)
+	}
+	if m := len(sb) / 12; m != n*len(gauges) {
+		return nil, nil, nil, fmt.Sprintf("profile strain has %d values for %d gauges × %d points", m, len(gauges), n)
+	}
+	return tb, pb, sb, ""
 }
 
 func flatStrain(p *profileAcc) []float64 {
@@ -338,22 +334,14 @@ func storeProfile(ctx context.Context, tx pgx.Tx, dive, hull uuid.UUID, p *profi
 // or series that do not pair up, is returned as a finding (the ledger
 // never stores one: the record was changed).
 func (p *profileAcc) fromSent(ts, press, strain []byte) string {
-	var err error
-	if p.TimeS, err = appendFloat8Array(p.TimeS[:0], ts); err == nil {
-		if p.Press, err = appendFloat8Array(p.Press[:0], press); err == nil {
-			p.flat, err = appendFloat8Array(p.flat[:0], strain)
-		}
+	tb, pb, sb, why := profileSent(p.gauges, ts, press, strain)
+	if why != "" {
+		return why
 	}
-	if err != nil {
-		return fmt.Sprintf("profile: %v (the stored record was changed)", err)
-	}
+	p.TimeS = appendFloat8Body(p.TimeS[:0], tb)
+	p.Press = appendFloat8Body(p.Press[:0], pb)
+	p.flat = appendFloat8Body(p.flat[:0], sb)
 	n := len(p.TimeS)
-	if len(p.Press) != n {
-		return fmt.Sprintf("profile has %d times and %d pressures (the stored record was changed)", n, len(p.Press))
-	}
-	if len(p.flat) != n*len(p.gauges) {
-		return fmt.Sprintf("profile strain has %d values for %d gauges × %d points", len(p.flat), len(p.gauges), n)
-	}
 	p.Strain = p.Strain[:0]
 	for g := range p.gauges {
 		p.Strain = append(p.Strain, p.flat[g*n:(g+1)*n])

@@ -44,7 +44,7 @@ func ProfileCanonBothWays(dive [16]byte, step float64, gauges []string, ts, pres
 }
 
 // HullRowTables exposes the tables verify checks for rows of no hull.
-var HullRowTables = hullRowTables[:]
+var HullRowTables = hullRowTables()
 
 // DiveOfTwoHulls runs verify's check for a dive id stored under two hulls.
 func (l *Ledger) DiveOfTwoHulls(ctx context.Context) (*Broken, error) {

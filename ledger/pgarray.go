@@ -62,27 +62,44 @@ func float8Columns(rows pgx.Rows, dst [][]float64, cols ...int) (why string, err
 // never stores such a form, so the record was changed
 // (TestFloat8ArrayMatchesPgx checks it against pgx's own decoding).
 func appendFloat8Array(dst []float64, src []byte) ([]float64, error) {
-	body, err := float8Sent(src)
+	body, err := float8Checked(src)
 	if err != nil {
 		return dst, err
 	}
+	return appendFloat8Body(dst, body), nil
+}
+
+// appendFloat8Body appends the values of elements float8Checked accepted.
+func appendFloat8Body(dst []float64, body []byte) []float64 {
 	n := len(body) / 12
 	dst = slices.Grow(dst, n)
 	for i := 0; i < n; i++ {
-		e := body[12*i:]
-		if err := float8Elem(e, i); err != nil {
-			return dst, err
-		}
-		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(e[4:])))
+		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(body[12*i+4:])))
 	}
-	return dst, nil
+	return dst
+}
+
+// float8Checked checks a float8[] value in PostgreSQL's binary array
+// format as appendFloat8Array accepts it, header and every element's
+// length word, and returns its elements: 12 bytes each, the length (8)
+// then the value's eight big-endian bytes. An empty array has none.
+func float8Checked(src []byte) ([]byte, error) {
+	body, err := float8Sent(src)
+	if err != nil {
+		return nil, err
+	}
+	for i := 0; i < len(body)/12; i++ {
+		if l := int32(binary.BigEndian.Uint32(body[12*i:])); l != 8 {
+			// -1 would be a NULL.
+			return nil, fmt.Errorf("%w: element %d has length %d", errFloat8Array, i+1, l)
+		}
+	}
+	return body, nil
 }
 
 // float8Sent checks the header of a float8[] value in PostgreSQL's binary
 // array format, as appendFloat8Array accepts it, and returns its
-// elements: 12 bytes each, a length then the value (each element's
-// length is checked by float8Elem as it is read). An empty array has no
-// elements.
+// elements, their length words not yet checked (float8Checked).
 func float8Sent(src []byte) (body []byte, err error) {
 	if len(src) < 12 {
 		return nil, fmt.Errorf("%w: %d bytes of header", errFloat8Array, len(src))
@@ -118,15 +135,6 @@ func float8Sent(src []byte) (body []byte, err error) {
 		return nil, fmt.Errorf("%w: %d elements in %d bytes", errFloat8Array, n, len(body))
 	}
 	return body, nil
-}
-
-// float8Elem checks the length word of element i (from 0) at the start
-// of e: every float8 element is 8 bytes (-1 would be a NULL).
-func float8Elem(e []byte, i int) error {
-	if l := int32(binary.BigEndian.Uint32(e)); l != 8 {
-		return fmt.Errorf("%w: element %d has length %d", errFloat8Array, i+1, l)
-	}
-	return nil
 }
 
 // appendFloat8Sent appends vs to dst in the binary form PostgreSQL sends

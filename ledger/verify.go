@@ -334,17 +334,9 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 			res.OK = false
 		}
 	}
-	// Chain rows of hulls that no longer exist, or hull-less records.
-	var orphans int64
-	if err := q.QueryRow(ctx, `SELECT count(*) FROM audit_chain c WHERE NOT EXISTS (SELECT 1 FROM hulls h WHERE h.id = c.hull_id)`).Scan(&orphans); err != nil {
-		return nil, err
-	}
-	if orphans > 0 && res.FirstBroken == nil {
-		res.OK = false
-		res.FirstBroken = &Broken{Kind: "chain_of_no_hull", Reason: fmt.Sprintf("%d chain records belong to no recorded hull (a hull row was removed)", orphans)}
-	}
-	// Rows of the other ledger tables under a hull id that is no hull: no
-	// hull's reads see them, but the readers that read by dive would.
+	// Chain records and rows under a hull id that is no hull (a hull row
+	// removed, rows moved or forged): no hull's reads see them, but the
+	// readers that read by dive would.
 	if res.FirstBroken == nil {
 		table, ids, err := rowsOfNoHull(ctx, q)
 		if err != nil {
@@ -353,7 +345,7 @@ func verifyAll(ctx context.Context, q querier, check hullCheck, tail verifyTail,
 		if ids > 0 {
 			res.OK = false
 			res.FirstBroken = &Broken{Kind: "rows_of_no_hull", Key: table,
-				Reason: fmt.Sprintf("%s holds rows under %d hull ids that are no recorded hull (rows moved or forged behind the chain)", table, ids)}
+				Reason: fmt.Sprintf("%s holds rows under %d hull ids that are no recorded hull (a hull row was removed, or rows were moved or forged behind the chain)", table, ids)}
 		}
 	}
 	if res.FirstBroken == nil {
@@ -417,12 +409,21 @@ func diveOfTwoHulls(ctx context.Context, q querier) (*Broken, error) {
 		Reason: fmt.Sprintf("dive %s is stored under %d hulls (%s): a dive belongs to one hull", dive, len(serials), strings.Join(serials, ", "))}, nil
 }
 
-// hullRowTables are the ledger tables whose rows belong to a hull
-// (hull_id), other than hulls and audit_chain, in the order they are
-// checked for rows of no hull.
-var hullRowTables = [...]string{"hull_revisions", "hull_components", "gauges", "dives", "reading_blocks", "ae_hits", "corrections",
-	"dive_cycles", "dive_holds", "assessments", "assessment_damage", "dive_profiles", "dive_evidence", "inspections", "proof_tests",
-	"decisions", "status_history", "evidence_revisions", "dive_voids", "dive_fingerprints"}
+// hullRowTables are the ledger tables whose rows belong to a hull (a
+// hull_id), in the order they are checked for rows of no hull: the chain
+// first, then the protected tables in migration order, less hulls itself
+// and the tables that hold no hull's rows.
+func hullRowTables() []string {
+	out := []string{"audit_chain"}
+	for _, t := range protectedTables {
+		switch t {
+		case "audit_chain", "hulls", "issued_reports", "checkpoints":
+		default:
+			out = append(out, t)
+		}
+	}
+	return out
+}
 
 // rowsOfNoHull returns the first of hullRowTables that holds rows under
 // a hull id that is no hull, and how many such ids it holds (0: none in
@@ -434,7 +435,7 @@ var hullRowTables = [...]string{"hull_revisions", "hull_components", "gauges", "
 func rowsOfNoHull(ctx context.Context, q querier) (string, int64, error) {
 	var present []string
 	if err := q.QueryRow(ctx, `SELECT coalesce(array_agg(t ORDER BY o), '{}') FROM unnest($1::text[]) WITH ORDINALITY AS x(t, o) WHERE to_regclass(t) IS NOT NULL`,
-		hullRowTables[:]).Scan(&present); err != nil {
+		hullRowTables()).Scan(&present); err != nil {
 		return "", 0, fmt.Errorf("verify: listing the ledger tables: %w", err)
 	}
 	for _, t := range present {

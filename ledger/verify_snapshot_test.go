@@ -244,12 +244,7 @@ func TestRowsOfNoHull(t *testing.T) {
 			if res, err := l.Verify(ctx); err != nil || !res.OK {
 				t.Fatalf("clean ledger: %v %+v", err, res)
 			}
-			var cols string
-			if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN 'gen_random_uuid()' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
-				FROM pg_attribute WHERE attrelid = $1::regclass AND attnum > 0 AND NOT attisdropped`, tb).Scan(&cols); err != nil {
-				t.Fatal(err)
-			}
-			if err := tamperWith(l, "ALL", "INSERT INTO "+tb+" SELECT "+cols+" FROM "+tb+" LIMIT 1"); err != nil {
+			if err := tamperWith(l, "ALL", "INSERT INTO "+tb+" SELECT "+columnsUnder(t, l, tb, "gen_random_uuid()")+" FROM "+tb+" LIMIT 1"); err != nil {
 				t.Fatal(err)
 			}
 			for _, since := range []bool{false, true} {
@@ -274,17 +269,11 @@ func TestRowsOfNoHull(t *testing.T) {
 		if b, err := l.DiveOfTwoHulls(ctx); err != nil || b != nil {
 			t.Fatalf("clean ledger: %+v %v", b, err)
 		}
-		sp := exampleSpec(t)
-		sp.Serial = "EX-C4000-02"
-		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
+		var dive uuid.UUID
+		if err := l.Pool().QueryRow(ctx, "SELECT id FROM dives LIMIT 1").Scan(&dive); err != nil {
 			t.Fatal(err)
 		}
-		var cols string
-		if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN '(SELECT id FROM hulls WHERE serial = ''EX-C4000-02'')' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
-			FROM pg_attribute WHERE attrelid = 'dives'::regclass AND attnum > 0 AND NOT attisdropped`).Scan(&cols); err != nil {
-			t.Fatal(err)
-		}
-		tamper(t, l, "INSERT INTO dives SELECT "+cols+" FROM dives WHERE hull_id <> (SELECT id FROM hulls WHERE serial = 'EX-C4000-02') LIMIT 1")
+		copyDiveUnderSecondHull(t, l, dive)
 		b, err := l.DiveOfTwoHulls(ctx)
 		if err != nil {
 			t.Fatal(err)
@@ -330,17 +319,7 @@ func TestRowsOfNoHull(t *testing.T) {
 		if err != nil || prof2 == nil || !slices.Equal(prof2.PressureMPa, prof.PressureMPa) {
 			t.Fatalf("profile read with a forged copy under no hull: %v", err)
 		}
-		sp := exampleSpec(t)
-		sp.Serial = "EX-C4000-02"
-		if _, err := l.AddHull(ctx, sp, ledger.AddHullOptions{}); err != nil {
-			t.Fatal(err)
-		}
-		var cols string
-		if err := l.Pool().QueryRow(ctx, `SELECT string_agg(CASE attname WHEN 'hull_id' THEN '(SELECT id FROM hulls WHERE serial = ''EX-C4000-02'')' ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
-			FROM pg_attribute WHERE attrelid = 'dives'::regclass AND attnum > 0 AND NOT attisdropped`).Scan(&cols); err != nil {
-			t.Fatal(err)
-		}
-		tamper(t, l, "INSERT INTO dives SELECT "+cols+" FROM dives WHERE id = $1", dive)
+		copyDiveUnderSecondHull(t, l, dive)
 		if _, _, err := l.HitsOf(ctx, dive); err == nil {
 			t.Fatal("hits of a dive stored under two hulls were read")
 		}
@@ -367,6 +346,30 @@ func TestRowsOfNoHull(t *testing.T) {
 			}
 		}
 	})
+}
+
+// columnsUnder lists table's columns for an INSERT … SELECT that copies
+// its rows under the hull id expression hull.
+func columnsUnder(t *testing.T, l *ledger.Ledger, table, hull string) string {
+	t.Helper()
+	var cols string
+	if err := l.Pool().QueryRow(context.Background(), `SELECT string_agg(CASE attname WHEN 'hull_id' THEN $2 ELSE quote_ident(attname) END, ', ' ORDER BY attnum)
+		FROM pg_attribute WHERE attrelid = $1::regclass AND attnum > 0 AND NOT attisdropped`, table, hull).Scan(&cols); err != nil {
+		t.Fatal(err)
+	}
+	return cols
+}
+
+// copyDiveUnderSecondHull adds hull EX-C4000-02 and stores a copy of
+// dive's row under it, behind the chain.
+func copyDiveUnderSecondHull(t *testing.T, l *ledger.Ledger, dive uuid.UUID) {
+	t.Helper()
+	sp := exampleSpec(t)
+	sp.Serial = "EX-C4000-02"
+	if _, err := l.AddHull(context.Background(), sp, ledger.AddHullOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	tamper(t, l, "INSERT INTO dives SELECT "+columnsUnder(t, l, "dives", "(SELECT id FROM hulls WHERE serial = 'EX-C4000-02')")+" FROM dives WHERE id = $1", dive)
 }
 
 // tamper runs sql with the append-only guard switched off, as a rogue
