@@ -29,12 +29,15 @@ var (
 )
 
 // ProfileCanonBothWays returns a stored profile's canonical bytes, or its
-// finding, made both ways: straight from the stored series (what verify's
-// batch does) and from the series decoded (what the one-record read does).
-func ProfileCanonBothWays(dive [16]byte, step float64, gauges []string, ts, press, strain []byte) (direct []byte, directWhy string, decoded []byte, decodedWhy string) {
-	direct, directWhy = appendProfileCanonSent(nil, dive, step, gauges, ts, press, strain)
+// finding, made both ways: straight from the stored values (what verify's
+// batch does) and from the values decoded (what the one-record read
+// does). ts, press and strain are the form as sent, series the packed
+// form (nil: NULL).
+func ProfileCanonBothWays(dive [16]byte, step float64, gauges []string, ts, press, strain, series []byte) (direct []byte, directWhy string, decoded []byte, decodedWhy string) {
+	s := storedProfile{gauges: gauges, ts: ts, press: press, strain: strain, series: series}
+	direct, directWhy = appendProfileCanonStored(nil, &profileReader{}, dive, step, s)
 	p := &profileAcc{step: step, gauges: gauges}
-	if decodedWhy = p.fromSent(ts, press, strain); decodedWhy == "" {
+	if decodedWhy = p.fromStored(&profileReader{}, s); decodedWhy == "" {
 		decoded = profileCanon(dive, p)
 	}
 	if directWhy != "" {

@@ -307,6 +307,10 @@ func equalFindings(a, b []ledger.GuardFinding) bool {
 //   - assessments.seq: NOT chained (see the report: it orders which
 //     assessment is in force).
 //   - audit_chain.recorded_at: the link's own time, not a record.
+//   - dive_profiles' time_s, pressure_mpa, strain_ue (as sent, migration
+//     019) and series (packed, migration 020): two stored forms of the
+//     same values; the bytes hold the values, read from whichever form
+//     the row holds (a row with both or neither is found broken).
 //   - dive_cycles.chunk: not in the bytes as a number; the bytes are the
 //     series joined in chunk order, and verify refuses chunks not numbered
 //     0, 1, 2, ... (TestLongDiveInParts).
@@ -326,7 +330,7 @@ func TestChainedColumns(t *testing.T) {
 		"dive_holds":         "bin_mpa dive_id hull_id levels seconds",
 		"assessments":        "actor config_hash config_json hull_id hull_revision id kind reason recorded_at seq",
 		"assessment_damage":  "assessment_id basis component curve cyclic dive_ids factor hull_id rupture_curve sustained",
-		"dive_profiles":      "dive_id gauges hull_id pressure_mpa step_s strain_ue time_s",
+		"dive_profiles":      "dive_id gauges hull_id pressure_mpa series step_s strain_ue time_s",
 		"dive_evidence":      "dive_id evidence_json hull_id",
 		"inspections":        "actor at findings hull_id id method recorded_at result",
 		"proof_tests":        "actor at baseline_json dive_id hull_id id notes pressure_mpa recorded_at result",

@@ -127,6 +127,9 @@ type MigrateResult struct {
 	// Problem says what each was (GuardMissing, GuardDisabled,
 	// GuardAltered). Empty when every guard was in place.
 	Restored []GuardFinding `json:"restored"`
+	// Profiles says what packing the dive profiles stored before
+	// migration 020 did (ProfilesPacked).
+	Profiles ProfilesPacked `json:"profiles"`
 }
 
 // Migrate applies pending migrations under tern's advisory lock, then
@@ -141,6 +144,10 @@ type MigrateResult struct {
 //
 // Restoring a guard repairs no record: run verify, which finds any record
 // changed while the guard was down.
+//
+// Last, with the guards in place, it packs the dive profiles stored
+// before migration 020 (packProfiles): their values, and so the chain,
+// stay as they are.
 func (l *Ledger) Migrate(ctx context.Context) (*MigrateResult, error) {
 	if err := l.writable("Migrate"); err != nil {
 		return nil, err
@@ -201,6 +208,9 @@ func (l *Ledger) Migrate(ctx context.Context) (*MigrateResult, error) {
 	}
 	if len(lost) > 0 {
 		return res, fmt.Errorf("migrations: ledger tables %s are missing: their records and append-only guards cannot be restored", strings.Join(lost, ", "))
+	}
+	if res.Profiles, err = l.packProfiles(ctx); err != nil {
+		return res, fmt.Errorf("migrations: %w", err)
 	}
 	return res, nil
 }

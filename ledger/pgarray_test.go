@@ -11,9 +11,11 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/google/uuid"
 	"github.com/jackc/pgx/v5"
 
 	"hulltally/ledger"
+	"hulltally/ledger/profilepack"
 	"hulltally/migrations"
 )
 
@@ -146,13 +148,19 @@ func TestProfileBytesAsSent(t *testing.T) {
 	}
 }
 
-// TestMigration019KeepsProfiles: profiles stored as float8[] (the schema
-// before migration 019) are converted by the migration's own SQL to the
-// bytes hulltally reads, with the same values, and the ledger verifies
-// clean after it (the chain hashed the values, which did not change). The
-// state before is made from a migrated ledger by turning the columns back
-// into float8[] filled with the values read through the ledger.
-func TestMigration019KeepsProfiles(t *testing.T) {
+// oneForm is migration 020's constraint: a profile's row holds exactly one
+// stored form.
+const oneForm = "ALTER TABLE dive_profiles ADD CONSTRAINT dive_profiles_one_form CHECK (num_nonnulls(time_s, pressure_mpa, strain_ue) = CASE WHEN series IS NULL THEN 3 ELSE 0 END)"
+
+// TestMigrationsKeepProfiles: profiles stored as float8[] (the schema
+// before migration 019) are converted by that migration's own SQL to the
+// bytes as sent, with the same values, and the ledger verifies clean; then
+// hulltally db migrate (Ledger.Migrate) packs them (migration 020's
+// form), again with the same values and the same chain, and a profile it
+// cannot read is left as stored, counted, and found by verify. The state
+// before is made from a migrated ledger by turning the columns back into
+// float8[] filled with the values read through the ledger.
+func TestMigrationsKeepProfiles(t *testing.T) {
 	ctx := context.Background()
 	l, err := ledger.Open(ctx, testConfig(t))
 	if err != nil {
@@ -160,13 +168,25 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 	}
 	defer l.Close()
 	addExampleHull(t, l)
+	h, err := l.Hull(ctx, serial)
+	if err != nil {
+		t.Fatal(err)
+	}
 	d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d2, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d2.csv", strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-02"))})
 	if err != nil {
 		t.Fatal(err)
 	}
 	before, err := l.ProfileOf(ctx, d.ID)
 	if err != nil || before == nil || len(before.TimeS) == 0 {
 		t.Fatalf("profile: %+v %v", before, err)
+	}
+	head, _, err := l.ChainHead(ctx, h.ID)
+	if err != nil {
+		t.Fatal(err)
 	}
 	var strain []float64
 	var gauges []string
@@ -180,13 +200,15 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// asBefore puts the profile back as the schema before 019 kept it,
-	// with pressures given by the SQL expression press ($1: the values),
-	// then runs the migration.
+	// asBefore puts both dives' profiles back as the schema before 019
+	// kept them (d2's values are d's: the same samples), with pressures given by the
+	// SQL expression press ($1: the values), then runs migration 019 and
+	// puts 020's constraint back.
 	asBefore := func(tx pgx.Tx, press string) error {
 		for _, s := range []string{
 			"SET CONSTRAINTS ALL IMMEDIATE",
 			"ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_points",
+			"ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_one_form",
 			"ALTER TABLE dive_profiles ALTER COLUMN time_s TYPE float8[] USING '{}', ALTER COLUMN pressure_mpa TYPE float8[] USING '{}', ALTER COLUMN strain_ue TYPE float8[] USING '{}'",
 			"ALTER TABLE dive_profiles DISABLE TRIGGER USER",
 		} {
@@ -194,13 +216,16 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 				return fmt.Errorf("%s: %w", s, err)
 			}
 		}
-		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = "+press+", strain_ue = $4 WHERE dive_id = $1", d.ID, before.TimeS, before.PressureMPa, strain); err != nil {
+		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = "+press+", strain_ue = $4, series = NULL WHERE dive_id = ANY($1)", []uuid.UUID{d.ID, d2.ID}, before.TimeS, before.PressureMPa, strain); err != nil {
 			return err
 		}
 		if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles ENABLE TRIGGER USER"); err != nil {
 			return err
 		}
-		_, err := tx.Exec(ctx, string(sql))
+		if _, err := tx.Exec(ctx, string(sql)); err != nil {
+			return err
+		}
+		_, err := tx.Exec(ctx, oneForm)
 		return err
 	}
 	// A form hulltally never stores is refused by the migration, not
@@ -218,56 +243,113 @@ func TestMigration019KeepsProfiles(t *testing.T) {
 	if err := l.Pool().QueryRow(ctx, "SELECT pressure_mpa FROM dive_profiles WHERE dive_id = $1", d.ID).Scan(&stored); err != nil || !bytes.Equal(stored, ledger.AppendFloat8Sent(nil, before.PressureMPa)) {
 		t.Fatalf("the migrated pressures are not the bytes hulltally writes (%v)", err)
 	}
-	after, err := l.ProfileOf(ctx, d.ID)
-	if err != nil || after == nil {
-		t.Fatalf("profile after the migration: %v", err)
-	}
 	same := func(a, b []float64) bool {
 		return slices.EqualFunc(a, b, func(x, y float64) bool { return math.Float64bits(x) == math.Float64bits(y) })
 	}
-	if !same(after.TimeS, before.TimeS) || !same(after.PressureMPa, before.PressureMPa) || len(after.Strain) != len(before.Strain) {
-		t.Fatal("the profile's values changed in the migration")
-	}
-	for g, v := range before.Strain {
-		if !same(after.Strain[g], v) {
-			t.Fatalf("gauge %s's strain changed in the migration", g)
+	sameProfile := func(when string) {
+		t.Helper()
+		after, err := l.ProfileOf(ctx, d.ID)
+		if err != nil || after == nil {
+			t.Fatalf("profile %s: %v", when, err)
+		}
+		if !same(after.TimeS, before.TimeS) || !same(after.PressureMPa, before.PressureMPa) || len(after.Strain) != len(before.Strain) {
+			t.Fatalf("the profile's values changed %s", when)
+		}
+		for g, v := range before.Strain {
+			if !same(after.Strain[g], v) {
+				t.Fatalf("gauge %s's strain changed %s", g, when)
+			}
 		}
 	}
+	sameProfile("in migration 019")
+	// d2 is the same samples a day later: its profile's values are d's.
 	if res, err := l.Verify(ctx); err != nil || !res.OK {
-		t.Fatalf("verify after the migration: %v %+v", err, res.FirstBroken)
+		t.Fatalf("verify after migration 019: %v %+v", err, res.FirstBroken)
+	}
+	// Now spoil d2's stored form itself: a NULL flag, which no reader
+	// accepts; packing must leave it as it is.
+	if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000001'::bytea FROM 5 FOR 4) WHERE dive_id = $1", d2.ID); err != nil {
+		t.Fatal(err)
+	}
+	mr, err := l.Migrate(ctx)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if mr.Profiles != (ledger.ProfilesPacked{Packed: 1, Unreadable: 1}) {
+		t.Fatalf("packing: %+v, want 1 packed and 1 unreadable", mr.Profiles)
+	}
+	var packed, asSent bool
+	if err := l.Pool().QueryRow(ctx, "SELECT (SELECT series IS NOT NULL AND time_s IS NULL FROM dive_profiles WHERE dive_id = $1), (SELECT series IS NULL AND time_s IS NOT NULL FROM dive_profiles WHERE dive_id = $2)", d.ID, d2.ID).Scan(&packed, &asSent); err != nil || !packed || !asSent {
+		t.Fatalf("after packing: d packed %v, d2 left as sent %v (%v)", packed, asSent, err)
+	}
+	sameProfile("in packing")
+	if after, _, err := l.ChainHead(ctx, h.ID); err != nil || !bytes.Equal(after, head) {
+		t.Fatalf("the chain head moved in packing (%v)", err)
+	}
+	res, err := l.Verify(ctx)
+	if err != nil || res.OK || res.FirstBroken == nil || res.FirstBroken.Key != d2.ID.String() || !strings.Contains(res.FirstBroken.Reason, "NULL flag") {
+		t.Fatalf("verify after packing: %v %+v, want d2's profile found unreadable", err, res.FirstBroken)
+	}
+	// Packing again finds nothing more to pack; the guard is on again.
+	if mr, err := l.Migrate(ctx); err != nil || mr.Profiles != (ledger.ProfilesPacked{Unreadable: 1}) || len(mr.Restored) != 0 {
+		t.Fatalf("migrating again: %+v %v", mr, err)
+	}
+	if _, err := l.Pool().Exec(ctx, "UPDATE dive_profiles SET step_s = step_s WHERE dive_id = $1", d.ID); err == nil || !strings.Contains(err.Error(), "append-only") {
+		t.Fatalf("an update of a packed profile after packing: %v, want refused by the append-only guard", err)
 	}
 }
 
-// TestProfileCanonSentMatches: the canonical bytes verify makes straight
-// from a stored profile's series are the bytes the chain hashed when the
-// profile was written (made from the decoded values), and a stored form
+// TestProfileCanonStoredMatches: the canonical bytes verify makes
+// straight from a stored profile's series are the bytes the chain hashed
+// when the profile was written (made from the decoded values), in either
+// stored form (packed, or as sent before migration 020), and a stored form
 // the decoder refuses is refused with the same finding. The expected
 // bytes come from the decoding path, which TestFloat8ArrayMatchesPgx
-// checks against PostgreSQL's own array codec.
-func TestProfileCanonSentMatches(t *testing.T) {
+// checks against PostgreSQL's own array codec (the form as sent) and
+// ledger/profilepack's tests bit for bit (the packed form).
+func TestProfileCanonStoredMatches(t *testing.T) {
 	sent := ledger.AppendFloat8Sent
-	ts := sent(nil, []float64{0, 5, 10})
-	press := sent(nil, []float64{0.1, math.NaN(), math.Inf(1)})
-	strain := sent(nil, []float64{1, 2, 3, math.Copysign(0, -1), 5, 6})
+	tsV, pressV, strainV := []float64{0, 5, 10}, []float64{0.1, math.NaN(), math.Inf(1)}, []float64{1, 2, 3, math.Copysign(0, -1), 5, 6}
+	ts, press, strain := sent(nil, tsV), sent(nil, pressV), sent(nil, strainV)
 	nullElem := slices.Clone(press)
 	binary.BigEndian.PutUint32(nullElem[20+12:], 0xffffffff)
+	pack := func(ts, press, strain []float64) []byte {
+		b, err := profilepack.Pack(nil, nil, ts, press, strain)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return b
+	}
+	packed := pack(tsV, pressV, strainV)
+	flipped := slices.Clone(packed)
+	flipped[len(flipped)-1] ^= 0x40
+	two := []string{"hoop", "axial"}
 	for _, c := range []struct {
-		name              string
-		gauges            []string
-		ts, press, strain []byte
-		wantWhy           string // a part of the finding; "" for none
+		name                      string
+		gauges                    []string
+		ts, press, strain, series []byte
+		wantWhy                   string // a part of the finding; "" for none
 	}{
-		{"two gauges", []string{"hoop", "axial"}, ts, press, strain, ""},
-		{"no gauges", nil, ts, press, sent(nil, nil), ""},
-		{"empty profile", nil, sent(nil, nil), sent(nil, nil), sent(nil, nil), ""},
-		{"a pressure short", []string{"hoop", "axial"}, ts, sent(nil, []float64{1, 2}), strain, "3 times and 2 pressures"},
-		{"strain for one gauge too few", []string{"hoop", "axial", "third"}, ts, press, strain, "6 values for 3 gauges"},
-		{"a NULL element", []string{"hoop", "axial"}, ts, nullElem, strain, "element 2 has length -1"},
-		{"cut short", []string{"hoop", "axial"}, ts[:len(ts)-1], press, strain, "elements in"},
-		{"two faults: the first series' is told", []string{"hoop", "axial"}, ts[:len(ts)-1], nullElem, strain, "elements in"},
+		{"two gauges", two, ts, press, strain, nil, ""},
+		{"two gauges, packed", two, nil, nil, nil, packed, ""},
+		{"no gauges", nil, ts, press, sent(nil, nil), nil, ""},
+		{"no gauges, packed", nil, nil, nil, nil, pack(tsV, pressV, nil), ""},
+		{"empty profile", nil, sent(nil, nil), sent(nil, nil), sent(nil, nil), nil, ""},
+		{"empty profile, packed", nil, nil, nil, nil, pack(nil, nil, nil), ""},
+		{"a pressure short", two, ts, sent(nil, []float64{1, 2}), strain, nil, "3 times and 2 pressures"},
+		{"strain for one gauge too few", []string{"hoop", "axial", "third"}, ts, press, strain, nil, "6 values for 3 gauges"},
+		{"strain for one gauge too few, packed", []string{"hoop", "axial", "third"}, nil, nil, nil, packed, "6 values for 3 gauges"},
+		{"a NULL element", two, ts, nullElem, strain, nil, "element 2 has length -1"},
+		{"cut short", two, ts[:len(ts)-1], press, strain, nil, "elements in"},
+		{"packed, cut short", two, nil, nil, nil, packed[:len(packed)-1], "not a packed profile"},
+		{"two faults: the first series' is told", two, ts[:len(ts)-1], nullElem, strain, nil, "elements in"},
+		{"both forms", two, ts, press, strain, packed, "both packed and as sent"},
+		{"packed and one series as sent", two, nil, press, nil, packed, "both packed and as sent"},
+		{"neither form", two, nil, nil, nil, nil, "no series"},
+		{"one series missing", two, ts, nil, strain, nil, "bytes of header"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{1, 2, 3}, 5, c.gauges, c.ts, c.press, c.strain)
+			direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{1, 2, 3}, 5, c.gauges, c.ts, c.press, c.strain, c.series)
 			if dWhy != why {
 				t.Fatalf("findings differ: direct %q, decoded %q", dWhy, why)
 			}
@@ -280,22 +362,45 @@ func TestProfileCanonSentMatches(t *testing.T) {
 			}
 		})
 	}
+	// Both forms of the same values read to the same canonical bytes: the
+	// chain hashed the values, and packing moves no hash.
+	asSent, _, _, _ := ledger.ProfileCanonBothWays([16]byte{1}, 5, two, ts, press, strain, nil)
+	asPacked, _, _, _ := ledger.ProfileCanonBothWays([16]byte{1}, 5, two, nil, nil, nil, packed)
+	if len(asSent) == 0 || !bytes.Equal(asSent, asPacked) {
+		t.Fatalf("the two forms of one profile differ in their canonical bytes (%d and %d bytes)", len(asSent), len(asPacked))
+	}
+	// A literal byte of the block changed still unpacks, to other values:
+	// their canonical bytes differ, so the chain finds the change.
+	changed, why, _, _ := ledger.ProfileCanonBothWays([16]byte{1}, 5, two, nil, nil, nil, flipped)
+	if why == "" && bytes.Equal(changed, asPacked) {
+		t.Fatal("a packed profile with a byte changed reads to the same canonical bytes")
+	}
 }
 
-// FuzzProfileCanonSent: on any stored bytes, the canonical bytes made
-// straight from the stored series and those made from the decoded values
-// are the same, or both ways find the same fault.
-func FuzzProfileCanonSent(f *testing.F) {
+// FuzzProfileCanonStored: on any stored bytes, in either form or both,
+// the canonical bytes made straight from the stored series and those made
+// from the decoded values are the same, or both ways find the same fault.
+func FuzzProfileCanonStored(f *testing.F) {
 	sent := ledger.AppendFloat8Sent
-	f.Add(sent(nil, []float64{0, 5}), sent(nil, []float64{1, 2}), sent(nil, []float64{3, 4}), uint8(1))
-	f.Add(sent(nil, nil), sent(nil, nil), sent(nil, nil), uint8(0))
-	f.Add(sent(nil, []float64{0}), sent(nil, []float64{1}), sent(nil, []float64{3, 4}), uint8(2))
-	f.Fuzz(func(t *testing.T, ts, press, strain []byte, ng uint8) {
+	packed, _ := profilepack.Pack(nil, nil, []float64{0, 5}, []float64{1, 2}, []float64{3, 4})
+	f.Add(sent(nil, []float64{0, 5}), sent(nil, []float64{1, 2}), sent(nil, []float64{3, 4}), []byte(nil), uint8(1), uint8(0))
+	f.Add(sent(nil, nil), sent(nil, nil), sent(nil, nil), []byte(nil), uint8(0), uint8(0))
+	f.Add(sent(nil, []float64{0}), sent(nil, []float64{1}), sent(nil, []float64{3, 4}), []byte(nil), uint8(2), uint8(0))
+	f.Add([]byte(nil), []byte(nil), []byte(nil), packed, uint8(1), uint8(1))
+	f.Fuzz(func(t *testing.T, ts, press, strain, series []byte, ng, form uint8) {
 		gauges := make([]string, ng%4)
 		for i := range gauges {
 			gauges[i] = fmt.Sprint("g", i)
 		}
-		direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{9}, 1, gauges, ts, press, strain)
+		// form's bits make a column NULL: 1 the three as sent, 2 the
+		// packed series.
+		if form&1 != 0 {
+			ts, press, strain = nil, nil, nil
+		}
+		if form&2 != 0 {
+			series = nil
+		}
+		direct, dWhy, decoded, why := ledger.ProfileCanonBothWays([16]byte{9}, 1, gauges, ts, press, strain, series)
 		if dWhy != why || !bytes.Equal(direct, decoded) {
 			t.Fatalf("direct (%d bytes, %q) and decoded (%d bytes, %q) differ", len(direct), dWhy, len(decoded), why)
 		}

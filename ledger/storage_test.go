@@ -5,15 +5,15 @@ import (
 	"testing"
 )
 
-// TestStorageSettings: migration 011's storage is in place — the encoded
-// blocks are not compressed again (EXTERNAL), and the arrays of counted
-// cycles and profiles use lz4 where the server has it (Debian's
-// PostgreSQL does).
+// TestStorageSettings: migrations 011's and 020's storage is in place —
+// the encoded blocks and the packed profiles are not compressed again
+// (EXTERNAL), and the arrays of counted cycles and the profiles stored as
+// sent use lz4 where the server has it (Debian's PostgreSQL does).
 func TestStorageSettings(t *testing.T) {
 	l := newLedger(t, 0)
 	rows, err := l.Pool().Query(context.Background(), `SELECT attrelid::regclass::text || '.' || attname, attstorage, attcompression FROM pg_attribute
 		WHERE (attrelid, attname) IN (('reading_blocks'::regclass, 'data'), ('dive_cycles'::regclass, 'ranges'), ('dive_cycles'::regclass, 'means'),
-			('dive_cycles'::regclass, 'counts'), ('dive_profiles'::regclass, 'time_s'), ('dive_profiles'::regclass, 'pressure_mpa'), ('dive_profiles'::regclass, 'strain_ue'))`)
+			('dive_cycles'::regclass, 'counts'), ('dive_profiles'::regclass, 'time_s'), ('dive_profiles'::regclass, 'pressure_mpa'), ('dive_profiles'::regclass, 'strain_ue'), ('dive_profiles'::regclass, 'series'))`)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -27,16 +27,18 @@ func TestStorageSettings(t *testing.T) {
 		}
 		n++
 		switch {
-		case col == "reading_blocks.data" && storage != 'e':
-			t.Errorf("%s: storage %q, want e (EXTERNAL: the blocks are compressed already)", col, storage)
-		case col != "reading_blocks.data" && compression != 'l':
+		case col == "reading_blocks.data" || col == "dive_profiles.series":
+			if storage != 'e' {
+				t.Errorf("%s: storage %q, want e (EXTERNAL: compressed already)", col, storage)
+			}
+		case compression != 'l':
 			t.Errorf("%s: compression %q, want l (lz4)", col, compression)
 		}
 	}
 	if err := rows.Err(); err != nil {
 		t.Fatal(err)
 	}
-	if n != 7 {
-		t.Fatalf("%d columns found, want 7", n)
+	if n != 8 {
+		t.Fatalf("%d columns found, want 8", n)
 	}
 }

@@ -983,17 +983,18 @@ func batchHolds(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) er
 
 func batchProfiles(ctx context.Context, q querier, hull uuid.UUID, b *hullBatch) error {
 	var gauges []string
-	return each(ctx, q, "dive profiles", "SELECT dive_id, step_s, time_s, pressure_mpa, gauges, strain_ue FROM dive_profiles WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
+	var r profileReader
+	return each(ctx, q, "dive profiles", "SELECT dive_id, "+profileColumns+" FROM dive_profiles WHERE hull_id = $1", hull, func(rows pgx.Rows) error {
 		var id uuid.UUID
 		var step float64
 		// The stored bytes, valid until the next row: used at once.
-		var ts, press, strain pgtype.DriverBytes
-		if err := rows.Scan(&id, &step, &ts, &press, &gauges, &strain); err != nil {
+		var ts, press, strain, series pgtype.DriverBytes
+		if err := rows.Scan(&id, &step, &gauges, &ts, &press, &strain, &series); err != nil {
 			return err
 		}
 		b.stored["dive_profile"]++
 		var why string
-		b.scratch, why = appendProfileCanonSent(b.scratch[:0], id, step, gauges, ts, press, strain)
+		b.scratch, why = appendProfileCanonStored(b.scratch[:0], &r, id, step, storedProfile{gauges: gauges, ts: ts, press: press, strain: strain, series: series})
 		if why != "" {
 			b.settle("dive_profile", id.String(), nil, 0, why, nil)
 			return nil

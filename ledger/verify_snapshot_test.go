@@ -307,8 +307,8 @@ func TestRowsOfNoHull(t *testing.T) {
 			SELECT dive_id, '00000000-0000-4000-8000-000000000001', seq, t_ns, channel, amplitude_db, energy, counts, duration_us, rise_us, 'lead_break' FROM ae_hits WHERE dive_id = $1`, dive); err != nil {
 			t.Fatal(err)
 		}
-		if err := tamperWith(l, "ALL", `INSERT INTO dive_profiles (dive_id, hull_id, step_s, time_s, pressure_mpa, gauges, strain_ue)
-			SELECT dive_id, '00000000-0000-4000-8000-000000000001', step_s, time_s, time_s, gauges, strain_ue FROM dive_profiles WHERE dive_id = $1`, dive); err != nil {
+		if err := tamperWith(l, "ALL", `INSERT INTO dive_profiles (dive_id, hull_id, step_s, gauges, series)
+			SELECT dive_id, '00000000-0000-4000-8000-000000000001', step_s, gauges, substring(series FROM 1 FOR 9) FROM dive_profiles WHERE dive_id = $1`, dive); err != nil {
 			t.Fatal(err)
 		}
 		hits2, checks2, err := l.HitsOf(ctx, dive)
@@ -442,11 +442,14 @@ func TestTamperJudgedRecords(t *testing.T) {
 		{"lower one time at pressure", "UPDATE dive_holds SET seconds[1] = seconds[1] / 2 WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
 		{"reshape a time at pressure into two dimensions", "UPDATE dive_holds SET levels = ('{' || levels::text || '}')::float8[], seconds = ('{' || seconds::text || '}')::float8[] WHERE " + row("dive_holds", "WHERE cardinality(seconds) > 0"), "dive_holds"},
 		{"reshape counted cycles into two dimensions", "UPDATE dive_cycles SET ranges = ('{' || ranges::text || '}')::float8[], means = ('{' || means::text || '}')::float8[], counts = ('{' || counts::text || '}')::float8[] WHERE " + row("dive_cycles", "WHERE cardinality(ranges) > 0"), "dive_cycles"},
-		{"set a profile's NULL flag", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000001'::bytea FROM 5 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
-		{"shift a profile's lower bound", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000005'::bytea FROM 17 FOR 4), time_s = overlay(time_s PLACING '\\x00000005'::bytea FROM 17 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
-		{"cut a profile short", "UPDATE dive_profiles SET pressure_mpa = substring(pressure_mpa FROM 1 FOR length(pressure_mpa) - 4), time_s = substring(time_s FROM 1 FOR length(time_s) - 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
-		{"change one pressure of a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x3f'::bytea FROM length(pressure_mpa) - 7 FOR 1) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
-		{"put a NULL into a profile", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\xffffffff'::bytea FROM 21 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		// The profile, packed (a profile stored as sent before migration
+		// 020: TestProfileCanonStoredMatches, TestMigrationsKeepProfiles).
+		{"change a packed profile's count of points", "UPDATE dive_profiles SET series = overlay(series PLACING '\\x00000001'::bytea FROM 2 FOR 4) WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		{"cut a packed profile short", "UPDATE dive_profiles SET series = substring(series FROM 1 FOR length(series) - 1) WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		{"change one byte of a packed profile", "UPDATE dive_profiles SET series = set_byte(series, length(series) - 1, get_byte(series, length(series) - 1) # 1) WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		{"give a dive another dive's packed profile", "UPDATE dive_profiles p SET series = o.series FROM dive_profiles o WHERE o.hull_id = p.hull_id AND o.dive_id <> p.dive_id AND o.gauges = p.gauges AND o.series <> p.series AND p." + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		{"store a profile in both forms", "ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_one_form; UPDATE dive_profiles SET time_s = '\\x', pressure_mpa = '\\x', strain_ue = '\\x' WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		{"remove a packed profile's series", "ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_one_form; UPDATE dive_profiles SET series = NULL WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
 		// Acoustic-emission hits (a dive whose file held none:
 		// TestHitlessDiveJudged).
 		{"remove every hit of a dive", "DELETE FROM ae_hits WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},

@@ -88,6 +88,14 @@ func (a *app) dbCmd() *cobra.Command {
 					}
 				}
 			}
+			if mr != nil && !a.asJSON {
+				if n := mr.Profiles.Packed; n > 0 {
+					a.printf("packed %d dive profiles stored before migration 020 (their values and the chain unchanged)\n", n)
+				}
+				if n := mr.Profiles.Unreadable; n > 0 {
+					a.printf("left %d dive profiles as stored: they cannot be read as hulltally wrote them; run hulltally verify\n", n)
+				}
+			}
 			if merr != nil {
 				return merr
 			}
@@ -96,7 +104,7 @@ func (a *app) dbCmd() *cobra.Command {
 				return err
 			}
 			if a.asJSON {
-				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": a.printableURL(l.Info().URL), "restored": restored})
+				return a.printJSON(map[string]any{"schema_version": cur, "latest": latest, "url": a.printableURL(l.Info().URL), "restored": restored, "profiles": mr.Profiles})
 			}
 			a.printf("schema at version %d of %d (%s)\n", cur, latest, a.printableURL(l.Info().URL))
 			return nil

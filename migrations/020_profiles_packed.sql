@@ -1,0 +1,23 @@
+-- Dive profiles are stored packed: every value of a profile in one bytea,
+-- series, byte-shuffled and LZ4-compressed by hulltally
+-- (ledger/profilepack), and kept as it is (STORAGE EXTERNAL: compressing
+-- it again would gain nothing). verify reads every profile of the fleet,
+-- and profiles were most of what it read: on the 500 × 100 benchmark fleet
+-- of cmd/hulltally-fleetbench, 2.9 GB of the 3.3 GB sent, each value as
+-- 12 bytes (a length word and the value), decompressed by the server
+-- first. Packed, the server sends the stored bytes as they are, about a
+-- quarter as many (DEVELOPERS.md, "Verify").
+--
+-- The profiles stored before this migration keep their form (migration
+-- 019: three bytea as PostgreSQL sends a float8[]) and stay readable;
+-- hulltally db migrate packs them, hull by hull, checking that each reads
+-- to the same values first. A row holds exactly one form. The values, and
+-- so the chain's hashes, are unchanged.
+ALTER TABLE dive_profiles
+    ADD COLUMN series bytea,
+    ALTER COLUMN time_s DROP NOT NULL,
+    ALTER COLUMN pressure_mpa DROP NOT NULL,
+    ALTER COLUMN strain_ue DROP NOT NULL,
+    ALTER COLUMN series SET STORAGE EXTERNAL,
+    ADD CONSTRAINT dive_profiles_one_form
+        CHECK (num_nonnulls(time_s, pressure_mpa, strain_ue) = CASE WHEN series IS NULL THEN 3 ELSE 0 END);
