@@ -53,3 +53,7 @@ var HullRowTables = hullRowTables()
 func (l *Ledger) DiveOfTwoHulls(ctx context.Context) (*Broken, error) {
 	return diveOfTwoHulls(ctx, l.pool)
 }
+
+// ErrProfileChanged exposes the error of a stored profile not as
+// hulltally wrote it.
+var ErrProfileChanged = errProfileChanged

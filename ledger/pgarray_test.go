@@ -176,7 +176,12 @@ func TestMigrationsKeepProfiles(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	// d2 and d3: the same samples on later days, so the same profile.
 	d2, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d2.csv", strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-02"))})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d3, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d3.csv", strings.ReplaceAll(goodDive, "2026-05-01", "2026-05-03"))})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -201,7 +206,7 @@ func TestMigrationsKeepProfiles(t *testing.T) {
 		t.Fatal(err)
 	}
 	// asBefore puts both dives' profiles back as the schema before 019
-	// kept them (d2's values are d's: the same samples), with pressures given by the
+	// kept them (d2's and d3's values are d's: the same samples), with pressures given by the
 	// SQL expression press ($1: the values), then runs migration 019 and
 	// puts 020's constraint back.
 	asBefore := func(tx pgx.Tx, press string) error {
@@ -216,7 +221,7 @@ func TestMigrationsKeepProfiles(t *testing.T) {
 				return fmt.Errorf("%s: %w", s, err)
 			}
 		}
-		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = "+press+", strain_ue = $4, series = NULL WHERE dive_id = ANY($1)", []uuid.UUID{d.ID, d2.ID}, before.TimeS, before.PressureMPa, strain); err != nil {
+		if _, err := tx.Exec(ctx, "UPDATE dive_profiles SET time_s = $2, pressure_mpa = "+press+", strain_ue = $4, series = NULL WHERE dive_id = ANY($1)", []uuid.UUID{d.ID, d2.ID, d3.ID}, before.TimeS, before.PressureMPa, strain); err != nil {
 			return err
 		}
 		if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles ENABLE TRIGGER USER"); err != nil {
@@ -262,33 +267,49 @@ func TestMigrationsKeepProfiles(t *testing.T) {
 		}
 	}
 	sameProfile("in migration 019")
-	// d2 is the same samples a day later: its profile's values are d's.
+	// d2 and d3 are the same samples on later days: their profiles' values
+	// are d's.
 	if res, err := l.Verify(ctx); err != nil || !res.OK {
 		t.Fatalf("verify after migration 019: %v %+v", err, res.FirstBroken)
 	}
-	// Now spoil d2's stored form itself: a NULL flag, which no reader
-	// accepts; packing must leave it as it is.
-	if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000001'::bytea FROM 5 FOR 4) WHERE dive_id = $1", d2.ID); err != nil {
+	// Now change d2's last pressure behind the chain, in a form still
+	// read (packing must carry the changed value over, for verify to
+	// find), and spoil d3's stored form itself: a NULL flag, which no
+	// reader accepts (packing must leave it as it is). And an
+	// administrator has the guard fire always: packing must keep that.
+	if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET pressure_mpa = set_byte(pressure_mpa, length(pressure_mpa) - 8, get_byte(pressure_mpa, length(pressure_mpa) - 8) # 1) WHERE dive_id = $1", d2.ID); err != nil {
+		t.Fatal(err)
+	}
+	if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000001'::bytea FROM 5 FOR 4) WHERE dive_id = $1", d3.ID); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := l.Pool().Exec(ctx, "ALTER TABLE dive_profiles ENABLE ALWAYS TRIGGER dive_profiles_append_only"); err != nil {
 		t.Fatal(err)
 	}
 	mr, err := l.Migrate(ctx)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if mr.Profiles != (ledger.ProfilesPacked{Packed: 1, Unreadable: 1}) {
-		t.Fatalf("packing: %+v, want 1 packed and 1 unreadable", mr.Profiles)
+	if mr.Profiles != (ledger.ProfilesPacked{Packed: 2, Unreadable: 1}) {
+		t.Fatalf("packing: %+v, want 2 packed and 1 unreadable", mr.Profiles)
 	}
 	var packed, asSent bool
-	if err := l.Pool().QueryRow(ctx, "SELECT (SELECT series IS NOT NULL AND time_s IS NULL FROM dive_profiles WHERE dive_id = $1), (SELECT series IS NULL AND time_s IS NOT NULL FROM dive_profiles WHERE dive_id = $2)", d.ID, d2.ID).Scan(&packed, &asSent); err != nil || !packed || !asSent {
-		t.Fatalf("after packing: d packed %v, d2 left as sent %v (%v)", packed, asSent, err)
+	var mode string
+	if err := l.Pool().QueryRow(ctx, `SELECT (SELECT bool_and(series IS NOT NULL AND time_s IS NULL) FROM dive_profiles WHERE dive_id = ANY($1)),
+		(SELECT series IS NULL AND time_s IS NOT NULL FROM dive_profiles WHERE dive_id = $2),
+		(SELECT tgenabled::text FROM pg_trigger WHERE tgname = 'dive_profiles_append_only')`, []uuid.UUID{d.ID, d2.ID}, d3.ID).Scan(&packed, &asSent, &mode); err != nil || !packed || !asSent || mode != "A" {
+		t.Fatalf("after packing: d and d2 packed %v, d3 left as sent %v, the guard %q (want A) (%v)", packed, asSent, mode, err)
+	}
+	if _, err := l.ProfileOf(ctx, d3.ID); !errors.Is(err, ledger.ErrProfileChanged) {
+		t.Fatalf("d3's profile read after packing: %v, want it refused as changed", err)
 	}
 	sameProfile("in packing")
 	if after, _, err := l.ChainHead(ctx, h.ID); err != nil || !bytes.Equal(after, head) {
 		t.Fatalf("the chain head moved in packing (%v)", err)
 	}
 	res, err := l.Verify(ctx)
-	if err != nil || res.OK || res.FirstBroken == nil || res.FirstBroken.Key != d2.ID.String() || !strings.Contains(res.FirstBroken.Reason, "NULL flag") {
-		t.Fatalf("verify after packing: %v %+v, want d2's profile found unreadable", err, res.FirstBroken)
+	if err != nil || res.OK || res.FirstBroken == nil || res.FirstBroken.Key != d2.ID.String() || res.FirstBroken.Kind != "dive_profile" {
+		t.Fatalf("verify after packing: %v %+v, want d2's profile found changed", err, res.FirstBroken)
 	}
 	// Packing again finds nothing more to pack; the guard is on again.
 	if mr, err := l.Migrate(ctx); err != nil || mr.Profiles != (ledger.ProfilesPacked{Unreadable: 1}) || len(mr.Restored) != 0 {

@@ -12,6 +12,7 @@ import (
 	"github.com/jackc/pgx/v5"
 	"github.com/jackc/pgx/v5/pgconn"
 
+	"hulltally/fatigue/stream"
 	"hulltally/ledger/profilepack"
 )
 
@@ -97,13 +98,23 @@ func (r *profileReader) values(s storedProfile) (vals []byte, n int, why string)
 	if s.ts != nil || s.press != nil || s.strain != nil {
 		return nil, 0, "profile is stored both packed and as sent (the stored record was changed)"
 	}
+	// The counts first, from the header alone: a changed header cannot
+	// make the reader allocate more than the profile hulltally keeps for
+	// the row's gauges (and Unpack bounds it by the stored bytes too).
+	n, m, err := profilepack.Header(s.series)
+	if err != nil {
+		return nil, 0, fmt.Sprintf("profile: %v (the stored record was changed)", err)
+	}
+	if n > stream.MaxProfilePoints {
+		return nil, 0, fmt.Sprintf("profile has %d points, more than the %d hulltally keeps (the stored record was changed)", n, stream.MaxProfilePoints)
+	}
+	if m != n*len(s.gauges) {
+		return nil, 0, fmt.Sprintf("profile strain has %d values for %d gauges × %d points", m, len(s.gauges), n)
+	}
 	u, vals, planes, err := profilepack.Unpack(s.series, r.vals, r.planes)
 	r.vals, r.planes = vals, planes
 	if err != nil {
 		return nil, 0, fmt.Sprintf("profile: %v (the stored record was changed)", err)
-	}
-	if u.M != u.N*len(s.gauges) {
-		return nil, 0, fmt.Sprintf("profile strain has %d values for %d gauges × %d points", u.M, len(s.gauges), u.N)
 	}
 	return u.Values, u.N, ""
 }
@@ -201,6 +212,7 @@ func appendBE(dst []float64, b []byte) []float64 {
 	return dst
 }
 
+// flatStrain is the profile's strain, gauge after gauge, as stored.
 func flatStrain(p *profileAcc) []float64 {
 	out := make([]float64, 0, len(p.Strain)*len(p.TimeS))
 	for _, g := range p.Strain {
@@ -318,12 +330,12 @@ func (l *Ledger) packProfiles(ctx context.Context) (ProfilesPacked, error) {
 // the last dive id read.
 func packProfileBatch(ctx context.Context, tx pgx.Tx, r *profileReader, pk *profilepack.Packer, hull, after uuid.UUID, res *ProfilesPacked) (int, uuid.UUID, error) {
 	if _, err := tx.Exec(ctx, "SELECT pg_advisory_xact_lock(hashtext('hulltally append-only guards'))"); err != nil {
-		return 0, after, err
+		return 0, after, fmt.Errorf("waiting for the guards' lock: %w", err)
 	}
 	rows, err := tx.Query(ctx, `SELECT dive_id, gauges, time_s, pressure_mpa, strain_ue FROM dive_profiles
 		WHERE hull_id = $1 AND dive_id > $2 AND series IS NULL ORDER BY dive_id LIMIT $3 FOR UPDATE`, hull, after, packBatch)
 	if err != nil {
-		return 0, after, err
+		return 0, after, fmt.Errorf("reading profiles as sent: %w", err)
 	}
 	var ids []uuid.UUID
 	var packs [][]byte
@@ -356,13 +368,24 @@ func packProfileBatch(ctx context.Context, tx pgx.Tx, r *profileReader, pk *prof
 	}
 	rows.Close()
 	if err := rows.Err(); err != nil {
-		return 0, after, err
+		return 0, after, fmt.Errorf("reading profiles as sent: %w", err)
 	}
 	if len(ids) == 0 {
 		return n, after, nil
 	}
+	// The guard goes back as it was: firing in ordinary sessions (O) or
+	// always (A, which an administrator may have chosen so that replica
+	// sessions cannot skip it). Migrate restored any other state first.
+	var mode string
+	if err := tx.QueryRow(ctx, "SELECT tgenabled::text FROM pg_trigger WHERE tgrelid = 'dive_profiles'::regclass AND tgname = 'dive_profiles_append_only'").Scan(&mode); err != nil {
+		return 0, after, fmt.Errorf("reading the append-only guard of dive_profiles: %w", err)
+	}
+	enable := map[string]string{"O": "ENABLE TRIGGER", "A": "ENABLE ALWAYS TRIGGER"}[mode]
+	if enable == "" {
+		return 0, after, fmt.Errorf("the append-only guard of dive_profiles is in state %q, not firing: nothing packed", mode)
+	}
 	if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles DISABLE TRIGGER dive_profiles_append_only"); err != nil {
-		return 0, after, err
+		return 0, after, fmt.Errorf("switching the guard off for the batch: %w", err)
 	}
 	var batch pgx.Batch
 	for k, id := range ids {
@@ -375,10 +398,10 @@ func packProfileBatch(ctx context.Context, tx pgx.Tx, r *profileReader, pk *prof
 		})
 	}
 	if err := tx.SendBatch(ctx, &batch).Close(); err != nil {
-		return 0, after, err
+		return 0, after, fmt.Errorf("replacing profiles by their packed form: %w", err)
 	}
-	if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles ENABLE TRIGGER dive_profiles_append_only"); err != nil {
-		return 0, after, err
+	if _, err := tx.Exec(ctx, "ALTER TABLE dive_profiles "+enable+" dive_profiles_append_only"); err != nil {
+		return 0, after, fmt.Errorf("switching the guard on again: %w", err)
 	}
 	res.Packed += len(ids)
 	return n, after, nil

@@ -16,6 +16,7 @@ import (
 
 	"hulltally/fatigue/seawater"
 	"hulltally/ledger"
+	"hulltally/ledger/profilepack"
 	"hulltally/ledger/synth"
 )
 
@@ -384,6 +385,29 @@ func tamper(t *testing.T, l *ledger.Ledger, sql string, args ...any) {
 // tamperWith is tamper with the triggers of scope switched off: USER (the
 // append-only guards) or ALL (the foreign keys as well, which takes a
 // superuser).
+// profileAsSent puts the first stored profile back in the form profiles
+// were stored in before migration 020 (three float8[] as sent), with its
+// own values, behind the guards.
+func profileAsSent(t *testing.T, l *ledger.Ledger) {
+	t.Helper()
+	ctx := context.Background()
+	var id uuid.UUID
+	var series []byte
+	if err := l.Pool().QueryRow(ctx, "SELECT dive_id, series FROM dive_profiles WHERE length(series) > 100 ORDER BY dive_id LIMIT 1").Scan(&id, &series); err != nil {
+		t.Fatal(err)
+	}
+	u, _, _, err := profilepack.Unpack(series, nil, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	v := u.Float(nil, 0, 2*u.N+u.M)
+	sent := ledger.AppendFloat8Sent
+	if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET series = NULL, time_s = $2, pressure_mpa = $3, strain_ue = $4 WHERE dive_id = $1",
+		id, sent(nil, v[:u.N]), sent(nil, v[u.N:2*u.N]), sent(nil, v[2*u.N:])); err != nil {
+		t.Fatal(err)
+	}
+}
+
 func tamperWith(l *ledger.Ledger, scope, sql string, args ...any) error {
 	ctx := context.Background()
 	return pgx.BeginFunc(ctx, l.Pool(), func(tx pgx.Tx) error {
@@ -450,6 +474,13 @@ func TestTamperJudgedRecords(t *testing.T) {
 		{"give a dive another dive's packed profile", "UPDATE dive_profiles p SET series = o.series FROM dive_profiles o WHERE o.hull_id = p.hull_id AND o.dive_id <> p.dive_id AND o.gauges = p.gauges AND o.series <> p.series AND p." + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
 		{"store a profile in both forms", "ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_one_form; UPDATE dive_profiles SET time_s = '\\x', pressure_mpa = '\\x', strain_ue = '\\x' WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
 		{"remove a packed profile's series", "ALTER TABLE dive_profiles DROP CONSTRAINT dive_profiles_one_form; UPDATE dive_profiles SET series = NULL WHERE " + row("dive_profiles", "WHERE length(series) > 100"), "dive_profile"},
+		// The profile stored as sent (before migration 020; one profile
+		// is put back in that form first, and verifies clean so).
+		{"set a profile's NULL flag (as sent)", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000001'::bytea FROM 5 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"shift a profile's lower bound (as sent)", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\x00000005'::bytea FROM 17 FOR 4), time_s = overlay(time_s PLACING '\\x00000005'::bytea FROM 17 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"cut a profile short (as sent)", "UPDATE dive_profiles SET pressure_mpa = substring(pressure_mpa FROM 1 FOR length(pressure_mpa) - 4), time_s = substring(time_s FROM 1 FOR length(time_s) - 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"change one pressure of a profile (as sent)", "UPDATE dive_profiles SET pressure_mpa = set_byte(pressure_mpa, length(pressure_mpa) - 8, get_byte(pressure_mpa, length(pressure_mpa) - 8) # 1) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
+		{"put a NULL into a profile (as sent)", "UPDATE dive_profiles SET pressure_mpa = overlay(pressure_mpa PLACING '\\xffffffff'::bytea FROM 21 FOR 4) WHERE " + row("dive_profiles", "WHERE length(pressure_mpa) > 20"), "dive_profile"},
 		// Acoustic-emission hits (a dive whose file held none:
 		// TestHitlessDiveJudged).
 		{"remove every hit of a dive", "DELETE FROM ae_hits WHERE dive_id = (SELECT dive_id FROM ae_hits LIMIT 1)", "ae_hits"},
@@ -467,6 +498,9 @@ func TestTamperJudgedRecords(t *testing.T) {
 	for _, tc := range cases {
 		t.Run(tc.name, func(t *testing.T) {
 			l := judgedLedger(t)
+			if strings.HasSuffix(tc.name, "(as sent)") {
+				profileAsSent(t, l)
+			}
 			res, err := l.Verify(ctx)
 			if err != nil || !res.OK {
 				t.Fatalf("clean ledger: %v %+v", err, res)

@@ -21,7 +21,9 @@
 // No values, no block. Unpack refuses anything else: another format, a
 // block that does not decompress to exactly 8·(2n+m) bytes, counts that no
 // block of its length could hold (so a changed header cannot make it
-// allocate more than a bounded multiple of the bytes it was given).
+// allocate more than a bounded multiple of the bytes it was given), counts
+// Pack would not write. Header reads the counts alone, so that a reader
+// can check them against what it expects before anything is allocated.
 package profilepack
 
 import (
@@ -29,6 +31,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"slices"
 
 	"github.com/pierrec/lz4/v4"
 )
@@ -39,11 +42,18 @@ const Format = 1
 // headerLen is the bytes before the LZ4 block.
 const headerLen = 9
 
-// maxRatio bounds the decompressed bytes per byte of an LZ4 block: every
-// 255 bytes of a match's length take a byte to encode, and each sequence
-// a token and an offset besides, so no block decompresses to 255 times
-// its length (from memory of the LZ4 block format's description; an
-// all-zero profile of 240 000 values packs at 254 to 1 in TestRoundTrip).
+// maxCount bounds the points and the further values of a packed profile.
+const maxCount = math.MaxUint32 / 8
+
+// maxRatio bounds the decompressed bytes per byte of an LZ4 block. In the
+// block format (lz4_Block_format.md of the LZ4 project, from memory) a
+// sequence is a token byte, its literals (each one byte in, one out), a
+// two-byte offset and a match of 4 bytes or more whose length beyond 19
+// takes one more byte per 255; so a sequence of k bytes gives at most
+// about 255·k bytes, and the last sequence is literals only. No block
+// decompresses to 255 times its length: an all-zero profile of 240 000
+// values packs at 254 to 1 (TestRoundTrip), and a review's hand-made
+// block at 254.99 to 1; 256 leaves room.
 const maxRatio = 256
 
 // ErrNotPacked is a stored value Unpack cannot read as a packed profile.
@@ -56,7 +66,7 @@ func Pack(dst []byte, c *Packer, times, press, more []float64) ([]byte, error) {
 	if len(press) != len(times) {
 		return dst, fmt.Errorf("profilepack: %d times and %d pressures", len(times), len(press))
 	}
-	if uint64(len(times)) > math.MaxUint32/8 || uint64(len(more)) > math.MaxUint32/8 {
+	if uint64(len(times)) > maxCount || uint64(len(more)) > maxCount {
 		return dst, fmt.Errorf("profilepack: %d points and %d further values are too many", len(times), len(more))
 	}
 	if c == nil {
@@ -72,7 +82,8 @@ func Pack(dst []byte, c *Packer, times, press, more []float64) ([]byte, error) {
 	}
 	c.raw = shuffle(c.raw[:0], v, times, press, more)
 	o := len(dst)
-	dst = append(dst, make([]byte, lz4.CompressBlockBound(len(c.raw)))...)
+	dst = slices.Grow(dst, lz4.CompressBlockBound(len(c.raw)))
+	dst = dst[:cap(dst)]
 	k, err := c.lz.CompressBlock(c.raw, dst[o:])
 	if err != nil {
 		return dst[:start], fmt.Errorf("profilepack: %w", err)
@@ -125,19 +136,32 @@ func (u Unpacked) Float(dst []float64, from, to int) []float64 {
 	return dst
 }
 
+// Header returns a packed profile's counts, points n and further values
+// m, from its header alone; a header Pack would not write is ErrNotPacked.
+func Header(src []byte) (n, m int, err error) {
+	if len(src) < headerLen {
+		return 0, 0, fmt.Errorf("%w: %d bytes of header", ErrNotPacked, len(src))
+	}
+	if src[0] != Format {
+		return 0, 0, fmt.Errorf("%w: format %d", ErrNotPacked, src[0])
+	}
+	n64, m64 := uint64(binary.BigEndian.Uint32(src[1:])), uint64(binary.BigEndian.Uint32(src[5:]))
+	if n64 > maxCount || m64 > maxCount {
+		return 0, 0, fmt.Errorf("%w: %d points and %d further values, more than it ever holds", ErrNotPacked, n64, m64)
+	}
+	return int(n64), int(m64), nil
+}
+
 // Unpack reads a packed profile, unshuffling its values into scratch
 // (grown as needed; the result's Values lie in it, valid until it is
 // reused) and using planes as the decompression buffer (likewise). A
 // value it cannot read as one is ErrNotPacked.
 func Unpack(src, scratch, planes []byte) (u Unpacked, scratchOut, planesOut []byte, err error) {
-	if len(src) < headerLen {
-		return u, scratch, planes, fmt.Errorf("%w: %d bytes of header", ErrNotPacked, len(src))
+	nn, mm, err := Header(src)
+	if err != nil {
+		return u, scratch, planes, err
 	}
-	if src[0] != Format {
-		return u, scratch, planes, fmt.Errorf("%w: format %d", ErrNotPacked, src[0])
-	}
-	n := uint64(binary.BigEndian.Uint32(src[1:]))
-	m := uint64(binary.BigEndian.Uint32(src[5:]))
+	n, m := uint64(nn), uint64(mm)
 	block := src[headerLen:]
 	raw := 8 * (2*n + m) // < 2^38: no overflow
 	if raw == 0 {

@@ -149,6 +149,10 @@ func TestUnpackRefuses(t *testing.T) {
 		{"a byte after the block", append(append([]byte(nil), good...), 0)},
 		{"no block for values", good[:9]},
 		{"a block for no values", append(append([]byte(nil), empty...), 0)},
+		{"counts beyond what this block holds", with(good[:12], func(b []byte) []byte {
+			binary.BigEndian.PutUint32(b[1:], 1_000_000)
+			return b
+		})},
 		{"counts beyond any block", with(good[:12], func(b []byte) []byte {
 			binary.BigEndian.PutUint32(b[1:], math.MaxUint32)
 			binary.BigEndian.PutUint32(b[5:], math.MaxUint32)
