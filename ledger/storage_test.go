@@ -2,7 +2,10 @@ package ledger_test
 
 import (
 	"context"
+	"strings"
 	"testing"
+
+	"hulltally/ledger"
 )
 
 // TestStorageSettings: migrations 011's and 020's storage is in place —
@@ -40,5 +43,38 @@ func TestStorageSettings(t *testing.T) {
 	}
 	if n != 8 {
 		t.Fatalf("%d columns found, want 8", n)
+	}
+}
+
+// TestSeriesHeaderChecked: the database refuses a packed profile whose
+// header is not one hulltally writes (migration 020's check), each way a
+// header can be wrong; hulltally checks it again on every read (the
+// tamper tests drop the check first).
+func TestSeriesHeaderChecked(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	d, err := l.LogDive(ctx, ledger.LogRequest{Hull: serial, Samples: writeFile(t, "d.csv", goodDive)})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct{ name, set string }{
+		{"another format", "set_byte(series, 0, 2)"},
+		{"a point more", "set_byte(series, 4, get_byte(series, 4) # 1)"},
+		{"a strain value more", "set_byte(series, 8, get_byte(series, 8) # 1)"},
+		{"header cut short", "substring(series FROM 1 FOR 8)"},
+		{"no bytes", "''::bytea"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			err := tamperWith(l, "ALL", "UPDATE dive_profiles SET series = "+c.set+" WHERE dive_id = $1", d.ID)
+			if err == nil || !strings.Contains(err.Error(), "dive_profiles_series_header") {
+				t.Fatalf("series = %s: %v, want refused by dive_profiles_series_header", c.set, err)
+			}
+		})
+	}
+	// The gauges changed under a packed profile: the strain no longer
+	// pairs with them.
+	err = tamperWith(l, "ALL", "UPDATE dive_profiles SET gauges = gauges || 'extra'::text WHERE dive_id = $1", d.ID)
+	if err == nil || !strings.Contains(err.Error(), "dive_profiles_series_header") {
+		t.Fatalf("a gauge added: %v, want refused by dive_profiles_series_header", err)
 	}
 }

@@ -20,4 +20,12 @@ ALTER TABLE dive_profiles
     ALTER COLUMN strain_ue DROP NOT NULL,
     ALTER COLUMN series SET STORAGE EXTERNAL,
     ADD CONSTRAINT dive_profiles_one_form
-        CHECK (num_nonnulls(time_s, pressure_mpa, strain_ue) = CASE WHEN series IS NULL THEN 3 ELSE 0 END);
+        CHECK (num_nonnulls(time_s, pressure_mpa, strain_ue) = CASE WHEN series IS NULL THEN 3 ELSE 0 END),
+    -- The packed header as hulltally writes it: format 1, then the points
+    -- and the strain values (big-endian), one strain series per gauge.
+    -- hulltally checks it again on every read, and the block behind it.
+    ADD CONSTRAINT dive_profiles_series_header
+        CHECK (series IS NULL OR (octet_length(series) >= 9 AND get_byte(series, 0) = 1
+            AND (get_byte(series, 5)::bigint << 24 | get_byte(series, 6) << 16 | get_byte(series, 7) << 8 | get_byte(series, 8))
+              = (get_byte(series, 1)::bigint << 24 | get_byte(series, 2) << 16 | get_byte(series, 3) << 8 | get_byte(series, 4))
+                * coalesce(cardinality(gauges), 0)));
