@@ -499,7 +499,8 @@ func ImplosionOf(h *Hull, pMPa float64) (*Implosion, error) {
 // (the one of its last 10 dives whose peak is nearest the planned
 // pressure) scaled to the planned depth, its time at depth scaled to the
 // planned bottom time. A hull with no dives gets a plain profile: one
-// cycle from the surface to the planned pressure and the bottom time at it.
+// cycle from the surface to the planned pressure and the bottom time at
+// it, never less than the design dive's (fatigue.design_bottom_time_min).
 func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64) (float64, string, error) {
 	target := seawater.DepthToMPa(depthM, 90) // the most pressure per metre: the safe side
 	comps, err := l.resolve(h.Spec)
@@ -547,7 +548,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 	for i := range recent {
 		recent[i].Cycles = append(recent[i].Cycles, later[ids[i]]...)
 	}
-	d, basis := plan.Predict(recent, target, bottomMin)
+	d, basis := plan.Predict(recent, target, bottomMin, l.cfg.Fatigue.DesignBottomTimeMin)
 	res, err := assess.DiveDamage(d, comps, l.fat.settings)
 	if err != nil {
 		return 0, "", err

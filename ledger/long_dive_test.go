@@ -185,3 +185,36 @@ func TestLogDiveMemoryBounded(t *testing.T) {
 		t.Fatalf("the heap grew with the dive's cycles: %.1f MB against %.1f MB", float64(big)/(1<<20), float64(small)/(1<<20))
 	}
 }
+
+// TestClearWithoutHistoryHoldsDesignBottomTime: a hull with no dives on
+// record, asked for clearance without a bottom time, is predicted with
+// the design dive's bottom time at the planned depth (configured
+// fatigue.design_bottom_time_min, 60 min by default), not as a bounce:
+// the predicted damage is that of a plan of 60 minutes, and a plan of
+// 600 minutes is held as given.
+func TestClearWithoutHistoryHoldsDesignBottomTime(t *testing.T) {
+	ctx := context.Background()
+	l := newLedger(t, 0)
+	now := time.Date(2026, 6, 1, 0, 0, 0, 0, time.UTC)
+	none, err := l.Clear(ctx, serial, 2000, 0, now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(none.PredictionBasis, "60 min at it (the design dive's bottom time") {
+		t.Fatalf("basis %q, want the design dive's 60 min", none.PredictionBasis)
+	}
+	hour, err := l.Clear(ctx, serial, 2000, 60, now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if none.PredictedDamageRatio != hour.PredictedDamageRatio || !(hour.PredictedDamageRatio > 0) {
+		t.Fatalf("no bottom time predicted %v, 60 min %v: want the same", none.PredictedDamageRatio, hour.PredictedDamageRatio)
+	}
+	long, err := l.Clear(ctx, serial, 2000, 600, now)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !(long.PredictedDamageRatio >= hour.PredictedDamageRatio) || !strings.Contains(long.PredictionBasis, "600 min at it") {
+		t.Fatalf("600 min: %v (%q), want at least the 60 min's %v", long.PredictedDamageRatio, long.PredictionBasis, hour.PredictedDamageRatio)
+	}
+}

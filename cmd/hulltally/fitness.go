@@ -87,7 +87,7 @@ func (a *app) clearCmd() *cobra.Command {
 		},
 	}
 	c.Flags().Float64Var(&depth, "depth", 0, "planned depth, m (required)")
-	c.Flags().Float64Var(&bottom, "bottom-time", 0, "planned time at depth, minutes")
+	c.Flags().Float64Var(&bottom, "bottom-time", 0, "planned time at depth, minutes (left out: the typical recent dive's, or the design dive's with none on record)")
 	must(c.MarkFlagRequired("depth"))
 	return c
 }

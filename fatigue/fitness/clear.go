@@ -99,7 +99,14 @@ func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 		}
 	}
 	if planOK {
-		check("plan", false, Fit, "plan: %.1f m, %.0f min at depth, predicted damage %.4g of the allowable", p.DepthM, p.BottomTimeMin, p.PredictedDamageRatio)
+		// No bottom time given is not a dive of none: the prediction
+		// takes the typical recent dive's time at depth, or the design
+		// dive's with no dive on record (ledger.predict, fatigue/plan).
+		bottom := fmt.Sprintf("%.0f min at depth", p.BottomTimeMin)
+		if p.BottomTimeMin == 0 {
+			bottom = "no bottom time given (predicted with the typical recent dive's time at depth, or the design dive's)"
+		}
+		check("plan", false, Fit, "plan: %.1f m, %s, predicted damage %.4g of the allowable", p.DepthM, bottom, p.PredictedDamageRatio)
 	}
 
 	// Depth against the rating.

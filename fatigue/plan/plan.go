@@ -42,8 +42,11 @@ type Recent struct {
 // bottom time, never shrunk: a plan shorter than the typical dive is
 // predicted at the typical dive's time. With no usable dive on record the
 // prediction is one cycle from the surface to targetMPa (mean half of
-// it) and bottomMin minutes held at targetMPa.
-func Predict(recent []Recent, targetMPa, bottomMin float64) (assess.Dive, string) {
+// it) held there for bottomMin minutes, never less than designMin (the
+// design dive's bottom time): with no record of how long this hull's
+// dives stay down, a plan without a bottom time (0) or with a short one
+// is not predicted as a bounce.
+func Predict(recent []Recent, targetMPa, bottomMin, designMin float64) (assess.Dive, string) {
 	best := -1
 	for i, r := range recent {
 		if !(r.PeakMPa > 0) {
@@ -55,9 +58,13 @@ func Predict(recent []Recent, targetMPa, bottomMin float64) (assess.Dive, string
 	}
 	var d assess.Dive
 	if best < 0 {
+		held := math.Max(bottomMin, designMin)
 		d = assess.Dive{PressureCycles: []rainflow.Cycle{{Range: targetMPa, Mean: targetMPa / 2, Count: 1}},
-			Holds: []assess.Hold{{LevelMPa: targetMPa, Seconds: bottomMin * 60}}}
-		return d, fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it", targetMPa, bottomMin)
+			Holds: []assess.Hold{{LevelMPa: targetMPa, Seconds: held * 60}}}
+		if held > bottomMin {
+			return d, fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it (the design dive's bottom time, as the plan gave less: %.0f min)", targetMPa, held, bottomMin)
+		}
+		return d, fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it", targetMPa, held)
 	}
 	b := recent[best]
 	s := targetMPa / b.PeakMPa

@@ -21,6 +21,7 @@ func TestPredict(t *testing.T) {
 		recent    []Recent
 		target    float64
 		bottomMin float64
+		designMin float64
 		want      assess.Dive
 		wantBasis string
 	}{{
@@ -43,6 +44,17 @@ func TestPredict(t *testing.T) {
 		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 2700}}},
 		wantBasis: "no dives on record: one cycle to 12.000 MPa and 45 min at it",
 	}, {
+		// Adversarial: no dive on record and no bottom time given (0) is
+		// not a bounce: the design dive's bottom time (30 min here) is held.
+		name: "no dive on record, no bottom time", recent: nil, target: 12, bottomMin: 0, designMin: 30,
+		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 1800}}},
+		wantBasis: "no dives on record: one cycle to 12.000 MPa and 30 min at it (the design dive's bottom time, as the plan gave less: 0 min)",
+	}, {
+		// Nor is a short plan: 10 min planned, 30 min held.
+		name: "no dive on record, short plan", recent: nil, target: 12, bottomMin: 10, designMin: 30,
+		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 1800}}},
+		wantBasis: "no dives on record: one cycle to 12.000 MPa and 30 min at it (the design dive's bottom time, as the plan gave less: 10 min)",
+	}, {
 		// Equal distance (4 and 6 around 5): the newer (first) wins.
 		name: "tie goes to the newer dive", recent: []Recent{{ID: "new", PeakMPa: 4, Cycles: []rainflow.Cycle{{Range: 4, Mean: 2, Count: 1}}},
 			{ID: "old", PeakMPa: 6, Cycles: []rainflow.Cycle{{Range: 6, Mean: 3, Count: 1}}}}, target: 5, bottomMin: 0,
@@ -51,7 +63,7 @@ func TestPredict(t *testing.T) {
 	}}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
-			got, basis := Predict(tc.recent, tc.target, tc.bottomMin)
+			got, basis := Predict(tc.recent, tc.target, tc.bottomMin, tc.designMin)
 			if !reflect.DeepEqual(got, tc.want) {
 				t.Errorf("predicted %+v, want %+v", got, tc.want)
 			}
