@@ -1,6 +1,7 @@
 package reports
 
 import (
+	"fmt"
 	"strings"
 	"testing"
 	"time"
@@ -257,5 +258,58 @@ func TestCurveEnvironment(t *testing.T) {
 	}
 	if s := curveDescription(CurveInfo{Kind: "S-N", Material: "Ti-6Al-4V", Environment: "in seawater, free corrosion"}); !strings.Contains(s, "in seawater, free corrosion") {
 		t.Errorf("seawater curve: %q", s)
+	}
+}
+
+// TestCautionOnFirstPage: the adversarial case is a hull with many open
+// flags, whose reasons alone fill the first page: the caution is still
+// printed in full on page 1, where a reader starts (it used to follow the
+// key figures and the implosion hazard, and a long first page pushed it
+// to page 2).
+func TestCautionOnFirstPage(t *testing.T) {
+	m := fixture(t)
+	r0 := m.Hulls[0].Reasons[0]
+	for i := 0; i < 80; i++ {
+		r := r0
+		r.Code = fmt.Sprintf("rule-%d", i+1) // distinct rules: not collapsed into one line
+		r.Text = fmt.Sprintf("open flag %d: %s", i+1, r0.Text)
+		m.Hulls[0].Reasons = append(m.Hulls[0].Reasons, r)
+	}
+	r, err := RenderHullReport(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text := firstPage(t, r.PDF)
+	if !strings.Contains(text, flat(Caution)) {
+		t.Errorf("page 1 lacks the caution in full: %q", text)
+	}
+	if !strings.Contains(text, "open flag 1:") {
+		t.Errorf("page 1 lacks the first reason: %q", text)
+	}
+	if strings.Contains(text, "open flag 80:") {
+		t.Fatal("the fixture's reasons fit on page 1: the case does not test a long first page")
+	}
+	// The fleet summary of a fleet whose rows fill page 1 and more.
+	h0 := m.Hulls[0]
+	h0.Reasons = h0.Reasons[:1]
+	m.Hulls = nil
+	for i := 0; i < 120; i++ {
+		h := h0
+		sp := *h0.Spec
+		sp.Serial = fmt.Sprintf("CSC-T-%03d", i+1)
+		h.Spec = &sp
+		m.Hulls = append(m.Hulls, h)
+	}
+	m.Kind = KindFleet
+	fr, err := RenderFleetReport(m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text = firstPage(t, fr.PDF)
+	if !strings.Contains(text, flat(Caution)) {
+		t.Errorf("the fleet summary's page 1 lacks the caution in full: %q", text)
+	}
+	if strings.Contains(text, "CSC-T-120") {
+		t.Fatal("120 hulls fit on page 1: the case does not test a long first page")
 	}
 }

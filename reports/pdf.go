@@ -95,6 +95,10 @@ func hullBody(d *doc, m *Model) error {
 	p.AddPage()
 	d.h1(fmt.Sprintf("Fitness-for-service summary: hull %s (%s)", s.Serial, s.Name))
 	d.statusBox(hp.Status)
+	// The caution under the status, where a reader starts: after the key
+	// figures, a long list of reasons pushed it to page 2
+	// (TestCautionOnFirstPage). It is printed again at the end.
+	d.caution()
 	d.h2("Why")
 	d.table([]string{"level", "from", "reason"}, []float64{16, 22, bodyW - 38}, reasonRows(hp.Reasons, false))
 	if len(reasonRows(hp.Reasons, false)) == 0 {
@@ -144,7 +148,6 @@ func hullBody(d *doc, m *Model) error {
 	implosion(d, hp.Implosion, hp.ImplosionReason, s.RatedDepthM)
 	p.Ln(2)
 	d.para("Fingerprint (SHA-256 of this report's ledger content and audit-chain head): "+d.fp+". Check it with: hulltally report verify FILE.pdf", 7.5)
-	d.caution()
 
 	// Basis.
 	p.AddPage()
@@ -593,6 +596,8 @@ func diveBody(d *doc, m *Model) error {
 		d.pdf.SetTextColor(0, 0, 0)
 		d.pdf.Ln(1)
 	}
+	// On page 1, and again at the end.
+	d.caution()
 	note := ""
 	switch {
 	case dv.ProofTest:
@@ -824,6 +829,8 @@ func RenderFleetReport(m *Model) (*Rendered, error) {
 func fleetBody(d *doc, m *Model) error {
 	d.pdf.AddPage()
 	d.h1(fmt.Sprintf("Fleet summary: %d hulls, most urgent first", len(m.Hulls)))
+	// On page 1 whatever the fleet's size, and again at the end.
+	d.caution()
 	var rows [][]string
 	for _, h := range m.Hulls {
 		open := len(view.OpenFlags(h.Reasons))
