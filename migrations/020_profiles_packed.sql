@@ -29,3 +29,7 @@ ALTER TABLE dive_profiles
             AND (get_byte(series, 5)::bigint << 24 | get_byte(series, 6) << 16 | get_byte(series, 7) << 8 | get_byte(series, 8))
               = (get_byte(series, 1)::bigint << 24 | get_byte(series, 2) << 16 | get_byte(series, 3) << 8 | get_byte(series, 4))
                 * coalesce(cardinality(gauges), 0)));
+
+-- The profiles still to pack, for hulltally db migrate to find without
+-- reading the table (empty once every profile is packed).
+CREATE INDEX dive_profiles_as_sent ON dive_profiles (hull_id, dive_id) WHERE series IS NULL;
