@@ -103,9 +103,12 @@ func TestDBMigratePacksProfilesCLI(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	// Read as stored before 020: the same chain, verified.
+	// Read as stored before 020: the same chain, verified, with a note.
 	if got := verified(); got != headBefore {
 		t.Fatalf("verify of profiles as sent: head %s, want %s", got, headBefore)
+	}
+	if out := e.ok("verify"); !strings.Contains(out, "note: 2 dive profiles are still stored as before migration 020") {
+		t.Fatalf("verify does not note the profiles still as sent:\n%s", out)
 	}
 	out := e.ok("db", "migrate")
 	if !strings.Contains(out, "packed 2 dive profiles stored before migration 020") {
@@ -117,6 +120,9 @@ func TestDBMigratePacksProfilesCLI(t *testing.T) {
 	}
 	if got := verified(); got != headBefore {
 		t.Fatalf("verify after packing: head %s, want %s", got, headBefore)
+	}
+	if out := e.ok("verify"); strings.Contains(out, "note:") {
+		t.Fatalf("verify after packing still notes profiles as sent:\n%s", out)
 	}
 	var again struct {
 		Profiles struct{ Packed, Unreadable *int } `json:"profiles"`
