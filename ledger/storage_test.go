@@ -2,6 +2,7 @@ package ledger_test
 
 import (
 	"context"
+	"encoding/binary"
 	"strings"
 	"testing"
 
@@ -70,6 +71,28 @@ func TestSeriesHeaderChecked(t *testing.T) {
 				t.Fatalf("series = %s: %v, want refused by dive_profiles_series_header", c.set, err)
 			}
 		})
+	}
+	// Counts of three and four bytes, as large profiles have (20 000
+	// points of 8 gauges are 160 000 strain values): accepted when they
+	// pair up with the row's gauges (8 here), refused when a byte
+	// differs. With 8 gauges the strain count carries from byte to byte: a
+	// check that shifted the sum so far, as << and | in PostgreSQL do,
+	// refused the 0.2 Hz dive of 20 000 points and 8 gauges. The block is
+	// not the database's to read; hulltally reads it.
+	const g = 8
+	gauges := []string{"g1", "g2", "g3", "g4", "g5", "g6", "g7", "g8"}
+	header := func(n, m uint32) []byte {
+		b := binary.BigEndian.AppendUint32([]byte{1}, n)
+		return append(binary.BigEndian.AppendUint32(b, m), "block"...)
+	}
+	for _, n := range []uint32{20000, 70000, 0x018080, 0x808080, 0x01000001} {
+		if err := tamperWith(l, "ALL", "UPDATE dive_profiles SET gauges = $3, series = $2 WHERE dive_id = $1", d.ID, header(n, n*g), gauges); err != nil {
+			t.Errorf("a header of %d points and %d strain values of %d gauges, refused: %v", n, n*g, g, err)
+		}
+		err := tamperWith(l, "ALL", "UPDATE dive_profiles SET gauges = $3, series = $2 WHERE dive_id = $1", d.ID, header(n, n*g+65536), gauges)
+		if err == nil || !strings.Contains(err.Error(), "dive_profiles_series_header") {
+			t.Errorf("a header of %d points and %d strain values: %v, want refused", n, n*g+65536, err)
+		}
 	}
 	// The gauges changed under a packed profile: the strain no longer
 	// pairs with them.

@@ -24,10 +24,13 @@ ALTER TABLE dive_profiles
     -- The packed header as hulltally writes it: format 1, then the points
     -- and the strain values (big-endian), one strain series per gauge.
     -- hulltally checks it again on every read, and the block behind it.
+    -- (Arithmetic, not << and |: PostgreSQL gives all those operators one
+    -- precedence, left to right, and the shifts would apply to the sum so
+    -- far: TestSeriesHeaderChecked's counts of three and four bytes.)
     ADD CONSTRAINT dive_profiles_series_header
         CHECK (series IS NULL OR (octet_length(series) >= 9 AND get_byte(series, 0) = 1
-            AND (get_byte(series, 5)::bigint << 24 | get_byte(series, 6) << 16 | get_byte(series, 7) << 8 | get_byte(series, 8))
-              = (get_byte(series, 1)::bigint << 24 | get_byte(series, 2) << 16 | get_byte(series, 3) << 8 | get_byte(series, 4))
+            AND get_byte(series, 5) * 16777216::bigint + get_byte(series, 6) * 65536 + get_byte(series, 7) * 256 + get_byte(series, 8)
+              = (get_byte(series, 1) * 16777216::bigint + get_byte(series, 2) * 65536 + get_byte(series, 3) * 256 + get_byte(series, 4))
                 * coalesce(cardinality(gauges), 0)));
 
 -- The profiles still to pack, for hulltally db migrate to find without
