@@ -496,9 +496,10 @@ func ImplosionOf(h *Hull, pMPa float64) (*Implosion, error) {
 
 // predict estimates the damage of a planned dive as a ratio of the
 // allowable, for the component it costs most: the hull's typical profile
-// (the one of its last 10 dives whose peak is nearest the planned
-// pressure) scaled to the planned depth, its time at depth scaled to the
-// planned bottom time. A hull with no dives gets a plain profile: one
+// (the one of its last 10 dives with a pressure peak — surface trials
+// left out, so ten of them do not hide the deep dives before — whose peak
+// is nearest the planned pressure) scaled to the planned depth, its time
+// at depth scaled to the planned bottom time. A hull with no dives gets a plain profile: one
 // cycle from the surface to the planned pressure and the bottom time at
 // it, never less than the design dive's (fatigue.design_bottom_time_min).
 func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64) (float64, string, error) {
@@ -509,7 +510,7 @@ func (l *Ledger) predict(ctx context.Context, h *Hull, depthM, bottomMin float64
 	}
 	rows, err := l.db.Query(ctx, `SELECT d.id, d.max_pressure_mpa, c.ranges, c.means, c.counts, coalesce(hd.levels, '{}'), coalesce(hd.seconds, '{}')
 		FROM dives d LEFT JOIN dive_cycles c ON c.hull_id = d.hull_id AND c.dive_id = d.id AND c.series = 'pressure' AND c.chunk = 0 LEFT JOIN dive_holds hd ON hd.hull_id = d.hull_id AND hd.dive_id = d.id
-		WHERE d.hull_id = $1 AND `+notVoided+` ORDER BY d.start_time DESC LIMIT 10`, h.ID)
+		WHERE d.hull_id = $1 AND `+notVoided+` AND d.max_pressure_mpa > 0 ORDER BY d.start_time DESC LIMIT 10`, h.ID)
 	if err != nil {
 		return 0, "", err
 	}

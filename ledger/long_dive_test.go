@@ -200,7 +200,7 @@ func TestClearWithoutHistoryHoldsDesignBottomTime(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !strings.Contains(none.PredictionBasis, "60 min at it (the design dive's bottom time") {
+	if !strings.Contains(none.PredictionBasis, "held for 60 min (the design dive's bottom time") {
 		t.Fatalf("basis %q, want the design dive's 60 min", none.PredictionBasis)
 	}
 	hour, err := l.Clear(ctx, serial, 2000, 60, now)
@@ -214,7 +214,7 @@ func TestClearWithoutHistoryHoldsDesignBottomTime(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !(long.PredictedDamageRatio >= hour.PredictedDamageRatio) || !strings.Contains(long.PredictionBasis, "600 min at it") {
+	if !(long.PredictedDamageRatio >= hour.PredictedDamageRatio) || !strings.Contains(long.PredictionBasis, "held for 600 min") {
 		t.Fatalf("600 min: %v (%q), want at least the 60 min's %v", long.PredictedDamageRatio, long.PredictionBasis, hour.PredictedDamageRatio)
 	}
 }

@@ -312,4 +312,24 @@ func TestCautionOnFirstPage(t *testing.T) {
 	if strings.Contains(text, "CSC-T-120") {
 		t.Fatal("120 hulls fit on page 1: the case does not test a long first page")
 	}
+	// A dive sheet of a void dive whose reason runs to pages (a void's
+	// reason has no length limit).
+	hm := fixture(t)
+	dv := hm.Hulls[0].Dives[2]
+	dv.Voided = true
+	dv.Void = &ledger.Void{Reason: strings.Repeat("logged to the wrong hull by mistake; ", 200) + "END OF REASON", Actor: "maint", RecordedAt: hm.GeneratedAt}
+	dm := &Model{Kind: KindDive, Subject: dv.ID.String(), GeneratedAt: hm.GeneratedAt, Chains: hm.Chains, Basis: hm.Basis,
+		Hulls: []HullPart{{Spec: hm.Hulls[0].Spec, Status: "watch", Damage: hm.Hulls[0].Damage}},
+		Dive:  &DivePart{Dive: &dv, Load: &ledger.DiveLoad{Damage: map[string]ledger.DiveComponentDamage{"cylinder-wall": {Cyclic: 1e-4, Basis: "lame", Curve: "cfrp-illustrative"}}}}}
+	dr, err := RenderDiveReport(dm)
+	if err != nil {
+		t.Fatal(err)
+	}
+	text = firstPage(t, dr.PDF)
+	if !strings.Contains(text, flat(Caution)) {
+		t.Errorf("the dive sheet's page 1 lacks the caution in full: %q", text)
+	}
+	if strings.Contains(text, "END OF REASON") {
+		t.Fatal("the void's reason fits on page 1: the case does not test a long first page")
+	}
 }

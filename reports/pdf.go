@@ -586,6 +586,9 @@ func diveBody(d *doc, m *Model) error {
 		what = "Proof-test sheet"
 	}
 	d.h1(fmt.Sprintf("%s: hull %s, dive %s", what, dv.Hull, dv.ID.String()[:8]))
+	// On page 1 before anything of unbounded length (a void's reason),
+	// and again at the end.
+	d.caution()
 	if dv.Voided {
 		why := "a void record takes it out"
 		if v := dv.Void; v != nil {
@@ -596,8 +599,6 @@ func diveBody(d *doc, m *Model) error {
 		d.pdf.SetTextColor(0, 0, 0)
 		d.pdf.Ln(1)
 	}
-	// On page 1, and again at the end.
-	d.caution()
 	note := ""
 	switch {
 	case dv.ProofTest:

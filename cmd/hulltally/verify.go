@@ -101,7 +101,7 @@ func (a *app) verifyCmd() *cobra.Command {
 func (a *app) printChain(res *ledger.VerifyResult) {
 	defer a.printSummaryCheck(res.FleetSummary)
 	if n := res.ProfilesAsSent; n > 0 {
-		defer a.printf("note: %d dive profiles are still stored as before migration 020 (verified all the same, more slowly): hulltally db migrate packs them\n", n)
+		defer a.printf("note: %d dive profiles are still stored as before migration 020 (verified all the same, more slowly): hulltally db migrate packs those it can read\n", n)
 	}
 	if res.OK {
 		a.printf("ledger verified: %d records on %d hull chains, every link holds\n", res.Records, res.Hulls)

@@ -104,7 +104,7 @@ func Clear(v Verdict, f HullFacts, p Plan, r *Rules) Clearance {
 		// dive's with no dive on record (ledger.predict, fatigue/plan).
 		bottom := fmt.Sprintf("%.0f min at depth", p.BottomTimeMin)
 		if p.BottomTimeMin == 0 {
-			bottom = "no bottom time given (predicted with the typical recent dive's time at depth, or the design dive's)"
+			bottom = "bottom time 0 or not given (predicted with the typical recent dive's time at depth, or the design dive's)"
 		}
 		check("plan", false, Fit, "plan: %.1f m, %s, predicted damage %.4g of the allowable", p.DepthM, bottom, p.PredictedDamageRatio)
 	}

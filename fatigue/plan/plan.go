@@ -45,7 +45,8 @@ type Recent struct {
 // it) held there for bottomMin minutes, never less than designMin (the
 // design dive's bottom time): with no record of how long this hull's
 // dives stay down, a plan without a bottom time (0) or with a short one
-// is not predicted as a bounce.
+// is not predicted as a bounce. The same hold is added to the chosen
+// dive's load when that dive shows no time at depth.
 func Predict(recent []Recent, targetMPa, bottomMin, designMin float64) (assess.Dive, string) {
 	best := -1
 	for i, r := range recent {
@@ -61,10 +62,7 @@ func Predict(recent []Recent, targetMPa, bottomMin, designMin float64) (assess.D
 		held := math.Max(bottomMin, designMin)
 		d = assess.Dive{PressureCycles: []rainflow.Cycle{{Range: targetMPa, Mean: targetMPa / 2, Count: 1}},
 			Holds: []assess.Hold{{LevelMPa: targetMPa, Seconds: held * 60}}}
-		if held > bottomMin {
-			return d, fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it (the design dive's bottom time, as the plan gave less: %.0f min)", targetMPa, held, bottomMin)
-		}
-		return d, fmt.Sprintf("no dives on record: one cycle to %.3f MPa and %.0f min at it", targetMPa, held)
+		return d, fmt.Sprintf("no dive on record with a pressure peak: one cycle to %.3f MPa held for %s", targetMPa, heldText(held, bottomMin))
 	}
 	b := recent[best]
 	s := targetMPa / b.PeakMPa
@@ -77,8 +75,21 @@ func Predict(recent []Recent, targetMPa, bottomMin, designMin float64) (assess.D
 			holdS += hl.Seconds
 		}
 	}
+	if holdS == 0 {
+		// The dive shows no time near its peak (its time at pressure
+		// missing, or a record of a sample or two): its holds say nothing
+		// of how long a dive stays down, so the plan's bottom time, never
+		// less than the design dive's, is held at the target, as with no
+		// dive on record.
+		held := math.Max(bottomMin, designMin)
+		for _, hl := range b.Holds {
+			d.Holds = append(d.Holds, assess.Hold{LevelMPa: hl.LevelMPa * s, Seconds: hl.Seconds})
+		}
+		d.Holds = append(d.Holds, assess.Hold{LevelMPa: targetMPa, Seconds: held * 60})
+		return d, fmt.Sprintf("dive %s (peak %.3f MPa) scaled ×%.3f to %.3f MPa (planned depth at latitude 90°); it shows no time at depth, so the target is held for %s", diveRef(b.ID), b.PeakMPa, s, targetMPa, heldText(held, bottomMin))
+	}
 	ts := 1.0
-	if bottomMin > 0 && holdS > 0 {
+	if bottomMin > 0 {
 		ts = math.Max(1, bottomMin*60/holdS) // never less time at depth than the typical dive
 	}
 	for _, hl := range b.Holds {
@@ -88,11 +99,24 @@ func Predict(recent []Recent, targetMPa, bottomMin, designMin float64) (assess.D
 		}
 		d.Holds = append(d.Holds, assess.Hold{LevelMPa: hl.LevelMPa * s, Seconds: sec})
 	}
-	id := b.ID
+	return d, fmt.Sprintf("dive %s (peak %.3f MPa) scaled ×%.3f to %.3f MPa (planned depth at latitude 90°), time at depth ×%.2f", diveRef(b.ID), b.PeakMPa, s, targetMPa, ts)
+}
+
+// diveRef is a dive's id as the basis names it: its first 8 characters.
+func diveRef(id string) string {
 	if len(id) > 8 {
-		id = id[:8]
+		return id[:8]
 	}
-	return d, fmt.Sprintf("dive %s (peak %.3f MPa) scaled ×%.3f to %.3f MPa (planned depth at latitude 90°), time at depth ×%.2f", id, b.PeakMPa, s, targetMPa, ts)
+	return id
+}
+
+// heldText says how long the target is held: the plan's minutes, or the
+// design dive's where the plan gave less.
+func heldText(held, bottomMin float64) string {
+	if held > bottomMin {
+		return fmt.Sprintf("%.0f min (the design dive's bottom time, as the plan gave less: %.0f min)", held, bottomMin)
+	}
+	return fmt.Sprintf("%.0f min", held)
 }
 
 // Scale returns the cycle with its range and mean multiplied by s and

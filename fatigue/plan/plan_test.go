@@ -42,23 +42,33 @@ func TestPredict(t *testing.T) {
 		// plan is one full cycle and the planned minutes at the target.
 		name: "no usable dive", recent: []Recent{{ID: "cccccccc", PeakMPa: 0}}, target: 12, bottomMin: 45,
 		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 2700}}},
-		wantBasis: "no dives on record: one cycle to 12.000 MPa and 45 min at it",
+		wantBasis: "no dive on record with a pressure peak: one cycle to 12.000 MPa held for 45 min",
 	}, {
 		// Adversarial: no dive on record and no bottom time given (0) is
 		// not a bounce: the design dive's bottom time (30 min here) is held.
 		name: "no dive on record, no bottom time", recent: nil, target: 12, bottomMin: 0, designMin: 30,
 		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 1800}}},
-		wantBasis: "no dives on record: one cycle to 12.000 MPa and 30 min at it (the design dive's bottom time, as the plan gave less: 0 min)",
+		wantBasis: "no dive on record with a pressure peak: one cycle to 12.000 MPa held for 30 min (the design dive's bottom time, as the plan gave less: 0 min)",
 	}, {
 		// Nor is a short plan: 10 min planned, 30 min held.
 		name: "no dive on record, short plan", recent: nil, target: 12, bottomMin: 10, designMin: 30,
 		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 12, Mean: 6, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 12, Seconds: 1800}}},
-		wantBasis: "no dives on record: one cycle to 12.000 MPa and 30 min at it (the design dive's bottom time, as the plan gave less: 10 min)",
+		wantBasis: "no dive on record with a pressure peak: one cycle to 12.000 MPa held for 30 min (the design dive's bottom time, as the plan gave less: 10 min)",
+	}, {
+		// Adversarial: the nearest dive shows no time near its peak (only
+		// a hold at 2 of its 5 MPa): its holds are kept, scaled, and the
+		// plan's 600 min (more than the design's 30) held at the target —
+		// not dropped as a bounce.
+		name: "dive without time at depth", recent: []Recent{{ID: "dddddddd-3333", PeakMPa: 5, Cycles: []rainflow.Cycle{{Range: 5, Mean: 2.5, Count: 1}},
+			Holds: []assess.Hold{{LevelMPa: 2, Seconds: 300}}}}, target: 10, bottomMin: 600, designMin: 30,
+		want: assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 10, Mean: 5, Count: 1}},
+			Holds: []assess.Hold{{LevelMPa: 4, Seconds: 300}, {LevelMPa: 10, Seconds: 36000}}},
+		wantBasis: "dive dddddddd (peak 5.000 MPa) scaled ×2.000 to 10.000 MPa (planned depth at latitude 90°); it shows no time at depth, so the target is held for 600 min",
 	}, {
 		// Equal distance (4 and 6 around 5): the newer (first) wins.
-		name: "tie goes to the newer dive", recent: []Recent{{ID: "new", PeakMPa: 4, Cycles: []rainflow.Cycle{{Range: 4, Mean: 2, Count: 1}}},
-			{ID: "old", PeakMPa: 6, Cycles: []rainflow.Cycle{{Range: 6, Mean: 3, Count: 1}}}}, target: 5, bottomMin: 0,
-		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 5, Mean: 2.5, Count: 1}}},
+		name: "tie goes to the newer dive", recent: []Recent{{ID: "new", PeakMPa: 4, Cycles: []rainflow.Cycle{{Range: 4, Mean: 2, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 4, Seconds: 60}}},
+			{ID: "old", PeakMPa: 6, Cycles: []rainflow.Cycle{{Range: 6, Mean: 3, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 6, Seconds: 60}}}}, target: 5, bottomMin: 0,
+		want:      assess.Dive{PressureCycles: []rainflow.Cycle{{Range: 5, Mean: 2.5, Count: 1}}, Holds: []assess.Hold{{LevelMPa: 5, Seconds: 60}}},
 		wantBasis: "dive new (peak 4.000 MPa) scaled ×1.250 to 5.000 MPa (planned depth at latitude 90°), time at depth ×1.00",
 	}}
 	for _, tc := range tests {
