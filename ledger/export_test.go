@@ -2,6 +2,9 @@ package ledger
 
 import (
 	"context"
+	"encoding/binary"
+	"math"
+	"slices"
 	"time"
 )
 
@@ -57,3 +60,25 @@ func (l *Ledger) DiveOfTwoHulls(ctx context.Context) (*Broken, error) {
 // ErrProfileChanged exposes the error of a stored profile not as
 // hulltally wrote it.
 var ErrProfileChanged = errProfileChanged
+
+// appendFloat8Sent appends vs to dst in the binary form PostgreSQL sends
+// a one-dimensional float8[] in (array_send): what dive_profiles stored
+// before migration 020, which the tests write to check its reader. The
+// same bytes as array_send of the same values (TestProfileBytesAsSent).
+func appendFloat8Sent(dst []byte, vs []float64) []byte {
+	if len(vs) == 0 {
+		// No dimensions, no NULLs, float8.
+		return binary.BigEndian.AppendUint32(append(dst, 0, 0, 0, 0, 0, 0, 0, 0), float8OID)
+	}
+	dst = slices.Grow(dst, 20+12*len(vs))
+	dst = binary.BigEndian.AppendUint32(dst, 1) // dimensions
+	dst = binary.BigEndian.AppendUint32(dst, 0) // no NULLs
+	dst = binary.BigEndian.AppendUint32(dst, float8OID)
+	dst = binary.BigEndian.AppendUint32(dst, uint32(len(vs)))
+	dst = binary.BigEndian.AppendUint32(dst, 1) // lower bound
+	for _, v := range vs {
+		dst = binary.BigEndian.AppendUint32(dst, 8)
+		dst = binary.BigEndian.AppendUint64(dst, math.Float64bits(v))
+	}
+	return dst
+}

@@ -54,8 +54,9 @@ func float8Columns(rows pgx.Rows, dst [][]float64, cols ...int) (why string, err
 // array of the fleet, and pgx's generic array codec took 28 % of
 // verify's CPU time on a 50 × 100 fleet (pprof); this is a loop over
 // 12-byte elements. It accepts exactly the form hulltally's arrays take
-// (what array_send gives for them, and what appendFloat8Sent writes):
-// no dimensions when empty, else one dimension with a lower bound of 1,
+// (what array_send gives for them; profiles were stored so before
+// migration 020): no dimensions when empty, else one dimension with a
+// lower bound of 1,
 // at least one element, the NULL flag clear, every element 8 bytes.
 // Anything else is errFloat8Array, even where the values would read the
 // same (a lower bound of 5, a NULL flag set with no NULL): hulltally
@@ -135,26 +136,4 @@ func float8Sent(src []byte) (body []byte, err error) {
 		return nil, fmt.Errorf("%w: %d elements in %d bytes", errFloat8Array, n, len(body))
 	}
 	return body, nil
-}
-
-// appendFloat8Sent appends vs to dst in the binary form PostgreSQL sends
-// a one-dimensional float8[] in (array_send): what dive_profiles stores
-// (migration 019). The same bytes as array_send of the same values
-// (TestProfileBytesAsSent).
-func appendFloat8Sent(dst []byte, vs []float64) []byte {
-	if len(vs) == 0 {
-		// No dimensions, no NULLs, float8.
-		return binary.BigEndian.AppendUint32(append(dst, 0, 0, 0, 0, 0, 0, 0, 0), float8OID)
-	}
-	dst = slices.Grow(dst, 20+12*len(vs))
-	dst = binary.BigEndian.AppendUint32(dst, 1) // dimensions
-	dst = binary.BigEndian.AppendUint32(dst, 0) // no NULLs
-	dst = binary.BigEndian.AppendUint32(dst, float8OID)
-	dst = binary.BigEndian.AppendUint32(dst, uint32(len(vs)))
-	dst = binary.BigEndian.AppendUint32(dst, 1) // lower bound
-	for _, v := range vs {
-		dst = binary.BigEndian.AppendUint32(dst, 8)
-		dst = binary.BigEndian.AppendUint64(dst, math.Float64bits(v))
-	}
-	return dst
 }

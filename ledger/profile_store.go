@@ -5,7 +5,6 @@ import (
 	"encoding/binary"
 	"errors"
 	"fmt"
-	"math"
 	"slices"
 
 	"github.com/google/uuid"
@@ -195,23 +194,14 @@ func (p *profileAcc) fromStored(r *profileReader, s storedProfile) string {
 	if why != "" {
 		return why
 	}
-	p.TimeS = appendBE(p.TimeS[:0], vals[:8*n])
-	p.Press = appendBE(p.Press[:0], vals[8*n:16*n])
-	p.flat = appendBE(p.flat[:0], vals[16*n:])
+	p.TimeS = profilepack.AppendFloats(p.TimeS[:0], vals[:8*n])
+	p.Press = profilepack.AppendFloats(p.Press[:0], vals[8*n:16*n])
+	p.flat = profilepack.AppendFloats(p.flat[:0], vals[16*n:])
 	p.Strain = p.Strain[:0]
 	for g := range p.gauges {
 		p.Strain = append(p.Strain, p.flat[g*n:(g+1)*n])
 	}
 	return ""
-}
-
-// appendBE appends the float64s held as eight big-endian bytes each in b.
-func appendBE(dst []float64, b []byte) []float64 {
-	dst = slices.Grow(dst, len(b)/8)
-	for i := 0; i+8 <= len(b); i += 8 {
-		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(b[i:])))
-	}
-	return dst
 }
 
 // flatStrain is the profile's strain, gauge after gauge, as stored.
@@ -355,7 +345,7 @@ func packProfileBatch(ctx context.Context, tx pgx.Tx, r *profileReader, pk *prof
 			res.Unreadable++
 			continue
 		}
-		all := appendBE(nil, vals)
+		all := profilepack.AppendFloats(nil, vals)
 		packed, err := profilepack.Pack(nil, pk, all[:pts], all[pts:2*pts], all[2*pts:])
 		if err != nil {
 			rows.Close()

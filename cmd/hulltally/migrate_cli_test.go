@@ -12,10 +12,11 @@ import (
 )
 
 // asSent is the binary form PostgreSQL sends a one-dimensional float8[]
-// in (array_send), written here from the protocol's description (12- or
+// in (array_send), written here from memory of the protocol (12- or
 // 20-byte header, then each value's length, 8, and its eight big-endian
-// bytes), independently of the ledger's own writer: the form profiles
-// were stored in before migration 020.
+// bytes; float8's type oid 701), independently of the ledger's own
+// writer, which TestProfileBytesAsSent checks against the server's
+// array_send: the form profiles were stored in before migration 020.
 func asSent(vals []byte) []byte {
 	n := len(vals) / 8
 	if n == 0 {

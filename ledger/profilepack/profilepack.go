@@ -130,8 +130,15 @@ type Unpacked struct {
 
 // Float appends the values from..to (indexes into Values' order) to dst.
 func (u Unpacked) Float(dst []float64, from, to int) []float64 {
-	for i := from; i < to; i++ {
-		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(u.Values[8*i:])))
+	return AppendFloats(dst, u.Values[8*from:8*to])
+}
+
+// AppendFloats appends the float64s held as eight big-endian bytes each
+// in be (Unpacked.Values' form) to dst.
+func AppendFloats(dst []float64, be []byte) []float64 {
+	dst = slices.Grow(dst, len(be)/8)
+	for i := 0; i+8 <= len(be); i += 8 {
+		dst = append(dst, math.Float64frombits(binary.BigEndian.Uint64(be[i:])))
 	}
 	return dst
 }
